@@ -1,0 +1,1 @@
+"""procplan.outcomes"""
