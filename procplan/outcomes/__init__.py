@@ -1,1 +1,105 @@
-"""procplan.outcomes"""
+"""procplan.outcomes: what a temperature history means.
+
+Pure functions of (time_s, temperature_C) arrays, independent of the solver: time to a target temperature,
+cooling/holding rule checks, lethality (F-values, log reductions), freezing times, energy and refrigeration
+duty, and the safety margin on a predicted time.
+"""
+
+from procplan.outcomes.energy import (
+    EnergySummary,
+    RefrigerationEnergy,
+    cop_carnot,
+    cop_realistic,
+    energy_summary,
+    enthalpy_change_J_kg,
+    heat_transferred_J,
+    refrigeration_energy,
+)
+from procplan.outcomes.freezing_time import (
+    PLANK_SHAPE_FACTORS,
+    SHAPE_DIMENSIONALITY,
+    FreezingFromHistory,
+    PhamFreezingTime,
+    freezing_from_history,
+    freezing_time_pham,
+    freezing_time_plank,
+    pham_mean_freezing_temperature_C,
+)
+from procplan.outcomes.lethality import (
+    F_INTEGRATION_METHODS,
+    LETHALITY_PRESETS,
+    FieldLogReduction,
+    LethalityPreset,
+    LethalityTarget,
+    f_value,
+    lethal_rate,
+    log_reduction,
+    time_to_lethality,
+    volume_average_log_reduction,
+)
+from procplan.outcomes.margin import MarginCheck, check_cycle, plan_time_min
+from procplan.outcomes.rules import (
+    RULE_KINDS,
+    RULE_POINTS,
+    STAGE_CLOCKS,
+    Band,
+    BandCheck,
+    Rule,
+    RuleCheck,
+    Stage,
+    StageCheck,
+    check_rule,
+    check_rule_on_history,
+    rule_from_dict,
+    rule_to_dict,
+)
+from procplan.outcomes.targets import DIRECTIONS, TargetResult, history_arrays, time_to_temperature
+
+__all__ = [
+    "DIRECTIONS",
+    "F_INTEGRATION_METHODS",
+    "LETHALITY_PRESETS",
+    "PLANK_SHAPE_FACTORS",
+    "RULE_KINDS",
+    "RULE_POINTS",
+    "SHAPE_DIMENSIONALITY",
+    "STAGE_CLOCKS",
+    "Band",
+    "BandCheck",
+    "EnergySummary",
+    "FieldLogReduction",
+    "FreezingFromHistory",
+    "LethalityPreset",
+    "LethalityTarget",
+    "MarginCheck",
+    "PhamFreezingTime",
+    "RefrigerationEnergy",
+    "Rule",
+    "RuleCheck",
+    "Stage",
+    "StageCheck",
+    "TargetResult",
+    "check_cycle",
+    "check_rule",
+    "check_rule_on_history",
+    "cop_carnot",
+    "cop_realistic",
+    "energy_summary",
+    "enthalpy_change_J_kg",
+    "f_value",
+    "freezing_from_history",
+    "freezing_time_pham",
+    "freezing_time_plank",
+    "heat_transferred_J",
+    "history_arrays",
+    "lethal_rate",
+    "log_reduction",
+    "pham_mean_freezing_temperature_C",
+    "plan_time_min",
+    "refrigeration_energy",
+    "rule_from_dict",
+    "rule_to_dict",
+    "time_to_lethality",
+    "time_to_temperature",
+    "volume_average_log_reduction",
+]

@@ -1,0 +1,592 @@
+"""Cooling, holding and storage rules as data, and their check against a temperature history.
+
+A :class:`Rule` is a list of **stages** (go from one temperature to another within a time) and **bands**
+(stay inside, or keep out of, a temperature range for at least / at most a time), applied to one monitored
+point of the product (core by default). Rules live in ``product_library/rules/*.toml``; this module only
+parses and validates the mapping read from such a file (:func:`rule_from_dict`, :func:`rule_to_dict`), so
+that the library loader stays generic.
+
+Stage clocks. The first stage's clock starts when the monitored point first reaches its ``from_C`` (or at the
+start of the history when ``from_C`` is omitted, or when the history already starts past ``from_C``). Each
+later stage's clock starts, with ``clock = "stage"`` (default), when the point reaches that stage's ``from_C``;
+with ``clock = "rule"``, ``within_min`` counts from the start of the first stage (a total time, as in the
+US FDA Food Code's "within a total of 6 hours").
+
+Histories are taken as piecewise linear in time: crossing times and time-in-band are exact for them.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from procplan import validate
+from procplan.errors import Collector, InvalidInputError
+from procplan.outcomes.targets import TargetResult, history_arrays, time_to_temperature
+
+#: Kinds of rule, with the direction their stages go ("down": each stage cools, "up": each heats).
+RULE_KINDS: dict[str, str | None] = {"cooling": "down", "heating": "up", "holding": None, "storage": None}
+#: Monitored points: the history column each reads.
+RULE_POINTS: dict[str, str] = {"core": "core_C", "surface": "surface_C", "mean": "mean_C"}
+#: Stage clocks (see the module notes).
+STAGE_CLOCKS: tuple[str, ...] = ("stage", "rule")
+
+_RULE_KEYS = {"name", "title", "source", "kind", "point", "notes", "stages", "bands"}
+_STAGE_KEYS = {"from_C", "to_C", "within_min", "clock"}
+_BAND_KEYS = {"name", "low_C", "high_C", "at_least_min", "at_most_min", "max_outside_min"}
+
+
+@dataclass(frozen=True)
+class Stage:
+    """Go from ``from_C`` to ``to_C`` within ``within_min`` minutes (``from_C`` None: from the start of the history)."""
+
+    from_C: float | None
+    to_C: float
+    within_min: float
+    clock: str = "stage"
+
+
+@dataclass(frozen=True)
+class Band:
+    """A temperature range [low_C, high_C] (either end may be open) and limits on the time spent in it.
+
+    at_least_min : the point must spend at least this long inside the band (e.g. a hold at ≥ 70 °C)
+    at_most_min : the point may spend at most this long inside (e.g. a growth range to pass quickly)
+    max_outside_min : the point may spend at most this long outside (0: never leave; a storage range)
+    Times are totals over the history; the longest single excursion is reported as well.
+    """
+
+    low_C: float | None
+    high_C: float | None
+    at_least_min: float | None = None
+    at_most_min: float | None = None
+    max_outside_min: float | None = None
+    name: str = ""
+
+    def label(self) -> str:
+        lo = "−∞" if self.low_C is None else f"{self.low_C:g}"
+        hi = "+∞" if self.high_C is None else f"{self.high_C:g}"
+        return self.name or f"{lo}…{hi} °C"
+
+
+@dataclass(frozen=True)
+class Rule:
+    """A cooling, heating, holding or storage rule.
+
+    name : registry key (the file name stem in the library)
+    source : published source of the limits, in full ("(from memory)" where a limit was not confirmed)
+    kind : a key of ``RULE_KINDS``
+    stages : ordered stages
+    bands : band limits
+    point : monitored point, a key of ``RULE_POINTS``
+    title : a readable title
+    notes : anything a user should know (conditions not encoded, e.g. portion depth)
+    """
+
+    name: str
+    source: str
+    kind: str
+    stages: tuple[Stage, ...] = ()
+    bands: tuple[Band, ...] = ()
+    point: str = "core"
+    title: str = ""
+    notes: str = ""
+
+    @property
+    def column(self) -> str:
+        """History column of the monitored point (e.g. ``core_C``)."""
+        return RULE_POINTS[self.point]
+
+
+# --- parse and validate -------------------------------------------------------------------------------
+
+
+def _opt_number(c: Collector, fieldname: str, value: Any, **kw) -> float | None:
+    if value is None:
+        return None
+    with c.catch():
+        return validate.number(fieldname, value, **kw)
+    return None
+
+
+def _check_keys(c: Collector, where: str, data: dict, allowed: set[str]) -> None:
+    for key in data:
+        if key not in allowed:
+            c.add(
+                InvalidInputError(
+                    f"{where}{key}", data[key], "one of the keys " + ", ".join(sorted(allowed)), "unknown key"
+                )
+            )
+
+
+def rule_from_dict(data: dict, source: str = "rule") -> Rule:
+    """Build a :class:`Rule` from a mapping (a parsed rule file), reporting every problem at once.
+
+    Parameters
+    ----------
+    data : mapping with keys name, source, kind, point, title, notes, stages (list of mappings with
+        from_C, to_C, within_min, clock) and bands (list of mappings with low_C, high_C, at_least_min,
+        at_most_min, max_outside_min, name)
+    source : where the mapping came from (a file name), used in error messages
+
+    Raises
+    ------
+    InvalidInputError (or ValidationErrors, its subclass, for several problems), naming each field.
+
+    >>> r = rule_from_dict({"name": "x", "source": "s", "kind": "cooling",
+    ...                     "stages": [{"from_C": 57, "to_C": 21, "within_min": 120}]})
+    >>> r.stages[0]
+    Stage(from_C=57.0, to_C=21.0, within_min=120.0, clock='stage')
+    >>> rule_from_dict({"name": "x", "source": "s", "kind": "cooling",
+    ...                 "stages": [{"from_C": 21, "to_C": 57, "within_min": 120}]})
+    Traceback (most recent call last):
+    ...
+    procplan.errors.InvalidInputError: stages[0].to_C = '21 → 57': allowed below from_C for a cooling rule
+    """
+    c = Collector(source)
+    if not isinstance(data, dict):
+        raise InvalidInputError(source, type(data).__name__, "a table of rule keys")
+    _check_keys(c, "", data, _RULE_KEYS)
+
+    def text(key: str, required: bool) -> str:
+        v = data.get(key, "")
+        if not isinstance(v, str) or (required and not v.strip()):
+            c.add(InvalidInputError(key, v, "a non-empty text" if required else "a text"))
+            return ""
+        return v.strip()
+
+    name = text("name", True)
+    citation = text("source", True)
+    title = text("title", False)
+    notes = text("notes", False)
+    kind = data.get("kind", "cooling")
+    with c.catch():
+        validate.choice("kind", kind, RULE_KINDS)
+    point = data.get("point", "core")
+    with c.catch():
+        validate.choice("point", point, RULE_POINTS)
+    direction = RULE_KINDS.get(kind) if isinstance(kind, str) else None
+
+    stages: list[Stage] = []
+    raw_stages = data.get("stages", [])
+    if not isinstance(raw_stages, list):
+        c.add(InvalidInputError("stages", raw_stages, "a list of stage tables"))
+        raw_stages = []
+    for i, s in enumerate(raw_stages):
+        w = f"stages[{i}]."
+        if not isinstance(s, dict):
+            c.add(InvalidInputError(f"stages[{i}]", s, "a table with from_C, to_C, within_min"))
+            continue
+        _check_keys(c, w, s, _STAGE_KEYS)
+        frm = _opt_number(c, w + "from_C", s.get("from_C"), unit="°C")
+        if "to_C" not in s:
+            c.add(InvalidInputError(w + "to_C", None, "a temperature in °C", "required"))
+        to = _opt_number(c, w + "to_C", s.get("to_C"), unit="°C")
+        if "within_min" not in s:
+            c.add(InvalidInputError(w + "within_min", None, "> 0 min", "required"))
+        within = _opt_number(
+            c, w + "within_min", s.get("within_min"), minimum=0.0, min_inclusive=False, unit="min"
+        )
+        clock = s.get("clock", "stage")
+        with c.catch():
+            validate.choice(w + "clock", clock, STAGE_CLOCKS)
+        if i == 0 and clock == "rule":
+            clock = "stage"  # the first stage's clock is the rule's clock
+        if frm is not None and to is not None and direction is not None:
+            if direction == "down" and not to < frm:
+                c.add(InvalidInputError(w + "to_C", f"{frm:g} → {to:g}", f"below from_C for a {kind} rule"))
+            if direction == "up" and not to > frm:
+                c.add(InvalidInputError(w + "to_C", f"{frm:g} → {to:g}", f"above from_C for a {kind} rule"))
+        if stages and to is not None and direction is not None:
+            prev = stages[-1]
+            if (direction == "down" and not to < prev.to_C) or (direction == "up" and not to > prev.to_C):
+                c.add(
+                    InvalidInputError(
+                        w + "to_C",
+                        to,
+                        f"{'below' if direction == 'down' else 'above'} the previous stage's to_C ({prev.to_C:g} °C)",
+                        "stages go one way",
+                    )
+                )
+        if stages and clock == "rule" and within is not None:
+            prev_total = _stage_total_allowed(stages)
+            if prev_total is not None and not within > prev_total:
+                c.add(
+                    InvalidInputError(
+                        w + "within_min",
+                        within,
+                        f"> {prev_total:g} min (the total already allowed before this stage)",
+                        'clock = "rule" counts from the first stage',
+                    )
+                )
+        if to is not None and within is not None:
+            stages.append(Stage(frm, to, within, clock))
+    if direction is None and stages and isinstance(kind, str) and kind in RULE_KINDS:
+        c.add(
+            InvalidInputError("stages", f"{len(stages)} stage(s)", f"no stages for a {kind} rule (use bands)")
+        )
+
+    bands: list[Band] = []
+    raw_bands = data.get("bands", [])
+    if not isinstance(raw_bands, list):
+        c.add(InvalidInputError("bands", raw_bands, "a list of band tables"))
+        raw_bands = []
+    for i, b in enumerate(raw_bands):
+        w = f"bands[{i}]."
+        if not isinstance(b, dict):
+            c.add(InvalidInputError(f"bands[{i}]", b, "a table with low_C/high_C and a time limit"))
+            continue
+        _check_keys(c, w, b, _BAND_KEYS)
+        lo = _opt_number(c, w + "low_C", b.get("low_C"), unit="°C")
+        hi = _opt_number(c, w + "high_C", b.get("high_C"), unit="°C")
+        if lo is None and hi is None:
+            c.add(
+                InvalidInputError(w + "low_C", None, "low_C and/or high_C", "a band needs at least one end")
+            )
+        if lo is not None and hi is not None and not lo < hi:
+            c.add(InvalidInputError(w + "high_C", hi, f"> low_C ({lo:g} °C)"))
+        limits = {
+            k: _opt_number(c, w + k, b.get(k), minimum=0.0, unit="min")
+            for k in ("at_least_min", "at_most_min", "max_outside_min")
+        }
+        if all(b.get(k) is None for k in limits):
+            c.add(
+                InvalidInputError(
+                    w + "at_least_min", None, "at least one of at_least_min, at_most_min, max_outside_min"
+                )
+            )
+        bname = b.get("name", "")
+        if not isinstance(bname, str):
+            c.add(InvalidInputError(w + "name", bname, "a text"))
+            bname = ""
+        bands.append(
+            Band(lo, hi, limits["at_least_min"], limits["at_most_min"], limits["max_outside_min"], bname)
+        )
+    if not raw_stages and not raw_bands:
+        c.add(InvalidInputError("stages", [], "at least one stage or band"))
+    c.raise_if_any()
+    return Rule(name, citation, kind, tuple(stages), tuple(bands), point, title, notes)
+
+
+def _stage_total_allowed(stages: list[Stage] | tuple[Stage, ...]) -> float | None:
+    """Total allowed time from the first stage's start, when every stage so far counts from it (else None)."""
+    total = 0.0
+    for j, s in enumerate(stages):
+        if j == 0:
+            total = s.within_min
+        elif s.clock == "rule":
+            total = s.within_min
+        else:
+            return None
+    return total
+
+
+def rule_to_dict(rule: Rule) -> dict:
+    """The mapping :func:`rule_from_dict` reads, omitting defaults and empty values (TOML-ready).
+
+    >>> r = rule_from_dict({"name": "x", "source": "s", "kind": "storage",
+    ...                     "bands": [{"low_C": 2, "high_C": 8, "max_outside_min": 0}]})
+    >>> rule_from_dict(rule_to_dict(r)) == r
+    True
+    """
+    d: dict[str, Any] = {"name": rule.name}
+    if rule.title:
+        d["title"] = rule.title
+    d["source"] = rule.source
+    d["kind"] = rule.kind
+    if rule.point != "core":
+        d["point"] = rule.point
+    if rule.notes:
+        d["notes"] = rule.notes
+    if rule.stages:
+        d["stages"] = []
+        for s in rule.stages:
+            sd: dict[str, Any] = {}
+            if s.from_C is not None:
+                sd["from_C"] = s.from_C
+            sd["to_C"] = s.to_C
+            sd["within_min"] = s.within_min
+            if s.clock != "stage":
+                sd["clock"] = s.clock
+            d["stages"].append(sd)
+    if rule.bands:
+        d["bands"] = []
+        for b in rule.bands:
+            bd: dict[str, Any] = {}
+            if b.name:
+                bd["name"] = b.name
+            for k in ("low_C", "high_C", "at_least_min", "at_most_min", "max_outside_min"):
+                v = getattr(b, k)
+                if v is not None:
+                    bd[k] = v
+            d["bands"].append(bd)
+    return d
+
+
+# --- check ---------------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class StageCheck:
+    """Outcome of one stage.
+
+    start_s : when the stage's clock started [s] (None: the stage never started)
+    end_s : when the point reached ``to_C`` [s] (None: not reached)
+    used_min : time counted against the limit [min] (from the rule's start for clock "rule"); when not
+        reached, the time elapsed to the end of the history (a lower bound)
+    allowed_min : the limit [min]
+    margin_min : allowed − used [min]; None when the history ended before the limit without reaching to_C
+    margin_percent : margin as % of allowed
+    """
+
+    index: int
+    stage: Stage
+    passed: bool
+    reached: bool
+    start_s: float | None
+    end_s: float | None
+    used_min: float | None
+    allowed_min: float
+    margin_min: float | None
+    margin_percent: float | None
+    reason: str
+
+
+@dataclass(frozen=True)
+class BandCheck:
+    """Outcome of one band: time inside and outside [min], the longest excursion outside [min]."""
+
+    index: int
+    band: Band
+    passed: bool
+    inside_min: float
+    outside_min: float
+    longest_outside_min: float
+    margin_min: float | None
+    reason: str
+
+
+@dataclass(frozen=True)
+class RuleCheck:
+    """Outcome of a rule: per-stage and per-band results and the overall verdict."""
+
+    rule_name: str
+    source: str
+    point: str
+    passed: bool
+    stages: tuple[StageCheck, ...]
+    bands: tuple[BandCheck, ...]
+    reasons: tuple[str, ...] = field(default=())
+
+    @property
+    def margin_min(self) -> float | None:
+        """Smallest margin over stages and bands [min] (None when none could be computed)."""
+        ms = [s.margin_min for s in self.stages if s.margin_min is not None] + [
+            b.margin_min for b in self.bands if b.margin_min is not None
+        ]
+        return min(ms) if ms else None
+
+
+def _start_of_stage(
+    t: np.ndarray, temp: np.ndarray, frm: float | None, direction: str, after_s: float
+) -> tuple[float | None, str]:
+    if frm is None:
+        return after_s, "from the start of the history"
+    r: TargetResult = time_to_temperature(t, temp, frm, direction=direction, start_s=after_s)
+    if not r.reached:
+        return None, f"never reached {frm:g} °C (closest {r.closest_C:.2f} °C)"
+    if r.at_start:
+        return r.time_s, f"already past {frm:g} °C at {r.time_s / 60:.1f} min; clock started then"
+    return r.time_s, f"reached {frm:g} °C at {r.time_s / 60:.1f} min"
+
+
+def _time_in_band(t: np.ndarray, temp: np.ndarray, lo: float | None, hi: float | None) -> tuple[float, float]:
+    """Total time [s] inside [lo, hi] and the longest continuous time outside [s], exact for piecewise-linear T."""
+    lo_v = -np.inf if lo is None else lo
+    hi_v = np.inf if hi is None else hi
+    # Split every interval at its crossings of lo and hi so that each piece is wholly inside or outside.
+    inside = 0.0
+    longest = 0.0
+    run = 0.0
+    for i in range(t.size - 1):
+        ta, tb, ya, yb = t[i], t[i + 1], temp[i], temp[i + 1]
+        cuts = [0.0, 1.0]
+        for level in (lo_v, hi_v):
+            if np.isfinite(level) and (ya - level) * (yb - level) < 0:
+                cuts.append((level - ya) / (yb - ya))
+        cuts.sort()
+        for a, b in zip(cuts[:-1], cuts[1:], strict=False):
+            if b <= a:
+                continue
+            ymid = ya + (yb - ya) * 0.5 * (a + b)
+            dur = (b - a) * (tb - ta)
+            if lo_v <= ymid <= hi_v:
+                inside += dur
+                run = 0.0
+            else:
+                run += dur
+                longest = max(longest, run)
+    return inside, longest
+
+
+def check_rule(rule: Rule, time_s, temperature_C) -> RuleCheck:
+    """Check a history of the rule's monitored point against every stage and band of ``rule``.
+
+    A stage passes when the point reaches ``to_C`` no later than the limit; one that is not reached fails
+    with a reason, as does every stage after a stage that never started.
+
+    Parameters
+    ----------
+    rule : the rule
+    time_s : sample times [s], strictly increasing
+    temperature_C : the monitored point's temperature at each time [°C]
+
+    >>> r = rule_from_dict({"name": "two-stage", "source": "s", "kind": "cooling", "stages": [
+    ...     {"from_C": 57, "to_C": 21, "within_min": 120},
+    ...     {"from_C": 21, "to_C": 5, "within_min": 360, "clock": "rule"}]})
+    >>> chk = check_rule(r, [0, 3600, 7200, 18000], [57.0, 39.0, 21.0, 5.0])
+    >>> chk.passed, [round(s.margin_min, 1) for s in chk.stages]
+    (True, [0.0, 60.0])
+    """
+    t, temp = history_arrays(time_s, temperature_C, temperature_field=rule.column)
+    direction = RULE_KINDS[rule.kind]
+    stage_checks: list[StageCheck] = []
+    rule_start: float | None = None
+    prev_start: float | None = float(t[0])
+    end_s = float(t[-1])
+    for i, s in enumerate(rule.stages):
+        allowed = s.within_min
+        if prev_start is None:
+            stage_checks.append(
+                StageCheck(
+                    i,
+                    s,
+                    False,
+                    False,
+                    None,
+                    None,
+                    None,
+                    allowed,
+                    None,
+                    None,
+                    "not started: an earlier stage never started",
+                )
+            )
+            continue
+        start, why = _start_of_stage(t, temp, s.from_C, direction, prev_start)
+        if start is None:
+            stage_checks.append(
+                StageCheck(
+                    i,
+                    s,
+                    False,
+                    False,
+                    None,
+                    None,
+                    None,
+                    allowed,
+                    None,
+                    None,
+                    f"not started: the {rule.point} {why}",
+                )
+            )
+            prev_start = None
+            continue
+        if rule_start is None:
+            rule_start = start
+        clock0 = rule_start if s.clock == "rule" else start
+        r = time_to_temperature(t, temp, s.to_C, direction=direction, start_s=start)
+        if r.reached:
+            used = (r.time_s - clock0) / 60.0
+            margin = allowed - used
+            ok = margin >= 0
+            verdict = "within" if ok else "over"
+            reason = f"{rule.point} {why}; reached {s.to_C:g} °C after {used:.1f} min, {verdict} the {allowed:g} min allowed"
+            stage_checks.append(
+                StageCheck(
+                    i, s, ok, True, start, r.time_s, used, allowed, margin, 100.0 * margin / allowed, reason
+                )
+            )
+        else:
+            used = (end_s - clock0) / 60.0
+            if used > allowed:
+                margin = allowed - used
+                reason = f"not reached: {rule.point} did not reach {s.to_C:g} °C within {allowed:g} min (closest {r.closest_C:.2f} °C by the end of the history)"
+                stage_checks.append(
+                    StageCheck(
+                        i,
+                        s,
+                        False,
+                        False,
+                        start,
+                        None,
+                        used,
+                        allowed,
+                        margin,
+                        100.0 * margin / allowed,
+                        reason,
+                    )
+                )
+            else:
+                reason = f"not reached: the history ends {used:.1f} min into the {allowed:g} min allowed with the {rule.point} at {temp[-1]:.2f} °C, above {s.to_C:g} °C; undecided, counted as a failure"
+                stage_checks.append(
+                    StageCheck(i, s, False, False, start, None, used, allowed, None, None, reason)
+                )
+        prev_start = start
+
+    band_checks: list[BandCheck] = []
+    total = end_s - float(t[0])
+    for i, b in enumerate(rule.bands):
+        inside_s, longest_s = _time_in_band(t, temp, b.low_C, b.high_C)
+        inside, outside, longest = inside_s / 60.0, (total - inside_s) / 60.0, longest_s / 60.0
+        margins: list[float] = []
+        fails: list[str] = []
+        if b.at_least_min is not None:
+            margins.append(inside - b.at_least_min)
+            if inside < b.at_least_min:
+                fails.append(f"only {inside:.1f} min inside, at least {b.at_least_min:g} min required")
+        if b.at_most_min is not None:
+            margins.append(b.at_most_min - inside)
+            if inside > b.at_most_min:
+                fails.append(f"{inside:.1f} min inside, at most {b.at_most_min:g} min allowed")
+        if b.max_outside_min is not None:
+            margins.append(b.max_outside_min - outside)
+            if outside > b.max_outside_min:
+                fails.append(
+                    f"{outside:.1f} min outside (longest excursion {longest:.1f} min), at most {b.max_outside_min:g} min allowed"
+                )
+        ok = not fails
+        reason = f"{b.label()}: " + (
+            "; ".join(fails)
+            if fails
+            else f"{inside:.1f} min inside, {outside:.1f} min outside: within limits"
+        )
+        band_checks.append(
+            BandCheck(i, b, ok, inside, outside, longest, min(margins) if margins else None, reason)
+        )
+
+    passed = all(s.passed for s in stage_checks) and all(b.passed for b in band_checks)
+    reasons = tuple(f"stage {s.index + 1}: {s.reason}" for s in stage_checks if not s.passed) + tuple(
+        f"band {b.index + 1}: {b.reason}" for b in band_checks if not b.passed
+    )
+    return RuleCheck(
+        rule.name, rule.source, rule.point, passed, tuple(stage_checks), tuple(band_checks), reasons
+    )
+
+
+def check_rule_on_history(rule: Rule, history) -> RuleCheck:
+    """:func:`check_rule` on a history table (a pandas DataFrame or a mapping of columns) with ``time_s`` and the
+    rule's monitored column (``core_C``, ``surface_C`` or ``mean_C``)."""
+    for col in ("time_s", rule.column):
+        if col not in history:
+            raise InvalidInputError(
+                "history",
+                f"columns {list(history.keys())}",
+                f"a column {col!r}",
+                f"needed by rule {rule.name!r}",
+            )
+    return check_rule(
+        rule, np.asarray(history["time_s"], dtype=float), np.asarray(history[rule.column], dtype=float)
+    )
