@@ -181,16 +181,17 @@ def freezing_time_pham(
     k = validate.positive("k_frozen_W_mK", k_frozen_W_mK, "W/mK")
     e = SHAPE_DIMENSIONALITY[shape] if E is None else validate.number("E", E, minimum=1.0, maximum=3.0)
     tfm = 1.8 + 0.263 * tc + 0.105 * ta
-    if not ti >= tfm:
+    tol = 1e-9 * max(1.0, abs(tfm))  # round-off when T_i or T_c is set equal to T_fm
+    if not ti >= tfm - tol:
         raise InvalidInputError("initial_C", ti, f">= the mean freezing temperature T_fm = {tfm:.2f} °C")
-    if not tc <= tfm:
+    if not tc <= tfm + tol:
         raise InvalidInputError("center_end_C", tc, f"<= the mean freezing temperature T_fm = {tfm:.2f} °C")
     if not tfm > ta:
         raise InvalidInputError("medium_C", ta, f"< T_fm = {tfm:.2f} °C")
     radius = a / 2.0
     bi = h * radius / k
-    dh1 = rho * cu * (ti - tfm)
-    dh2 = rho * (lat + cf * (tfm - tc))
+    dh1 = rho * cu * max(ti - tfm, 0.0)
+    dh2 = rho * (lat + cf * max(tfm - tc, 0.0))
     dt1 = (ti + tfm) / 2.0 - ta
     dt2 = tfm - ta
     scale = radius / (e * h) * (1.0 + bi / 2.0)
