@@ -45,7 +45,8 @@ def test_rule_files_load_and_round_trip():
 
 
 def test_fda_limits_encoded_as_published():
-    # Source: US FDA Food Code §3-501.14(A): 57 → 21 °C within 2 h; to 5 °C within a total of 6 h.
+    # Source: US FDA Food Code §3-501.14(A): 57 → 21 °C within 2 h; to 5 °C within a total of 6 h
+    # (as summarised in the project's references; the Code's wording recalled from memory).
     r = load("us-food-code-two-stage")
     assert [(s.from_C, s.to_C, s.within_min, s.clock) for s in r.stages] == [
         (57.0, 21.0, 120.0, "stage"),
@@ -96,7 +97,8 @@ def test_fda_not_reached_fails_with_a_reason():
 
 
 def test_fsis_appendix_b_second_stage_clock_starts_at_26_7():
-    # Source: USDA FSIS Appendix B: 54.4 → 26.7 °C within 1.5 h, then 26.7 → 4.4 °C within 5 h.
+    # Source: USDA FSIS Appendix B: 54.4 → 26.7 °C within 1.5 h, then 26.7 → 4.4 °C within 5 h
+    # (from memory: limits as summarised in the project's references, not confirmed against the guideline).
     r = load("usda-fsis-appendix-b-stabilization")
     t = np.array([0.0, 30.0, 30.0 + 90.0, 30.0 + 90.0 + 300.0]) * 60.0
     T = np.array([60.0, 54.4, 26.7, 4.4])
@@ -111,7 +113,7 @@ def test_fsis_appendix_b_second_stage_clock_starts_at_26_7():
 
 
 def test_uk_cook_chill_from_start_of_chilling_and_not_frozen():
-    # Source: DH (1989) cook-chill guidelines: 0–3 °C within 90 min of the start of chilling.
+    # Source: DH (1989) cook-chill guidelines: 0–3 °C within 90 min of the start of chilling (from memory).
     r = load("uk-cook-chill-90-min")
     chk = check_rule(r, [0.0, 85 * 60.0, 120 * 60.0], [70.0, 3.0, 1.0])
     assert chk.passed
