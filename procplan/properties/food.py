@@ -57,7 +57,7 @@ _GL_NODES, _GL_WEIGHTS = np.polynomial.legendre.leggauss(4)
 # Grid design (see _grid): spacing at t_f as a fraction of the ice model's curvature scale, the largest
 # spacing in the frozen range and above the freezing point [K].
 _SPACING_AT_FREEZING = 0.02
-_MAX_SPACING_FROZEN_K = 0.5
+_MAX_SPACING_FROZEN_K = 0.25
 _MAX_SPACING_UNFROZEN_K = 2.0
 
 
@@ -141,7 +141,7 @@ class _Food:
         Below t_f the points are uniform in w = (s + t_f − t)^(−1/2), s the ice model's curvature scale,
         so the spacing grows like (s + t_f − t)^(3/2) — the rate at which the curvature of x_ice, and so of
         H, decays — starting from 0.02 s at t_f (linear interpolation error of H there ≈ 1e-4 of the latent
-        heat); spacing at most 1 K. Above t_f at most 2 K. The freezing point, 0 °C (water cp branch) and
+        heat); spacing at most 0.25 K. Above t_f at most 2 K. The freezing point, 0 °C (water cp branch) and
         any kink of the ice model are grid points.
         """
         lo, hi = MODEL_RANGE_C
