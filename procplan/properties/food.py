@@ -16,6 +16,12 @@ continuous at t_f (x_ice(t_f) = 0 for both ice models, so the frozen and unfroze
 strictly increasing (cp_s > 0 and x_ice never increases with t). The apparent specific heat is its
 exact derivative, cp_app = cp_s − L0 dx_ice/dt, so ∫ cp_app dt equals the enthalpy difference.
 
+Known limits: L0 is held constant (the Kirchhoff decrease of the latent heat below 0 °C is not applied),
+and the Choi–Okos sensible cp of the frozen mixture (ice + unfrozen water, whose −40…0 °C cp rises to
+5.9 kJ/kgK at −40 °C, + solids) is higher than Chen's (1985) 1.55 + 1.26 x_s kJ/kgK. For lean beef the
+enthalpy at t_f is 3 % below the Chang & Tao (1981) correlation of measured enthalpies and 7 % above
+Chen's closed form; at −20 °C it is about 18 % above Chen's form (55 vs 47 kJ/kg).
+
 References
 ----------
 Choi & Okos (1986); ASHRAE Handbook—Refrigeration (2006), ch. 9; Chen (1985), J. Food Sci. 50:1158
