@@ -32,6 +32,14 @@ C_max [exp(−a N²) + √π/(2√a) erfc(N√a)], a = π² Fo_min,
 and N is chosen so that this bound is below the tolerance (1e-8 in θ by default) at the smallest positive
 Fo requested; N grows like 1/√Fo_min. At Fo = 0 the result is θ = 1 exactly (the initial condition).
 
+Short times
+-----------
+For 0 < Fo < FO_SHORT (1e-7, where the series would need thousands of terms) the heat has penetrated less
+than 1e-3 L, and the semi-infinite solid with convection (Incropera eq. 5.60) is used at the depth
+(1 − x*) L, with its integral for the mean. It is exact for the slab (the far face is felt as erfc(1/√Fo));
+for the cylinder and sphere curvature changes 1 − θ by a relative O(√Fo), an error reported as
+√Fo · min(1, 2 Bi √(Fo/π)) (an estimate, not a bound).
+
 References
 ----------
 Incropera, F.P., DeWitt, D.P., Bergman, T.L., Lavine, A.S., Fundamentals of Heat and Mass Transfer, 7th ed.,
@@ -61,6 +69,10 @@ DEFAULT_TOL = 1e-8
 
 #: Most terms ever used; reached only for Fo_min below about 5e-9 (the bound is then reported as achieved).
 MAX_TERMS = 20000
+
+#: Below this Fo the series (which would need more than ~5000 terms) gives way to the short-time solution of
+#: the semi-infinite solid with convection (Incropera eq. 5.60) at the depth (1 − x*) L.
+FO_SHORT = 1e-7
 
 #: Bi range in which the eigenvalues are found by root-finding; Bi = inf is accepted as the limit.
 BI_RANGE: tuple[float, float] = (1e-12, 1e8)
@@ -256,7 +268,7 @@ def terms_for(kind: str, fo_min: float, tol: float = DEFAULT_TOL) -> tuple[int, 
     if fo == 0.0:
         return 1, 0.0
     n = int(_terms_each(kind, np.array([fo]), tol)[0])
-    return n, truncation_bound(kind, n, fo)
+    return n, min(truncation_bound(kind, n, fo), 1.0)
 
 
 # --- solutions -----------------------------------------------------------------------------------------
@@ -347,8 +359,10 @@ class SeriesInfo:
     bi: float
     n_terms: int
     truncation_bound: float  # bound of |θ error| at every Fo >= fo_min
-    fo_min: float  # smallest positive Fo evaluated (0 when only Fo = 0)
+    fo_min: float  # smallest Fo evaluated by the series (>= FO_SHORT; 0 when none)
     tol: float
+    short_time_points: int = 0  # points with 0 < Fo < FO_SHORT, from the semi-infinite solid
+    short_time_error: float = 0.0  # estimated error of those points in θ (curvature neglected)
 
 
 def plan_terms(kind: str, bi: float, fo: Any, tol: float = DEFAULT_TOL) -> SeriesInfo:
@@ -356,10 +370,66 @@ def plan_terms(kind: str, bi: float, fo: Any, tol: float = DEFAULT_TOL) -> Serie
     kind = _kind(kind)
     b = _bi(bi)
     f = _fo(fo)
-    pos = f[f > 0]
+    pos = f[f >= FO_SHORT]
     fo_min = float(pos.min()) if pos.size else 0.0
     n, bound = terms_for(kind, fo_min, tol)
-    return SeriesInfo(kind=kind, bi=b, n_terms=n, truncation_bound=bound, fo_min=fo_min, tol=float(tol))
+    short = f[(f > 0) & (f < FO_SHORT)]
+    err = _short_time_error(kind, b, float(short.max())) if short.size else 0.0
+    return SeriesInfo(
+        kind=kind,
+        bi=b,
+        n_terms=n,
+        truncation_bound=max(bound, err),
+        fo_min=fo_min,
+        tol=float(tol),
+        short_time_points=int(short.size),
+        short_time_error=err,
+    )
+
+
+# --- short times: the semi-infinite solid -------------------------------------------------------------------------------
+_NU = {"slab": 1.0, "cylinder": 2.0, "sphere": 3.0}  # A L / V
+
+
+def _short_time_error(kind: str, bi: float, fo: float) -> float:
+    """Estimated error of the semi-infinite forms at Fo <= fo: the far face of a slab is felt as
+    erfc(1/√Fo) (nil below FO_SHORT); curvature changes 1 − θ by a relative O(√Fo), and 1 − θ_s <= 2 Bi √(Fo/π)."""
+    if kind == "slab":
+        return float(special.erfc(1.0 / math.sqrt(fo)))
+    sf = math.sqrt(fo)
+    return sf * min(1.0, 2.0 * bi * sf / math.sqrt(math.pi))
+
+
+def _short_theta(bi: float, depth: np.ndarray, fo: np.ndarray) -> np.ndarray:
+    """θ of the semi-infinite solid with convection at a depth (in units of L), Incropera eq. 5.60.
+
+    1 − θ = erfc(η) − exp(Bi d + Bi² Fo) erfc(η + Bi √Fo), η = d/(2√Fo), written as
+    erfc(η) − exp(−η²) erfcx(η + Bi √Fo) so that nothing overflows.
+    """
+    sf = np.sqrt(fo)
+    with np.errstate(
+        over="ignore", divide="ignore"
+    ):  # at sub-normal Fo, η² overflows to inf and exp(−η²) to 0
+        eta = depth / (2.0 * sf)
+        if math.isinf(bi):
+            return special.erf(eta)
+        return 1.0 - (special.erfc(eta) - np.exp(-(eta**2)) * special.erfcx(eta + bi * sf))
+
+
+def _short_mean(kind: str, bi: float, fo: np.ndarray) -> np.ndarray:
+    """Mean θ at short times: 1 − θ̄ = (A L/V) ∫ Bi θ_s dFo = (A L/V)(1/Bi)[erfcx(β) − 1 + 2β/√π], β = Bi √Fo."""
+    nu = _NU[kind]
+    sf = np.sqrt(fo)
+    if math.isinf(bi):
+        return 1.0 - nu * 2.0 * sf / math.sqrt(math.pi)
+    beta = bi * sf
+    small = beta < 1e-3
+    g = np.where(
+        small,
+        beta**2 * (1.0 - 4.0 * beta / (3.0 * math.sqrt(math.pi)) + beta**2 / 2.0),
+        special.erfcx(beta) - 1.0 + 2.0 * beta / math.sqrt(math.pi),
+    )
+    return 1.0 - nu / bi * g
 
 
 def theta(
@@ -403,6 +473,16 @@ def theta(
     z, c = _eigen(kind, b, n)
     shape = np.broadcast_shapes(x.shape, f.shape)
     fb = np.broadcast_to(f, shape).reshape(-1)
+    if n_terms is None:
+        short = (fb > 0) & (fb < FO_SHORT)
+        if np.any(short):
+            xs = np.broadcast_to(x, shape).reshape(-1)
+            out = np.ones(fb.size)
+            out[short] = _short_theta(b, 1.0 - xs[short], fb[short])
+            rest = ~short
+            if np.any(rest):
+                out[rest] = theta(kind, b, xs[rest], fb[rest], tol=tol)
+            return np.clip(out, 0.0, 1.0).reshape(shape)
     if x.size == 1:
         out = _sum_fixed(
             z, c, fb, _mode_shape(kind, z, x.reshape(-1)[0])[None, :], kind, tol if n_terms is None else None
@@ -436,6 +516,13 @@ def mean_theta(
     kind = _kind(kind)
     b = _bi(bi)
     f = _fo(fo)
+    if n_terms is None:
+        short = (f > 0) & (f < FO_SHORT)
+        if np.any(short):
+            out = np.ones(f.shape)
+            out[short] = _short_mean(kind, b, f[short])
+            out[~short] = mean_theta(kind, b, f[~short], tol=tol)
+            return np.clip(out, 0.0, 1.0)
     n = _n_terms(n_terms) if n_terms is not None else plan_terms(kind, b, f, tol).n_terms
     z, c = _eigen(kind, b, n)
     out = _sum_fixed(
@@ -488,5 +575,12 @@ def series_history(kind: str, bi: float, fo: Any, *, tol: float = DEFAULT_TOL) -
     flat = f.reshape(-1)
     vals = _sum_fixed(z, c, flat, shapes, kind, info.tol)  # (times, 3)
     vals = np.where(flat[:, None] == 0.0, 1.0, np.clip(vals, 0.0, 1.0))
+    if info.short_time_points:
+        short = (flat > 0) & (flat < FO_SHORT)
+        fs = flat[short]
+        vals[short, 0] = _short_theta(b, np.ones_like(fs), fs)
+        vals[short, 1] = _short_theta(b, np.zeros_like(fs), fs)
+        vals[short, 2] = _short_mean(kind, b, fs)
+        vals = np.clip(vals, 0.0, 1.0)
     center, surface, mean = (vals[:, i].reshape(f.shape) for i in range(3))
     return SeriesHistory(fo=f, theta_center=center, theta_surface=surface, theta_mean=mean, info=info)

@@ -197,6 +197,28 @@ def test_terms_grow_like_inverse_square_root_of_fo():
     assert 9.0 <= n2 / n1 <= 11.5
 
 
+@pytest.mark.parametrize("kind", KINDS)
+@pytest.mark.parametrize("bi", [0.5, 20.0])
+def test_short_time_branch_joins_the_series(kind, bi):
+    # Independent method: just below FO_SHORT the semi-infinite form (Incropera eq. 5.60) against the series
+    # forced to 6000 terms (bound ~1e-8 there). Tolerance: the series bound plus the stated short-time error
+    # estimate (curvature, zero for the slab).
+    fo = 0.9 * series.FO_SHORT
+    x = np.array([1.0, 0.9995, 0.998, 0.5])
+    info = series.plan_terms(kind, bi, fo)
+    assert info.short_time_points == 1
+    est = info.short_time_error + series.truncation_bound(kind, 6000, fo)
+    assert_allclose(
+        series.theta(kind, bi, x, fo), series.theta(kind, bi, x, fo, n_terms=6000), rtol=0, atol=est + 1e-9
+    )
+    assert_allclose(
+        series.mean_theta(kind, bi, fo),
+        series.mean_theta(kind, bi, fo, n_terms=6000),
+        rtol=0,
+        atol=est + 1e-9,
+    )
+
+
 def test_initial_instant_is_exactly_one():
     for kind in KINDS:
         th = series.theta(kind, 2.0, np.linspace(0, 1, 5), 0.0)
