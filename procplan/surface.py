@@ -430,6 +430,13 @@ def surface_coefficient(
                 _check_groups(entry, fname, warnings, re=re, pr=pr, repr=re * pr)
                 nu_f = float(nusselt_by_name(fname, re=re, pr=pr))
                 k_f = props.k_W_mK
+            if not (math.isfinite(nu_f) and nu_f > 0):
+                raise InvalidInputError(
+                    "forced_correlation",
+                    fname,
+                    f"a correlation valid at Re = {re:.3g} ({entry.validity})",
+                    "it gives no positive Nusselt number here",
+                )
             h_forced = nu_f * k_f / length
             # Incropera eq. 9.64 on h (the same as on Nu for a common length), n = 3.
             h_conv = float(nusselt_mixed_convection(h_forced, h_nat))
