@@ -64,13 +64,30 @@ class Geometry:
             v = getattr(self, key)
             if key in spec["required"]:
                 if v is None:
-                    raise InvalidInputError(f"product.{key[:-2]}_mm", None, f"> 0 and <= {MAX_DIMENSION_M * 1000:g} mm", f"required for a {shape}")
+                    raise InvalidInputError(
+                        f"product.{key[:-2]}_mm",
+                        None,
+                        f"> 0 and <= {MAX_DIMENSION_M * 1000:g} mm",
+                        f"required for a {shape}",
+                    )
             elif key not in spec["optional"]:
                 if v is not None:
-                    raise InvalidInputError(f"product.{key[:-2]}_mm", v * 1000, f"not set for a {shape}", f"a {shape} takes {', '.join(k[:-2] + '_mm' for k in spec['required'] + spec['optional'])}")
+                    raise InvalidInputError(
+                        f"product.{key[:-2]}_mm",
+                        v * 1000,
+                        f"not set for a {shape}",
+                        f"a {shape} takes {', '.join(k[:-2] + '_mm' for k in spec['required'] + spec['optional'])}",
+                    )
                 continue
             if v is not None:
-                validate.number(f"product.{key[:-2]}_mm", v * 1000.0, minimum=0.0, min_inclusive=False, maximum=MAX_DIMENSION_M * 1000.0, unit="mm")
+                validate.number(
+                    f"product.{key[:-2]}_mm",
+                    v * 1000.0,
+                    minimum=0.0,
+                    min_inclusive=False,
+                    maximum=MAX_DIMENSION_M * 1000.0,
+                    unit="mm",
+                )
         if self.faces not in (1, 2) or (self.faces == 1 and shape != "slab"):
             raise InvalidInputError("product.faces", self.faces, "2, or 1 for a slab with one face insulated")
 
@@ -87,7 +104,11 @@ class Geometry:
             return (Axis("sphere", self.diameter_m / 2),)
         if s == "finite-cylinder":
             return (Axis("cylinder", self.diameter_m / 2), Axis("slab", self.length_m / 2))
-        return (Axis("slab", self.length_m / 2), Axis("slab", self.width_m / 2), Axis("slab", self.height_m / 2))
+        return (
+            Axis("slab", self.length_m / 2),
+            Axis("slab", self.width_m / 2),
+            Axis("slab", self.height_m / 2),
+        )
 
     @property
     def conduction_length_m(self) -> float:
@@ -142,7 +163,11 @@ class Geometry:
 
     def describe(self) -> str:
         """Short human description, dimensions in mm."""
-        parts = [f"{k[:-2]} {getattr(self, k) * 1000:g} mm" for k in ("thickness_m", "diameter_m", "length_m", "width_m", "height_m") if getattr(self, k) is not None]
+        parts = [
+            f"{k[:-2]} {getattr(self, k) * 1000:g} mm"
+            for k in ("thickness_m", "diameter_m", "length_m", "width_m", "height_m")
+            if getattr(self, k) is not None
+        ]
         extra = ", one face exposed" if self.faces == 1 else ""
         return f"{self.shape} ({', '.join(parts)}{extra})"
 
@@ -155,8 +180,22 @@ def geometry_from_mm(shape: str, faces: int = 2, **dims_mm: float | None) -> Geo
             raise InvalidInputError(f"product.{key}", v, "a dimension key ending in _mm")
         if v is None:
             continue
-        kw[key[:-3] + "_m"] = validate.number(f"product.{key}", v, minimum=0.0, min_inclusive=False, maximum=MAX_DIMENSION_M * 1000.0, unit="mm") / 1000.0
+        kw[key[:-3] + "_m"] = (
+            validate.number(
+                f"product.{key}",
+                v,
+                minimum=0.0,
+                min_inclusive=False,
+                maximum=MAX_DIMENSION_M * 1000.0,
+                unit="mm",
+            )
+            / 1000.0
+        )
     try:
         return Geometry(shape, faces=faces, **kw)
     except TypeError:
-        raise InvalidInputError("product", sorted(dims_mm), "dimension keys thickness_mm, diameter_mm, length_mm, width_mm, height_mm") from None
+        raise InvalidInputError(
+            "product",
+            sorted(dims_mm),
+            "dimension keys thickness_mm, diameter_mm, length_mm, width_mm, height_mm",
+        ) from None

@@ -70,7 +70,9 @@ def load_library(path: str | os.PathLike | None = None) -> Library:
     """
     root = Path(path) if path is not None else DEMO_LIBRARY
     if not root.is_dir():
-        raise InvalidInputError("library", str(root), "an existing folder with products/, equipment/, rules/, plans/")
+        raise InvalidInputError(
+            "library", str(root), "an existing folder with products/, equipment/, rules/, plans/"
+        )
     lib = Library(root=root)
     parsers = _parsers()
     for kind in ("products", "equipment", "rules"):
@@ -79,9 +81,10 @@ def load_library(path: str | os.PathLike | None = None) -> Library:
             try:
                 check_name(f"{kind} file name", f.stem)
                 data = read_toml(f)
-                data.setdefault("name", f.stem)
-                if data["name"] != f.stem:
-                    raise InvalidInputError(f"{f.name}: name", data["name"], f"the file's stem {f.stem!r}")
+                key = "id" if kind == "equipment" else "name"
+                data.setdefault(key, f.stem)
+                if data[key] != f.stem:
+                    raise InvalidInputError(f"{f.name}: {key}", data[key], f"the file's stem {f.stem!r}")
                 target[f.stem] = parsers[kind](data, str(f))
             except InvalidInputError as exc:
                 lib.problems.append(FileProblem(str(f), str(exc)))
@@ -121,7 +124,7 @@ def save_equipment(root: str | os.PathLike, equipment, *, overwrite: bool = Fals
 
     data = equipment_to_dict(equipment)
     equipment_from_dict(data, "equipment")
-    return _save(root, "equipment", equipment.name, data, overwrite)
+    return _save(root, "equipment", equipment.id, data, overwrite)
 
 
 def save_rule(root: str | os.PathLike, rule, *, overwrite: bool = False) -> Path:

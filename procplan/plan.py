@@ -17,7 +17,8 @@ from typing import Any
 from procplan import validate
 from procplan.errors import Collector, InvalidInputError
 from procplan.geometry import SHAPES, Geometry, geometry_from_mm
-from procplan.properties.table import MODEL_RANGE_C
+from procplan.properties.table import MODEL_RANGE_C, PropertyTable
+from procplan.surface_layers import PackagingLayer
 from procplan.tomlio import dump_toml, read_toml, write_atomic
 
 T_LO, T_HI = MODEL_RANGE_C
@@ -33,19 +34,6 @@ DIMENSION_KEYS = ("thickness_mm", "diameter_mm", "length_mm", "width_mm", "heigh
 
 def _freeze(d: Mapping[str, Any] | None) -> tuple[tuple[str, Any], ...]:
     return tuple(sorted((d or {}).items()))
-
-
-@dataclass(frozen=True)
-class PackagingLayer:
-    """One layer between product and medium (film, tray wall, air gap) [m, W/mK]."""
-
-    name: str
-    thickness_m: float
-    k_W_mK: float
-
-    @property
-    def resistance_m2K_W(self) -> float:
-        return self.thickness_m / self.k_W_mK
 
 
 @dataclass(frozen=True)
@@ -83,18 +71,28 @@ class Product:
 
     def property_table(self):
         """The product's PropertyTable (composition model, or measured constants)."""
-        from procplan.properties import fixed_property_table, property_table
+        from procplan.properties import property_table
 
         if self.fixed_properties is not None:
             fp = self.fixed_properties
-            return fixed_property_table(
-                fp.k_W_mK, fp.rho_kg_m3, fp.cp_J_kgK, latent_J_kg=fp.latent_J_kg, freezing_C=fp.freezing_C,
-                frozen_k_W_mK=fp.frozen_k_W_mK, frozen_cp_J_kgK=fp.frozen_cp_J_kgK,
+            return PropertyTable.constant(
+                fp.k_W_mK,
+                fp.rho_kg_m3,
+                fp.cp_J_kgK,
+                latent_J_kg=fp.latent_J_kg,
+                freezing_C=fp.freezing_C,
+                frozen_k_W_mK=fp.frozen_k_W_mK,
+                frozen_cp_J_kgK=fp.frozen_cp_J_kgK,
             )
         from procplan.properties import Composition
 
         comp = Composition.from_mapping(self.composition_dict)
-        return property_table(comp, freezing_C=self.freezing_C, conductivity_model=self.conductivity_model, category=self.category)
+        return property_table(
+            comp,
+            freezing_C=self.freezing_C,
+            conductivity_model=self.conductivity_model,
+            category=self.category,
+        )
 
 
 @dataclass(frozen=True)
@@ -190,19 +188,44 @@ def _temperature(field_name: str, v: Any) -> float:
     return validate.number(field_name, v, minimum=T_LO, maximum=T_HI, unit="°C")
 
 
+#: Medium temperatures accepted [°C]: ovens run above the product-property range, which bounds the product only.
+MEDIUM_RANGE_C = (-80.0, 300.0)
+
+
+def _medium_temperature(field_name: str, v: Any) -> float:
+    return validate.number(field_name, v, minimum=MEDIUM_RANGE_C[0], maximum=MEDIUM_RANGE_C[1], unit="°C")
+
+
 def _check_keys(c: Collector, data: Mapping[str, Any], allowed: tuple[str, ...], prefix: str) -> None:
     for k in data:
         if k not in allowed:
-            c.add(InvalidInputError(f"{prefix}{k}", data[k], "one of the keys " + ", ".join(allowed), "unknown key"))
+            c.add(
+                InvalidInputError(
+                    f"{prefix}{k}", data[k], "one of the keys " + ", ".join(allowed), "unknown key"
+                )
+            )
 
 
 PRODUCT_KEYS = (
-    "name", "description", "library", "shape", "faces", *DIMENSION_KEYS, "composition", "fixed_properties",
-    "freezing_C", "category", "conductivity_model", "packaging", "unwrapped",
+    "name",
+    "description",
+    "library",
+    "shape",
+    "faces",
+    *DIMENSION_KEYS,
+    "composition",
+    "fixed_properties",
+    "freezing_C",
+    "category",
+    "conductivity_model",
+    "packaging",
+    "unwrapped",
 )
 
 
-def product_from_dict(data: Mapping[str, Any], source: str = "product", prefix: str = "product.", base: Product | None = None) -> Product:
+def product_from_dict(
+    data: Mapping[str, Any], source: str = "product", prefix: str = "product.", base: Product | None = None
+) -> Product:
     """Build a Product from a plan/library table (mm, kJ-free SI), collecting every problem.
 
     With ``base`` (a library product), keys in ``data`` override it.
@@ -238,7 +261,11 @@ def product_from_dict(data: Mapping[str, Any], source: str = "product", prefix: 
     comp: tuple[tuple[str, float], ...] = base.composition if base else ()
     fixed = base.fixed_properties if base else None
     if "composition" in data and "fixed_properties" in data:
-        c.add(InvalidInputError(f"{prefix}fixed_properties", "both given", "either composition or fixed_properties, not both"))
+        c.add(
+            InvalidInputError(
+                f"{prefix}fixed_properties", "both given", "either composition or fixed_properties, not both"
+            )
+        )
     if "composition" in data:
         raw = data["composition"]
         if not isinstance(raw, Mapping):
@@ -247,31 +274,71 @@ def product_from_dict(data: Mapping[str, Any], source: str = "product", prefix: 
             with c.catch():
                 from procplan.properties import Composition
 
-                comp = tuple(sorted(Composition.from_mapping(raw, field_prefix=f"{prefix}composition").to_dict().items()))
+                comp = tuple(
+                    sorted(
+                        Composition.from_mapping(raw, field_prefix=f"{prefix}composition").to_dict().items()
+                    )
+                )
                 fixed = None
     if "fixed_properties" in data:
         fp = data["fixed_properties"]
         if not isinstance(fp, Mapping):
-            c.add(InvalidInputError(f"{prefix}fixed_properties", fp, "a table with k_W_mK, rho_kg_m3, cp_J_kgK"))
+            c.add(
+                InvalidInputError(f"{prefix}fixed_properties", fp, "a table with k_W_mK, rho_kg_m3, cp_J_kgK")
+            )
         else:
             fpp = f"{prefix}fixed_properties."
-            _check_keys(c, fp, ("k_W_mK", "rho_kg_m3", "cp_J_kgK", "latent_J_kg", "freezing_C", "frozen_k_W_mK", "frozen_cp_J_kgK"), fpp)
+            _check_keys(
+                c,
+                fp,
+                (
+                    "k_W_mK",
+                    "rho_kg_m3",
+                    "cp_J_kgK",
+                    "latent_J_kg",
+                    "freezing_C",
+                    "frozen_k_W_mK",
+                    "frozen_cp_J_kgK",
+                ),
+                fpp,
+            )
             vals = {}
             for key, unit in (("k_W_mK", "W/mK"), ("rho_kg_m3", "kg/m³"), ("cp_J_kgK", "J/kgK")):
                 if key not in fp:
                     c.add(InvalidInputError(fpp + key, None, f"> 0 {unit}", "required"))
                 vals[key] = _get(c, fp, key, fpp, validate.positive, unit)
-            vals["latent_J_kg"] = _get(c, fp, "latent_J_kg", fpp, validate.number, minimum=0.0, maximum=400e3, unit="J/kg", default=0.0)
+            vals["latent_J_kg"] = _get(
+                c,
+                fp,
+                "latent_J_kg",
+                fpp,
+                validate.number,
+                minimum=0.0,
+                maximum=400e3,
+                unit="J/kg",
+                default=0.0,
+            )
             vals["freezing_C"] = _get(c, fp, "freezing_C", fpp, _temperature)
             vals["frozen_k_W_mK"] = _get(c, fp, "frozen_k_W_mK", fpp, validate.positive, "W/mK")
             vals["frozen_cp_J_kgK"] = _get(c, fp, "frozen_cp_J_kgK", fpp, validate.positive, "J/kgK")
             if vals["latent_J_kg"] and vals["freezing_C"] is None:
-                c.add(InvalidInputError(fpp + "freezing_C", None, "a temperature in °C", "required when latent_J_kg > 0"))
+                c.add(
+                    InvalidInputError(
+                        fpp + "freezing_C", None, "a temperature in °C", "required when latent_J_kg > 0"
+                    )
+                )
             if all(vals[k] is not None for k in ("k_W_mK", "rho_kg_m3", "cp_J_kgK")):
                 fixed = FixedProperties(**vals)
                 comp = ()
-    if not comp and fixed is None:
-        c.add(InvalidInputError(f"{prefix}composition", None, "a [composition] table or a [fixed_properties] table", "the product needs one"))
+    if not comp and fixed is None and "composition" not in data and "fixed_properties" not in data:
+        c.add(
+            InvalidInputError(
+                f"{prefix}composition",
+                None,
+                "a [composition] table or a [fixed_properties] table",
+                "the product needs one",
+            )
+        )
     freezing_C = _get(c, data, "freezing_C", prefix, _temperature, default=base.freezing_C if base else None)
     category = data.get("category", base.category if base else "meat")
     with c.catch():
@@ -294,15 +361,25 @@ def product_from_dict(data: Mapping[str, Any], source: str = "product", prefix: 
     library = data.get("library", base.library if base else None)
     c.raise_if_any()
     return Product(
-        name=name, geometry=geometry, composition=comp, fixed_properties=fixed, freezing_C=freezing_C,
-        category=category, conductivity_model=cond_model, packaging=packaging, unwrapped=unwrapped,
-        description=description, library=library,
+        name=name,
+        geometry=geometry,
+        composition=comp,
+        fixed_properties=fixed,
+        freezing_C=freezing_C,
+        category=category,
+        conductivity_model=cond_model,
+        packaging=packaging,
+        unwrapped=unwrapped,
+        description=description,
+        library=library,
     )
 
 
 def _packaging(c: Collector, raw: Any, prefix: str) -> tuple[PackagingLayer, ...]:
     if not isinstance(raw, list):
-        c.add(InvalidInputError(prefix, raw, "a list of layers [[packaging]] with name, thickness_mm, k_W_mK"))
+        c.add(
+            InvalidInputError(prefix, raw, "a list of layers [[packaging]] with name, thickness_mm, k_W_mK")
+        )
         return ()
     layers = []
     for i, layer in enumerate(raw):
@@ -310,20 +387,69 @@ def _packaging(c: Collector, raw: Any, prefix: str) -> tuple[PackagingLayer, ...
         if not isinstance(layer, Mapping):
             c.add(InvalidInputError(p.rstrip("."), layer, "a table with name, thickness_mm, k_W_mK"))
             continue
-        _check_keys(c, layer, ("name", "thickness_mm", "k_W_mK"), p)
-        t = _get(c, layer, "thickness_mm", p, validate.number, minimum=0.0, min_inclusive=False, maximum=100.0, unit="mm")
-        k = _get(c, layer, "k_W_mK", p, validate.number, minimum=0.0, min_inclusive=False, maximum=500.0, unit="W/mK")
-        if t is None or k is None:
-            if "thickness_mm" not in layer or "k_W_mK" not in layer:
-                c.add(InvalidInputError(p + ("thickness_mm" if "thickness_mm" not in layer else "k_W_mK"), None, "required"))
+        _check_keys(c, layer, ("name", "thickness_mm", "k_W_mK", "air_gap"), p)
+        air_gap = layer.get("air_gap", False)
+        if not isinstance(air_gap, bool):
+            c.add(InvalidInputError(p + "air_gap", air_gap, "true or false"))
             continue
-        layers.append(PackagingLayer(str(layer.get("name", f"layer {i + 1}")), t / 1000.0, k))
+        if "thickness_mm" not in layer:
+            c.add(InvalidInputError(p + "thickness_mm", None, "(0, 100] mm", "required"))
+        if air_gap == ("k_W_mK" in layer):
+            c.add(
+                InvalidInputError(
+                    p + "k_W_mK",
+                    layer.get("k_W_mK"),
+                    "> 0 W/mK for a solid layer; none for an air gap (air_gap = true)",
+                )
+            )
+            continue
+        t = _get(
+            c,
+            layer,
+            "thickness_mm",
+            p,
+            validate.number,
+            minimum=0.0,
+            min_inclusive=False,
+            maximum=100.0,
+            unit="mm",
+        )
+        k = (
+            None
+            if air_gap
+            else _get(
+                c,
+                layer,
+                "k_W_mK",
+                p,
+                validate.number,
+                minimum=0.0,
+                min_inclusive=False,
+                maximum=500.0,
+                unit="W/mK",
+            )
+        )
+        if t is None or (k is None and not air_gap):
+            continue
+        layers.append(
+            PackagingLayer(str(layer.get("name", "air gap" if air_gap else f"layer {i + 1}")), t / 1000.0, k)
+        )
     return tuple(layers)
 
 
 STEP_KEYS = (
-    "name", "duration_min", "stop_when_core_C", "medium_C", "medium_profile", "h_W_m2K", "equipment", "settings",
-    "settings_profile", "emissivity", "surroundings_C", "targets",
+    "name",
+    "duration_min",
+    "stop_when_core_C",
+    "medium_C",
+    "medium_profile",
+    "h_W_m2K",
+    "equipment",
+    "settings",
+    "settings_profile",
+    "emissivity",
+    "surroundings_C",
+    "targets",
 )
 
 
@@ -338,21 +464,42 @@ def step_from_dict(data: Mapping[str, Any], index: int, source: str = "plan") ->
     if not isinstance(name, str) or not name.strip():
         c.add(InvalidInputError(p + "name", name, "a non-empty text"))
         name = f"step {index + 1}"
-    duration_min = _get(c, data, "duration_min", p, validate.number, minimum=0.0, min_inclusive=False, maximum=MAX_STEP_MIN, unit="min")
+    duration_min = _get(
+        c,
+        data,
+        "duration_min",
+        p,
+        validate.number,
+        minimum=0.0,
+        min_inclusive=False,
+        maximum=MAX_STEP_MIN,
+        unit="min",
+    )
     stop = _get(c, data, "stop_when_core_C", p, _temperature)
     if "duration_min" not in data and "stop_when_core_C" not in data:
-        c.add(InvalidInputError(p + "duration_min", None, f"(0, {MAX_STEP_MIN:g}] min", "a step needs a duration_min or a stop_when_core_C"))
+        c.add(
+            InvalidInputError(
+                p + "duration_min",
+                None,
+                f"(0, {MAX_STEP_MIN:g}] min",
+                "a step needs a duration_min or a stop_when_core_C",
+            )
+        )
     duration_given = "duration_min" in data
     duration_s = (duration_min if duration_min is not None else DEFAULT_STOP_CAP_MIN) * 60.0
-    medium_C = _get(c, data, "medium_C", p, _temperature)
+    medium_C = _get(c, data, "medium_C", p, _medium_temperature)
     profile: tuple[tuple[float, float], ...] = ()
     if "medium_profile" in data:
         profile = _profile(c, data["medium_profile"], p + "medium_profile", duration_s)
-    h = _get(c, data, "h_W_m2K", p, validate.number, minimum=0.0, min_inclusive=False, maximum=1e5, unit="W/m²K")
+    h = _get(
+        c, data, "h_W_m2K", p, validate.number, minimum=0.0, min_inclusive=False, maximum=1e5, unit="W/m²K"
+    )
     equipment = data.get("equipment")
     settings = data.get("settings", {})
     if not isinstance(settings, Mapping):
-        c.add(InvalidInputError(p + "settings", settings, "a table such as { air_C = -4, air_speed_m_s = 3 }"))
+        c.add(
+            InvalidInputError(p + "settings", settings, "a table such as { air_C = -4, air_speed_m_s = 3 }")
+        )
         settings = {}
     for k, v in settings.items():
         if isinstance(v, bool) or not isinstance(v, (int, float)):
@@ -361,7 +508,11 @@ def step_from_dict(data: Mapping[str, Any], index: int, source: str = "plan") ->
     if "settings_profile" in data:
         raw = data["settings_profile"]
         if not isinstance(raw, list) or not raw:
-            c.add(InvalidInputError(p + "settings_profile", raw, "a list of tables { time_min = ..., <setting> = ... }"))
+            c.add(
+                InvalidInputError(
+                    p + "settings_profile", raw, "a list of tables { time_min = ..., <setting> = ... }"
+                )
+            )
         else:
             last = -1.0
             for i, row in enumerate(raw):
@@ -369,33 +520,79 @@ def step_from_dict(data: Mapping[str, Any], index: int, source: str = "plan") ->
                 if not isinstance(row, Mapping) or "time_min" not in row:
                     c.add(InvalidInputError(rp.rstrip("."), row, "a table with time_min and settings"))
                     continue
-                t = _get(c, row, "time_min", rp, validate.number, minimum=0.0, maximum=duration_s / 60.0, unit="min")
+                t = _get(
+                    c,
+                    row,
+                    "time_min",
+                    rp,
+                    validate.number,
+                    minimum=0.0,
+                    maximum=duration_s / 60.0,
+                    unit="min",
+                )
                 if t is None:
                     continue
                 if t <= last:
-                    c.add(InvalidInputError(rp + "time_min", t, f"> {last:g} min", "profile times must increase"))
+                    c.add(
+                        InvalidInputError(
+                            rp + "time_min", t, f"> {last:g} min", "profile times must increase"
+                        )
+                    )
                 last = t
-                settings_profile.append((t * 60.0, _freeze({k: v for k, v in row.items() if k != "time_min"})))
+                settings_profile.append(
+                    (t * 60.0, _freeze({k: v for k, v in row.items() if k != "time_min"}))
+                )
     if equipment is not None:
         if not isinstance(equipment, str) or not equipment:
-            c.add(InvalidInputError(p + "equipment", equipment, "the name of a machine in the equipment library"))
+            c.add(
+                InvalidInputError(
+                    p + "equipment", equipment, "the name of a machine in the equipment library"
+                )
+            )
         if h is not None or medium_C is not None:
-            c.add(InvalidInputError(p + "equipment", equipment, "either equipment with settings, or h_W_m2K with medium_C / medium_profile", "not both"))
+            c.add(
+                InvalidInputError(
+                    p + "equipment",
+                    equipment,
+                    "either equipment with settings, or h_W_m2K with medium_C / medium_profile",
+                    "not both",
+                )
+            )
     else:
         if settings or settings_profile:
             c.add(InvalidInputError(p + "settings", dict(settings), "settings only with an equipment name"))
         if h is None and "h_W_m2K" not in data:
-            c.add(InvalidInputError(p + "h_W_m2K", None, "> 0 W/m²K", "a step needs h_W_m2K with a medium temperature, or equipment"))
+            c.add(
+                InvalidInputError(
+                    p + "h_W_m2K",
+                    None,
+                    "> 0 W/m²K",
+                    "a step needs h_W_m2K with a medium temperature, or equipment",
+                )
+            )
         if medium_C is None and not profile and "medium_C" not in data:
-            c.add(InvalidInputError(p + "medium_C", None, f"[{T_LO:g}, {T_HI:g}] °C", "a step needs medium_C or medium_profile"))
+            c.add(
+                InvalidInputError(
+                    p + "medium_C",
+                    None,
+                    f"[{MEDIUM_RANGE_C[0]:g}, {MEDIUM_RANGE_C[1]:g}] °C",
+                    "a step needs medium_C or medium_profile",
+                )
+            )
         if medium_C is not None and profile:
-            c.add(InvalidInputError(p + "medium_profile", "given with medium_C", "medium_C or medium_profile, not both"))
+            c.add(
+                InvalidInputError(
+                    p + "medium_profile", "given with medium_C", "medium_C or medium_profile, not both"
+                )
+            )
     emissivity = _get(c, data, "emissivity", p, validate.fraction)
-    surroundings = _get(c, data, "surroundings_C", p, _temperature)
+    surroundings = _get(c, data, "surroundings_C", p, _medium_temperature)
     targets = []
     raw_targets = data.get("targets", [])
     if not isinstance(raw_targets, list):
-        c.add(InvalidInputError(p + "targets", raw_targets, "a list of { point = 'core', temperature_C = ... }"))
+        c.add(
+            InvalidInputError(p + "targets", raw_targets, "a list of { point = 'core', temperature_C = ... }")
+        )
         raw_targets = []
     for i, t in enumerate(raw_targets):
         tp = f"{p}targets[{i}]."
@@ -410,16 +607,28 @@ def step_from_dict(data: Mapping[str, Any], index: int, source: str = "plan") ->
                 targets.append(Target(temp, point))
     c.raise_if_any()
     return Step(
-        name=name, duration_s=duration_s, stop_when_core_C=stop, medium_C=medium_C, medium_profile=profile,
-        h_W_m2K=h, equipment=equipment, settings=_freeze(settings), settings_profile=tuple(settings_profile),
-        emissivity=emissivity, surroundings_C=surroundings, targets=tuple(targets), duration_given=duration_given,
+        name=name,
+        duration_s=duration_s,
+        stop_when_core_C=stop,
+        medium_C=medium_C,
+        medium_profile=profile,
+        h_W_m2K=h,
+        equipment=equipment,
+        settings=_freeze(settings),
+        settings_profile=tuple(settings_profile),
+        emissivity=emissivity,
+        surroundings_C=surroundings,
+        targets=tuple(targets),
+        duration_given=duration_given,
     )
 
 
 def _profile(c: Collector, raw: Any, field_name: str, duration_s: float) -> tuple[tuple[float, float], ...]:
     """A [[time_min, temperature_C], ...] list that starts at 0 and covers the whole step."""
     if not isinstance(raw, list) or len(raw) < 1:
-        c.add(InvalidInputError(field_name, raw, "a list of [time_min, temperature_C] pairs starting at time 0"))
+        c.add(
+            InvalidInputError(field_name, raw, "a list of [time_min, temperature_C] pairs starting at time 0")
+        )
         return ()
     pts = []
     for i, pair in enumerate(raw):
@@ -427,21 +636,36 @@ def _profile(c: Collector, raw: Any, field_name: str, duration_s: float) -> tupl
             c.add(InvalidInputError(f"{field_name}[{i}]", pair, "a pair [time_min, temperature_C]"))
             return ()
         with c.catch():
-            t = validate.number(f"{field_name}[{i}] time", pair[0], minimum=0.0, maximum=MAX_STEP_MIN, unit="min")
-            v = _temperature(f"{field_name}[{i}] temperature", pair[1])
+            t = validate.number(
+                f"{field_name}[{i}] time", pair[0], minimum=0.0, maximum=MAX_STEP_MIN, unit="min"
+            )
+            v = _medium_temperature(f"{field_name}[{i}] temperature", pair[1])
             pts.append((t * 60.0, v))
     if len(pts) != len(raw):
         return ()
     with c.catch():
         validate.increasing(f"{field_name} times", [t for t, _ in pts], unit="s")
     if pts and pts[0][0] != 0.0:
-        c.add(InvalidInputError(f"{field_name}[0] time", pts[0][0] / 60.0, "0 min", "the profile must start at the step's start"))
+        c.add(
+            InvalidInputError(
+                f"{field_name}[0] time",
+                pts[0][0] / 60.0,
+                "0 min",
+                "the profile must start at the step's start",
+            )
+        )
     return tuple(pts)
 
 
 CHECK_KEYS = (
-    "cooling_rule", "lethality", "margin_percent", "margin_min", "pieces_per_batch", "cop_fraction",
-    "energy_price_per_kWh", "frozen_storage_C",
+    "cooling_rule",
+    "lethality",
+    "margin_percent",
+    "margin_min",
+    "pieces_per_batch",
+    "cop_fraction",
+    "energy_price_per_kWh",
+    "frozen_storage_C",
 )
 
 
@@ -461,22 +685,54 @@ def checks_from_dict(data: Mapping[str, Any], source: str = "plan") -> Checks:
         if isinstance(raw, str):
             leth = LethalityCheck(preset=raw)
         elif isinstance(raw, Mapping):
-            _check_keys(c, raw, ("preset", "reference_C", "z_C", "required_F_min", "d_value_min", "point"), lp)
+            _check_keys(
+                c, raw, ("preset", "reference_C", "z_C", "required_F_min", "d_value_min", "point"), lp
+            )
             point = raw.get("point", "core")
             with c.catch():
                 validate.choice(lp + "point", point, POINTS)
             leth = LethalityCheck(
                 preset=raw.get("preset"),
                 reference_C=_get(c, raw, "reference_C", lp, _temperature),
-                z_C=_get(c, raw, "z_C", lp, validate.number, minimum=0.0, min_inclusive=False, maximum=200.0, unit="°C"),
-                required_F_min=_get(c, raw, "required_F_min", lp, validate.number, minimum=0.0, min_inclusive=False, unit="min"),
+                z_C=_get(
+                    c,
+                    raw,
+                    "z_C",
+                    lp,
+                    validate.number,
+                    minimum=0.0,
+                    min_inclusive=False,
+                    maximum=200.0,
+                    unit="°C",
+                ),
+                required_F_min=_get(
+                    c,
+                    raw,
+                    "required_F_min",
+                    lp,
+                    validate.number,
+                    minimum=0.0,
+                    min_inclusive=False,
+                    unit="min",
+                ),
                 d_value_min=_get(c, raw, "d_value_min", lp, validate.positive, "min"),
                 point=point,
             )
             if leth.preset is None and (leth.reference_C is None or leth.z_C is None):
-                c.add(InvalidInputError(lp + "z_C", leth.z_C, "> 0 °C", "a lethality check needs a preset or reference_C and z_C"))
+                c.add(
+                    InvalidInputError(
+                        lp + "z_C",
+                        leth.z_C,
+                        "> 0 °C",
+                        "a lethality check needs a preset or reference_C and z_C",
+                    )
+                )
         else:
-            c.add(InvalidInputError(p + "lethality", raw, "a preset name or a table with reference_C, z_C, required_F_min"))
+            c.add(
+                InvalidInputError(
+                    p + "lethality", raw, "a preset name or a table with reference_C, z_C, required_F_min"
+                )
+            )
     ppb = data.get("pieces_per_batch", 1)
     if isinstance(ppb, bool) or not isinstance(ppb, int) or not (1 <= ppb <= 10_000_000):
         c.add(InvalidInputError(p + "pieces_per_batch", ppb, "a whole number from 1 to 10 000 000"))
@@ -484,11 +740,35 @@ def checks_from_dict(data: Mapping[str, Any], source: str = "plan") -> Checks:
     checks = Checks(
         cooling_rule=rule,
         lethality=leth,
-        margin_percent=_get(c, data, "margin_percent", p, validate.number, minimum=0.0, maximum=500.0, unit="%", default=0.0),
-        margin_min=_get(c, data, "margin_min", p, validate.number, minimum=0.0, maximum=MAX_STEP_MIN, unit="min", default=0.0),
+        margin_percent=_get(
+            c, data, "margin_percent", p, validate.number, minimum=0.0, maximum=500.0, unit="%", default=0.0
+        ),
+        margin_min=_get(
+            c,
+            data,
+            "margin_min",
+            p,
+            validate.number,
+            minimum=0.0,
+            maximum=MAX_STEP_MIN,
+            unit="min",
+            default=0.0,
+        ),
         pieces_per_batch=ppb,
-        cop_fraction=_get(c, data, "cop_fraction", p, validate.number, minimum=0.0, min_inclusive=False, maximum=1.0, default=0.5),
-        energy_price_per_kWh=_get(c, data, "energy_price_per_kWh", p, validate.number, minimum=0.0, maximum=100.0),
+        cop_fraction=_get(
+            c,
+            data,
+            "cop_fraction",
+            p,
+            validate.number,
+            minimum=0.0,
+            min_inclusive=False,
+            maximum=1.0,
+            default=0.5,
+        ),
+        energy_price_per_kWh=_get(
+            c, data, "energy_price_per_kWh", p, validate.number, minimum=0.0, maximum=100.0
+        ),
         frozen_storage_C=_get(c, data, "frozen_storage_C", p, _temperature, default=-18.0),
     )
     c.raise_if_any()
@@ -526,7 +806,9 @@ def plan_from_dict(data: Mapping[str, Any], source: str = "plan", library=None) 
             if library is None:
                 c.add(InvalidInputError("product.library", ref, "a product name, with a library loaded"))
             elif ref not in library.products:
-                c.add(InvalidInputError("product.library", ref, "one of " + ", ".join(sorted(library.products))))
+                c.add(
+                    InvalidInputError("product.library", ref, "one of " + ", ".join(sorted(library.products)))
+                )
             else:
                 base = library.products[ref]
         if ref is None or base is not None:
@@ -535,7 +817,14 @@ def plan_from_dict(data: Mapping[str, Any], source: str = "plan", library=None) 
     start = data.get("start")
     t0 = None
     if not isinstance(start, Mapping) or "temperature_C" not in start:
-        c.add(InvalidInputError("start.temperature_C", None, f"[{T_LO:g}, {T_HI:g}] °C", "a [start] table with temperature_C is required"))
+        c.add(
+            InvalidInputError(
+                "start.temperature_C",
+                None,
+                f"[{T_LO:g}, {T_HI:g}] °C",
+                "a [start] table with temperature_C is required",
+            )
+        )
     else:
         _check_keys(c, start, ("temperature_C",), "start.")
         t0 = _get(c, start, "temperature_C", "start.", _temperature)
@@ -555,7 +844,11 @@ def plan_from_dict(data: Mapping[str, Any], source: str = "plan", library=None) 
         with c.catch():
             checks = checks_from_dict(data["checks"], source)
     if library is not None and checks.cooling_rule is not None and checks.cooling_rule not in library.rules:
-        c.add(InvalidInputError("checks.cooling_rule", checks.cooling_rule, "one of " + ", ".join(sorted(library.rules))))
+        c.add(
+            InvalidInputError(
+                "checks.cooling_rule", checks.cooling_rule, "one of " + ", ".join(sorted(library.rules))
+            )
+        )
     if checks.lethality is not None and checks.lethality.preset is not None:
         with c.catch():
             from procplan.outcomes import LETHALITY_PRESETS
@@ -563,12 +856,24 @@ def plan_from_dict(data: Mapping[str, Any], source: str = "plan", library=None) 
             validate.choice("checks.lethality.preset", checks.lethality.preset, LETHALITY_PRESETS)
     notes = str(data.get("notes", ""))
     c.raise_if_any()
-    return Plan(title=title, product=product, start_temperature_C=t0, steps=tuple(steps), checks=checks, solver=solver, notes=notes)
+    return Plan(
+        title=title,
+        product=product,
+        start_temperature_C=t0,
+        steps=tuple(steps),
+        checks=checks,
+        solver=solver,
+        notes=notes,
+    )
 
 
 def _check_equipment(c: Collector, step: Step, i: int, library) -> None:
     if step.equipment not in library.equipment:
-        c.add(InvalidInputError(f"steps[{i}].equipment", step.equipment, "one of " + ", ".join(sorted(library.equipment))))
+        c.add(
+            InvalidInputError(
+                f"steps[{i}].equipment", step.equipment, "one of " + ", ".join(sorted(library.equipment))
+            )
+        )
         return
     from procplan.equipment import resolve_settings
 
@@ -577,11 +882,39 @@ def _check_equipment(c: Collector, step: Step, i: int, library) -> None:
         resolve_settings(eq, step.settings_dict, field_prefix=f"steps[{i}].settings.")
     for j, (_, s) in enumerate(step.settings_profile):
         with c.catch():
-            resolve_settings(eq, {**step.settings_dict, **dict(s)}, field_prefix=f"steps[{i}].settings_profile[{j}].")
+            resolve_settings(
+                eq, {**step.settings_dict, **dict(s)}, field_prefix=f"steps[{i}].settings_profile[{j}]."
+            )
 
 
 # --------------------------------------------------------------------------------------------
 # writing
+
+
+def _inverse(value_si: float, to_si) -> float | int:
+    """The file value x with ``to_si(x) == value_si`` exactly (searching the neighbouring floats), so that
+    unit conversion at the edge never changes a saved value."""
+    import math
+
+    x = _num(value_si / to_si(1.0)) if to_si(1.0) != 0 else value_si
+    if to_si(x) == value_si:
+        return x
+    x = float(x)
+    for direction in (math.inf, -math.inf):
+        y = x
+        for _ in range(8):
+            y = math.nextafter(y, direction)
+            if to_si(y) == value_si:
+                return y
+    return x
+
+
+def _mm(value_m: float) -> float | int:
+    return _inverse(value_m, lambda x: x / 1000.0)
+
+
+def _minutes(value_s: float) -> float | int:
+    return _inverse(value_s, lambda x: x * 60.0)
 
 
 def _num(x: float) -> float | int:
@@ -602,7 +935,7 @@ def product_to_dict(p: Product) -> dict[str, Any]:
     for k in DIMENSION_KEYS:
         v = getattr(g, k[:-3] + "_m")
         if v is not None:
-            d[k] = _num(round(v * 1000.0, 9))
+            d[k] = _mm(v)
     d["category"] = p.category
     if p.conductivity_model != "parallel":
         d["conductivity_model"] = p.conductivity_model
@@ -616,14 +949,21 @@ def product_to_dict(p: Product) -> dict[str, Any]:
         fp = p.fixed_properties
         d["fixed_properties"] = {k: _num(v) for k, v in vars(fp).items() if v is not None}
     if p.packaging:
-        d["packaging"] = [{"name": layer.name, "thickness_mm": _num(round(layer.thickness_m * 1000, 9)), "k_W_mK": _num(layer.k_W_mK)} for layer in p.packaging]
+        d["packaging"] = [
+            {
+                "name": layer.name,
+                "thickness_mm": _mm(layer.thickness_m),
+                **({"air_gap": True} if layer.k_W_mK is None else {"k_W_mK": _num(layer.k_W_mK)}),
+            }
+            for layer in p.packaging
+        ]
     return d
 
 
 def step_to_dict(s: Step) -> dict[str, Any]:
     d: dict[str, Any] = {"name": s.name}
     if s.duration_given:
-        d["duration_min"] = _num(s.duration_s / 60.0)
+        d["duration_min"] = _minutes(s.duration_s)
     if s.stop_when_core_C is not None:
         d["stop_when_core_C"] = _num(s.stop_when_core_C)
     if s.equipment is not None:
@@ -631,14 +971,16 @@ def step_to_dict(s: Step) -> dict[str, Any]:
         if s.settings:
             d["settings"] = {k: _num(v) for k, v in s.settings}
         if s.settings_profile:
-            d["settings_profile"] = [{"time_min": _num(t / 60.0), **{k: _num(v) for k, v in row}} for t, row in s.settings_profile]
+            d["settings_profile"] = [
+                {"time_min": _num(t / 60.0), **{k: _num(v) for k, v in row}} for t, row in s.settings_profile
+            ]
     else:
         if s.h_W_m2K is not None:
             d["h_W_m2K"] = _num(s.h_W_m2K)
         if s.medium_C is not None:
             d["medium_C"] = _num(s.medium_C)
         if s.medium_profile:
-            d["medium_profile"] = [[_num(t / 60.0), _num(v)] for t, v in s.medium_profile]
+            d["medium_profile"] = [[_minutes(t), _num(v)] for t, v in s.medium_profile]
     if s.emissivity is not None:
         d["emissivity"] = _num(s.emissivity)
     if s.surroundings_C is not None:
@@ -653,12 +995,23 @@ def checks_to_dict(ch: Checks) -> dict[str, Any]:
     if ch.cooling_rule:
         d["cooling_rule"] = ch.cooling_rule
     if ch.lethality is not None:
-        lt = {k: (_num(v) if isinstance(v, (int, float)) else v) for k, v in vars(ch.lethality).items() if v is not None}
+        lt = {
+            k: (_num(v) if isinstance(v, (int, float)) else v)
+            for k, v in vars(ch.lethality).items()
+            if v is not None
+        }
         if lt.get("point") == "core":
             lt.pop("point")
         d["lethality"] = lt
     defaults = Checks()
-    for key in ("margin_percent", "margin_min", "pieces_per_batch", "cop_fraction", "energy_price_per_kWh", "frozen_storage_C"):
+    for key in (
+        "margin_percent",
+        "margin_min",
+        "pieces_per_batch",
+        "cop_fraction",
+        "energy_price_per_kWh",
+        "frozen_storage_C",
+    ):
         v = getattr(ch, key)
         if v is not None and v != getattr(defaults, key):
             d[key] = _num(v)

@@ -73,7 +73,9 @@ def write_atomic(path: str | os.PathLike, text: str, *, overwrite: bool = False)
     """
     p = Path(path)
     if p.exists() and not overwrite:
-        raise InvalidInputError(str(p), "exists", "a new file name, or overwrite=True", "refusing to replace a saved file")
+        raise InvalidInputError(
+            str(p), "exists", "a new file name, or overwrite=True", "refusing to replace a saved file"
+        )
     p.parent.mkdir(parents=True, exist_ok=True)
     fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=p.parent)
     try:
@@ -86,7 +88,9 @@ def write_atomic(path: str | os.PathLike, text: str, *, overwrite: bool = False)
             try:
                 os.link(tmp, p)
             except FileExistsError:
-                raise InvalidInputError(str(p), "exists", "a new file name, or overwrite=True", "refusing to replace a saved file") from None
+                raise InvalidInputError(
+                    str(p), "exists", "a new file name, or overwrite=True", "refusing to replace a saved file"
+                ) from None
             except OSError:
                 os.replace(tmp, p)
                 return p

@@ -13,7 +13,11 @@ def c_to_f(temperature_C):
     >>> c_to_f(100.0)
     212.0
     """
-    return np.asarray(temperature_C, dtype=float) * 9.0 / 5.0 + 32.0 if np.ndim(temperature_C) else float(temperature_C) * 9.0 / 5.0 + 32.0
+    return (
+        np.asarray(temperature_C, dtype=float) * 9.0 / 5.0 + 32.0
+        if np.ndim(temperature_C)
+        else float(temperature_C) * 9.0 / 5.0 + 32.0
+    )
 
 
 def f_to_c(temperature_F):
@@ -22,9 +26,17 @@ def f_to_c(temperature_F):
     >>> f_to_c(32.0)
     0.0
     """
-    return (np.asarray(temperature_F, dtype=float) - 32.0) * 5.0 / 9.0 if np.ndim(temperature_F) else (float(temperature_F) - 32.0) * 5.0 / 9.0
+    return (
+        (np.asarray(temperature_F, dtype=float) - 32.0) * 5.0 / 9.0
+        if np.ndim(temperature_F)
+        else (float(temperature_F) - 32.0) * 5.0 / 9.0
+    )
 
 
 def c_to_k(temperature_C):
     """°C → K."""
-    return np.asarray(temperature_C, dtype=float) + ZERO_CELSIUS_K if np.ndim(temperature_C) else float(temperature_C) + ZERO_CELSIUS_K
+    return (
+        np.asarray(temperature_C, dtype=float) + ZERO_CELSIUS_K
+        if np.ndim(temperature_C)
+        else float(temperature_C) + ZERO_CELSIUS_K
+    )

@@ -10,7 +10,9 @@ import numpy as np
 from procplan.errors import InvalidInputError
 
 
-def _describe(minimum: float | None, maximum: float | None, min_inclusive: bool, max_inclusive: bool, unit: str) -> str:
+def _describe(
+    minimum: float | None, maximum: float | None, min_inclusive: bool, max_inclusive: bool, unit: str
+) -> str:
     u = f" {unit}" if unit else ""
     if minimum is not None and maximum is not None:
         lo = "[" if min_inclusive else "("
@@ -98,7 +100,9 @@ def increasing(field: str, values: Any, unit: str = "") -> np.ndarray:
         raise InvalidInputError(field, values, "a non-empty list of numbers")
     if a.size > 1 and np.any(np.diff(a) <= 0):
         i = int(np.argmax(np.diff(a) <= 0))
-        raise InvalidInputError(field, values, "strictly increasing values", f"entry {i + 1} is not below entry {i + 2}")
+        raise InvalidInputError(
+            field, values, "strictly increasing values", f"entry {i + 1} is not below entry {i + 2}"
+        )
     return a
 
 

@@ -43,7 +43,7 @@ def test_save_product_is_atomic_refuses_overwrite_and_bad_names(tmp_path):
     with pytest.raises(InvalidInputError):
         save_product(tmp_path, prod)
     for name in ("../escape", "/abs", "UPPER", ""):
-        bad = product_from_dict({"name": "x", "shape": "sphere", "diameter_mm": 30, "composition": {"water": 1.0}})
+        bad = product_from_dict({"name": "x", "shape": "sphere", "diameter_mm": 30, "composition": {"water": 1.0, "protein": 0.0, "fat": 0.0, "carbohydrate": 0.0}})
         object.__setattr__(bad, "name", name)
         with pytest.raises(InvalidInputError):
             save_product(tmp_path, bad)

@@ -18,7 +18,7 @@ BASE = {
         "name": "test slab",
         "shape": "slab",
         "thickness_mm": 40,
-        "composition": {"water": 0.75, "protein": 0.2, "fat": 0.04, "ash": 0.01},
+        "composition": {"water": 0.75, "protein": 0.2, "fat": 0.04, "carbohydrate": 0.0, "ash": 0.01},
     },
     "start": {"temperature_C": 70},
     "steps": [{"name": "chill", "h_W_m2K": 20, "medium_C": 0, "duration_min": 120, "stop_when_core_C": 5}],

@@ -67,21 +67,34 @@ class PropertyTable:
         if np.any(np.diff(t) < 0):
             raise InvalidInputError("property table temperature_C", "not sorted", "non-decreasing grid")
         if np.any(np.diff(h) <= 0):
-            raise InvalidInputError("property table enthalpy_J_kg", "not increasing", "strictly increasing enthalpy")
+            raise InvalidInputError(
+                "property table enthalpy_J_kg", "not increasing", "strictly increasing enthalpy"
+            )
         if np.any(k <= 0) or np.any(rho <= 0) or not np.all(np.isfinite(np.r_[t, h, k, rho])):
-            raise InvalidInputError("property table", "non-positive or non-finite k or rho", "k > 0, rho > 0, finite")
-        for name, arr in (("temperature_C", t), ("enthalpy_J_kg", h), ("conductivity_W_mK", k), ("density_kg_m3", rho)):
+            raise InvalidInputError(
+                "property table", "non-positive or non-finite k or rho", "k > 0, rho > 0, finite"
+            )
+        for name, arr in (
+            ("temperature_C", t),
+            ("enthalpy_J_kg", h),
+            ("conductivity_W_mK", k),
+            ("density_kg_m3", rho),
+        ):
             arr.setflags(write=False)
             object.__setattr__(self, name, arr)
 
     # --- look-ups (vectorised) -------------------------------------------------------------
     def enthalpy(self, temperature_C) -> np.ndarray:
         """Specific enthalpy H(T) [J/kg] relative to ``reference_C``."""
-        return _interp_extrapolate(np.asarray(temperature_C, dtype=float), self.temperature_C, self.enthalpy_J_kg)
+        return _interp_extrapolate(
+            np.asarray(temperature_C, dtype=float), self.temperature_C, self.enthalpy_J_kg
+        )
 
     def temperature(self, enthalpy_J_kg) -> np.ndarray:
         """Temperature [°C] at a specific enthalpy, the inverse of :meth:`enthalpy`."""
-        return _interp_extrapolate(np.asarray(enthalpy_J_kg, dtype=float), self.enthalpy_J_kg, self.temperature_C)
+        return _interp_extrapolate(
+            np.asarray(enthalpy_J_kg, dtype=float), self.enthalpy_J_kg, self.temperature_C
+        )
 
     def conductivity(self, temperature_C) -> np.ndarray:
         """Thermal conductivity k(T) [W/mK]."""
@@ -104,7 +117,9 @@ class PropertyTable:
 
     def diffusivity(self, temperature_C) -> np.ndarray:
         """Thermal diffusivity k/(rho cp_app) [m²/s]."""
-        return self.conductivity(temperature_C) / (self.density(temperature_C) * self.apparent_cp(temperature_C))
+        return self.conductivity(temperature_C) / (
+            self.density(temperature_C) * self.apparent_cp(temperature_C)
+        )
 
     @property
     def mass_density_kg_m3(self) -> float:
@@ -116,7 +131,13 @@ class PropertyTable:
 
     def check_in_range(self, field_name: str, temperature_C) -> None:
         """Raise InvalidInputError when a temperature lies outside the table."""
-        validate.array(field_name, temperature_C, minimum=float(self.temperature_C[0]), maximum=float(self.temperature_C[-1]), unit="°C")
+        validate.array(
+            field_name,
+            temperature_C,
+            minimum=float(self.temperature_C[0]),
+            maximum=float(self.temperature_C[-1]),
+            unit="°C",
+        )
 
     # --- constructors --------------------------------------------------------------------
     @classmethod
@@ -149,18 +170,39 @@ class PropertyTable:
         lat = validate.number("fixed_properties.latent_J_kg", latent_J_kg, minimum=0.0, unit="J/kg")
         lo, hi = temperature_range_C
         if lat > 0 and freezing_C is None:
-            raise InvalidInputError("fixed_properties.freezing_C", None, f"a temperature in [{lo:g}, {hi:g}] °C", "needed when a latent heat is given")
+            raise InvalidInputError(
+                "fixed_properties.freezing_C",
+                None,
+                f"a temperature in [{lo:g}, {hi:g}] °C",
+                "needed when a latent heat is given",
+            )
         if lat == 0:
             t = np.array([lo, hi])
             h = cp * (t - reference_C)
-            return cls(t, h, np.full(2, k), np.full(2, rho), None, reference_C, "measured constant properties")
-        tf = validate.number("fixed_properties.freezing_C", freezing_C, minimum=lo + mushy_band_K + 1.0, maximum=hi - 1.0, unit="°C")
-        kf = validate.positive("fixed_properties.frozen_k_W_mK", frozen_k_W_mK if frozen_k_W_mK is not None else k, "W/mK")
-        cpf = validate.positive("fixed_properties.frozen_cp_J_kgK", frozen_cp_J_kgK if frozen_cp_J_kgK is not None else cp, "J/kgK")
+            return cls(
+                t, h, np.full(2, k), np.full(2, rho), None, reference_C, "measured constant properties"
+            )
+        tf = validate.number(
+            "fixed_properties.freezing_C",
+            freezing_C,
+            minimum=lo + mushy_band_K + 1.0,
+            maximum=hi - 1.0,
+            unit="°C",
+        )
+        kf = validate.positive(
+            "fixed_properties.frozen_k_W_mK", frozen_k_W_mK if frozen_k_W_mK is not None else k, "W/mK"
+        )
+        cpf = validate.positive(
+            "fixed_properties.frozen_cp_J_kgK",
+            frozen_cp_J_kgK if frozen_cp_J_kgK is not None else cp,
+            "J/kgK",
+        )
         t0 = tf - mushy_band_K
         t = np.array([lo, t0, tf, hi])
         h_t0 = cpf * (t0 - reference_C)
         h = np.array([cpf * (lo - reference_C), h_t0, h_t0 + lat + 0.5 * (cpf + cp) * mushy_band_K, 0.0])
         h[3] = h[2] + cp * (hi - tf)
         kk = np.array([kf, kf, k, k])
-        return cls(t, h, kk, np.full(4, rho), tf, reference_C, "measured constant properties with latent heat")
+        return cls(
+            t, h, kk, np.full(4, rho), tf, reference_C, "measured constant properties with latent heat"
+        )

@@ -1,0 +1,103 @@
+"""Resolve a plan step's surface description into medium temperature and effective h over time.
+
+A step gives either ``h_W_m2K`` with ``medium_C`` (or a ``medium_profile``), or a machine from the
+equipment library with its settings (constant, or a ``settings_profile``). Packaging layers of the
+product add their resistance in series (:func:`procplan.surface.packaging_effective_h`). The
+correlations themselves live in :mod:`procplan.surface`; this module only wires a step to them.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from procplan.engine import StepSurface
+from procplan.errors import InvalidInputError
+
+
+def _given_h(step, product, surface_C: float) -> StepSurface:
+    from procplan.surface import surface_coefficient
+
+    if step.medium_profile:
+        times = tuple(t for t, _ in step.medium_profile)
+        temps = tuple(v for _, v in step.medium_profile)
+    else:
+        times, temps = (0.0,), (step.medium_C,)
+    res = surface_coefficient(
+        None,
+        product.geometry,
+        medium_C=float(np.mean(temps)),
+        surface_C=surface_C,
+        h_W_m2K=step.h_W_m2K,
+        packaging=product.packaging,
+        emissivity=step.emissivity,
+        surroundings_C=step.surroundings_C,
+    )
+    breakdown = {"source": "h given in the plan", **_breakdown(res)}
+    return StepSurface(times, temps, (0.0,), (res.h_eff_W_m2K,), breakdown, tuple(res.warnings))
+
+
+def _breakdown(res) -> dict:
+    return {
+        "correlation": res.correlation,
+        "h_conv_W_m2K": res.h_conv_W_m2K,
+        "h_rad_W_m2K": res.h_rad_W_m2K,
+        "packaging_resistance_m2K_W": res.packaging_resistance_m2K_W,
+        "h_eff_W_m2K": res.h_eff_W_m2K,
+    }
+
+
+def _equipment(step, index: int, product, surface_C: float, library) -> StepSurface:
+    from procplan.equipment import equipment_h, medium_temperature_C, resolve_settings
+
+    if library is None or step.equipment not in library.equipment:
+        names = ", ".join(sorted(library.equipment)) if library is not None else "(no library loaded)"
+        raise InvalidInputError(f"steps[{index}].equipment", step.equipment, f"one of {names}")
+    eq = library.equipment[step.equipment]
+    base = resolve_settings(eq, step.settings_dict, field_prefix=f"steps[{index}].settings.")
+    rows = [(0.0, base)]
+    for j, (t, s) in enumerate(step.settings_profile):
+        merged = resolve_settings(
+            eq, {**rows[-1][1], **dict(s)}, field_prefix=f"steps[{index}].settings_profile[{j}]."
+        )
+        if t == 0.0:
+            rows[0] = (0.0, merged)
+        else:
+            rows.append((t, merged))
+    times, temps, hs, warnings = [], [], [], []
+    first = None
+    for t, s in rows:
+        medium = medium_temperature_C(eq, s)
+        res = equipment_h(
+            eq, s, product.geometry, surface_C=0.5 * (surface_C + medium), packaging=product.packaging
+        )
+        first = first or res
+        times.append(t)
+        temps.append(medium)
+        hs.append(res.h_eff_W_m2K)
+        warnings.extend(w for w in res.warnings if w not in warnings)
+    breakdown = {
+        "source": f"machine {eq.name}",
+        "settings": dict(rows[0][1]),
+        **_breakdown(first),
+        "equipment_record": eq,
+    }
+    evaporation = None
+    if product.unwrapped and eq.medium == "air" and "relative_humidity" in eq.settings:
+        from procplan.evaporation import SurfaceEvaporation
+
+        evaporation = SurfaceEvaporation.for_step(eq, rows[0][1], first.h_conv_W_m2K, product)
+        breakdown["evaporation"] = evaporation.describe()
+    return StepSurface(
+        tuple(times), tuple(temps), tuple(times), tuple(hs), breakdown, tuple(warnings), evaporation
+    )
+
+
+def resolve_step_surface(step, index: int, product, surface_C: float, library) -> StepSurface:
+    """Medium temperature and effective h for a step, with the breakdown and any warnings.
+
+    ``surface_C`` is the product's mean temperature at the start of the step; h is evaluated at the
+    film temperature between it and the medium.
+    """
+    if step.equipment is not None:
+        return _equipment(step, index, product, surface_C, library)
+    return _given_h(step, product, surface_C)
