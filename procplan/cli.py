@@ -7,6 +7,8 @@ Exit codes: 0 success; 1 a check failed (a rule, a lethality target or an unmet 
 from __future__ import annotations
 
 import argparse
+import importlib
+import importlib.util
 import json
 import sys
 from pathlib import Path
@@ -15,6 +17,9 @@ from procplan.caution import CAUTION
 from procplan.errors import InvalidInputError
 
 EXIT_OK, EXIT_CHECK_FAILED, EXIT_INVALID = 0, 1, 2
+
+#: Modules that add their own sub-commands through ``register(subparsers)``.
+EXTENSION_MODULES = ("procplan.cli_studies", "procplan.cli_sheet")
 
 
 def _library(args):
@@ -118,6 +123,9 @@ def build_parser() -> argparse.ArgumentParser:
     )
     lb.add_argument("action", choices=["list", "check"])
     lb.set_defaults(func=cmd_library)
+    for module in EXTENSION_MODULES:
+        if importlib.util.find_spec(module) is not None:
+            importlib.import_module(module).register(sub)
     return ap
 
 
