@@ -430,7 +430,7 @@ def surface_coefficient(
                 _check_groups(entry, fname, warnings, re=re, pr=pr, repr=re * pr)
                 nu_f = float(nusselt_by_name(fname, re=re, pr=pr))
                 k_f = props.k_W_mK
-            if not (math.isfinite(nu_f) and nu_f > 0):
+            if not (math.isfinite(nu_f) and nu_f >= 0):
                 raise InvalidInputError(
                     "forced_correlation",
                     fname,
