@@ -402,7 +402,9 @@ def _initial_enthalpy(
 ) -> tuple[np.ndarray, FVGrid]:
     if isinstance(initial_C, ConductionResult):
         field_H = np.asarray(initial_C.final_enthalpy_J_kg, dtype=float)
-        grid = build_grid(geometry, field_H.shape if n_nodes is None else n_nodes, refine)
+        grid = build_grid(
+            geometry, field_H.shape if n_nodes is None else n_nodes, initial_C.grid.surface_refinement
+        )
         if field_H.shape != grid.shape:
             raise InvalidInputError(
                 "initial_C",
@@ -419,7 +421,7 @@ def _initial_enthalpy(
         return np.full(grid.n_cells, float(props.enthalpy(t0))), grid
     field_T = validate.array("initial_C", initial_C, unit="°C")
     grid = build_grid(
-        geometry, field_T.shape if n_nodes is None and field_T.ndim == len(geometry.axes) else n_nodes
+        geometry, field_T.shape if n_nodes is None and field_T.ndim == len(geometry.axes) else n_nodes, refine
     )
     if field_T.shape != grid.shape:
         raise InvalidInputError("initial_C", field_T.shape, f"a scalar or a field of shape {grid.shape}")

@@ -107,11 +107,19 @@ class FVGrid:
 
     def describe(self) -> str:
         kinds = "×".join(f"{a.kind}({n})" for a, n in zip(self.axes, self.shape, strict=True))
-        spacing = "uniform" if self.surface_refinement == 0 else f"packed toward the surface (c = {self.surface_refinement:g})"
-        return f"{len(self.shape)}-D vertex-centred grid {kinds}, {spacing}, piece factor {self.piece_factor:g}"
+        spacing = (
+            "uniform"
+            if self.surface_refinement == 0
+            else f"packed toward the surface (c = {self.surface_refinement:g})"
+        )
+        return (
+            f"{len(self.shape)}-D vertex-centred grid {kinds}, {spacing}, piece factor {self.piece_factor:g}"
+        )
 
 
-def build_grid(geometry: Geometry, n_nodes: int | tuple[int, ...] | None = None, surface_refinement: float = 0.0) -> FVGrid:
+def build_grid(
+    geometry: Geometry, n_nodes: int | tuple[int, ...] | None = None, surface_refinement: float = 0.0
+) -> FVGrid:
     """Grid for ``geometry`` with ``n_nodes`` per axis (an int for every axis, or one per axis), nodes packed
     toward the surface by ``surface_refinement`` in [0, 0.9] (0 = uniform; see ``AxisGrid.graded``).
 
