@@ -211,14 +211,16 @@ def water_properties(temperature_C: float, pressure_Pa: float = 101325.0) -> Flu
 def _brine(T_K: float, x: float) -> tuple[float, float, float, float, float]:
     fluid = f"INCOMP::MNA[{x}]"
     rho = PropsSI("D", "T", T_K, "P", 101325.0, fluid)
-    rho_hi = PropsSI("D", "T", T_K + 0.5, "P", 101325.0, fluid)
-    rho_lo = PropsSI("D", "T", T_K - 0.5, "P", 101325.0, fluid)
+    t_hi = min(T_K + 0.5, PropsSI("Tmax", "T", T_K, "P", 101325.0, fluid))
+    t_lo = max(t_hi - 1.0, PropsSI("T_freeze", "T", T_K, "P", 101325.0, fluid) + 1e-3)
+    rho_hi = PropsSI("D", "T", t_hi, "P", 101325.0, fluid)
+    rho_lo = PropsSI("D", "T", t_lo, "P", 101325.0, fluid)
     return (
         PropsSI("L", "T", T_K, "P", 101325.0, fluid),
         PropsSI("V", "T", T_K, "P", 101325.0, fluid),
         rho,
         PropsSI("C", "T", T_K, "P", 101325.0, fluid),
-        -(rho_hi - rho_lo) / rho,
+        -(rho_hi - rho_lo) / (rho * (t_hi - t_lo)),
     )
 
 
@@ -242,7 +244,7 @@ def brine_properties(temperature_C: float, nacl_mass_fraction: float = 0.2) -> F
 
     The ``MNA`` fit (Melinder, *Thermophysical properties of aqueous solutions used as secondary working
     fluids*, KTH Stockholm, 2007) covers mass fractions 0–0.23 from the solution's freezing point to 40 °C.
-    β is the centred finite difference of the density over ±0.5 K.
+    β is the finite difference of the density over 1 K around T (one-sided at the range ends).
 
     Parameters
     ----------

@@ -30,8 +30,10 @@ from procplan import validate
 from procplan.air import (
     AIR_RANGE_C,
     GRAVITY_M_S2,
+    WATER_RANGE_C,
     FluidProperties,
     air_properties,
+    brine_freezing_C,
     latent_heat_J_kg,
     medium_properties,
     saturated_liquid_water_properties,
@@ -168,6 +170,22 @@ def _humid_rh_at(film_C: float, medium_C: float, relative_humidity: float, press
     if w >= w_sat:
         return 1.0
     return float(min(1.0, HAPropsSI("R", "T", film_C + 273.15, "P", pressure_Pa, "W", w)))
+
+
+def _liquid(
+    medium: str, temperature_C: float, nacl_mass_fraction: float, what: str, warnings: list[str]
+) -> FluidProperties:
+    """Liquid properties, with a temperature outside the medium's model range moved to its nearest end (warned)."""
+    if medium == "water":
+        lo, hi = WATER_RANGE_C
+    else:
+        lo, hi = math.ceil(brine_freezing_C(nacl_mass_fraction) * 10 + 1e-9) / 10, 40.0
+    t = min(max(temperature_C, lo), hi)
+    if t != temperature_C:
+        warnings.append(
+            f"{what} {temperature_C:.3g} °C is outside the {medium} property range {lo:g}–{hi:g} °C; evaluated at {t:g} °C"
+        )
+    return medium_properties(medium, t, nacl_mass_fraction=nacl_mass_fraction)
 
 
 def _plate_A_over_P_m(geometry: Geometry) -> float:
@@ -376,18 +394,33 @@ def surface_coefficient(
     else:
         speed = air_speed_m_s if medium == "air" else liquid_speed_m_s
         if medium == "air":
-            rh_f = None if rh is None else _humid_rh_at(film_C, t_inf, rh, pressure_Pa)
+            try:
+                rh_f = None if rh is None else _humid_rh_at(film_C, t_inf, rh, pressure_Pa)
+            except ValueError as exc:
+                raise InvalidInputError(
+                    "relative_humidity",
+                    rh,
+                    f"a humid-air state HAPropsSI accepts at {t_inf:g} °C",
+                    str(exc)[:120],
+                ) from None
             props = air_properties(film_C, pressure_Pa, rh_f)
         else:
-            props = medium_properties(medium, film_C, nacl_mass_fraction=nacl_mass_fraction)
+            validate.number(
+                "medium_C",
+                t_inf,
+                minimum=WATER_RANGE_C[0] if medium == "water" else brine_freezing_C(nacl_mass_fraction),
+                maximum=WATER_RANGE_C[1] if medium == "water" else 40.0,
+                unit="°C",
+            )
+            props = _liquid(medium, film_C, nacl_mass_fraction, "film temperature", warnings)
         pr = props.pr
         hot_product = t_s > t_inf
         dT = max(abs(t_s - t_inf), MIN_DELTA_T_K)
         if medium == "air":
             drho_over_rho = props.beta_1_K * dT
         else:
-            rho_inf = medium_properties(medium, t_inf, nacl_mass_fraction=nacl_mass_fraction).rho_kg_m3
-            rho_s = medium_properties(medium, t_s, nacl_mass_fraction=nacl_mass_fraction).rho_kg_m3
+            rho_inf = _liquid(medium, t_inf, nacl_mass_fraction, "medium", warnings).rho_kg_m3
+            rho_s = _liquid(medium, t_s, nacl_mass_fraction, "surface", warnings).rho_kg_m3
             drho_over_rho = max(abs(rho_inf - rho_s), 1e-9) / props.rho_kg_m3
             if (rho_inf - rho_s) * (t_s - t_inf) < 0:
                 warnings.append(
@@ -412,12 +445,12 @@ def surface_coefficient(
                 p_inf = (
                     air_properties(t_inf, pressure_Pa, rh)
                     if medium == "air"
-                    else medium_properties(medium, t_inf, nacl_mass_fraction=nacl_mass_fraction)
+                    else _liquid(medium, t_inf, nacl_mass_fraction, "medium", [])
                 )
                 mu_s = (
                     air_properties(t_s, pressure_Pa)
                     if medium == "air"
-                    else medium_properties(medium, t_s, nacl_mass_fraction=nacl_mass_fraction)
+                    else _liquid(medium, t_s, nacl_mass_fraction, "surface", [])
                 ).mu_Pa_s
                 re = speed * length / p_inf.nu_m2_s
                 pr = p_inf.pr

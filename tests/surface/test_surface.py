@@ -251,3 +251,13 @@ def test_h_increases_with_air_speed(g, t_inf, dt, v, dv):
     a = surface_coefficient("blast-chiller", g, medium_C=t_inf, surface_C=t_inf + dt, air_speed_m_s=v)
     b = surface_coefficient("blast-chiller", g, medium_C=t_inf, surface_C=t_inf + dt, air_speed_m_s=v + dv)
     assert b.h_conv_W_m2K > a.h_conv_W_m2K
+
+
+def test_liquid_states_beyond_the_property_model_warn_not_fail():
+    # A hot product dropped into cold brine: the surface (95 °C) lies beyond the brine fit (to 40 °C,
+    # CoolProp MNA); the result is finite and says where it was evaluated. A medium outside its range is refused.
+    r = surface_coefficient("brine-chiller", CYL, medium_C=-10.0, surface_C=95.0, liquid_speed_m_s=0.2)
+    assert math.isfinite(r.h_eff_W_m2K) and any("outside the brine property range" in w for w in r.warnings)
+    with pytest.raises(InvalidInputError) as exc:
+        surface_coefficient("water-bath", CYL, medium_C=-3.0, surface_C=20.0, liquid_speed_m_s=0.1)
+    assert exc.value.field == "medium_C" and "[0, 99] °C" in str(exc.value)
