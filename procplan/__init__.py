@@ -10,4 +10,30 @@ from procplan.properties.table import PropertyTable
 
 __version__ = "0.1.0"
 
-__all__ = ["CAUTION", "Geometry", "InvalidInputError", "PropertyTable", "ValidationErrors", "geometry_from_mm", "__version__"]
+from procplan.engine import PlanResult, run_plan  # noqa: E402
+from procplan.library import Library, load_library, save_product  # noqa: E402
+from procplan.plan import Plan, load_plan, plan_from_dict, plan_to_dict, save_plan  # noqa: E402
+from procplan.properties import Composition, food_properties, property_table  # noqa: E402
+
+__all__ = [
+    "CAUTION",
+    "Composition",
+    "Geometry",
+    "InvalidInputError",
+    "Library",
+    "Plan",
+    "PlanResult",
+    "PropertyTable",
+    "ValidationErrors",
+    "__version__",
+    "food_properties",
+    "geometry_from_mm",
+    "load_library",
+    "load_plan",
+    "plan_from_dict",
+    "plan_to_dict",
+    "property_table",
+    "run_plan",
+    "save_plan",
+    "save_product",
+]

@@ -343,6 +343,16 @@ def product_from_dict(
     category = data.get("category", base.category if base else "meat")
     with c.catch():
         validate.choice(f"{prefix}category", category, FOOD_CATEGORIES)
+    if category == "other" and comp and freezing_C is None:
+        c.add(
+            InvalidInputError(
+                f"{prefix}freezing_C",
+                None,
+                f"a measured initial freezing point in [{T_LO:g}, {T_HI:g}] °C",
+                "the published freezing-point correlations cover meat, fruit-vegetable and juice only; "
+                "for category 'other' give freezing_C",
+            )
+        )
     cond_model = data.get("conductivity_model", base.conductivity_model if base else "parallel")
     with c.catch():
         from procplan.properties import CONDUCTIVITY_MODELS
