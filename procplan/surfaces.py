@@ -2,7 +2,7 @@
 
 A step gives either ``h_W_m2K`` with ``medium_C`` (or a ``medium_profile``), or a machine from the
 equipment library with its settings (constant, or a ``settings_profile``). Packaging layers of the
-product add their resistance in series (:func:`procplan.surface.packaging_effective_h`). The
+product add their resistance in series (:func:`procplan.surface_layers.h_effective`). The
 correlations themselves live in :mod:`procplan.surface`; this module only wires a step to them.
 """
 
