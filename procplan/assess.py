@@ -83,6 +83,9 @@ class Outcomes:
     energy: oc.EnergySummary
     refrigeration: tuple[StepEnergy, ...]
     energy_balance: float = 0.0
+    weight_loss_percent: tuple[
+        tuple[str, float], ...
+    ] = ()  # (step, % of the piece's mass) for unwrapped products
     warnings: tuple[str, ...] = ()
 
 
@@ -273,7 +276,20 @@ def assess_plan(result, library) -> Outcomes:
             removed, evap, cond, carnot_fraction=ch.cop_fraction, price_per_kWh=ch.energy_price_per_kWh
         )
         refrigeration.append(StepEnergy(sr.name, removed, ref, basis, peak_kW, mean_kW))
+    # --- moisture loss of unwrapped products --------------------------------------------------
+    weight_loss = []
+    g = plan.product.geometry
+    for sr in result.steps:
+        ev = sr.surface.evaporation
+        if ev is None:
+            continue
+        seg = hist[(hist["time_s"] >= sr.start_s) & (hist["time_s"] <= sr.end_s)]
+        pct = ev.weight_loss_percent(
+            seg["time_s"].to_numpy(), seg["surface_C"].to_numpy(), g.area_m2, result.piece_mass_kg
+        )
+        weight_loss.append((sr.name, pct))
     return Outcomes(
+        weight_loss_percent=tuple(weight_loss),
         targets=tuple(targets),
         rule_check=rule_check,
         rule_applied_from_s=rule_from,

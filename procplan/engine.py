@@ -121,7 +121,7 @@ def choose_solver(
     and nearly constant properties; otherwise the finite-volume enthalpy solver runs.
     """
     validate.choice("solver", requested, SOLVERS)
-    lo, hi = sorted((start_C, *surface.medium_C))
+    lo, hi = min(start_C, *surface.medium_C), max(start_C, *surface.medium_C)
     grid = np.linspace(lo, hi, 41) if hi > lo else np.array([lo])
     tf = props.initial_freezing_C
     freezes = tf is not None and lo < tf

@@ -188,6 +188,8 @@ def summary_text(result) -> str:
             lines.append(
                 f"    Plank {_fmt_min(fz.plank_s / 60 if fz.plank_s else None)}; Pham {_fmt_min(fz.pham.time_s / 60 if fz.pham else None)} ({fz.basis})"
             )
+        for step_name, pct in oc.weight_loss_percent:
+            lines.append(f"  {step_name}: weight loss by surface evaporation {pct:.2f} % of the piece's mass")
         en = oc.energy
         lines.append(
             f"  energy (batch of {en.pieces:g}): net {en.heat_removed_J_per_batch / 3.6e6:.2f} kWh removed; balance against the enthalpy change {oc.energy_balance:.2%}"

@@ -18,8 +18,11 @@ def _given_h(step, product, surface_C: float) -> StepSurface:
     from procplan.surface import surface_coefficient
 
     if step.medium_profile:
-        times = tuple(t for t, _ in step.medium_profile)
-        temps = tuple(v for _, v in step.medium_profile)
+        pts = list(step.medium_profile)
+        if len(pts) > 1 and pts[-1][0] < step.duration_s:  # the last temperature holds to the end of the step
+            pts.append((step.duration_s, pts[-1][1]))
+        times = tuple(t for t, _ in pts)
+        temps = tuple(v for _, v in pts)
     else:
         times, temps = (0.0,), (step.medium_C,)
     res = surface_coefficient(
@@ -87,6 +90,15 @@ def _equipment(step, index: int, product, surface_C: float, library) -> StepSurf
 
         evaporation = SurfaceEvaporation.for_step(eq, rows[0][1], first.h_conv_W_m2K, product)
         breakdown["evaporation"] = evaporation.describe()
+    elif product.unwrapped and eq.medium == "air":
+        warnings.append(
+            f"{eq.name} has no humidity setting, so surface evaporation of the unwrapped product is not modelled: "
+            "a wet surface runs cooler than predicted and the core heats more slowly; confirm cook times by probing"
+        )
+    if len(times) > 1 and times[-1] < step.duration_s:  # the last setting holds to the end of the step
+        times.append(step.duration_s)
+        temps.append(temps[-1])
+        hs.append(hs[-1])
     return StepSurface(
         tuple(times), tuple(temps), tuple(times), tuple(hs), breakdown, tuple(warnings), evaporation
     )
