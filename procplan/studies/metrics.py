@@ -1,0 +1,127 @@
+"""Key figures of one run, shared by every study: time to target, plan time, rule, lethality, energy.
+
+A study runs the engine many times and compares runs by a few numbers. :func:`result_metrics` reads them
+from a :class:`procplan.engine.PlanResult` (its assessed outcomes) into a flat dict with unit-suffixed keys,
+so that tables of scenarios, sweeps and samples all share one set of columns (:data:`METRIC_COLUMNS`).
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+from procplan.errors import InvalidInputError
+
+#: Columns of a metrics row, in table order, with what each means.
+METRIC_COLUMNS: dict[str, str] = {
+    "target_step": "step whose stop condition (or first target) is reported",
+    "target_C": "the core temperature of that stop condition [°C]",
+    "target_reached": "True when the core reached it within the step",
+    "time_to_target_min": "time from the start of that step to the target [min] (NaN when not reached)",
+    "plan_time_min": "predicted time with the site's margin [min]",
+    "total_time_min": "duration of the whole run [min]",
+    "end_core_C": "core temperature at the end of the run [°C]",
+    "rule": "cooling/holding rule applied (empty when none)",
+    "rule_passed": "rule verdict (None when no rule)",
+    "rule_margin_min": "smallest stage or band margin of the rule [min] (NaN when none)",
+    "lethality": "lethality requirement (empty when none)",
+    "lethality_F_min": "accumulated F at the checked point [min at T_ref] (NaN when none)",
+    "lethality_passed": "F ≥ required F (None when no requirement)",
+    "energy_removed_kWh": "heat removed per batch over the cooling steps [kWh]",
+    "energy_added_kWh": "heat added per batch over the heating steps [kWh]",
+    "peak_duty_kW": "largest heat-exchange rate of the batch over all steps [kW]",
+    "electricity_kWh": "refrigeration electricity per batch [kWh] (0 when no refrigerated step)",
+    "energy_cost": "electricity cost per batch (NaN without a price)",
+    "solvers": "solver of each step",
+    "warnings": "number of warnings of the run",
+}
+
+
+def _nan(x: float | None) -> float:
+    return math.nan if x is None else float(x)
+
+
+def reported_target(result) -> Any:
+    """The stop condition (or, without one, the first declared target) a study reports: the last one in
+    the plan, since a plan's later steps usually finish the process. None when the plan has neither."""
+    oc = result.outcomes
+    if oc is None:
+        raise InvalidInputError("result", "not assessed", "a PlanResult run with assess=True")
+    stops = [t for t in oc.targets if t.kind == "stop"]
+    if stops:
+        return stops[-1]
+    return oc.targets[0] if oc.targets else None
+
+
+def result_metrics(result) -> dict[str, Any]:
+    """The key figures of a run as a flat dict (keys of :data:`METRIC_COLUMNS`).
+
+    Parameters
+    ----------
+    result : a :class:`procplan.engine.PlanResult` with outcomes
+
+    Returns
+    -------
+    dict, JSON-ready apart from NaN for absent numbers
+    """
+    oc = result.outcomes
+    tg = reported_target(result)
+    row: dict[str, Any] = {k: None for k in METRIC_COLUMNS}
+    hist = result.history
+    row["total_time_min"] = float(hist["time_s"].iloc[-1] - hist["time_s"].iloc[0]) / 60.0
+    row["end_core_C"] = float(hist["core_C"].iloc[-1])
+    if tg is not None:
+        tr = tg.target
+        row["target_step"] = tg.step
+        row["target_C"] = tr.target_C
+        row["target_reached"] = bool(tr.reached)
+        row["time_to_target_min"] = (tr.time_s - tr.start_s) / 60.0 if tr.reached else math.nan
+        row["plan_time_min"] = tg.margin.plan_min if tg.margin is not None else math.nan
+    else:
+        row["target_step"], row["target_C"], row["target_reached"] = "", math.nan, None
+        row["time_to_target_min"] = row["plan_time_min"] = math.nan
+    rc = oc.rule_check
+    row["rule"] = rc.rule_name if rc is not None else ""
+    row["rule_passed"] = None if rc is None else bool(rc.passed)
+    row["rule_margin_min"] = _nan(rc.margin_min) if rc is not None else math.nan
+    le = oc.lethality
+    row["lethality"] = le.name if le is not None else ""
+    row["lethality_F_min"] = le.total_F_min if le is not None else math.nan
+    row["lethality_passed"] = None if le is None else le.passed
+    removed = sum(max(s.heat_removed_J_per_batch, 0.0) for s in oc.refrigeration) / 3.6e6
+    added = sum(max(-s.heat_removed_J_per_batch, 0.0) for s in oc.refrigeration) / 3.6e6
+    row["energy_removed_kWh"] = removed
+    row["energy_added_kWh"] = added
+    row["peak_duty_kW"] = max((s.peak_duty_kW for s in oc.refrigeration), default=0.0)
+    refr = [s.refrigeration for s in oc.refrigeration if s.refrigeration is not None]
+    row["electricity_kWh"] = sum(r.electricity_kWh for r in refr)
+    costs = [r.cost for r in refr if r.cost is not None]
+    row["energy_cost"] = sum(costs) if costs else math.nan
+    row["solvers"] = ", ".join(s.solver for s in result.steps)
+    row["warnings"] = len(result.warnings)
+    return row
+
+
+def _energy_score(row: dict[str, Any]) -> float:
+    # Purchased energy per batch: refrigeration electricity plus the heat put into heating steps (a heating
+    # step's fuel or electricity is at least the heat added).
+    return float(row["electricity_kWh"]) + float(row["energy_added_kWh"])
+
+
+def _time_score(row: dict[str, Any]) -> float:
+    t = row["time_to_target_min"]
+    return math.inf if t is None or not math.isfinite(t) else float(t)
+
+
+def _margin_score(row: dict[str, Any]) -> float:
+    m = row["rule_margin_min"]
+    return math.inf if m is None or not math.isfinite(m) else -float(m)
+
+
+#: Ranking criteria: name → (score function, lower is better; description). One registry for the API,
+#: the CLI option and the app's drop-down.
+CRITERIA: dict[str, tuple[Any, str]] = {
+    "time": (_time_score, "shortest time to the reported target (not reached ranks last)"),
+    "energy": (_energy_score, "least purchased energy per batch: refrigeration electricity + heat added"),
+    "margin": (_margin_score, "largest smallest rule margin (no rule ranks last)"),
+}
