@@ -1,0 +1,5 @@
+"""procplan in the browser: `streamlit run app.py`."""
+
+from procplan.ui.main import main
+
+main()

@@ -1,0 +1,328 @@
+"""The one door from the browser app to the library: cached calls on hashable inputs (plan TOML text).
+
+Pages never call the engine, the property models or the file functions directly; they call these.
+Everything here returns either a value or an :class:`Outcome` holding the InvalidInputError, so that a
+page can show the field and the allowed range instead of a traceback.
+
+Caching: results of pure functions that pickle (validation messages, property curves, TOML, CSV, PDF
+bytes) use ``st.cache_data``; the library and engine results, which hold machine records and callables
+that do not pickle, use ``st.cache_resource`` keyed on the same hashable text and are treated as
+read-only by every page.
+"""
+
+from __future__ import annotations
+
+import importlib
+import os
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+import streamlit as st
+
+from procplan.errors import InvalidInputError, ValidationErrors
+
+#: Environment variable naming the library folder the app opens (default: the demo library).
+LIBRARY_ENV = "PROCPLAN_LIBRARY"
+DEMO_PLAN = "roulade-blast-chill"
+
+
+@dataclass(frozen=True)
+class Problem:
+    """One invalid-input message, ready to show next to its field."""
+
+    field: str
+    value: Any
+    allowed: str
+    detail: str | None
+
+    def message(self) -> str:
+        text = f"**{self.field}** = {self.value!r}: allowed {self.allowed}"
+        return text + (f" ({self.detail})" if self.detail else "")
+
+
+def problems_of(exc: InvalidInputError) -> tuple[Problem, ...]:
+    """The field-level problems inside an InvalidInputError (several for a ValidationErrors)."""
+    items = exc.problems if isinstance(exc, ValidationErrors) else [exc]
+    out = []
+    for p in items:
+        value = p.value
+        if isinstance(value, float):
+            value = round(value, 6)
+        elif not isinstance(value, (int, str, type(None))):
+            value = str(value)
+        out.append(Problem(str(p.field), value, str(p.allowed), p.detail))
+    return tuple(out)
+
+
+@dataclass(frozen=True)
+class Outcome:
+    """A value, or the problems that prevented it."""
+
+    value: Any = None
+    problems: tuple[Problem, ...] = ()
+
+    @property
+    def ok(self) -> bool:
+        return not self.problems
+
+
+def library_root() -> str:
+    """The library folder the app works on."""
+    from procplan.library import DEMO_LIBRARY
+
+    return str(Path(os.environ.get(LIBRARY_ENV) or DEMO_LIBRARY).resolve())
+
+
+@st.cache_resource(show_spinner="Loading the product library…")
+def _library(root: str, generation: int):
+    from procplan.library import load_library
+
+    return load_library(root)
+
+
+def library(generation: int = 0):
+    """The loaded library (bump ``generation`` after a save to reload)."""
+    return _library(library_root(), generation)
+
+
+# --- plans --------------------------------------------------------------------------------------------
+
+
+def demo_plan_dict(generation: int = 0) -> dict:
+    """The demo plan as a plan dict (file units) with its product written in full."""
+    from procplan.plan import plan_to_dict
+
+    return plan_to_dict(library(generation).plan(DEMO_PLAN))
+
+
+def library_plan_dict(name: str, generation: int = 0) -> dict:
+    from procplan.plan import plan_to_dict
+
+    return plan_to_dict(library(generation).plan(name))
+
+
+def plan_toml(plan_dict: dict) -> str:
+    """Canonical TOML text of a plan dict: the hashable key of every cached call."""
+    from procplan.tomlio import dump_toml
+
+    return dump_toml(plan_dict)
+
+
+@st.cache_resource(max_entries=64, show_spinner=False)
+def _parse(text: str, root: str, generation: int) -> Outcome:
+    from procplan.plan import plan_from_toml
+
+    try:
+        return Outcome(plan_from_toml(text, source="current plan", library=_library(root, generation)))
+    except InvalidInputError as exc:
+        return Outcome(problems=problems_of(exc))
+
+
+def parse_plan(text: str, generation: int = 0) -> Outcome:
+    """Validate plan TOML text: Outcome(value=Plan) or the problems, each naming its field."""
+    return _parse(text, library_root(), generation)
+
+
+def canonical_toml(plan) -> str:
+    """The plan written back by the library: equal plans give equal text (6 and 6.0, defaults), so a
+    widget round trip that changes nothing does not start a new calculation."""
+    from procplan.plan import plan_to_toml
+
+    return plan_to_toml(plan)
+
+
+def read_uploaded_plan(text: str, source: str, generation: int = 0) -> Outcome:
+    """Validate an uploaded or pasted plan; on success the value is the plan dict in file units."""
+    from procplan.plan import plan_from_toml, plan_to_dict
+
+    try:
+        plan = plan_from_toml(text, source=source, library=library(generation))
+    except InvalidInputError as exc:
+        return Outcome(problems=problems_of(exc))
+    return Outcome(plan_to_dict(plan))
+
+
+@st.cache_resource(max_entries=48, show_spinner="Calculating…")
+def _run(text: str, root: str, generation: int) -> Outcome:
+    from procplan.engine import run_plan
+
+    parsed = _parse(text, root, generation)
+    if not parsed.ok:
+        return parsed
+    try:
+        return Outcome(run_plan(parsed.value, library=_library(root, generation)))
+    except InvalidInputError as exc:
+        return Outcome(problems=problems_of(exc))
+
+
+def run(text: str, generation: int = 0) -> Outcome:
+    """Run a plan given as TOML text: Outcome(value=PlanResult) or the problems (cached)."""
+    return _run(text, library_root(), generation)
+
+
+# --- products -----------------------------------------------------------------------------------------
+
+
+def product_from_plan_dict(product_dict: dict):
+    """Build a Product from the plan's [product] table (InvalidInputError on bad input)."""
+    from procplan.plan import product_from_dict
+
+    data = dict(product_dict)
+    data.pop("library", None)
+    return product_from_dict(data, "product")
+
+
+def product_dict_of(name: str, generation: int = 0) -> dict:
+    """A library product as a plan [product] table (file units), remembering where it came from."""
+    from procplan.plan import product_to_dict
+
+    d = product_to_dict(library(generation).products[name])
+    d["library"] = name
+    return d
+
+
+@st.cache_data(max_entries=64, show_spinner=False)
+def property_curves(product_toml: str, low_C: float = -40.0, high_C: float = 100.0) -> Outcome:
+    """k, rho, apparent cp and ice fraction against temperature for a product's [product] table.
+
+    Composition products use :func:`procplan.properties.food_properties`; products with measured
+    properties use their property table (no ice fraction then).
+    """
+    from procplan.plan import product_from_dict
+    from procplan.properties import food_properties
+    from procplan.tomlio import parse_toml
+
+    data = parse_toml(product_toml, "product")
+    data.pop("library", None)
+    try:
+        product = product_from_dict(data, "product")
+        t = np.linspace(low_C, high_C, 561)
+        if product.composition:
+            fp = food_properties(
+                product.composition_dict,
+                t,
+                freezing_C=product.freezing_C,
+                conductivity_model=product.conductivity_model,
+                category=product.category,
+            )
+            frame = pd.DataFrame(
+                {
+                    "temperature_C": t,
+                    "k_W_mK": fp.k_W_mK,
+                    "rho_kg_m3": fp.rho_kg_m3,
+                    "apparent_cp_J_kgK": fp.apparent_cp_J_kgK,
+                    "ice_fraction": fp.ice_fraction,
+                }
+            )
+            freezing = fp.initial_freezing_C
+        else:
+            table = product.property_table()
+            frame = pd.DataFrame(
+                {
+                    "temperature_C": t,
+                    "k_W_mK": table.conductivity(t),
+                    "rho_kg_m3": table.density(t),
+                    "apparent_cp_J_kgK": table.apparent_cp(t),
+                    "ice_fraction": np.full_like(t, np.nan),
+                }
+            )
+            freezing = table.initial_freezing_C
+        return Outcome({"frame": frame, "initial_freezing_C": freezing, "mass_kg": None})
+    except InvalidInputError as exc:
+        return Outcome(problems=problems_of(exc))
+
+
+def piece_mass_kg(product) -> float:
+    """Mass of one piece [kg] from the product's property table and volume."""
+    return float(product.property_table().mass_density_kg_m3 * product.geometry.volume_m3)
+
+
+def save_product(product_dict: dict, name: str, overwrite: bool) -> Outcome:
+    """Save the edited product under ``name`` in the library folder; refuses to replace unless ``overwrite``.
+
+    Outcome(value=path) or the problems (an existing name is reported as a problem of ``product.name``).
+    """
+    from dataclasses import replace
+
+    from procplan import library as libmod
+    from procplan.tomlio import check_name
+
+    try:
+        check_name("product.name", name)
+        product = replace(product_from_plan_dict(product_dict), name=name, library=None)
+        root = library_root()
+        target = Path(root) / "products" / f"{name}.toml"
+        if target.exists() and not overwrite:
+            raise InvalidInputError(
+                "product.name",
+                name,
+                "a name not yet in the library, or tick 'replace the existing product'",
+                "a product of this name is already saved",
+            )
+        path = libmod.save_product(root, product, overwrite=overwrite)
+    except InvalidInputError as exc:
+        return Outcome(problems=problems_of(exc))
+    except OSError as exc:
+        return Outcome(problems=(Problem("library folder", library_root(), "a writable folder", str(exc)),))
+    return Outcome(str(path))
+
+
+# --- outputs ------------------------------------------------------------------------------------------
+
+
+@st.cache_data(max_entries=32, show_spinner=False)
+def history_csv(text: str, generation: int = 0) -> bytes:
+    """The history of a plan's run as CSV (SI columns: time_s, core_C, … and time_min)."""
+    out = run(text, generation)
+    if not out.ok:
+        return b""
+    h = out.value.history.copy()
+    h.insert(1, "time_min", h["time_s"] / 60.0)
+    return h.to_csv(index=False).encode("utf-8")
+
+
+def _optional(module: str):
+    try:
+        return importlib.import_module(module)
+    except ImportError:
+        return None
+
+
+def sheet_available() -> bool:
+    mod = _optional("procplan.sheet")
+    return mod is not None and hasattr(mod, "batch_sheet_pdf")
+
+
+@st.cache_data(max_entries=16, show_spinner="Preparing the batch-plan sheet…")
+def sheet_pdf(text: str, generation: int = 0) -> Outcome:
+    """The batch-plan sheet (PDF bytes) of the current plan, with the site details when a site file exists."""
+    mod = _optional("procplan.sheet")
+    if mod is None or not hasattr(mod, "batch_sheet_pdf"):
+        return Outcome(
+            problems=(Problem("batch-plan sheet", None, "procplan.sheet", "not available in this build"),)
+        )
+    out = run(text, generation)
+    if not out.ok:
+        return out
+    kwargs = {}
+    site_mod = _optional("procplan.site")
+    if site_mod is not None and hasattr(site_mod, "load_site"):
+        try:
+            kwargs["site"] = site_mod.load_site()
+        except InvalidInputError as exc:
+            return Outcome(problems=problems_of(exc))
+    try:
+        return Outcome(bytes(mod.batch_sheet_pdf(out.value, **kwargs)))
+    except InvalidInputError as exc:
+        return Outcome(problems=problems_of(exc))
+
+
+# --- studies ------------------------------------------------------------------------------------------
+
+
+def studies_module(name: str):
+    """A module of procplan.studies when this build has it (compare, inverse, variability, calibrate, sweep)."""
+    return _optional(f"procplan.studies.{name}")

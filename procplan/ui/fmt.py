@@ -1,0 +1,85 @@
+"""Display units: the library computes in °C and seconds; the app shows °C or °F, minutes or hours.
+
+Conversion happens here, at the edge, through :mod:`procplan.units`; nothing in the app converts a
+temperature any other way.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from procplan.units import c_to_f, f_to_c
+
+TEMPERATURE_UNITS = ("°C", "°F")
+TIME_UNITS = ("min", "h")
+
+
+class Units:
+    """The user's display units."""
+
+    def __init__(self, temperature: str = "°C", time: str = "min") -> None:
+        self.temperature = temperature if temperature in TEMPERATURE_UNITS else "°C"
+        self.time = time if time in TIME_UNITS else "min"
+
+    @property
+    def fahrenheit(self) -> bool:
+        return self.temperature == "°F"
+
+    # temperatures -------------------------------------------------------------------------------
+    def t(self, temperature_C):
+        """°C → display unit (scalars or arrays)."""
+        if temperature_C is None:
+            return None
+        return (
+            c_to_f(temperature_C)
+            if self.fahrenheit
+            else (np.asarray(temperature_C, dtype=float) if np.ndim(temperature_C) else float(temperature_C))
+        )
+
+    def t_in(self, shown: float) -> float:
+        """Display unit → °C (rounded to 1e-6 K so a converted limit does not creep past its range)."""
+        return round(float(f_to_c(shown)) if self.fahrenheit else float(shown), 6)
+
+    def dt(self, difference_K: float) -> float:
+        """A temperature difference in the display unit."""
+        return difference_K * 1.8 if self.fahrenheit else difference_K
+
+    def temp(self, temperature_C, digits: int = 1) -> str:
+        if temperature_C is None or (isinstance(temperature_C, float) and not math.isfinite(temperature_C)):
+            return "—"
+        return f"{self.t(temperature_C):.{digits}f} {self.temperature}"
+
+    # times -----------------------------------------------------------------------------------------
+    def time_value(self, time_s):
+        """Seconds → display unit (scalars or arrays)."""
+        div = 60.0 if self.time == "min" else 3600.0
+        return np.asarray(time_s, dtype=float) / div if np.ndim(time_s) else float(time_s) / div
+
+    def minutes_to_shown(self, minutes: float) -> float:
+        return minutes if self.time == "min" else minutes / 60.0
+
+    def shown_to_minutes(self, shown: float) -> float:
+        return round(float(shown), 9) if self.time == "min" else round(float(shown) * 60.0, 9)
+
+    def duration(self, time_s, digits: int | None = None) -> str:
+        if time_s is None or (isinstance(time_s, float) and not math.isfinite(time_s)):
+            return "—"
+        v = self.time_value(time_s)
+        if digits is None:
+            digits = 0 if (self.time == "min" and abs(v) >= 100) else 1 if self.time == "min" else 2
+        return f"{v:.{digits}f} {self.time}"
+
+    def duration_min(self, minutes: float | None, digits: int | None = None) -> str:
+        return "—" if minutes is None else self.duration(minutes * 60.0, digits)
+
+
+def fraction(x: float, digits: int = 3) -> str:
+    return f"{x:.{digits}f}"
+
+
+def yes_no(flag: bool | None, yes: str = "pass", no: str = "FAIL") -> str:
+    if flag is None:
+        return "—"
+    return yes if flag else no

@@ -1,0 +1,119 @@
+"""Outputs page: batch-plan sheet (PDF), plan file (TOML), history (CSV); open a plan to continue work."""
+
+from __future__ import annotations
+
+import re
+
+import streamlit as st
+
+from procplan.ui import adapter, state, widgets
+
+
+def _slug(title: str) -> str:
+    s = re.sub(r"[^a-z0-9]+", "-", title.lower()).strip("-")
+    return s[:60] or "plan"
+
+
+def _downloads(text: str, ok: bool) -> None:
+    st.subheader("Download")
+    name = _slug(state.plan().get("title", "plan"))
+    c1, c2, c3 = st.columns(3)
+    with c1:
+        st.markdown("**Batch-plan sheet (PDF)**")
+        if not adapter.sheet_available():
+            st.info("Batch-plan sheet: not available in this build.")
+        elif not ok:
+            st.caption("Correct the plan's inputs first.")
+        else:
+            out = adapter.sheet_pdf(text, state.generation())
+            if out.ok:
+                st.download_button(
+                    "Download the batch-plan sheet",
+                    out.value,
+                    file_name=f"{name}.pdf",
+                    mime="application/pdf",
+                    key="dl_sheet",
+                )
+            else:
+                widgets.problems(out.problems, "The sheet could not be made:")
+    with c2:
+        st.markdown("**Plan file (TOML)**")
+        st.download_button(
+            "Download the plan file",
+            text.encode("utf-8"),
+            file_name=f"{name}.toml",
+            mime="application/toml",
+            key="dl_plan",
+        )
+        if not ok:
+            st.caption(
+                "The plan has invalid input; the file holds it as entered so you can correct it later."
+            )
+    with c3:
+        st.markdown("**History (CSV)**")
+        if ok:
+            st.download_button(
+                "Download the history",
+                adapter.history_csv(text, state.generation()),
+                file_name=f"{name}-history.csv",
+                mime="text/csv",
+                key="dl_csv",
+            )
+        else:
+            st.caption("Correct the plan's inputs first.")
+
+
+def load_text(text: str, source: str) -> bool:
+    """Validate plan text and make it the current plan; show every problem by field otherwise."""
+    out = adapter.read_uploaded_plan(text, source, state.generation())
+    if out.ok:
+        state.replace_plan(out.value, f"Opened plan '{out.value.get('title', source)}' from {source}.")
+        return True
+    widgets.problems(out.problems, f"{source} was not opened; the current plan is unchanged. Problems:")
+    return False
+
+
+def _open() -> None:
+    st.subheader("Continue work on a plan")
+    lib = adapter.library(state.generation())
+    c1, c2 = st.columns([3, 1])
+    names = sorted(lib.plans)
+    pick = c1.selectbox("Plan from the library", names, key="open_lib_plan")
+    if c2.button("Open", key="open_lib_btn"):
+        state.replace_plan(
+            adapter.library_plan_dict(pick, state.generation()), f"Opened library plan '{pick}'."
+        )
+        st.rerun()
+    up = st.file_uploader("Upload a plan file (.toml)", type=["toml"], key="upload_plan")
+    if up is not None:
+        marker = (up.name, up.size)
+        if st.session_state.get("upload_done") != marker:
+            try:
+                text = up.getvalue().decode("utf-8")
+            except UnicodeDecodeError:
+                widgets.problems(
+                    [adapter.Problem(up.name, "not UTF-8 text", "a UTF-8 TOML plan file", None)],
+                    "Not opened:",
+                )
+                return
+            if load_text(text, up.name):
+                st.session_state["upload_done"] = marker
+                st.rerun()
+    with st.expander("…or paste plan text"):
+        pasted = st.text_area("Plan file text (TOML)", key="paste_plan", height=200)
+        if st.button("Open the pasted plan", key="paste_btn") and pasted.strip():
+            if load_text(pasted, "pasted text"):
+                st.rerun()
+    if st.button("Back to the demo plan", key="reset_demo"):
+        state.replace_plan(adapter.demo_plan_dict(state.generation()), "Demo plan restored.")
+        st.rerun()
+
+
+def render() -> None:
+    st.header("Sheet & files")
+    text, parsed = state.current()
+    if not parsed.ok:
+        widgets.problems(parsed.problems, "The current plan has invalid input:")
+    _downloads(text, parsed.ok)
+    st.divider()
+    _open()

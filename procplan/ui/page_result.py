@@ -1,0 +1,256 @@
+"""Result page: temperature curves with targets and rule limits, time to target and plan time, rule check
+per stage, lethality with its accumulation, freezing, energy and duty, warnings."""
+
+from __future__ import annotations
+
+import pandas as pd
+import streamlit as st
+
+from procplan.report import format_f, format_log_reduction
+from procplan.ui import charts, state, widgets
+from procplan.ui.fmt import Units, yes_no
+
+
+def headline(result, u: Units) -> None:
+    """Time to target, plan time with margin and the verdicts, as metrics at the top."""
+    oc = result.outcomes
+    c = st.columns(4)
+    tg = oc.targets[0] if oc and oc.targets else None
+    if tg is not None and tg.target.reached:
+        tr = tg.target
+        c[0].metric(
+            f"Time to target ({tg.point} {u.temp(tr.target_C, 1)}, {tg.step})",
+            u.duration(tr.time_s - (tr.start_s or 0.0)),
+        )
+    elif tg is not None:
+        c[0].metric(f"Time to target ({tg.point} {u.temp(tg.target.target_C, 1)})", "not reached")
+    else:
+        c[0].metric("Process time", u.duration(float(result.history["time_s"].iloc[-1])))
+    if tg is not None and tg.margin is not None:
+        m = tg.margin
+        c[1].metric(
+            "Plan time with margin",
+            u.duration_min(m.plan_min),
+            help=m.message,
+            delta=("cycle too short" if m.cycle_too_short else f"cycle {u.duration_min(m.cycle_min)}"),
+            delta_color="inverse" if m.cycle_too_short else "off",
+        )
+    else:
+        c[1].metric("Plan time with margin", "—")
+    rc = oc.rule_check if oc else None
+    c[2].metric(
+        "Rule check",
+        "—" if rc is None else ("PASS" if rc.passed else "FAIL"),
+        help=None if rc is None else f"{rc.rule_name}: {rc.source}",
+    )
+    leth = oc.lethality if oc else None
+    if leth is not None:
+        c[3].metric(
+            f"Lethality F ({leth.name})",
+            f"{format_f(leth.total_F_min)} min",
+            delta=None if leth.passed is None else ("PASS" if leth.passed else "FAIL"),
+            delta_color="normal" if leth.passed else "inverse",
+        )
+    else:
+        end = result.history.iloc[-1]
+        c[3].metric("Core at the end", u.temp(float(end["core_C"])))
+
+
+def _targets(result, u: Units) -> None:
+    rows = []
+    for tg in result.outcomes.targets:
+        tr = tg.target
+        row = {
+            "step": tg.step,
+            "point": tg.point,
+            "target": u.temp(tr.target_C),
+            "reached": "yes" if tr.reached else f"no (closest {u.temp(tr.closest_C)})",
+            "time in step": u.duration(tr.time_s - (tr.start_s or 0.0)) if tr.reached else "—",
+        }
+        if tg.margin is not None:
+            row.update(
+                {
+                    "plan time with margin": u.duration_min(tg.margin.plan_min),
+                    "cycle": u.duration_min(tg.margin.cycle_min),
+                    "spare": u.duration_min(tg.margin.spare_min),
+                }
+            )
+        rows.append(row)
+        if tg.margin is not None and tg.margin.cycle_too_short:
+            st.error(f"{tg.step}: {tg.margin.message}", icon="⏱️")
+    if rows:
+        st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")
+
+
+def _rule(result, u: Units) -> None:
+    rc = result.outcomes.rule_check
+    if rc is None:
+        st.caption("No cooling or holding rule chosen (Process page, Checks).")
+        return
+    (st.success if rc.passed else st.error)(
+        f"Rule {rc.rule_name} at the {rc.point}: {'PASS' if rc.passed else 'FAIL'} — {rc.source}"
+    )
+    rows = []
+    for s in rc.stages:
+        frm = "start" if s.stage.from_C is None else u.temp(s.stage.from_C, 0)
+        rows.append(
+            {
+                "stage": s.index + 1,
+                "from → to": f"{frm} → {u.temp(s.stage.to_C, 0)}",
+                "allowed": u.duration_min(s.allowed_min),
+                "used": u.duration_min(s.used_min),
+                "margin": u.duration_min(s.margin_min),
+                "margin %": "—" if s.margin_percent is None else f"{s.margin_percent:.0f} %",
+                "verdict": yes_no(s.passed),
+                "reason": s.reason,
+            }
+        )
+    for b in rc.bands:
+        rows.append(
+            {
+                "stage": f"band {b.index + 1}",
+                "from → to": b.band.label(),
+                "allowed": "",
+                "used": f"inside {u.duration_min(b.inside_min)}, outside {u.duration_min(b.outside_min)}",
+                "margin": u.duration_min(b.margin_min),
+                "margin %": "",
+                "verdict": yes_no(b.passed),
+                "reason": b.reason,
+            }
+        )
+    st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")
+    for r in rc.reasons:
+        st.caption(r)
+
+
+def _lethality(result, u: Units) -> None:
+    oc = result.outcomes
+    shown = False
+    for leth in (oc.lethality, oc.quality):
+        if leth is None:
+            continue
+        shown = True
+        c = st.columns(4)
+        c[0].metric(
+            f"F at the {leth.point}",
+            f"{format_f(leth.total_F_min)} min",
+            help=f"T_ref {u.temp(leth.reference_C)}, z {u.dt(leth.z_C):g} {u.temperature}",
+        )
+        c[1].metric("Required F", "—" if leth.required_F_min is None else f"{leth.required_F_min:g} min")
+        c[2].metric(
+            "Log reduction", "—" if leth.log_reduction is None else format_log_reduction(leth.log_reduction)
+        )
+        reached = leth.reached
+        c[3].metric(
+            "Requirement reached after",
+            u.duration(reached.time_s)
+            if reached is not None and reached.reached
+            else ("—" if leth.required_F_min is None else "not reached"),
+        )
+        st.caption(f"{leth.name}: {leth.target}. Source: {leth.source}")
+        if leth.time_s is not None and leth.f_cumulative_min is not None:
+            st.plotly_chart(charts.lethality_figure(leth, u), width="stretch", key=f"leth_{leth.name}")
+    if not shown:
+        st.caption("No lethality requirement chosen (Process page, Checks).")
+
+
+def _freezing(result, u: Units) -> None:
+    fz = result.outcomes.freezing
+    if fz is None:
+        tf = result.properties.initial_freezing_C
+        st.caption(
+            "The core does not freeze in this plan"
+            + (f" (initial freezing point {u.temp(tf)})." if tf is not None else ".")
+        )
+        return
+    fh = fz.from_history
+    c = st.columns(4)
+    c[0].metric(
+        f"Freezing onset (core {u.temp(fz.initial_freezing_C)})",
+        u.duration(fh.onset.time_s) if fh.onset.reached else "not reached",
+    )
+    c[1].metric(
+        f"Core at {u.temp(fh.end.target_C, 0)}",
+        u.duration(fh.end.time_s) if fh.end.reached else "not reached",
+    )
+    c[2].metric("Plank's equation", u.duration(fz.plank_s) if fz.plank_s else "—")
+    c[3].metric("Pham's method", u.duration(fz.pham.time_s) if fz.pham else "—")
+    st.caption(fz.basis)
+
+
+def _energy(result, u: Units) -> None:
+    oc = result.outcomes
+    en = oc.energy
+    c = st.columns(4)
+    c[0].metric(f"Heat removed, batch of {en.pieces:g}", f"{en.heat_removed_J_per_batch / 3.6e6:.2f} kWh")
+    c[1].metric(
+        "Peak duty (batch)", f"{en.peak_duty_kW_per_batch:.1f} kW", help=f"at {u.duration(en.peak_time_s)}"
+    )
+    c[2].metric("Piece mass", f"{result.piece_mass_kg:.3f} kg")
+    c[3].metric(
+        "Energy balance", f"{oc.energy_balance:.2%}", help="history heat flow against the enthalpy change"
+    )
+    rows = []
+    for se in oc.refrigeration:
+        r = se.refrigeration
+        rows.append(
+            {
+                "step": se.step,
+                "heat removed [kWh]": round(se.heat_removed_J_per_batch / 3.6e6, 3),
+                "peak duty [kW]": round(se.peak_duty_kW, 2),
+                "mean duty [kW]": round(float(se.mean_duty_kW), 2),
+                "COP": "—" if r is None else f"{r.cop:.2f} (Carnot {r.cop_carnot:.2f})",
+                "electricity [kWh]": "—" if r is None else round(r.electricity_kWh, 3),
+                "cost": "—" if r is None or r.cost is None else f"{r.cost:.2f}",
+                "basis": se.basis,
+            }
+        )
+    if rows:
+        st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")
+
+
+def render_result(result, u: Units, *, stale: bool = False) -> None:
+    if stale:
+        st.info(
+            "Showing the last plan that could be calculated; correct the inputs above to update it.", icon="↩️"
+        )
+    headline(result, u)
+    st.plotly_chart(
+        charts.temperature_figure(result, u, result.plan.title), width="stretch", key="temperature_chart"
+    )
+    st.subheader("Targets and plan time")
+    _targets(result, u)
+    st.subheader("Rule check")
+    _rule(result, u)
+    st.subheader("Lethality")
+    _lethality(result, u)
+    st.subheader("Freezing")
+    _freezing(result, u)
+    st.subheader("Energy and refrigeration")
+    _energy(result, u)
+    if result.warnings:
+        st.subheader("Warnings")
+        for w in result.warnings:
+            st.warning(w, icon="⚠️")
+
+
+def render() -> None:
+    from procplan.ui import adapter
+
+    st.header("Result")
+    u = state.units()
+    text, parsed = state.current()
+    stale = False
+    if not parsed.ok:
+        widgets.problems(parsed.problems, "The current plan has invalid input:")
+        text, stale = state.last_good(), True
+    out = adapter.run(text, state.generation())
+    if not out.ok:
+        widgets.problems(out.problems, "The calculation refused this plan:")
+        if stale:
+            return
+        out = adapter.run(state.last_good(), state.generation())
+        stale = True
+        if not out.ok:
+            return
+    render_result(out.value, u, stale=stale)

@@ -1,0 +1,85 @@
+"""Session state of the app: the current plan (a plan dict in file units), display units, scenarios.
+
+The plan dict is the one source of truth; widgets are views of it. Each widget's key carries the plan
+revision (bumped whenever the plan is replaced from outside, e.g. an upload or a library pick) so that
+the widgets re-read the plan instead of keeping stale values.
+"""
+
+from __future__ import annotations
+
+import copy
+from typing import Any
+
+import streamlit as st
+
+from procplan.ui import adapter
+from procplan.ui.fmt import Units
+
+PLAN = "plan"
+REV = "plan_rev"
+GOOD = "last_good_toml"
+SCENARIOS = "scenarios"
+LIBGEN = "library_generation"
+NOTICE = "notice"
+
+
+def init() -> None:
+    """Make sure the session holds a plan (the demo plan on the first visit)."""
+    ss = st.session_state
+    ss.setdefault(LIBGEN, 0)
+    ss.setdefault(REV, 0)
+    ss.setdefault(SCENARIOS, [])
+    ss.setdefault("temperature_unit", "°C")
+    ss.setdefault("time_unit", "min")
+    if PLAN not in ss:
+        ss[PLAN] = adapter.demo_plan_dict(ss[LIBGEN])
+        ss[GOOD] = adapter.canonical_toml(adapter.parse_plan(adapter.plan_toml(ss[PLAN]), ss[LIBGEN]).value)
+
+
+def plan() -> dict:
+    return st.session_state[PLAN]
+
+
+def generation() -> int:
+    return int(st.session_state.get(LIBGEN, 0))
+
+
+def reload_library() -> None:
+    st.session_state[LIBGEN] = generation() + 1
+
+
+def replace_plan(new_plan: dict, notice: str | None = None) -> None:
+    """Replace the whole plan (upload, library pick, reset) and let every widget re-read it."""
+    st.session_state[PLAN] = copy.deepcopy(new_plan)
+    st.session_state[REV] = int(st.session_state.get(REV, 0)) + 1
+    if notice:
+        st.session_state[NOTICE] = notice
+
+
+def touch() -> None:
+    """Structural change inside the plan (a step added or moved): widgets must re-read it."""
+    st.session_state[REV] = int(st.session_state.get(REV, 0)) + 1
+
+
+def key(*parts: Any) -> str:
+    """A widget key tied to the plan revision and the display units."""
+    u = units()
+    return ":".join(str(p) for p in (st.session_state.get(REV, 0), u.temperature, u.time, *parts))
+
+
+def units() -> Units:
+    return Units(st.session_state.get("temperature_unit", "°C"), st.session_state.get("time_unit", "min"))
+
+
+def current() -> tuple[str, adapter.Outcome]:
+    """The current plan's TOML text and its validation outcome; remembers the last valid text."""
+    text = adapter.plan_toml(plan())
+    parsed = adapter.parse_plan(text, generation())
+    if parsed.ok:
+        text = adapter.canonical_toml(parsed.value)
+        st.session_state[GOOD] = text
+    return text, parsed
+
+
+def last_good() -> str:
+    return st.session_state.get(GOOD) or adapter.plan_toml(adapter.demo_plan_dict(generation()))
