@@ -1,0 +1,258 @@
+"""What the batch-plan sheet prints, computed from a PlanResult: checkpoints, rule deadlines, reference lines.
+
+No layout here (see :mod:`procplan.sheet`); every number is read from the result's history and outcomes.
+
+Checkpoint action limits
+------------------------
+The plan allows the real process to run up to the safety margin slower than predicted: plan time =
+predicted × (1 + m/100) + fixed. A reading at elapsed step time *e* is therefore compared with the
+temperature the prediction had at *e′ = (e − fixed)/(1 + m/100)*: a product that is further from its
+target than that is slower than the margin allows. The tolerance is never smaller than the probe's
+accuracy (site setting). At a rule's stage deadline the limit is the rule's own temperature, and missing
+it means hold and refer, not extend.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+#: Instruction printed with the checkpoint table.
+ACTION_IF_MISSED = (
+    "extend the step and re-probe; if the rule stage limit is missed, hold and refer to the QA manager"
+)
+ACTION_EXTEND = "extend the step, re-probe"
+ACTION_HOLD = "HOLD, refer to QA manager"
+ACTION_CHECK = "check the settings, re-probe; refer to QA manager"
+#: Two checkpoints at the same point closer than this [min] are merged (the rule's one is kept).
+MERGE_WITHIN_MIN = 3.0
+#: Most checkpoints printed.
+MAX_CHECKPOINTS = 10
+
+
+@dataclass(frozen=True)
+class Checkpoint:
+    """One probe reading to take.
+
+    time_min : elapsed time from the start of the plan [min]
+    step : step name
+    point : "core", "surface" or "mean"
+    expected_C : the predicted temperature at that time [°C]
+    low_C, high_C : action limits [°C] (None: open); a reading outside [low, high] calls for the action
+    basis : why this checkpoint and limit
+    action : what to do if missed
+    rule : True when the limit is a rule's stage or band limit
+    """
+
+    time_min: float
+    step: str
+    point: str
+    expected_C: float
+    low_C: float | None
+    high_C: float | None
+    basis: str
+    action: str
+    rule: bool = False
+
+
+@dataclass(frozen=True)
+class StageDeadline:
+    """A rule stage's limit on the plan's clock: reach ``to_C`` by ``deadline_s`` (from the plan's start)."""
+
+    index: int
+    to_C: float
+    deadline_s: float
+    kind: str
+
+
+def plan_hash(plan) -> str:
+    """SHA-256 (hex) of the plan's TOML text from :func:`procplan.plan.plan_to_toml`."""
+    from procplan.plan import plan_to_toml
+
+    return hashlib.sha256(plan_to_toml(plan).encode("utf-8")).hexdigest()
+
+
+def document_number(prefix: str, plan_sha256: str) -> str:
+    """Document number of a batch plan: the site's prefix and the first 8 hex digits of the plan hash.
+
+    >>> document_number("HGF-BP", "3fa2c91b00ff")
+    'HGF-BP-3FA2C91B'
+    """
+    return f"{prefix}-{plan_sha256[:8].upper()}"
+
+
+def _interp(result, point: str, t_s: float) -> float:
+    h = result.history
+    return float(np.interp(t_s, h["time_s"].to_numpy(), h[f"{point}_C"].to_numpy()))
+
+
+def step_cools(result, index: int) -> bool:
+    """True when step ``index`` cools the product (its medium below the core at the step's start)."""
+    sr = result.steps[index]
+    h = result.history
+    t0 = sr.start_s
+    core0 = float(np.interp(t0, h["time_s"].to_numpy(), h["core_C"].to_numpy()))
+    return float(np.mean(sr.surface.medium_C)) < core0
+
+
+def stage_deadlines(result) -> tuple[StageDeadline, ...]:
+    """The cooling rule's stage limits on the plan's clock (stages that started)."""
+    oc = result.outcomes
+    if oc is None or oc.rule_check is None or oc.rule_applied_from_s is None:
+        return ()
+    rc = oc.rule_check
+    first = next((s.start_s for s in rc.stages if s.start_s is not None), None)
+    out = []
+    for st in rc.stages:
+        if st.start_s is None:
+            continue
+        clock0 = first if st.stage.clock == "rule" else st.start_s
+        deadline = oc.rule_applied_from_s + clock0 + st.allowed_min * 60.0
+        kind = "cooling" if st.stage.from_C is None or st.stage.from_C > st.stage.to_C else "heating"
+        out.append(StageDeadline(st.index, st.stage.to_C, deadline, kind))
+    return tuple(out)
+
+
+def _margin_limit(result, point: str, step_start_s: float, t_s: float, mode: str, tolerance_K: float):
+    """Expected temperature and action limits at ``t_s``; ``mode`` "down" (cooling to a target: an upper
+    limit), "up" (heating: a lower limit) or "band" (no target: both, symmetric)."""
+    ch = result.plan.checks
+    elapsed = t_s - step_start_s
+    slow = max(0.0, (elapsed - 60.0 * ch.margin_min) / (1.0 + ch.margin_percent / 100.0))
+    expected = _interp(result, point, t_s)
+    lim = _interp(result, point, step_start_s + slow)
+    if mode == "down":
+        return expected, None, max(lim, expected + tolerance_K)
+    if mode == "up":
+        return expected, min(lim, expected - tolerance_K), None
+    dev = max(abs(lim - expected), tolerance_K)
+    return expected, expected - dev, expected + dev
+
+
+def margin_note(result, tolerance_K: float) -> str:
+    """How the checkpoints' action limits follow from the plan's margin (printed under the table)."""
+    ch = result.plan.checks
+    e = f"(step time − {ch.margin_min:g} min)" if ch.margin_min else "the step time"
+    return (
+        f"Action limits: the predicted temperature at {e} / (1 + {ch.margin_percent:g} %), i.e. as late as the "
+        f"plan's margin allows, and at least {tolerance_K:g} K (probe tolerance) from the expected value; at a rule "
+        "stage or band, the rule's own limit."
+    )
+
+
+def checkpoints(result, tolerance_K: float = 1.0) -> tuple[Checkpoint, ...]:
+    """The probe readings the sheet asks for, sorted by time (at most ``MAX_CHECKPOINTS``).
+
+    Per step: half-way to and at the predicted time of its stop condition or first target (at the step's
+    end when it has none); at each cooling-rule stage deadline (or at the end of the plan when the deadline
+    falls later); at each step's end for band (storage) rules; when the lethality requirement is reached.
+    """
+    oc = result.outcomes
+    hist = result.history
+    t_end = float(hist["time_s"].iloc[-1])
+    cps: list[Checkpoint] = []
+    for sr in result.steps:
+        tgs = [t for t in (oc.targets if oc is not None else ()) if t.step == sr.name and t.target.reached]
+        if tgs:
+            tg = tgs[0]
+            t_hit = tg.target.time_s
+            pred_min = (t_hit - sr.start_s) / 60.0
+            times = []
+            half = 5.0 * round(pred_min / 2.0 / 5.0)
+            if half >= 5.0 and pred_min - half >= MERGE_WITHIN_MIN:
+                times.append((sr.start_s / 60.0 + half, f"half-way to {tg.point} {tg.target.target_C:g} °C"))
+            times.append(
+                (math.ceil(t_hit / 60.0 - 1e-9), f"predicted time of {tg.point} {tg.target.target_C:g} °C")
+            )
+            point, mode, action = tg.point, tg.target.direction, ACTION_EXTEND
+        else:
+            times = [(math.floor(sr.end_s / 60.0 + 1e-9), "end of step (no target): compare with the plan")]
+            point, mode, action = "core", "band", ACTION_CHECK
+        for t_min, why in times:
+            t_s = min(t_min * 60.0, t_end)
+            exp, lo, hi = _margin_limit(result, point, sr.start_s, t_s, mode, tolerance_K)
+            cps.append(Checkpoint(t_s / 60.0, sr.name, point, exp, lo, hi, why, action))
+    rc = oc.rule_check if oc is not None else None
+    if rc is not None:
+        rule = rc
+        for d in stage_deadlines(result):
+            t_s = min(d.deadline_s, t_end)
+            t_min = math.floor(t_s / 60.0 + 1e-9)
+            later = d.deadline_s > t_end + 1.0
+            step = _step_at(result, t_min * 60.0)
+            exp = _interp(result, rule.point, t_min * 60.0)
+            why = f"rule stage {d.index + 1}: {d.to_C:g} °C by {d.deadline_s / 60.0:.1f} min"
+            if later:
+                why += " (after the plan ends: probe at the end)"
+            lo, hi = (None, d.to_C) if d.kind == "cooling" else (d.to_C, None)
+            cps.append(Checkpoint(float(t_min), step, rule.point, exp, lo, hi, why, ACTION_HOLD, rule=True))
+        for b in rc.bands:
+            for sr in result.steps:
+                t_min = math.floor(sr.end_s / 60.0 + 1e-9)
+                exp = _interp(result, rule.point, t_min * 60.0)
+                cps.append(
+                    Checkpoint(
+                        float(t_min),
+                        sr.name,
+                        rule.point,
+                        exp,
+                        b.band.low_C,
+                        b.band.high_C,
+                        f"rule band {b.band.label()} at the end of the step",
+                        ACTION_HOLD,
+                        rule=True,
+                    )
+                )
+    leth = oc.lethality if oc is not None else None
+    if leth is not None and leth.reached is not None and leth.reached.reached:
+        t_min = math.ceil(leth.reached.time_s / 60.0 - 1e-9)
+        sr = result.steps[_step_index_at(result, t_min * 60.0)]
+        exp, lo, hi = _margin_limit(
+            result, leth.point, sr.start_s, min(t_min * 60.0, t_end), "up", tolerance_K
+        )
+        cps.append(
+            Checkpoint(
+                float(t_min),
+                sr.name,
+                leth.point,
+                exp,
+                lo,
+                None,
+                f"lethality {leth.name}: F {leth.required_F_min:g} min reached",
+                ACTION_EXTEND,
+            )
+        )
+    return _merge(cps)
+
+
+def _step_index_at(result, t_s: float) -> int:
+    for sr in result.steps:
+        if t_s <= sr.end_s + 1e-6:
+            return sr.index
+    return result.steps[-1].index
+
+
+def _step_at(result, t_s: float) -> str:
+    return result.steps[_step_index_at(result, t_s)].name
+
+
+def _merge(cps: list[Checkpoint]) -> tuple[Checkpoint, ...]:
+    """Sort by time; of two checkpoints at the same point within ``MERGE_WITHIN_MIN``, keep the rule's."""
+    cps = sorted(cps, key=lambda c: (c.time_min, not c.rule))
+    kept: list[Checkpoint] = []
+    for c in cps:
+        clash = next(
+            (k for k in kept if k.point == c.point and abs(k.time_min - c.time_min) < MERGE_WITHIN_MIN), None
+        )
+        if clash is None:
+            kept.append(c)
+        elif c.rule and not clash.rule:
+            kept[kept.index(clash)] = c
+    if len(kept) > MAX_CHECKPOINTS:
+        rules = [k for k in kept if k.rule]
+        others = [k for k in kept if not k.rule]
+        kept = sorted(rules + others[: max(0, MAX_CHECKPOINTS - len(rules))], key=lambda c: c.time_min)
+    return tuple(kept[:MAX_CHECKPOINTS])
