@@ -276,9 +276,10 @@ class _Model:
             if not np.all(np.isfinite(delta)):
                 return None, it
             if self.kinks.size and it <= _SECANT_AFTER:
-                frac = (self.kinks[None, :] - H[:, None]) / np.where(delta == 0, np.inf, delta)[:, None]
-                frac = np.where(frac > 1e-12, frac, np.inf).min(axis=1)
-                delta = np.where(frac < 1.0, frac * delta, delta)
+                with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+                    frac = (self.kinks[None, :] - H[:, None]) / delta[:, None]
+                    frac = np.where(frac > 1e-12, frac, np.inf).min(axis=1)
+                    delta = np.where(frac < 1.0, frac * delta, delta)
             H = H + delta
         return None, _MAX_NEWTON
 
@@ -344,12 +345,15 @@ class _Model:
             if info != 0 or not np.all(np.isfinite(delta)):
                 return None, it
             if kinks.size:
-                with np.errstate(divide="ignore", invalid="ignore"):
+                with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
                     frac = (kinks[None, :] - H[:, None]) / delta[:, None]
-                frac = np.where(frac > 1e-12, frac, np.inf).min(axis=1)
-                delta = np.where(frac < 1.0, frac * delta, delta)
+                    frac = np.where(frac > 1e-12, frac, np.inf).min(axis=1)
+                    cut = frac < 1.0
+                    delta = np.where(cut, frac * delta, delta)
+            else:
+                cut = np.zeros(1, dtype=bool)
             H = H + delta
-            if self._linear_on(idx, H, has_q):
+            if not cut.any() and self._linear_on(idx, H, has_q):
                 return H, it
         return None, _MAX_NEWTON
 
@@ -581,12 +585,23 @@ def solve_conduction(
         if H1 is None:  # the extrapolated guess may sit past a kink; retry from the old state
             H1, it2 = model.solve_step(t + dtn, dtn, a, hist, H, H)
             it += it2
+        if a != 1.0 and H1 is not None and not model.has_q:
+            # BDF2 is not monotone: where a step overshoots the range spanned by the old field and the medium
+            # (typically a large step across the end of a freezing plateau) it is redone by backward Euler.
+            # (With an extra surface flux there is no such simple bound, and no check.)
+            tm = float(boundary.medium(t + dtn))
+            lo, hi = min(T_cur.min(), tm), max(T_cur.max(), tm)
+            T1 = model.temperature(H1)
+            slack = 1e-6 * (hi - lo) + 1e-9
+            if T1.min() < lo - slack or T1.max() > hi + slack:
+                H1, it2 = model.solve_step(t + dtn, dtn, 1.0, H, H, H)
+                it += it2
         return H1, it
 
     core_T = core0
     while t < end - eps_t and stopped_at is None:
         nxt = float(landings[np.searchsorted(landings, t + eps_t, side="right")])
-        step = min(dt, dt_cap) if dt_s is None else dt_s
+        step = min(dt, dt_cap) if dt_s is None else min(dt, dt_s)
         if use_bdf2 and dt_prev is not None:
             step = min(step, 2.0 * dt_prev)
         if t + step >= nxt - eps_t:
@@ -648,6 +663,8 @@ def solve_conduction(
             dt = start_dt(t, H)
         elif dt_s is None:
             dt = step * min(2.0, max(0.5, 0.9 * target / max(change, 1e-12)))
+        else:
+            dt = min(dt_s, 2.0 * step)  # back to the user's step after sub-steps
 
     dE = (float(np.dot(model.mass, H)) - H0_total) * grid.piece_factor
     balance = abs(heat - dE) / abs(dE) if abs(dE) > 0 else 0.0
