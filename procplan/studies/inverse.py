@@ -194,8 +194,11 @@ def _measure_time(result, plan: Plan, i: int, target_min: float | None) -> float
     )
     ch = plan.checks
     tr = tg.target
-    if tr.reached:
-        predicted = (tr.time_s - tr.start_s) / 60.0
+    from procplan.studies.metrics import stopped_elapsed_s
+
+    elapsed = stopped_elapsed_s(result, tg)
+    if elapsed is not None:
+        predicted = elapsed / 60.0
     else:
         sr = result.steps[i]
         hist = result.history

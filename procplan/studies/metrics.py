@@ -11,6 +11,7 @@ import math
 from typing import Any
 
 from procplan.errors import InvalidInputError
+from procplan.outcomes import plan_time_min
 
 #: Columns of a metrics row, in table order, with what each means.
 METRIC_COLUMNS: dict[str, str] = {
@@ -53,6 +54,22 @@ def reported_target(result) -> Any:
     return oc.targets[0] if oc.targets else None
 
 
+def stopped_elapsed_s(result, target) -> float | None:
+    """Time from the start of the target's step to the target [s], or None when not reached.
+
+    A stop condition whose step the engine stopped on counts as reached at the engine's stop time even
+    when the last sample lies a root-finding tolerance short of the stop temperature.
+    """
+    tr = target.target
+    if tr.reached:
+        return tr.time_s - tr.start_s
+    if target.kind == "stop":
+        sr = next((s for s in result.steps if s.name == target.step), None)
+        if sr is not None and sr.stopped and sr.stop_time_s is not None:
+            return sr.stop_time_s - sr.start_s
+    return None
+
+
 def result_metrics(result) -> dict[str, Any]:
     """The key figures of a run as a flat dict (keys of :data:`METRIC_COLUMNS`).
 
@@ -75,8 +92,16 @@ def result_metrics(result) -> dict[str, Any]:
         row["target_step"] = tg.step
         row["target_C"] = tr.target_C
         row["target_reached"] = bool(tr.reached)
-        row["time_to_target_min"] = (tr.time_s - tr.start_s) / 60.0 if tr.reached else math.nan
-        row["plan_time_min"] = tg.margin.plan_min if tg.margin is not None else math.nan
+        elapsed = stopped_elapsed_s(result, tg)
+        row["target_reached"] = elapsed is not None
+        row["time_to_target_min"] = elapsed / 60.0 if elapsed is not None else math.nan
+        if tg.margin is not None:
+            row["plan_time_min"] = tg.margin.plan_min
+        elif elapsed is not None:
+            ch = result.plan.checks
+            row["plan_time_min"] = plan_time_min(elapsed / 60.0, ch.margin_percent, ch.margin_min)
+        else:
+            row["plan_time_min"] = math.nan
     else:
         row["target_step"], row["target_C"], row["target_reached"] = "", math.nan, None
         row["time_to_target_min"] = row["plan_time_min"] = math.nan
