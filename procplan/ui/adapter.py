@@ -296,9 +296,33 @@ def sheet_available() -> bool:
     return mod is not None and hasattr(mod, "batch_sheet_pdf")
 
 
+def site_settings(generation: int = 0) -> Outcome:
+    """The site settings (plant, lines, display units, paper) when this build has procplan.site."""
+    site_mod = _optional("procplan.site")
+    if site_mod is None or not hasattr(site_mod, "load_site"):
+        return Outcome(
+            problems=(Problem("site settings", None, "procplan.site", "not available in this build"),)
+        )
+    site_file = Path(library_root()) / "site.toml"
+    try:
+        return Outcome(
+            site_mod.load_site(site_file if site_file.exists() else None, library=library(generation))
+        )
+    except InvalidInputError as exc:
+        return Outcome(problems=problems_of(exc))
+
+
 @st.cache_data(max_entries=16, show_spinner="Preparing the batch-plan sheet…")
-def sheet_pdf(text: str, generation: int = 0) -> Outcome:
-    """The batch-plan sheet (PDF bytes) of the current plan, with the site details when a site file exists."""
+def sheet_pdf(
+    text: str,
+    generation: int = 0,
+    *,
+    lot_id: str = "",
+    revision: str = "A",
+    paper: str | None = None,
+    prepared_by: str = "",
+) -> Outcome:
+    """The batch-plan sheet (PDF bytes) of a plan given as TOML text, with the site settings."""
     mod = _optional("procplan.sheet")
     if mod is None or not hasattr(mod, "batch_sheet_pdf"):
         return Outcome(
@@ -307,15 +331,14 @@ def sheet_pdf(text: str, generation: int = 0) -> Outcome:
     out = run(text, generation)
     if not out.ok:
         return out
-    kwargs = {}
-    site_mod = _optional("procplan.site")
-    if site_mod is not None and hasattr(site_mod, "load_site"):
-        try:
-            kwargs["site"] = site_mod.load_site()
-        except InvalidInputError as exc:
-            return Outcome(problems=problems_of(exc))
+    site = site_settings(generation)
+    if not site.ok:
+        return site
+    kwargs = {"lot_id": lot_id, "revision": revision, "prepared_by": prepared_by}
+    if paper:
+        kwargs["paper"] = paper
     try:
-        return Outcome(bytes(mod.batch_sheet_pdf(out.value, **kwargs)))
+        return Outcome(bytes(mod.batch_sheet_pdf(out.value, site=site.value, **kwargs)))
     except InvalidInputError as exc:
         return Outcome(problems=problems_of(exc))
 
@@ -326,3 +349,118 @@ def sheet_pdf(text: str, generation: int = 0) -> Outcome:
 def studies_module(name: str):
     """A module of procplan.studies when this build has it (compare, inverse, variability, calibrate, sweep)."""
     return _optional(f"procplan.studies.{name}")
+
+
+@st.cache_resource(max_entries=16, show_spinner="Running the scenarios…")
+def _compare(
+    texts: tuple[str, ...], names: tuple[str, ...], criterion: str, root: str, generation: int
+) -> Outcome:
+    mod = studies_module("compare")
+    plans = []
+    for text in texts:
+        parsed = _parse(text, root, generation)
+        if not parsed.ok:
+            return parsed
+        plans.append(parsed.value)
+    try:
+        return Outcome(
+            mod.compare_plans(
+                plans, library=_library(root, generation), names=list(names), criterion=criterion
+            )
+        )
+    except InvalidInputError as exc:
+        return Outcome(problems=problems_of(exc))
+
+
+def compare(
+    texts: tuple[str, ...], names: tuple[str, ...], criterion: str = "time", generation: int = 0
+) -> Outcome:
+    """Scenarios side by side (procplan.studies.compare.compare_plans), cached on the plans' text."""
+    return _compare(tuple(texts), tuple(names), criterion, library_root(), generation)
+
+
+@st.cache_resource(max_entries=16, show_spinner="Searching for the required setting…")
+def _required(
+    text: str, step_index: int, parameter: str, goal: str, target_min, bounds, root: str, generation: int
+):
+    mod = studies_module("inverse")
+    parsed = _parse(text, root, generation)
+    if not parsed.ok:
+        return parsed
+    try:
+        return Outcome(
+            mod.required_setting(
+                parsed.value,
+                step_index=step_index,
+                parameter=parameter,
+                goal=goal,
+                library=_library(root, generation),
+                target_min=target_min,
+                bounds=bounds,
+            )
+        )
+    except InvalidInputError as exc:
+        return Outcome(problems=problems_of(exc))
+
+
+def required_setting(
+    text: str,
+    step_index: int,
+    parameter: str,
+    goal: str,
+    target_min: float | None = None,
+    bounds: tuple[float, float] | None = None,
+    generation: int = 0,
+) -> Outcome:
+    """The value of one parameter at which the plan just meets a goal (procplan.studies.inverse)."""
+    return _required(text, step_index, parameter, goal, target_min, bounds, library_root(), generation)
+
+
+@st.cache_resource(max_entries=16, show_spinner="Sampling…")
+def _variability(text, specs, n_samples, seed, step_index, method, corners, root, generation):
+    mod = studies_module("variability")
+    parsed = _parse(text, root, generation)
+    if not parsed.ok:
+        return parsed
+    problems: list[Problem] = []
+    dists = {}
+    for name, spec in specs:
+        try:
+            dists[name] = mod.parse_distribution(spec)
+        except InvalidInputError as exc:
+            problems.extend(
+                Problem(f"{name}: {p.field}", p.value, p.allowed, p.detail) for p in problems_of(exc)
+            )
+    if problems:
+        return Outcome(problems=tuple(problems))
+    try:
+        return Outcome(
+            mod.monte_carlo(
+                parsed.value,
+                dists,
+                n_samples=n_samples,
+                seed=seed,
+                library=_library(root, generation),
+                step_index=step_index,
+                method=method,
+                corners=corners,
+            )
+        )
+    except InvalidInputError as exc:
+        return Outcome(problems=problems_of(exc))
+
+
+def variability(
+    text: str,
+    specs: tuple[tuple[str, str], ...],
+    n_samples: int = 200,
+    seed: int = 0,
+    step_index: int = 0,
+    method: str = "auto",
+    corners: bool = False,
+    generation: int = 0,
+) -> Outcome:
+    """Monte Carlo over uncertain inputs (procplan.studies.variability); specs are (variable, 'kind:p1,p2@lo,hi')."""
+    return _variability(
+        text, tuple(specs), n_samples, seed, step_index, method, corners, library_root(), generation
+    )

@@ -161,7 +161,7 @@ def property_figure(frame, freezing_C: float | None, u: Units) -> go.Figure:
         fig.update_xaxes(title_text=f"temperature [{u.temperature}]", row=r, col=c)
         if freezing_C is not None:
             fig.add_vline(x=u.t(freezing_C), line=dict(color="#b2182b", dash="dot", width=1), row=r, col=c)
-    fig.update_yaxes(type="log", row=2, col=1)
+    fig.update_yaxes(type="log", dtick=1, row=2, col=1)
     fig.update_layout(height=560, margin=dict(l=10, r=10, t=40, b=10))
     return fig
 

@@ -46,17 +46,17 @@ def main() -> None:
     widgets.caution()
     notice = st.session_state.pop(state.NOTICE, None)
     if notice:
-        st.success(notice, icon="✅")
+        st.success(notice, icon=":material/check_circle:")
     try:
         PAGES[page]()
     except Exception as exc:  # noqa: BLE001 - never a traceback in front of the user
         from procplan.errors import InvalidInputError
 
         if isinstance(exc, InvalidInputError):
-            st.error(f"Invalid input: {exc}", icon="⚠️")
+            st.error(f"Invalid input: {exc}", icon=":material/error:")
         else:
             st.error(
                 f"Something went wrong on this page ({type(exc).__name__}: {exc}). Your plan is kept; "
                 "download it from 'Sheet & files' and report the problem.",
-                icon="🛑",
+                icon=":material/report:",
             )

@@ -25,7 +25,18 @@ def _downloads(text: str, ok: bool) -> None:
         elif not ok:
             st.caption("Correct the plan's inputs first.")
         else:
-            out = adapter.sheet_pdf(text, state.generation())
+            site = adapter.site_settings(state.generation())
+            papers = ["a4", "letter"]
+            default_paper = site.value.paper if site.ok and site.value.paper in papers else "a4"
+            lot = st.text_input("Lot", value="", key="sheet_lot", max_chars=40)
+            rev = st.text_input("Revision", value="A", key="sheet_rev", max_chars=12)
+            who = st.text_input("Prepared by", value="", key="sheet_by", max_chars=60)
+            paper = st.radio(
+                "Paper", papers, index=papers.index(default_paper), horizontal=True, key="sheet_paper"
+            )
+            out = adapter.sheet_pdf(
+                text, state.generation(), lot_id=lot, revision=rev, paper=paper, prepared_by=who
+            )
             if out.ok:
                 st.download_button(
                     "Download the batch-plan sheet",

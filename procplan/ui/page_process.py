@@ -77,7 +77,7 @@ def _machine(step: dict, i: int, lib) -> None:
         st.info(
             f"This step follows a settings profile from the plan file ({len(step['settings_profile'])} changes); "
             "the values above hold until the first change.",
-            icon="ℹ️",
+            icon=":material/info:",
         )
         st.dataframe(pd.DataFrame(step["settings_profile"]), hide_index=True)
 
@@ -297,7 +297,7 @@ def _provenance(result, u: Units) -> None:
             ]
             st.table(pd.DataFrame(rows, columns=["item", "value"]).set_index("item"))
             for w in sr.warnings:
-                st.warning(w, icon="⚠️")
+                st.warning(w, icon=":material/error:")
 
 
 def render() -> None:
@@ -347,4 +347,8 @@ def render() -> None:
     if not out.ok:
         widgets.problems(out.problems, "The calculation refused this plan:")
         return
+    from procplan.ui.page_result import headline
+
+    st.subheader("Prediction")
+    headline(out.value, u)
     _provenance(out.value, u)

@@ -170,10 +170,12 @@ def _composition(prod: dict) -> None:
             st.error(
                 f"Composition does not add up: the mass fractions sum to {total:.3f} "
                 f"({abs(off):.3f} {side} 1). They must sum to 1 ± {SUM_TOLERANCE:g}.",
-                icon="⚠️",
+                icon=":material/error:",
             )
         else:
-            st.success(f"Composition sum {total:.3f} (1 ± {SUM_TOLERANCE:g}).", icon="✅")
+            st.success(
+                f"Composition sum {total:.3f} (1 ± {SUM_TOLERANCE:g}).", icon=":material/check_circle:"
+            )
     else:
         fp = dict(prod.get("fixed_properties") or {"k_W_mK": 0.5, "rho_kg_m3": 1050.0, "cp_J_kgK": 3600.0})
         c = st.columns(3)

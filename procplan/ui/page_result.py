@@ -11,11 +11,20 @@ from procplan.ui import charts, state, widgets
 from procplan.ui.fmt import Units, yes_no
 
 
+def reported_target(result):
+    """The stop condition (or first target) the headline reports: the last stop of the plan."""
+    oc = result.outcomes
+    if oc is None or not oc.targets:
+        return None
+    stops = [t for t in oc.targets if t.kind == "stop"]
+    return stops[-1] if stops else oc.targets[0]
+
+
 def headline(result, u: Units) -> None:
     """Time to target, plan time with margin and the verdicts, as metrics at the top."""
     oc = result.outcomes
     c = st.columns(4)
-    tg = oc.targets[0] if oc and oc.targets else None
+    tg = reported_target(result)
     if tg is not None and tg.target.reached:
         tr = tg.target
         c[0].metric(
@@ -28,13 +37,7 @@ def headline(result, u: Units) -> None:
         c[0].metric("Process time", u.duration(float(result.history["time_s"].iloc[-1])))
     if tg is not None and tg.margin is not None:
         m = tg.margin
-        c[1].metric(
-            "Plan time with margin",
-            u.duration_min(m.plan_min),
-            help=m.message,
-            delta=("cycle too short" if m.cycle_too_short else f"cycle {u.duration_min(m.cycle_min)}"),
-            delta_color="inverse" if m.cycle_too_short else "off",
-        )
+        c[1].metric("Plan time with margin", u.duration_min(m.plan_min), help=m.message)
     else:
         c[1].metric("Plan time with margin", "—")
     rc = oc.rule_check if oc else None
@@ -43,6 +46,12 @@ def headline(result, u: Units) -> None:
         "—" if rc is None else ("PASS" if rc.passed else "FAIL"),
         help=None if rc is None else f"{rc.rule_name}: {rc.source}",
     )
+    if tg is not None and tg.margin is not None:
+        m = tg.margin
+        text = f"Cycle {u.duration_min(m.cycle_min)}: " + (
+            "shorter than the plan time." if m.cycle_too_short else f"{u.duration_min(m.spare_min)} to spare."
+        )
+        (st.error if m.cycle_too_short else st.caption)(text)
     leth = oc.lethality if oc else None
     if leth is not None:
         c[3].metric(
@@ -77,7 +86,7 @@ def _targets(result, u: Units) -> None:
             )
         rows.append(row)
         if tg.margin is not None and tg.margin.cycle_too_short:
-            st.error(f"{tg.step}: {tg.margin.message}", icon="⏱️")
+            st.error(f"{tg.step}: {tg.margin.message}", icon=":material/timer:")
     if rows:
         st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")
 
@@ -212,7 +221,8 @@ def _energy(result, u: Units) -> None:
 def render_result(result, u: Units, *, stale: bool = False) -> None:
     if stale:
         st.info(
-            "Showing the last plan that could be calculated; correct the inputs above to update it.", icon="↩️"
+            "Showing the last plan that could be calculated; correct the inputs above to update it.",
+            icon=":material/history:",
         )
     headline(result, u)
     st.plotly_chart(
@@ -231,7 +241,7 @@ def render_result(result, u: Units, *, stale: bool = False) -> None:
     if result.warnings:
         st.subheader("Warnings")
         for w in result.warnings:
-            st.warning(w, icon="⚠️")
+            st.warning(w, icon=":material/error:")
 
 
 def render() -> None:

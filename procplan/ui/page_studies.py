@@ -16,7 +16,9 @@ NOT_AVAILABLE = "not available in this build"
 def scenario_row(label: str, result, u: Units) -> dict:
     """One comparison-table row read from a result's outcomes (no calculation here)."""
     oc = result.outcomes
-    tg = oc.targets[0] if oc.targets else None
+    from procplan.ui.page_result import reported_target
+
+    tg = reported_target(result)
     row = {"scenario": label}
     if tg is not None:
         tr = tg.target
@@ -44,30 +46,51 @@ def _scenarios(text: str, ok: bool, u: Units) -> None:
             "the scenarios are then overlaid here with the current plan."
         )
         return
-    runs = []
-    for name, t in scen:
-        out = adapter.run(t, state.generation())
-        if out.ok:
-            runs.append((name, out.value))
+    labels = [n for n, _ in scen]
+    texts = [t for _, t in scen]
     if ok:
-        cur = adapter.run(text, state.generation())
-        if cur.ok:
-            runs.append(("current plan", cur.value))
+        labels.append("current plan")
+        texts.append(text)
+    # unique labels, as the comparison needs
+    seen: dict[str, int] = {}
+    for j, n in enumerate(labels):
+        seen[n] = seen.get(n, 0) + 1
+        if seen[n] > 1:
+            labels[j] = f"{n} ({seen[n]})"
     point = st.radio("Point", ["core", "surface", "mean"], horizontal=True, key="scen_point")
-    st.plotly_chart(charts.overlay_figure(runs, u, point), width="stretch", key="scen_chart")
     compare = adapter.studies_module("compare")
+    ranks = {}
     if compare is not None and hasattr(compare, "compare_plans"):
-        st.caption("Table from procplan.studies.compare_plans.")
-    st.dataframe(pd.DataFrame([scenario_row(n, r, u) for n, r in runs]), hide_index=True, width="stretch")
+        criteria = ["time", "energy", "margin"]
+        criterion = st.radio("Rank by", criteria, horizontal=True, key="scen_criterion")
+        out = adapter.compare(tuple(texts), tuple(labels), criterion, state.generation())
+        if not out.ok:
+            widgets.problems(out.problems, "The comparison refused these scenarios:")
+            return
+        runs = list(out.value.results.items())
+        ranks = {n: int(r) for n, r in out.value.table["rank"].items()}
+        st.caption(f"Ranked by {criterion}; best: {out.value.best}.")
+    else:
+        runs = []
+        for name, t in zip(labels, texts, strict=True):
+            res = adapter.run(t, state.generation())
+            if res.ok:
+                runs.append((name, res.value))
+    st.plotly_chart(charts.overlay_figure(runs, u, point), width="stretch", key="scen_chart")
+    rows = []
+    for n, r in runs:
+        row = scenario_row(n, r, u)
+        if ranks:
+            row = {"rank": ranks.get(n), **row}
+        rows.append(row)
+    frame = pd.DataFrame(rows)
+    if ranks:
+        frame = frame.sort_values("rank")
+    st.dataframe(frame, hide_index=True, width="stretch")
     drop = st.selectbox("Remove a scenario", ["—", *[n for n, _ in scen]], key="scen_drop")
     if drop != "—" and st.button("Remove", key="scen_drop_btn"):
         st.session_state[state.SCENARIOS] = [s for s in scen if s[0] != drop]
         st.rerun()
-
-
-def _missing(title: str, module: str) -> None:
-    st.subheader(title)
-    st.info(f"{title}: {NOT_AVAILABLE} (needs procplan.studies.{module}).", icon="🧩")
 
 
 def render() -> None:

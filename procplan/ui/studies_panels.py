@@ -2,9 +2,12 @@
 
 from __future__ import annotations
 
+import math
+
+import pandas as pd
 import streamlit as st
 
-from procplan.ui import adapter
+from procplan.ui import adapter, charts, state, widgets
 from procplan.ui.fmt import Units
 
 NOT_AVAILABLE = "not available in this build"
@@ -12,21 +15,169 @@ NOT_AVAILABLE = "not available in this build"
 
 def _missing(title: str, module: str) -> None:
     st.subheader(title)
-    st.info(f"{title}: {NOT_AVAILABLE} (needs procplan.studies.{module}).", icon="🧩")
+    st.info(f"{title}: {NOT_AVAILABLE} (needs procplan.studies.{module}).", icon=":material/extension:")
+
+
+def _step_names(plan) -> list[str]:
+    return [f"{i + 1}: {s.name}" for i, s in enumerate(plan.steps)]
 
 
 def required_setting(text: str, u: Units) -> None:
     mod = adapter.studies_module("inverse")
-    if mod is None:
+    if mod is None or not hasattr(mod, "required_setting"):
         _missing("Required setting", "inverse")
         return
+    st.subheader("Required setting")
+    st.caption("Which value of one setting just meets a goal? The answer is confirmed by a forward run.")
+    parsed = adapter.parse_plan(text, state.generation())
+    if not parsed.ok:
+        widgets.problems(parsed.problems, "The plan has invalid input:")
+        return
+    plan = parsed.value
+    c = st.columns(4)
+    names = _step_names(plan)
+    step_index = names.index(c[0].selectbox("Step", names, key="rs_step"))
+    params = list(mod.PARAMETERS)
+    parameter = c[1].selectbox(
+        "Setting to find",
+        params,
+        key="rs_param",
+        format_func=lambda p: f"{p}: {mod.PARAMETERS[p].description}",
+    )
+    goals = list(mod.GOALS)
+    goal = c[2].selectbox(
+        "Goal", goals, key="rs_goal", format_func=lambda g: f"{g}: {mod.GOALS[g].description}"
+    )
+    target_min = None
+    if mod.GOALS[goal].needs_target_min:
+        with c[3]:
+            target_min = widgets.duration(
+                "Allowed time (margin included)", 180.0, "rs_target", minimum_min=1.0
+            )
+    if st.button("Find the required setting", key="rs_go"):
+        st.session_state["rs_request"] = (text, step_index, parameter, goal, target_min)
+    req = st.session_state.get("rs_request")
+    if not req or req[0] != text:
+        return
+    out = adapter.required_setting(*req, generation=state.generation())
+    if not out.ok:
+        widgets.problems(out.problems, "The study refused these inputs:")
+        return
+    r = out.value
+    unit = r.unit
+    shown = r.value
+    if unit == "°C" and shown is not None:
+        shown_text = u.temp(shown, 2)
+    elif unit == "min" and shown is not None:
+        shown_text = u.duration_min(shown)
+    else:
+        shown_text = "—" if shown is None else f"{shown:.4g} {unit}"
+    k = st.columns(3)
+    k[0].metric(f"Required {r.parameter}", shown_text if r.achievable else "not achievable")
+    k[1].metric("Meets the goal", {"above": "at or above", "below": "at or below"}.get(r.passes, r.passes))
+    k[2].metric("Confirmed by a forward run", "yes" if r.confirmed else "no")
+    (st.success if r.achievable else st.warning)(r.message)
+    for note in r.notes:
+        st.caption(note)
+    ev = pd.DataFrame(r.evaluations, columns=[f"{r.parameter} [{unit}]", "goal measure (≥ 0 meets)"])
+    with st.expander(f"{len(ev)} forward runs"):
+        st.dataframe(ev, hide_index=True)
+
+
+DEFAULT_SPECS = {
+    "start_C": lambda plan: f"normal:{plan.start_temperature_C:g},2",
+    "size_factor": lambda plan: "normal:1,0.03@0.9,1.1",
+    "h_W_m2K": lambda plan: "lognormal:20,0.2",
+    "h_factor": lambda plan: "uniform:0.8,1.2",
+    "water_fraction": lambda plan: f"normal:{dict(plan.product.composition).get('water', 0.7):.3f},0.01",
+}
 
 
 def variability(text: str, u: Units) -> None:
     mod = adapter.studies_module("variability")
-    if mod is None:
+    if mod is None or not hasattr(mod, "monte_carlo"):
         _missing("Variability", "variability")
         return
+    st.subheader("Variability")
+    st.caption(
+        "Distributions as kind:parameters[@low,high] in library units (°C, W/m²K, factors): "
+        "normal:mean,sd · uniform:low,high · triangular:low,mode,high · lognormal:median,sigma_log."
+    )
+    parsed = adapter.parse_plan(text, state.generation())
+    if not parsed.ok:
+        widgets.problems(parsed.problems, "The plan has invalid input:")
+        return
+    plan = parsed.value
+    variables = list(mod.VARIABLES)
+    chosen = st.multiselect(
+        "Inputs that vary",
+        variables,
+        default=["h_factor"],
+        key="mc_vars",
+        format_func=lambda v: f"{v}: {mod.VARIABLES[v][0]}",
+    )
+    specs = []
+    cols = st.columns(max(len(chosen), 1))
+    for col, name in zip(cols, chosen, strict=False):
+        specs.append(
+            (
+                name,
+                col.text_input(
+                    name, value=DEFAULT_SPECS.get(name, lambda p: "")(plan), key=f"mc_spec_{name}"
+                ),
+            )
+        )
+    c = st.columns(4)
+    with c[0]:
+        n = int(widgets.number("Samples", 200, "mc_n", minimum=1, maximum=100000, step=50, fmt="%.0f"))
+    with c[1]:
+        seed = int(widgets.number("Seed", 0, "mc_seed", minimum=0, maximum=2**31 - 1, step=1, fmt="%.0f"))
+    method = c[2].selectbox(
+        "Method",
+        ["auto", "exact", "run"],
+        key="mc_method",
+        help="exact: vectorised series (one step, constant properties); run: the full model per sample",
+    )
+    names = _step_names(plan)
+    step_index = names.index(c[3].selectbox("Step whose h varies", names, key="mc_step"))
+    if st.button("Run the variability study", key="mc_go", disabled=not chosen):
+        st.session_state["mc_request"] = (text, tuple(specs), n, seed, step_index, method)
+    req = st.session_state.get("mc_request")
+    if not req or req[0] != text:
+        return
+    out = adapter.variability(*req, generation=state.generation())
+    if not out.ok:
+        widgets.problems(out.problems, "The study refused these inputs:")
+        return
+    r = out.value
+    st.caption(f"{r.n_samples} samples, method {r.method}, seed {r.seed}, {r.seconds:.1f} s")
+    rows = []
+    for metric, pct in r.percentiles.items():
+        row = {"quantity": metric}
+        for k, v in pct.items():
+            if metric.endswith("_min") and metric.startswith("time"):
+                row[k] = "not reached" if not math.isfinite(v) else u.duration_min(v)
+            else:
+                row[k] = "—" if not math.isfinite(v) else f"{v:.4g}"
+        rows.append(row)
+    st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")
+    k = st.columns(3)
+    for col, label, p in (
+        (k[0], "Target not reached", r.p_not_reached),
+        (k[1], "Rule fails", r.p_rule_fail),
+        (k[2], "Lethality short", r.p_lethality_fail),
+    ):
+        col.metric(label, "—" if p is None else f"{p:.1%}")
+    if "time_to_target_min" in r.samples:
+        times = r.samples["time_to_target_min"].dropna().to_numpy() * 60.0
+        if times.size:
+            st.plotly_chart(
+                charts.histogram_figure(times, u, "Time to target over the samples"),
+                width="stretch",
+                key="mc_hist",
+            )
+    for note in r.notes:
+        st.caption(note)
 
 
 def logger(text: str, u: Units) -> None:
@@ -34,3 +185,5 @@ def logger(text: str, u: Units) -> None:
     if mod is None:
         _missing("Logger data and calibration", "calibrate")
         return
+    st.subheader("Logger data and calibration")
+    st.info(f"Logger import: {NOT_AVAILABLE} in this version of the app.", icon=":material/extension:")

@@ -97,9 +97,9 @@ def problems(items: Iterable[Problem], heading: str) -> None:
     if not items:
         return
     lines = "\n".join(f"- {p.message()}" for p in items)
-    st.error(f"{heading}\n\n{lines}", icon="⚠️")
+    st.error(f"{heading}\n\n{lines}", icon=":material/error:")
 
 
 def caution() -> None:
     """The standing caution, shown on every page."""
-    st.warning(CAUTION, icon="⚖️")
+    st.warning(CAUTION, icon=":material/gavel:")
