@@ -469,7 +469,8 @@ def solve_conduction(
         found by re-solving the last step, so the final state is at the crossing)
     stop_direction : ``"falling"`` or ``"rising"``; None = inferred from the initial core temperature
     scheme : ``"bdf2"`` (default) or ``"euler"`` (see ``SCHEMES``)
-    max_step_change_K : target largest temperature change of any node per adaptive step [K]
+    max_step_change_K : target largest temperature change of any node per adaptive step [K] (also capped at
+        2 % of the run's temperature span)
     max_dt_s : largest adaptive step [s] (default end_time_s / 20)
     surface_refinement : node packing toward the surface, 0 (uniform) to 0.9; the default 0.5 makes the
         surface spacing about 0.4 of the centre spacing (see ``fv_grid.AxisGrid.graded``)
@@ -520,6 +521,13 @@ def solve_conduction(
         outs = None
     stop = None
     core0 = float(model.temperature(H[grid.core_index]))
+    # the step target is also capped at 2 % of the temperature span of the run, so that a small change is
+    # followed as closely, relatively, as a large one
+    tms = boundary.medium(np.r_[0.0, boundary.breakpoints_s[boundary.breakpoints_s < end], end])
+    t_all = model.temperature(H)
+    span = max(float(np.max(tms)), float(t_all.max())) - min(float(np.min(tms)), float(t_all.min()))
+    if span > 0:
+        target = min(target, 0.02 * span)
     if stop_when_core_C is not None:
         stop = validate.number("stop_when_core_C", stop_when_core_C, unit="°C")
         if stop_direction is None:
