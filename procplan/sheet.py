@@ -175,6 +175,25 @@ def _cols(total: float, fractions: list[float]) -> list[float]:
     return [total * f / s for f in fractions]
 
 
+def _fixed(x: float, digits: int) -> str:
+    """Fixed-point text without a minus sign on a value that rounds to zero.
+
+    >>> _fixed(-0.001, 2)
+    '0.00'
+    """
+    text = f"{x:.{digits}f}"
+    return text.lstrip("-") if float(text) == 0 else text
+
+
+def _expected_cell(st: _Styles, site: SiteSettings, c):
+    """The expected temperature; marked when the prediction itself lies beyond the action limit."""
+    text = site.format_temperature(c.expected_C)
+    outside = (c.low_C is not None and c.expected_C < c.low_C - 1e-9) or (
+        c.high_C is not None and c.expected_C > c.high_C + 1e-9
+    )
+    return st.b(text + " PREDICTED OUTSIDE") if outside else text
+
+
 def _limit_text(site: SiteSettings, lo: float | None, hi: float | None) -> str:
     if lo is not None and hi is not None:
         return (
@@ -421,7 +440,7 @@ def _checkpoints(result, site, st, W):
                 site.format_time(c.time_min),
                 c.step,
                 c.point,
-                site.format_temperature(c.expected_C),
+                _expected_cell(st, site, c),
                 _limit_text(site, c.low_C, c.high_C),
                 c.basis,
                 st.b(c.action) if c.rule else c.action,
@@ -590,7 +609,7 @@ def _energy(result, site, st, W):
         )
     en = oc.energy
     note = (
-        f"Batch of {en.pieces:g}: net {en.heat_removed_J_per_batch / 3.6e6:.2f} kWh removed; heat through the surface "
+        f"Batch of {en.pieces:g}: net {_fixed(en.heat_removed_J_per_batch / 3.6e6, 2)} kWh removed; heat through the surface "
         f"against the enthalpy change: {oc.energy_balance:.2%}. COP = {ch.cop_fraction:g} × Carnot."
     )
     if price is not None:

@@ -172,7 +172,7 @@ def history_chart(
     values = np.concatenate([s for s in series.values()] + [np.array([r.value for r in refs])])
     y_lo, y_hi = float(np.min(values)), float(np.max(values))
     pad = 0.04 * max(y_hi - y_lo, 1.0)
-    yt = nice_ticks(y_lo - pad, y_hi + pad, 6)
+    yt = nice_ticks(y_lo - pad, y_hi + pad, 8)
     xt = nice_ticks(0.0, x_hi, 8)
     y0v, y1v = float(yt[0]), float(yt[-1])
     x0v, x1v = 0.0, float(xt[-1])

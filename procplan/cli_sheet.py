@@ -1,0 +1,261 @@
+"""Sub-commands ``procplan sheet``, ``procplan new`` and ``procplan site`` (registered by :mod:`procplan.cli`).
+
+- ``procplan sheet PLAN.toml -o sheet.pdf [--paper a4|letter] [--lot ID] [--revision R] [--site FILE]``
+- ``procplan new product NAME --template LIBRARY_PRODUCT`` and
+  ``procplan new plan NAME --product P --template PLAN``: a new TOML file from a template, written
+  atomically, never over an existing file
+- ``procplan site [--site FILE]``: the site settings
+
+Bad arguments raise :class:`procplan.errors.InvalidInputError` naming the option, so ``procplan`` prints
+the problem and exits with code 2.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import os
+from pathlib import Path
+
+from procplan.caution import CAUTION_SHORT
+from procplan.errors import InvalidInputError
+
+EXIT_OK = 0
+
+
+def _library(args):
+    from procplan.library import load_library
+
+    return load_library(args.library)
+
+
+def _site(args, lib=None):
+    from procplan.site import load_site
+
+    return load_site(args.site, library=lib)
+
+
+def _text_option(field: str, value: str | None, max_len: int, *, required: bool = False) -> str:
+    v = "" if value is None else value
+    if (required and not v.strip()) or len(v) > max_len or any(ord(ch) < 32 for ch in v):
+        raise InvalidInputError(
+            field, value, f"{'non-empty ' if required else ''}text of at most {max_len} printable characters"
+        )
+    return v
+
+
+def _output_path(field: str, value: str, suffix: str, force: bool, *, can_force: bool = True) -> Path:
+    p = Path(value)
+    if p.suffix.lower() != suffix:
+        raise InvalidInputError(field, value, f"a file name ending in {suffix}")
+    if not p.parent.exists() or not p.parent.is_dir():
+        raise InvalidInputError(field, value, "a file in an existing folder", f"no folder {p.parent}")
+    if p.exists() and not force:
+        allowed = (
+            "a new file name, or --force to replace it" if can_force else "a file that does not exist yet"
+        )
+        raise InvalidInputError(field, value, allowed, "the file exists; refusing to overwrite")
+    return p
+
+
+def _write_bytes_atomic(path: Path, data: bytes) -> None:
+    import tempfile
+
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.replace(tmp, path)
+    finally:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+
+
+def cmd_sheet(args) -> int:
+    from procplan.cli import _load_plan
+    from procplan.engine import run_plan
+    from procplan.sheet import batch_sheet_pdf
+    from procplan.site import PAPER_SIZES
+
+    lib = _library(args)
+    site = _site(args, lib)
+    paper = args.paper if args.paper is not None else site.paper
+    if paper not in PAPER_SIZES:
+        raise InvalidInputError("--paper", args.paper, "one of " + ", ".join(PAPER_SIZES))
+    lot = _text_option("--lot", args.lot, 40)
+    revision = _text_option("--revision", args.revision, 12, required=True)
+    prepared = _text_option("--prepared-by", args.prepared_by, 60)
+    out = _output_path("--output", args.output, ".pdf", args.force)
+    plan = _load_plan(args.plan, lib)
+    result = run_plan(plan, library=lib)
+    try:
+        pdf = batch_sheet_pdf(
+            result,
+            site=site,
+            lot_id=lot,
+            revision=revision,
+            paper=paper,
+            prepared_by=prepared,
+            date=args.date,
+        )
+    except InvalidInputError as exc:
+        if exc.field == "date":
+            raise InvalidInputError("--date", args.date, exc.allowed) from None
+        raise
+    _write_bytes_atomic(out, pdf)
+    from procplan.sheet_data import document_number, plan_hash
+
+    print(
+        f"batch-plan sheet {document_number(site.document_prefix, plan_hash(plan))} rev {revision} "
+        f"written to {out} ({paper})"
+    )
+    print(CAUTION_SHORT)
+    return EXIT_OK
+
+
+def _destination(args, lib, kind: str) -> Path:
+    from procplan.tomlio import check_name
+
+    check_name("NAME", args.name)
+    if args.output:
+        return _output_path("--output", args.output, ".toml", force=False, can_force=False)
+    return Path(lib.root) / kind / f"{args.name}.toml"
+
+
+def _refuse_existing(field: str, path: Path) -> None:
+    if path.exists():
+        raise InvalidInputError(field, str(path), "a file that does not exist yet", "refusing to overwrite")
+
+
+def cmd_new_product(args) -> int:
+    from procplan.plan import product_from_dict, product_to_dict
+    from procplan.tomlio import dump_toml, write_atomic
+
+    lib = _library(args)
+    if args.template not in lib.products:
+        raise InvalidInputError("--template", args.template, "one of " + ", ".join(sorted(lib.products)))
+    dest = _destination(args, lib, "products")
+    _refuse_existing("NAME" if not args.output else "--output", dest)
+    if args.name in lib.products and not args.output:
+        raise InvalidInputError("NAME", args.name, "a name not used by another product")
+    tpl = lib.products[args.template]
+    desc = f"from template {args.template}" + (f": {tpl.description}" if tpl.description else "")
+    product = dataclasses.replace(tpl, name=args.name, description=desc, library=None)
+    data = product_to_dict(product)
+    data.pop("library", None)
+    product_from_dict(data, str(dest), prefix="")  # what is written must load again
+    write_atomic(dest, dump_toml(data), overwrite=False)
+    print(
+        f"product {args.name} written to {dest} (from template {args.template}); edit it, then `procplan library check`"
+    )
+    return EXIT_OK
+
+
+def cmd_new_plan(args) -> int:
+    from procplan.plan import plan_from_dict
+    from procplan.tomlio import dump_toml, read_toml, write_atomic
+
+    lib = _library(args)
+    if args.product not in lib.products:
+        raise InvalidInputError("--product", args.product, "one of " + ", ".join(sorted(lib.products)))
+    tpl_path = Path(args.template)
+    if not tpl_path.exists():
+        if args.template not in lib.plans:
+            raise InvalidInputError(
+                "--template", args.template, "a plan file or one of " + ", ".join(sorted(lib.plans))
+            )
+        tpl_path = lib.plans[args.template]
+    dest = _destination(args, lib, "plans")
+    _refuse_existing("NAME" if not args.output else "--output", dest)
+    data = read_toml(tpl_path)
+    site = _site(args, lib)
+    template_name = tpl_path.stem
+    data["title"] = (
+        _text_option("--title", args.title, 200) or f"{args.product}: {data.get('title', template_name)}"
+    )
+    data["notes"] = (
+        f"Made from template plan {template_name} for product {args.product}: check the steps, settings and checks "
+        "before use."
+    )
+    data["product"] = {"library": args.product}
+    checks = dict(data.get("checks") or {})
+    from_site = []
+    for key, value in (("margin_percent", site.margin_percent), ("margin_min", site.margin_min)):
+        if key not in checks:
+            checks[key] = int(value) if float(value).is_integer() else value
+            from_site.append(key)
+    data["checks"] = checks
+    plan_from_dict(data, source=str(dest), library=lib)  # what is written must load again
+    write_atomic(dest, dump_toml(data), overwrite=False)
+    extra = f"; {' and '.join(from_site)} from the site settings" if from_site else ""
+    print(f"plan {args.name} written to {dest} (template {template_name}, product {args.product}{extra})")
+    return EXIT_OK
+
+
+def cmd_site(args) -> int:
+    from procplan.site import site_to_text
+
+    lib = _library(args)
+    print(site_to_text(_site(args, lib)))
+    return EXIT_OK
+
+
+def register(subparsers) -> None:
+    """Add ``sheet``, ``new`` and ``site`` to the ``procplan`` command."""
+    s = subparsers.add_parser(
+        "sheet",
+        help="write the printable batch-plan sheet (PDF) of a plan",
+        description="Run a plan and write its batch-plan sheet: header, product and equipment, steps and plan "
+        "times, chart, checkpoints, rule compliance, lethality, freezing, energy, provenance, signatures.",
+    )
+    s.add_argument("plan", help="plan file (TOML), or the name of a library plan")
+    s.add_argument("-o", "--output", required=True, metavar="FILE", help="PDF file to write")
+    s.add_argument("--paper", default=None, help="a4 or letter (default: the site's)")
+    s.add_argument("--lot", default="", metavar="ID", help="lot id printed in the header")
+    s.add_argument("--revision", default="A", metavar="R", help="document revision (default A)")
+    s.add_argument("--prepared-by", default="", metavar="NAME", help="name for the 'prepared by' box")
+    s.add_argument("--date", default=None, metavar="YYYY-MM-DD", help="date of the sheet (default today)")
+    s.add_argument("--site", default=None, metavar="FILE", help="site settings (default: the demo plant's)")
+    s.add_argument("--force", action="store_true", help="replace an existing PDF")
+    s.set_defaults(func=cmd_sheet)
+
+    n = subparsers.add_parser(
+        "new",
+        help="make a new product or plan file from a template",
+        description="Write a new product or plan TOML file from a template, atomically; an existing file is "
+        "never replaced.",
+    )
+    nsub = n.add_subparsers(dest="kind", required=True)
+    np_ = nsub.add_parser(
+        "product",
+        help="a new library product from a library product",
+        description="Copy a library product under a new name into the library's products/ folder (or --output).",
+    )
+    np_.add_argument("name", metavar="NAME", help="new product name (a-z 0-9 . _ -)")
+    np_.add_argument("--template", required=True, metavar="LIBRARY_PRODUCT", help="library product to copy")
+    np_.add_argument("-o", "--output", default=None, metavar="FILE", help="write here instead of the library")
+    np_.set_defaults(func=cmd_new_product)
+    nl = nsub.add_parser(
+        "plan",
+        help="a new plan from a template plan for a library product",
+        description="Copy a plan's steps and checks for another library product into the library's plans/ "
+        "folder (or --output). Margins missing from the template come from the site settings.",
+    )
+    nl.add_argument("name", metavar="NAME", help="new plan name (a-z 0-9 . _ -)")
+    nl.add_argument("--product", required=True, metavar="P", help="library product of the new plan")
+    nl.add_argument("--template", required=True, metavar="PLAN", help="library plan name or plan file")
+    nl.add_argument("--title", default=None, help="title of the new plan")
+    nl.add_argument("-o", "--output", default=None, metavar="FILE", help="write here instead of the library")
+    nl.add_argument("--site", default=None, metavar="FILE", help="site settings (default: the demo plant's)")
+    nl.set_defaults(func=cmd_new_plan)
+
+    st = subparsers.add_parser(
+        "site",
+        help="print the site settings",
+        description="Print the site settings (plant, lines, display units, default margins and rules, tariff).",
+    )
+    st.add_argument(
+        "--site", default=None, metavar="FILE", help="site settings file (default: the demo plant's)"
+    )
+    st.set_defaults(func=cmd_site)
