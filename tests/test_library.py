@@ -25,7 +25,9 @@ def test_one_broken_file_is_listed_and_the_good_ones_still_load(tmp_path):
     root = tmp_path / "lib"
     shutil.copytree(DEMO_LIBRARY, root)
     n_good = len(load_library(root).products)
-    (root / "products" / "broken.toml").write_text("shape = 'slab'\nthickness_mm = -3\n[composition]\nwater = 2\n")
+    (root / "products" / "broken.toml").write_text(
+        "shape = 'slab'\nthickness_mm = -3\n[composition]\nwater = 2\n"
+    )
     (root / "products" / "garbled.toml").write_text("this is = = not toml")
     lib = load_library(root)
     assert len(lib.products) == n_good
@@ -43,7 +45,14 @@ def test_save_product_is_atomic_refuses_overwrite_and_bad_names(tmp_path):
     with pytest.raises(InvalidInputError):
         save_product(tmp_path, prod)
     for name in ("../escape", "/abs", "UPPER", ""):
-        bad = product_from_dict({"name": "x", "shape": "sphere", "diameter_mm": 30, "composition": {"water": 1.0, "protein": 0.0, "fat": 0.0, "carbohydrate": 0.0}})
+        bad = product_from_dict(
+            {
+                "name": "x",
+                "shape": "sphere",
+                "diameter_mm": 30,
+                "composition": {"water": 1.0, "protein": 0.0, "fat": 0.0, "carbohydrate": 0.0},
+            }
+        )
         object.__setattr__(bad, "name", name)
         with pytest.raises(InvalidInputError):
             save_product(tmp_path, bad)
