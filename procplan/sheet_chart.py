@@ -63,28 +63,25 @@ def spread_positions(wanted: list[float], gap: float, lo: float, hi: float) -> l
     [8.0, 13.0, 30.0]
     """
     order = sorted(range(len(wanted)), key=lambda i: wanted[i])
-    pos = [float(np.clip(wanted[i], lo, hi)) for i in order]
-    for _ in range(len(pos) + 1):
-        moved = False
-        # merge overlapping clusters and centre each on the mean of its wishes
-        clusters: list[list[int]] = []
-        for k in range(len(pos)):
-            if clusters and pos[k] - pos[clusters[-1][-1]] < gap - 1e-9:
-                clusters[-1].append(k)
-            else:
-                clusters.append([k])
-        for cl in clusters:
-            if len(cl) == 1:
-                continue
-            centre = float(np.mean([wanted[order[k]] for k in cl]))
-            first = centre - gap * (len(cl) - 1) / 2.0
-            first = min(max(first, lo), max(lo, hi - gap * (len(cl) - 1)))
-            for j, k in enumerate(cl):
-                if abs(pos[k] - (first + j * gap)) > 1e-9:
-                    moved = True
-                pos[k] = first + j * gap
-        if not moved:
-            break
+    # clusters of labels packed ``gap`` apart, each centred on the mean of its wishes; merged left to right
+    clusters: list[list[float]] = []  # [start, count, sum of wishes]
+
+    def place(total: float, n: float) -> float:
+        start = total / n - gap * (n - 1) / 2.0
+        return max(min(start, hi - gap * (n - 1)), lo)
+
+    for i in order:
+        w = float(wanted[i])
+        clusters.append([place(w, 1.0), 1.0, w])
+        while len(clusters) > 1 and clusters[-2][0] + gap * clusters[-2][1] > clusters[-1][0] + 1e-9:
+            b = clusters.pop()
+            a = clusters[-1]
+            a[1] += b[1]
+            a[2] += b[2]
+            a[0] = place(a[2], a[1])
+    pos: list[float] = []
+    for start, n, _ in clusters:
+        pos.extend(start + gap * j for j in range(int(n)))
     out = [0.0] * len(pos)
     for k, i in enumerate(order):
         out[i] = pos[k]
