@@ -185,6 +185,13 @@ def _fixed(x: float, digits: int) -> str:
     return text.lstrip("-") if float(text) == 0 else text
 
 
+def _difference_text(site: SiteSettings, difference_K: float) -> str:
+    """A temperature difference: "1 K", or "1.8 °F" on a Fahrenheit site."""
+    if site.temperature_unit == "F":
+        return f"{site.temperature_difference(difference_K):g} °F"
+    return f"{difference_K:g} K"
+
+
 def _expected_cell(st: _Styles, site: SiteSettings, c):
     """The expected temperature; marked when the prediction itself lies beyond the action limit."""
     text = site.format_temperature(c.expected_C)
@@ -215,7 +222,7 @@ def _machine(sr, step) -> str:
     return "given h and medium"
 
 
-def _settings_text(sr, step) -> str:
+def _settings_text(sr, step, site: SiteSettings) -> str:
     eq = sr.surface.breakdown.get("equipment_record")
     used = sr.surface.breakdown.get("settings") or step.settings_dict
     parts = []
@@ -223,9 +230,12 @@ def _settings_text(sr, step) -> str:
         unit = ""
         if eq is not None and k in eq.settings:
             unit = eq.settings[k].unit
-        parts.append(
-            f"{k} = {v:g}{(' ' + unit) if unit else ''}" if isinstance(v, (int, float)) else f"{k} = {v}"
-        )
+        if not isinstance(v, (int, float)):
+            parts.append(f"{k} = {v}")
+        elif (unit == "°C" or k.endswith("_C")) and site.temperature_unit == "F":
+            parts.append(f"{k} = {v:g} °C ({site.format_temperature(v)})")
+        else:
+            parts.append(f"{k} = {v:g}{(' ' + unit) if unit else ''}")
     if step.settings_profile:
         parts.append(f"profile of {len(step.settings_profile)} set points")
     if step.medium_profile:
@@ -326,7 +336,7 @@ def _product(result, site, st, W):
             [
                 f"{sr.index + 1} {sr.name}",
                 _machine(sr, step),
-                _settings_text(sr, step),
+                _settings_text(sr, step, site),
                 _range(sr.surface.medium_C, site.format_temperature),
                 _range(sr.surface.h_W_m2K, lambda v: f"{v:.1f}"),
             ]
@@ -418,7 +428,7 @@ def _chart(result, site, st, W, height):
 
 
 def _checkpoints(result, site, st, W):
-    cps = checkpoints(result, tolerance_K=site.probe_tolerance_K)
+    cps = checkpoints(result, tolerance_K=site.probe_tolerance_K, site=site)
     rows = [
         [
             "#",
@@ -451,7 +461,7 @@ def _checkpoints(result, site, st, W):
     t = _table(rows, _cols(W, [0.03, 0.08, 0.1, 0.06, 0.08, 0.09, 0.2, 0.15, 0.09, 0.12]), st)
     note = st.p(
         f"If a reading is beyond its action limit: {ACTION_IF_MISSED}. "
-        + margin_note(result, site.probe_tolerance_K),
+        + margin_note(result, site.probe_tolerance_K, _difference_text(site, site.probe_tolerance_K)),
         st.small,
     )
     return [*st.h("Checkpoints (probe readings)"), t, Spacer(1, 1), note]
@@ -531,7 +541,7 @@ def _lethality(result, site, st, W):
             [
                 f"{leth.name} ({role}): {leth.target}",
                 leth.point,
-                f"{site.format_temperature(leth.reference_C)}, z {site.temperature_difference(leth.z_C):g} {'°F' if site.temperature_unit == 'F' else 'K'}",
+                f"{site.format_temperature(leth.reference_C)}, z {_difference_text(site, leth.z_C)}",
                 f"{format_f(leth.total_F_min)} min",
                 req,
                 res,

@@ -175,7 +175,7 @@ def history_chart(
     x0v, x1v = 0.0, float(xt[-1])
 
     label_w = max(
-        [stringWidth(f"{r.label} {r.value:g}{site.temperature_symbol}", font, size - 0.5) for r in refs]
+        [stringWidth(f"{r.label} {r.value:.1f} {site.temperature_symbol}", font, size - 0.5) for r in refs]
         + [0.0]
     )
     left, right = 38.0, min(max(label_w + 16.0, 40.0), 0.34 * width)
@@ -244,7 +244,7 @@ def history_chart(
             _string(
                 px1 + 8.0,
                 yp - size / 3.0,
-                f"{r.label} {r.value:g}{site.temperature_symbol}",
+                f"{r.label} {r.value:.1f} {site.temperature_symbol}",
                 font,
                 size - 0.5,
             )

@@ -132,24 +132,36 @@ def _margin_limit(result, point: str, step_start_s: float, t_s: float, mode: str
     return expected, expected - dev, expected + dev
 
 
-def margin_note(result, tolerance_K: float) -> str:
+def margin_note(result, tolerance_K: float, tolerance_text: str | None = None) -> str:
     """How the checkpoints' action limits follow from the plan's margin (printed under the table)."""
     ch = result.plan.checks
+    tol = tolerance_text or f"{tolerance_K:g} K"
     e = f"(step time − {ch.margin_min:g} min)" if ch.margin_min else "the step time"
     return (
         f"Action limits: the predicted temperature at {e} / (1 + {ch.margin_percent:g} %), i.e. as late as the "
-        f"plan's margin allows, and at least {tolerance_K:g} K (probe tolerance) from the expected value; at a rule "
+        f"plan's margin allows, and at least {tol} (probe tolerance) from the expected value; at a rule "
         "stage or band, the rule's own limit."
     )
 
 
-def checkpoints(result, tolerance_K: float = 1.0) -> tuple[Checkpoint, ...]:
+def _celsius(t_C: float) -> str:
+    return f"{t_C:g} °C"
+
+
+def _minutes(t_min: float) -> str:
+    return f"{t_min:.1f} min"
+
+
+def checkpoints(result, tolerance_K: float = 1.0, site=None) -> tuple[Checkpoint, ...]:
     """The probe readings the sheet asks for, sorted by time (at most ``MAX_CHECKPOINTS``).
 
     Per step: half-way to and at the predicted time of its stop condition or first target (at the step's
     end when it has none); at each cooling-rule stage deadline (or at the end of the plan when the deadline
     falls later); at each step's end for band (storage) rules; when the lethality requirement is reached.
+    ``site`` (SiteSettings, optional) sets the units of the texts.
     """
+    fmt_T = site.format_temperature if site is not None else _celsius
+    fmt_t = site.format_time if site is not None else _minutes
     oc = result.outcomes
     hist = result.history
     t_end = float(hist["time_s"].iloc[-1])
@@ -157,15 +169,17 @@ def checkpoints(result, tolerance_K: float = 1.0) -> tuple[Checkpoint, ...]:
     for sr in result.steps:
         tgs = [t for t in (oc.targets if oc is not None else ()) if t.step == sr.name and t.target.reached]
         if tgs:
-            tg = tgs[0]
+            tg = max(tgs, key=lambda x: x.target.time_s)  # the binding one: reached last
             t_hit = tg.target.time_s
             pred_min = (t_hit - sr.start_s) / 60.0
             times = []
             half = 5.0 * round(pred_min / 2.0 / 5.0)
             if half >= 5.0 and pred_min - half >= MERGE_WITHIN_MIN:
-                times.append((sr.start_s / 60.0 + half, f"half-way to {tg.point} {tg.target.target_C:g} °C"))
+                times.append(
+                    (sr.start_s / 60.0 + half, f"half-way to {tg.point} {fmt_T(tg.target.target_C)}")
+                )
             times.append(
-                (math.ceil(t_hit / 60.0 - 1e-9), f"predicted time of {tg.point} {tg.target.target_C:g} °C")
+                (math.ceil(t_hit / 60.0 - 1e-9), f"predicted time of {tg.point} {fmt_T(tg.target.target_C)}")
             )
             point, mode, action = tg.point, tg.target.direction, ACTION_EXTEND
         else:
@@ -184,7 +198,7 @@ def checkpoints(result, tolerance_K: float = 1.0) -> tuple[Checkpoint, ...]:
             later = d.deadline_s > t_end + 1.0
             step = _step_at(result, t_min * 60.0)
             exp = _interp(result, rule.point, t_min * 60.0)
-            why = f"rule stage {d.index + 1}: {d.to_C:g} °C by {d.deadline_s / 60.0:.1f} min"
+            why = f"rule stage {d.index + 1}: {fmt_T(d.to_C)} by {fmt_t(d.deadline_s / 60.0)}"
             if later:
                 why += " (after the plan ends: probe at the end)"
             lo, hi = (None, d.to_C) if d.kind == "cooling" else (d.to_C, None)
