@@ -62,7 +62,7 @@ def test_clean_sorts_drops_and_flags():
         b"time,a\n",
         b"\x00\x01\x02\x03binary,\x00\n",
         b"\x81\x8d\x8f\x90,\x9d\n1,2\n",
-        "time,a\n0,1e400\n1,2\n".encode(),
+        b"time,a\n0,1e400\n1,2\n",
         b"time,a\n0,5000\n1,2\n",
     ],
 )
