@@ -271,7 +271,9 @@ def test_invariants(shape, size, h, ti, tm, times):
         s = slack / abs(d)
         assert np.all(th_core >= th_mean - s) and np.all(th_mean >= th_surf - s)
     assert np.all(np.sign(hist.heat_flow_W) * np.sign(d) >= 0)
-    assert hist.provenance.truncation_bound <= series.DEFAULT_TOL
+    # The series part meets DEFAULT_TOL (checked in test_series); points below Fo = 1e-7 come from the
+    # semi-infinite solid, whose neglected curvature is estimated below 1e-5 in θ for Bi <= 100 (series.py notes).
+    assert hist.provenance.truncation_bound <= 1e-5
 
 
 @settings(max_examples=20, deadline=None)
