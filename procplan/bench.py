@@ -176,8 +176,22 @@ def bench_finite_cylinder(repeats: int = 3) -> list[tuple[str, float, str]]:
     ]
 
 
+def bench_studies() -> list[tuple[str, float, str]]:
+    """Monte Carlo of a series case: the vectorised exact path against one engine run per sample (baseline)."""
+    from procplan.studies.variability import bench_variability
+
+    b = bench_variability()
+    n = int(b["n_samples"])
+    baseline = b["run_per_sample_s"] * n
+    return [
+        (f"variability, {n} samples, vectorised series", b["fast_s"], "exact fast path"),
+        (f"  baseline: {n} engine runs (extrapolated from 20)", baseline, "run_plan per sample"),
+        ("  ratio baseline / vectorised", baseline / b["fast_s"], "(times faster)"),
+    ]
+
+
 def main() -> None:
-    rows = bench_freezing() + bench_brick() + bench_finite_cylinder()
+    rows = bench_freezing() + bench_brick() + bench_finite_cylinder() + bench_studies()
     width = max(len(r[0]) for r in rows)
     print(f"{'case':<{width}}  {'value':>10}  notes")
     for name, value, note in rows:

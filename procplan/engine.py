@@ -365,6 +365,11 @@ def run_plan(
     lo, hi = float(props.temperature_C[0]), float(props.temperature_C[-1])
     t_min = float(history[["core_C", "surface_C"]].min().min())
     t_max = float(history[["core_C", "surface_C"]].max().max())
+    if t_max > 100.5:
+        warnings.append(
+            f"product temperatures reach {t_max:.0f} °C: above 100 °C the water in an unsealed product boils and the "
+            "surface dries, which a conduction model does not carry; treat temperatures above 100 °C as indicative only"
+        )
     if t_min < lo - 0.05 or t_max > hi + 0.05:
         warnings.append(
             f"product temperatures reach {t_min:.1f}…{t_max:.1f} °C, outside the property model's {lo:g}…{hi:g} °C: "
