@@ -464,3 +464,40 @@ def variability(
     return _variability(
         text, tuple(specs), n_samples, seed, step_index, method, corners, library_root(), generation
     )
+
+
+@st.cache_data(max_entries=16, show_spinner=False)
+def logger_preview(text: str) -> Outcome:
+    """The first rows of a logger file with the guessed column mapping (procplan.studies.logger)."""
+    mod = studies_module("logger")
+    try:
+        return Outcome(mod.preview_logger(text, n_rows=8))
+    except InvalidInputError as exc:
+        return Outcome(problems=problems_of(exc))
+
+
+@st.cache_resource(max_entries=8, show_spinner="Fitting h to the logger curve…")
+def _calibrate(plan_text, log_text, mapping, channel, clean, root, generation):
+    lmod, cmod = studies_module("logger"), studies_module("calibrate")
+    parsed = _parse(plan_text, root, generation)
+    if not parsed.ok:
+        return parsed
+    try:
+        log = lmod.read_logger(log_text, lmod.ColumnMapping(*mapping))
+        if clean:
+            log = lmod.clean_logger(log)
+        return Outcome(cmod.calibrate(parsed.value, log, channel=channel, library=_library(root, generation)))
+    except InvalidInputError as exc:
+        return Outcome(problems=problems_of(exc))
+
+
+def calibrate(
+    plan_text: str,
+    log_text: str,
+    mapping: tuple,
+    channel: str,
+    clean: bool = True,
+    generation: int = 0,
+) -> Outcome:
+    """Fit the plan's step h to a logger curve; mapping = (time column, time unit, channels, temperature unit)."""
+    return _calibrate(plan_text, log_text, tuple(mapping), channel, clean, library_root(), generation)

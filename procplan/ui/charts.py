@@ -48,6 +48,18 @@ def temperature_figure(result, u: Units, title: str = "Product temperatures") ->
     # step boundaries and stop temperatures
     for sr in result.steps[:-1]:
         fig.add_vline(x=u.time_value(sr.end_s), line=dict(color="#bbbbbb", width=1))
+    if len(result.steps) > 1:
+        for sr in result.steps:
+            fig.add_annotation(
+                x=u.time_value(sr.start_s),
+                y=0,
+                yref="paper",
+                xanchor="left",
+                yanchor="bottom",
+                text=f"{sr.index + 1} {sr.name}",
+                showarrow=False,
+                font=dict(size=11, color="#666666"),
+            )
     for sr, step in zip(result.steps, result.plan.steps, strict=True):
         x0, x1 = u.time_value(sr.start_s), u.time_value(sr.end_s)
         targets = [("core", step.stop_when_core_C)] if step.stop_when_core_C is not None else []
@@ -215,7 +227,7 @@ def logger_figure(logger_time_s, logger_C, result, u: Units, point: str = "core"
                 x=u.time_value(h["time_s"].to_numpy()),
                 y=u.t(h[f"{point}_C"].to_numpy()),
                 mode="lines",
-                name=f"prediction with fitted h ({point})",
+                name=f"prediction of the plan ({point})",
                 line=dict(color=COLOURS.get(point, "#b2182b")),
             )
         )

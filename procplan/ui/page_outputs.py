@@ -90,7 +90,7 @@ def _open() -> None:
     c1, c2 = st.columns([3, 1])
     names = sorted(lib.plans)
     pick = c1.selectbox("Plan from the library", names, key="open_lib_plan")
-    if c2.button("Open", key="open_lib_btn"):
+    if c2.button("Open this plan", key="open_lib_btn"):
         state.replace_plan(
             adapter.library_plan_dict(pick, state.generation()), f"Opened library plan '{pick}'."
         )

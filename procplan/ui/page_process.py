@@ -302,6 +302,7 @@ def _provenance(result, u: Units) -> None:
 
 def render() -> None:
     st.header("Process")
+    top = st.container()
     plan = state.plan()
     lib = adapter.library(state.generation())
     u = state.units()
@@ -349,6 +350,6 @@ def render() -> None:
         return
     from procplan.ui.page_result import headline
 
-    st.subheader("Prediction")
-    headline(out.value, u)
+    with top:
+        headline(out.value, u)
     _provenance(out.value, u)

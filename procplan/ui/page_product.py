@@ -343,6 +343,7 @@ def _save(prod: dict) -> None:
 
 def render() -> None:
     st.header("Product")
+    top = st.container()
     lib = adapter.library(state.generation())
     _library_picker(lib)
     st.divider()
@@ -356,3 +357,7 @@ def render() -> None:
     _packaging(prod)
     _curves(prod)
     _save(prod)
+    _, parsed = state.current()
+    if not parsed.ok:
+        with top:
+            widgets.problems(parsed.problems, "The plan has invalid input (details below):")

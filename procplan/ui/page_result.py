@@ -54,12 +54,8 @@ def headline(result, u: Units) -> None:
         (st.error if m.cycle_too_short else st.caption)(text)
     leth = oc.lethality if oc else None
     if leth is not None:
-        c[3].metric(
-            f"Lethality F ({leth.name})",
-            f"{format_f(leth.total_F_min)} min",
-            delta=None if leth.passed is None else ("PASS" if leth.passed else "FAIL"),
-            delta_color="normal" if leth.passed else "inverse",
-        )
+        verdict = "" if leth.passed is None else (": PASS" if leth.passed else ": FAIL")
+        c[3].metric(f"Lethality F ({leth.name}){verdict}", f"{format_f(leth.total_F_min)} min")
     else:
         end = result.history.iloc[-1]
         c[3].metric("Core at the end", u.temp(float(end["core_C"])))
@@ -221,7 +217,7 @@ def _energy(result, u: Units) -> None:
 def render_result(result, u: Units, *, stale: bool = False) -> None:
     if stale:
         st.info(
-            "Showing the last plan that could be calculated; correct the inputs above to update it.",
+            "Showing the last plan that could be calculated; correct the inputs named above (Product or Process page) to update it.",
             icon=":material/history:",
         )
     headline(result, u)

@@ -181,9 +181,88 @@ def variability(text: str, u: Units) -> None:
 
 
 def logger(text: str, u: Units) -> None:
-    mod = adapter.studies_module("calibrate")
-    if mod is None:
-        _missing("Logger data and calibration", "calibrate")
+    lmod, cmod = adapter.studies_module("logger"), adapter.studies_module("calibrate")
+    if lmod is None or cmod is None:
+        _missing("Logger data and calibration", "logger and procplan.studies.calibrate")
         return
     st.subheader("Logger data and calibration")
-    st.info(f"Logger import: {NOT_AVAILABLE} in this version of the app.", icon=":material/extension:")
+    st.caption("Upload a probe logger file (CSV), check the column mapping, and fit the step's h to it.")
+    up = st.file_uploader("Logger file (.csv, .txt)", type=["csv", "txt"], key="log_upload")
+    pasted = st.text_area("…or paste the logger text", key="log_paste", height=120)
+    raw = None
+    if up is not None:
+        try:
+            raw = up.getvalue().decode("utf-8-sig")
+        except UnicodeDecodeError:
+            raw = up.getvalue().decode("cp1252", errors="replace")
+    elif pasted.strip():
+        raw = pasted
+    if raw is None:
+        return
+    pv = adapter.logger_preview(raw)
+    if not pv.ok:
+        widgets.problems(pv.problems, "The logger file could not be read:")
+        return
+    prev = pv.value
+    st.caption(
+        f"{prev.n_rows} rows; separator {prev.separator!r}, decimal {prev.decimal!r}, encoding {prev.encoding}"
+    )
+    st.dataframe(prev.rows, hide_index=True, width="stretch")
+    cols = list(prev.columns)
+    m = prev.mapping
+    c = st.columns(4)
+    time_col = c[0].selectbox(
+        "Time column", cols, index=cols.index(m.time) if m.time in cols else 0, key="log_time"
+    )
+    units = list(lmod.TIME_UNITS)
+    time_unit = c[1].selectbox(
+        "Time unit", units, index=units.index(m.time_unit) if m.time_unit in units else 0, key="log_tunit"
+    )
+    others = [x for x in cols if x != time_col]
+    channels = c[2].multiselect(
+        "Probe columns", others, default=[x for x in m.channels if x in others], key="log_channels"
+    )
+    tunits = list(lmod.TEMPERATURE_UNITS)
+    temp_unit = c[3].selectbox(
+        "Probe unit",
+        tunits,
+        index=tunits.index(m.temperature_unit) if m.temperature_unit in tunits else 0,
+        format_func=lambda x: f"°{x}",
+        key="log_cunit",
+    )
+    if not channels:
+        st.info("Choose at least one probe column.")
+        return
+    channel = st.selectbox("Probe to fit", channels, key="log_fit_channel")
+    if st.button("Fit h to this probe", key="log_fit"):
+        st.session_state["log_request"] = (
+            text,
+            raw,
+            (time_col, time_unit, tuple(channels), temp_unit),
+            channel,
+        )
+    req = st.session_state.get("log_request")
+    if not req or req[0] != text or req[1] != raw:
+        return
+    out = adapter.calibrate(*req, generation=state.generation())
+    if not out.ok:
+        widgets.problems(out.problems, "The fit refused these inputs:")
+        return
+    cal = out.value
+    k = st.columns(3)
+    k[0].metric(
+        "Fitted h", f"{cal.h_W_m2K:.1f} W/m²K", help=f"95 % interval {cal.h_ci95[0]:.1f}…{cal.h_ci95[1]:.1f}"
+    )
+    k[1].metric("h of the plan", f"{cal.plan_h_W_m2K:.1f} W/m²K")
+    k[2].metric("RMS residual", f"{u.dt(cal.rmse_K):.2f} {u.temperature}")
+    res = cal.residuals
+    fig = charts.logger_figure(res["time_s"], res["measured_C"], cal.prediction, u, "core")
+    fig.add_scatter(
+        x=u.time_value(res["time_s"].to_numpy()),
+        y=u.t(res["fitted_C"].to_numpy()),
+        mode="lines",
+        name=f"fitted, h = {cal.h_W_m2K:.1f} W/m²K",
+    )
+    st.plotly_chart(fig, width="stretch", key="log_chart")
+    for note in cal.notes:
+        st.caption(note)
