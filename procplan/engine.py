@@ -188,7 +188,11 @@ def _exact_step(geometry, props: PropertyTable, start_C: float, surface: StepSur
                 stop_time = 0.0
             else:
                 f = lambda t: float(run(np.array([t])).core_C[0]) - target  # noqa: E731
-                stop_time = brentq(f, times[j - 1], times[j], xtol=1e-6 * step.duration_s + 1e-9)
+                lo_t, hi_t = times[j - 1], times[j]
+                stop_time = brentq(f, lo_t, hi_t, xtol=1e-9 * step.duration_s + 1e-12)
+                # land on the far side of the target, so the crossing is never missed by round-off
+                while np.sign(f(stop_time)) == np.sign(f(lo_t)) and stop_time < hi_t:
+                    stop_time = min(hi_t, stop_time + 1e-9 * step.duration_s + 1e-12)
             times = np.r_[times[:j], stop_time] if stop_time > 0 else np.array([0.0])
             times = np.unique(times)
             if times.size == 1:
@@ -318,6 +322,11 @@ def run_plan(
             )
         details["regime"] = regime.regime
         frame["time_s"] = frame["time_s"] + t_offset
+        if stop_time is not None and step.stop_when_core_C is not None and len(frame):
+            # both solvers stop within 1e-5 K of the stop temperature; record the crossing as the target itself
+            last = frame.index[-1]
+            if abs(frame.at[last, "core_C"] - step.stop_when_core_C) < 1e-4:
+                frame.at[last, "core_C"] = step.stop_when_core_C
         frame["step"] = step.name
         frame["step_index"] = i
         if frames:

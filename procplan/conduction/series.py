@@ -584,3 +584,9 @@ def series_history(kind: str, bi: float, fo: Any, *, tol: float = DEFAULT_TOL) -
         vals = np.clip(vals, 0.0, 1.0)
     center, surface, mean = (vals[:, i].reshape(f.shape) for i in range(3))
     return SeriesHistory(fo=f, theta_center=center, theta_surface=surface, theta_mean=mean, info=info)
+
+
+# Public names for the building blocks of the eigenvalue problem, for solvers vectorised over many Biot numbers.
+eigen_function = _eigen_function
+eigen_brackets = _brackets
+coefficients_for_eigenvalues = _compute_coefficients

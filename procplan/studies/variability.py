@@ -309,13 +309,13 @@ def eigen_vectorised(kind: str, bi: np.ndarray, n_terms: int = FAST_TERMS) -> tu
     from procplan.conduction import series
 
     b = np.asarray(bi, dtype=float)[:, None]
-    lo0, hi0 = series._brackets(kind, n_terms)
+    lo0, hi0 = series.eigen_brackets(kind, n_terms)
     lo = np.broadcast_to(lo0, (b.shape[0], n_terms)).copy()
     hi = np.broadcast_to(hi0, (b.shape[0], n_terms)).copy()
     s_lo = np.where(np.arange(1, n_terms + 1) % 2 == 0, 1.0, -1.0)
     for _ in range(14):  # bisection to a bracket of width ≤ π/2^14, where Newton converges
         mid = 0.5 * (lo + hi)
-        same = np.sign(series._eigen_function(kind, mid, b)) == s_lo
+        same = np.sign(series.eigen_function(kind, mid, b)) == s_lo
         lo = np.where(same, mid, lo)
         hi = np.where(same, hi, mid)
     z = 0.5 * (lo + hi)
@@ -329,7 +329,7 @@ def eigen_vectorised(kind: str, bi: np.ndarray, n_terms: int = FAST_TERMS) -> tu
     big = b[:, 0] > series.BI_RANGE[1]
     if np.any(big):
         z[big] = hi0  # Bi → ∞: the bracket's upper end is the limit
-    return z, series._compute_coefficients(kind, z)
+    return z, series.coefficients_for_eigenvalues(kind, z)
 
 
 def _eigen_function_and_slope(kind: str, z: np.ndarray, bi: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
