@@ -261,6 +261,7 @@ def logger(text: str, u: Units) -> None:
         x=u.time_value(res["time_s"].to_numpy()),
         y=u.t(res["fitted_C"].to_numpy()),
         mode="lines",
+        line=dict(color="#1b7837", dash="dash", width=2.5),
         name=f"fitted, h = {cal.h_W_m2K:.1f} W/m²K",
     )
     st.plotly_chart(fig, width="stretch", key="log_chart")
