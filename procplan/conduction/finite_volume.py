@@ -72,6 +72,8 @@ STOP_DIRECTIONS: dict[str, str] = {
 }
 
 _MAX_NEWTON = 40
+#: Largest relative change of the surface heat flow per adaptive step (trapezoidal heat integration).
+FLUX_CHANGE_PER_STEP = 0.1
 _DIRECT_MAX_CELLS = 2000
 _gtsv = scipy.linalg.lapack.dgtsv
 _SECANT_AFTER = 8
@@ -658,6 +660,9 @@ def solve_conduction(
             stopped_at = t + step
         q_new = float(model.surface_flux(t + step, T1[grid.surface_cells])[0].sum()) * grid.piece_factor
         heat += 0.5 * (q_now + q_new) * step
+        # the heat through the surface is integrated by the trapezoidal rule: keep the relative change of the
+        # surface flux per step moderate, which matters on a phase-change plateau where temperatures barely move
+        q_change = abs(q_new - q_now) / max(abs(q_new), abs(q_now), 1e-300)
         q_now = q_new
         H_prev, H, dt_prev, T_cur = H, H1, step, T1
         t = t + step if stopped_at is None else stopped_at
@@ -670,7 +675,10 @@ def solve_conduction(
             H_prev = dt_prev = None
             dt = start_dt(t, H)
         elif dt_s is None:
-            dt = step * min(2.0, max(0.5, 0.9 * target / max(change, 1e-12)))
+            grow = min(
+                2.0, 0.9 * target / max(change, 1e-12), 0.9 * FLUX_CHANGE_PER_STEP / max(q_change, 1e-12)
+            )
+            dt = step * max(0.5, grow)
         else:
             dt = min(dt_s, 2.0 * step)  # back to the user's step after sub-steps
 

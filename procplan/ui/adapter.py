@@ -284,25 +284,10 @@ def history_csv(text: str, generation: int = 0) -> bytes:
     return h.to_csv(index=False).encode("utf-8")
 
 
-def _optional(module: str):
-    try:
-        return importlib.import_module(module)
-    except ImportError:
-        return None
-
-
-def sheet_available() -> bool:
-    mod = _optional("procplan.sheet")
-    return mod is not None and hasattr(mod, "batch_sheet_pdf")
-
-
 def site_settings(generation: int = 0) -> Outcome:
-    """The site settings (plant, lines, display units, paper) when this build has procplan.site."""
-    site_mod = _optional("procplan.site")
-    if site_mod is None or not hasattr(site_mod, "load_site"):
-        return Outcome(
-            problems=(Problem("site settings", None, "procplan.site", "not available in this build"),)
-        )
+    """The site settings (plant, lines, display units, paper) of the library folder, or the default site."""
+    import procplan.site as site_mod
+
     site_file = Path(library_root()) / "site.toml"
     try:
         return Outcome(
@@ -323,11 +308,8 @@ def sheet_pdf(
     prepared_by: str = "",
 ) -> Outcome:
     """The batch-plan sheet (PDF bytes) of a plan given as TOML text, with the site settings."""
-    mod = _optional("procplan.sheet")
-    if mod is None or not hasattr(mod, "batch_sheet_pdf"):
-        return Outcome(
-            problems=(Problem("batch-plan sheet", None, "procplan.sheet", "not available in this build"),)
-        )
+    import procplan.sheet as mod
+
     out = run(text, generation)
     if not out.ok:
         return out
@@ -347,8 +329,8 @@ def sheet_pdf(
 
 
 def studies_module(name: str):
-    """A module of procplan.studies when this build has it (compare, inverse, variability, calibrate, sweep)."""
-    return _optional(f"procplan.studies.{name}")
+    """A module of procplan.studies (compare, inverse, variability, logger, calibrate, sweep)."""
+    return importlib.import_module(f"procplan.studies.{name}")
 
 
 @st.cache_resource(max_entries=16, show_spinner="Running the scenarios…")

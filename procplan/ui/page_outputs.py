@@ -20,9 +20,7 @@ def _downloads(text: str, ok: bool) -> None:
     c1, c2, c3 = st.columns(3)
     with c1:
         st.markdown("**Batch-plan sheet (PDF)**")
-        if not adapter.sheet_available():
-            st.info("Batch-plan sheet: not available in this build.")
-        elif not ok:
+        if not ok:
             st.caption("Correct the plan's inputs first.")
         else:
             site = adapter.site_settings(state.generation())

@@ -1,5 +1,5 @@
 """Compare & studies page: scenarios overlaid with a comparison table, required-setting finder, variability,
-logger import and calibration. Study sections use procplan.studies when this build has it."""
+logger import and calibration."""
 
 from __future__ import annotations
 
@@ -9,8 +9,6 @@ import streamlit as st
 from procplan.report import format_f
 from procplan.ui import adapter, charts, state, widgets
 from procplan.ui.fmt import Units
-
-NOT_AVAILABLE = "not available in this build"
 
 
 def scenario_row(label: str, result, u: Units) -> dict:

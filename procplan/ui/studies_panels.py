@@ -1,4 +1,4 @@
-"""Study panels of the Compare & studies page; each one uses procplan.studies when this build has it."""
+"""Study panels of the Compare & studies page: required setting, variability, logger data and calibration."""
 
 from __future__ import annotations
 
@@ -10,13 +10,6 @@ import streamlit as st
 from procplan.ui import adapter, charts, state, widgets
 from procplan.ui.fmt import Units
 
-NOT_AVAILABLE = "not available in this build"
-
-
-def _missing(title: str, module: str) -> None:
-    st.subheader(title)
-    st.info(f"{title}: {NOT_AVAILABLE} (needs procplan.studies.{module}).", icon=":material/extension:")
-
 
 def _step_names(plan) -> list[str]:
     return [f"{i + 1}: {s.name}" for i, s in enumerate(plan.steps)]
@@ -24,9 +17,6 @@ def _step_names(plan) -> list[str]:
 
 def required_setting(text: str, u: Units) -> None:
     mod = adapter.studies_module("inverse")
-    if mod is None or not hasattr(mod, "required_setting"):
-        _missing("Required setting", "inverse")
-        return
     st.subheader("Required setting")
     st.caption("Which value of one setting just meets a goal? The answer is confirmed by a forward run.")
     parsed = adapter.parse_plan(text, state.generation())
@@ -95,9 +85,6 @@ DEFAULT_SPECS = {
 
 def variability(text: str, u: Units) -> None:
     mod = adapter.studies_module("variability")
-    if mod is None or not hasattr(mod, "monte_carlo"):
-        _missing("Variability", "variability")
-        return
     st.subheader("Variability")
     st.caption(
         "Distributions as kind:parameters[@low,high] in library units (°C, W/m²K, factors): "
@@ -181,10 +168,7 @@ def variability(text: str, u: Units) -> None:
 
 
 def logger(text: str, u: Units) -> None:
-    lmod, cmod = adapter.studies_module("logger"), adapter.studies_module("calibrate")
-    if lmod is None or cmod is None:
-        _missing("Logger data and calibration", "logger and procplan.studies.calibrate")
-        return
+    lmod = adapter.studies_module("logger")
     st.subheader("Logger data and calibration")
     st.caption("Upload a probe logger file (CSV), check the column mapping, and fit the step's h to it.")
     up = st.file_uploader("Logger file (.csv, .txt)", type=["csv", "txt"], key="log_upload")
