@@ -212,3 +212,28 @@ def test_cli_bad_plan_exits_2_and_names_the_field(tmp_path, capsys):
     assert cli.main(["run", str(bad)]) == 2
     assert "steps[0].h_W_m2K" in capsys.readouterr().err
     assert cli.main(["run", str(tmp_path / "missing.toml")]) == 2
+
+
+def test_every_demo_product_runs_in_every_demo_machine_by_name_and_settings_alone():
+    # 13 products × 12 machines at their default settings, 10 min on a coarse grid: each run gives finite,
+    # bounded temperatures, uses the machine's effective h and conserves energy.
+    for pid in sorted(LIB.products):
+        for eq_id, eq in sorted(LIB.equipment.items()):
+            start = 60.0 if eq.evaporating_C is not None else 5.0
+            plan = plan_from_dict(
+                {
+                    "title": f"{pid} in {eq_id}",
+                    "product": {"library": pid},
+                    "start": {"temperature_C": start},
+                    "steps": [{"name": "s", "equipment": eq_id, "duration_min": 10}],
+                },
+                library=LIB,
+            )
+            res = run_plan(plan, library=LIB, n_nodes=9)
+            sr = res.steps[0]
+            medium = sr.surface.medium_C[0]
+            assert sr.surface.breakdown["source"].startswith("machine"), (pid, eq_id)
+            h = res.history
+            lo, hi = min(start, medium) - 0.05, max(start, medium) + 0.05
+            assert h["core_C"].between(lo, hi).all() and h["mean_C"].between(lo, hi).all(), (pid, eq_id)
+            assert res.outcomes.energy_balance < 0.01, (pid, eq_id, res.outcomes.energy_balance)
