@@ -483,3 +483,20 @@ def calibrate(
 ) -> Outcome:
     """Fit the plan's step h to a logger curve; mapping = (time column, time unit, channels, temperature unit)."""
     return _calibrate(plan_text, log_text, tuple(mapping), channel, clean, library_root(), generation)
+
+
+@st.cache_data(max_entries=8, show_spinner="Running the catalogue sweep…")
+def _sweep(products: tuple[str, ...], equipment: tuple[str, ...], root: str, generation: int) -> Outcome:
+    mod = studies_module("sweep")
+    try:
+        res = mod.sweep_catalogue(
+            _library(root, generation), products=list(products), equipment=list(equipment)
+        )
+    except InvalidInputError as exc:
+        return Outcome(problems=problems_of(exc))
+    return Outcome((res.table, tuple(res.skipped)))
+
+
+def sweep(products: tuple[str, ...], equipment: tuple[str, ...], generation: int = 0) -> Outcome:
+    """Every chosen product in every chosen suitable machine (procplan.studies.sweep): (table, skipped)."""
+    return _sweep(tuple(products), tuple(equipment), library_root(), generation)

@@ -111,3 +111,5 @@ def render() -> None:
     studies_panels.variability(text, u)
     st.divider()
     studies_panels.logger(text, u)
+    st.divider()
+    studies_panels.catalogue_sweep()

@@ -251,3 +251,38 @@ def logger(text: str, u: Units) -> None:
     st.plotly_chart(fig, width="stretch", key="log_chart")
     for note in cal.notes:
         st.caption(note)
+
+
+def catalogue_sweep() -> None:
+    st.subheader("Catalogue sweep")
+    st.caption(
+        "Every chosen product in every chosen suitable machine, each with its machine kind's task "
+        "(chillers 74 → 5 °C under the two-stage cooling rule, freezers to −18 °C, ovens and baths to a cooked core)."
+    )
+    lib = adapter.library(state.generation())
+    c1, c2 = st.columns(2)
+    with c1:
+        products = st.multiselect(
+            "Products", sorted(lib.products), default=sorted(lib.products)[:3], key="sw_products"
+        )
+    with c2:
+        machines = st.multiselect(
+            "Machines", sorted(lib.equipment), default=sorted(lib.equipment)[:3], key="sw_machines"
+        )
+    if not st.button("Run the sweep", key="sw_go", disabled=not (products and machines)):
+        return
+    out = adapter.sweep(tuple(products), tuple(machines), generation=state.generation())
+    if not out.ok:
+        widgets.problems(out.problems, "The sweep could not run:")
+        return
+    table, skipped = out.value
+    st.dataframe(table, hide_index=True, use_container_width=True)
+    if skipped:
+        st.caption("Machines without a sweep task, skipped: " + ", ".join(skipped))
+    st.download_button(
+        "Download the sweep (CSV)",
+        table.to_csv(index=False).encode("utf-8"),
+        "sweep.csv",
+        "text/csv",
+        key="sw_csv",
+    )

@@ -295,7 +295,6 @@ def test_scenarios_are_overlaid_and_compared(app):
 
 
 def test_required_setting_is_found_and_confirmed(app):
-    pytest.importorskip("procplan.studies.inverse")
     _open_vial(app)
     app.selectbox(key="rs_param").set_value("medium_C")
     app.selectbox(key="rs_goal").set_value("time")
@@ -309,7 +308,6 @@ def test_required_setting_is_found_and_confirmed(app):
 
 
 def test_variability_shows_percentiles_and_histogram(app):
-    pytest.importorskip("procplan.studies.variability")
     _open_vial(app)
     app.multiselect(key="mc_vars").set_value(["h_factor"])
     app.text_input(key="mc_spec_h_factor").set_value("uniform:0.8,1.2")
@@ -323,7 +321,6 @@ def test_variability_shows_percentiles_and_histogram(app):
 
 
 def test_bad_distribution_is_named(app):
-    pytest.importorskip("procplan.studies.variability")
     _open_vial(app)
     app.multiselect(key="mc_vars").set_value(["h_factor"])
     app.text_input(key="mc_spec_h_factor").set_value("uniform:1.2,0.8")
@@ -363,7 +360,6 @@ def test_history_csv_matches_the_library(app, library_copy):
 
 
 def test_logger_upload_preview_and_fitted_h(app, library_copy):
-    pytest.importorskip("procplan.studies.calibrate")
     ref = library_result(library_copy, "vial-cool-down")
     h = ref.history
     t_min = np.arange(0.0, 120.0, 2.0)
@@ -384,3 +380,24 @@ def test_logger_upload_preview_and_fitted_h(app, library_copy):
     # Independent check: the curve was made by the library with the step's own h, so the fit must return it
     # (the 3-decimal rounding of the readings and the interpolation allow about 2 %)
     assert_allclose(fitted, ref.steps[0].surface.h_W_m2K[0], rtol=0.02)
+
+
+def test_catalogue_sweep_table_equals_the_library_sweep(app, library_copy):
+    from procplan.library import load_library
+    from procplan.studies.sweep import sweep_catalogue
+
+    go(app, "Compare & studies")
+    app.multiselect(key="sw_products").set_value(["soup-pouch"])
+    app.multiselect(key="sw_machines").set_value(["chiller-b1"])
+    app.button(key="sw_go").click().run()
+    assert not app.exception, app.exception
+    shown = app.dataframe[-1].value
+    direct = sweep_catalogue(
+        load_library(library_copy), products=["soup-pouch"], equipment=["chiller-b1"]
+    ).table
+    assert len(shown) == len(direct) == 1
+    for col in direct.columns:
+        if direct[col].dtype.kind == "f":
+            assert_allclose(
+                shown[col].to_numpy(dtype=float), direct[col].to_numpy(dtype=float), rtol=1e-9, equal_nan=True
+            )
