@@ -313,6 +313,12 @@ def cmd_calibrate(args) -> int:
             settings=step.settings_dict,
             data_source=str(args.logfile),
         )
+        if args.save:
+            from procplan.library import save_measurement
+
+            out["record_saved_to"] = str(save_measurement(lib.root, out["record"]))
+    elif args.save:
+        raise InvalidInputError("--save", True, "together with --record PRODUCT")
     if args.json:
         _dump({**out, "caution": CAUTION})
         return 0
@@ -342,6 +348,8 @@ def cmd_calibrate(args) -> int:
     for n in cal.notes:
         print(f"  note: {n}")
     print("\n" + CAUTION)
+    if "record_saved_to" in out:
+        print(f"measured h saved to {out['record_saved_to']}")
     return 0
 
 
@@ -507,6 +515,11 @@ def register(subparsers) -> None:
     )
     k.add_argument(
         "--record", metavar="PRODUCT", help="add a measured-value record of h for PRODUCT to the JSON"
+    )
+    k.add_argument(
+        "--save",
+        action="store_true",
+        help="save the --record into the library's measurements/ (steps in that machine at those settings then use it)",
     )
     k.add_argument("--json", action="store_true", help="print the fit as JSON")
     k.add_argument(

@@ -19,7 +19,7 @@ from procplan.tomlio import check_name, dump_toml, read_toml, write_atomic
 #: The demo library shipped with procplan (an invented plant).
 DEMO_LIBRARY = Path(__file__).resolve().parent.parent / "product_library"
 
-KINDS = ("products", "equipment", "rules", "plans")
+KINDS = ("products", "equipment", "rules", "plans", "measurements")
 
 
 @dataclass(frozen=True)
@@ -39,7 +39,24 @@ class Library:
     equipment: dict[str, Any] = field(default_factory=dict)
     rules: dict[str, Any] = field(default_factory=dict)
     plans: dict[str, Path] = field(default_factory=dict)
+    measurements: list[dict[str, Any]] = field(default_factory=list)
     problems: list[FileProblem] = field(default_factory=list)
+
+    def measured_h(self, product: str, equipment: str, settings: dict[str, float]) -> dict[str, Any] | None:
+        """The newest measured h of this product in this machine at these settings, or None.
+
+        Settings match when every setting stored with the measurement agrees within 1 % (or 0.1 in the
+        setting's unit, whichever is larger); a measurement at other settings does not apply.
+        """
+        best = None
+        for m in self.measurements:
+            if m["product"] != product or m.get("equipment") != equipment:
+                continue
+            ms = m.get("settings", {})
+            if all(k in settings and abs(settings[k] - v) <= max(0.01 * abs(v), 0.1) for k, v in ms.items()):
+                if best is None or m["date"] > best["date"]:
+                    best = m
+        return best
 
     def plan(self, name: str):
         """Load one of the library's plans by name (resolving its library references)."""
@@ -88,6 +105,11 @@ def load_library(path: str | os.PathLike | None = None) -> Library:
                 target[f.stem] = parsers[kind](data, str(f))
             except InvalidInputError as exc:
                 lib.problems.append(FileProblem(str(f), str(exc)))
+    for f in sorted((root / "measurements").glob("*.toml")):
+        try:
+            lib.measurements.append(measurement_from_dict(read_toml(f), str(f), lib))
+        except InvalidInputError as exc:
+            lib.problems.append(FileProblem(str(f), str(exc)))
     from procplan.plan import plan_from_dict
 
     for f in sorted((root / "plans").glob("*.toml")):
@@ -134,3 +156,47 @@ def save_rule(root: str | os.PathLike, rule, *, overwrite: bool = False) -> Path
     data = rule_to_dict(rule)
     rule_from_dict(data, "rule")
     return _save(root, "rules", rule.name, data, overwrite)
+
+
+def measurement_from_dict(
+    data: dict[str, Any], source: str = "measurement", library: Library | None = None
+) -> dict[str, Any]:
+    """Validate a measured-h record (as made by :func:`procplan.studies.calibrate.fitted_h_record`)."""
+    import datetime as _dt
+
+    from procplan import validate
+    from procplan.errors import Collector
+
+    c = Collector(source)
+    if data.get("quantity") != "h_W_m2K":
+        c.add(InvalidInputError("quantity", data.get("quantity"), "'h_W_m2K'"))
+    with c.catch():
+        validate.number(
+            "value", data.get("value"), minimum=0.0, min_inclusive=False, maximum=1e5, unit="W/m²K"
+        )
+    product = data.get("product")
+    if library is not None and product not in library.products:
+        c.add(InvalidInputError("product", product, "a product of the library"))
+    equipment = data.get("equipment")
+    if library is not None and equipment is not None and equipment not in library.equipment:
+        c.add(InvalidInputError("equipment", equipment, "a machine of the library"))
+    try:
+        _dt.date.fromisoformat(str(data.get("date")))
+    except ValueError:
+        c.add(InvalidInputError("date", data.get("date"), "an ISO date YYYY-MM-DD"))
+    settings = data.get("settings", {})
+    if not isinstance(settings, dict) or not all(
+        isinstance(v, (int, float)) and not isinstance(v, bool) for v in settings.values()
+    ):
+        c.add(InvalidInputError("settings", settings, "a table of numeric machine settings"))
+    c.raise_if_any()
+    return dict(data)
+
+
+def save_measurement(root: str | os.PathLike, record: dict[str, Any], *, overwrite: bool = False) -> Path:
+    """Save a measured-h record as ``measurements/PRODUCT--MACHINE--DATE.toml`` atomically (never replacing
+    another record unless ``overwrite``). A plan step in that machine at those settings then uses it."""
+    lib = load_library(root)
+    rec = measurement_from_dict(record, "measurement", lib)
+    name = f"{rec['product']}--{rec.get('equipment') or 'any'}--{rec['date']}"
+    return _save(root, "measurements", name, {k: v for k, v in rec.items() if v is not None}, overwrite)

@@ -67,6 +67,7 @@ def _equipment(step, index: int, product, surface_C: float, library) -> StepSurf
         else:
             rows.append((t, merged))
     times, temps, hs, warnings = [], [], [], []
+    measured_notes: list[str] = []
     first = None
     for t, s in rows:
         medium = medium_temperature_C(eq, s)
@@ -76,7 +77,15 @@ def _equipment(step, index: int, product, surface_C: float, library) -> StepSurf
         first = first or res
         times.append(t)
         temps.append(medium)
-        hs.append(res.h_eff_W_m2K)
+        measured = library.measured_h(product.name, eq.id, s)
+        if measured is None:
+            hs.append(res.h_eff_W_m2K)
+        else:
+            # a measured effective h, fitted to logger data of this product in this machine, wins
+            hs.append(float(measured["value"]))
+            note = f"measured h {measured['value']:.1f} W/m²K ({measured['date']}, {measured.get('data_source', 'logger data')})"
+            if note not in measured_notes:
+                measured_notes.append(note)
         warnings.extend(w for w in res.warnings if w not in warnings)
     breakdown = {
         "source": f"machine {eq.name}",
@@ -84,6 +93,12 @@ def _equipment(step, index: int, product, surface_C: float, library) -> StepSurf
         **_breakdown(first),
         "equipment_record": eq,
     }
+    if measured_notes:
+        breakdown["source"] = (
+            "; ".join(measured_notes)
+            + f" in machine {eq.name} (the correlation gives {first.h_eff_W_m2K:.1f} W/m²K)"
+        )
+        breakdown["h_eff_W_m2K"] = hs[0]
     evaporation = None
     if product.unwrapped and eq.medium == "air" and "relative_humidity" in eq.settings:
         from procplan.evaporation import SurfaceEvaporation
