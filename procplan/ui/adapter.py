@@ -500,3 +500,26 @@ def _sweep(products: tuple[str, ...], equipment: tuple[str, ...], root: str, gen
 def sweep(products: tuple[str, ...], equipment: tuple[str, ...], generation: int = 0) -> Outcome:
     """Every chosen product in every chosen suitable machine (procplan.studies.sweep): (table, skipped)."""
     return _sweep(tuple(products), tuple(equipment), library_root(), generation)
+
+
+def save_measured_h(plan_text: str, calibration, data_source: str, generation: int = 0) -> Outcome:
+    """Save a fitted h of the plan's first step as a measured value in the library (procplan.library)."""
+    from procplan.library import save_measurement
+
+    parsed = _parse(plan_text, library_root(), generation)
+    if not parsed.ok:
+        return parsed
+    plan = parsed.value
+    step = plan.steps[0]
+    cmod = studies_module("calibrate")
+    try:
+        rec = cmod.fitted_h_record(
+            calibration,
+            product=plan.product.name,
+            equipment=step.equipment,
+            settings=step.settings_dict,
+            data_source=data_source or "logger file uploaded in the app",
+        )
+        return Outcome(save_measurement(library_root(), rec))
+    except InvalidInputError as exc:
+        return Outcome(problems=problems_of(exc))

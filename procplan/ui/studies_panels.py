@@ -251,6 +251,16 @@ def logger(text: str, u: Units) -> None:
     st.plotly_chart(fig, width="stretch", key="log_chart")
     for note in cal.notes:
         st.caption(note)
+    source = st.text_input("Data source (trial, logger, date)", key="log_source", max_chars=120)
+    if st.button("Save this h to the library as a measured value", key="log_save"):
+        saved = adapter.save_measured_h(text, cal, source, generation=state.generation())
+        if saved.ok:
+            state.reload_library()
+            st.success(
+                f"Saved to {saved.value.name}: steps of this product in this machine at these settings now use it."
+            )
+        else:
+            widgets.problems(saved.problems, "Not saved:")
 
 
 def catalogue_sweep() -> None:

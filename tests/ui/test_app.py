@@ -380,6 +380,14 @@ def test_logger_upload_preview_and_fitted_h(app, library_copy):
     # Independent check: the curve was made by the library with the step's own h, so the fit must return it
     # (the 3-decimal rounding of the readings and the interpolation allow about 2 %)
     assert_allclose(fitted, ref.steps[0].surface.h_W_m2K[0], rtol=0.02)
+    # saving the fit writes a measured value into the (temporary) library folder, and nothing else changes
+    app.text_input(key="log_source").set_value("trial 30 Nov, logger 7").run()
+    app.button(key="log_save").click().run()
+    assert not app.exception, app.exception
+    saved = list((library_copy / "measurements").glob("vaccine-vial-10ml--pharma-cr1--*.toml"))
+    assert len(saved) == 1 and "trial 30 Nov" in saved[0].read_text()
+    assert any("Saved to" in s.value for s in app.success)
+    saved[0].unlink()  # the library copy is shared by the session's tests
 
 
 def test_catalogue_sweep_table_equals_the_library_sweep(app, library_copy):
