@@ -46,7 +46,7 @@ def main() -> None:
     widgets.caution()
     notice = st.session_state.pop(state.NOTICE, None)
     if notice:
-        st.success(notice, icon=":material/check_circle:")
+        st.success(notice)
     try:
         PAGES[page]()
     except Exception as exc:  # noqa: BLE001 - never a traceback in front of the user

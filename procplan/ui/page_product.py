@@ -173,9 +173,7 @@ def _composition(prod: dict) -> None:
                 icon=":material/error:",
             )
         else:
-            st.success(
-                f"Composition sum {total:.3f} (1 ± {SUM_TOLERANCE:g}).", icon=":material/check_circle:"
-            )
+            st.success(f"Composition sum {total:.3f} (1 ± {SUM_TOLERANCE:g}).")
     else:
         fp = dict(prod.get("fixed_properties") or {"k_W_mK": 0.5, "rho_kg_m3": 1050.0, "cp_J_kgK": 3600.0})
         c = st.columns(3)
