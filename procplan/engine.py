@@ -28,6 +28,8 @@ from procplan.properties.table import PropertyTable
 #: Largest relative spread of k and of the apparent cp over a step's temperature range for which the
 #: exact (constant-property) solution is used in automatic mode.
 PROPERTY_SPREAD_LIMIT = 0.10
+#: Relative change of h, re-evaluated at the step's mean surface temperature, above which the step runs again.
+H_SURFACE_TOLERANCE = 0.03
 #: Points in an exact-solution history.
 EXACT_POINTS = 601
 
@@ -251,6 +253,12 @@ def _fv_step(geometry, props, initial, surface: StepSurface, step: Step, n_nodes
     return frame, res.stopped_at_s, res.energy_balance_error, details, res
 
 
+def _run_step(chosen, geometry, props, start_C, field_state, step, n_nodes, dt_s, surface):
+    if chosen == "exact":
+        return _exact_step(geometry, props, start_C, surface, step)
+    return _fv_step(geometry, props, field_state, surface, step, n_nodes, dt_s)
+
+
 def run_plan(
     plan: Plan,
     *,
@@ -314,12 +322,24 @@ def run_plan(
             reason = (
                 "finite-volume enthalpy solver: the temperature field is carried into the following steps"
             )
-        if chosen == "exact":
-            frame, stop_time, ebal, details, fv = _exact_step(geometry, props, start_C, surface, step)
-        else:
-            frame, stop_time, ebal, details, fv = _fv_step(
-                geometry, props, field_state, surface, step, n_nodes, dt_s
-            )
+
+        args = (chosen, geometry, props, start_C, field_state, step, n_nodes, dt_s)
+        frame, stop_time, ebal, details, fv = _run_step(*args, surface)
+        # h depends on the surface temperature (film properties, free convection, radiation): evaluate it again
+        # at the step's time-averaged surface temperature and run once more when it moved by more than
+        # H_SURFACE_TOLERANCE
+        ts = frame["time_s"].to_numpy()
+        if ts[-1] > ts[0]:
+            ts_avg = float(np.trapezoid(frame["surface_C"].to_numpy(), ts) / (ts[-1] - ts[0]))
+            again = resolve_step_surface(step, i, product, mean_C, library, surface_C=ts_avg)
+            change = float(np.max(np.abs(np.array(again.h_W_m2K) / np.array(surface.h_W_m2K) - 1.0)))
+            details["h_surface_C"] = ts_avg
+            details["h_change_on_second_pass"] = change
+            if change > H_SURFACE_TOLERANCE:
+                surface = again
+                frame, stop_time, ebal, details2, fv = _run_step(*args, surface)
+                details2.update(h_surface_C=ts_avg, h_change_on_second_pass=change)
+                details = details2
         details["regime"] = regime.regime
         frame["time_s"] = frame["time_s"] + t_offset
         if stop_time is not None and step.stop_when_core_C is not None and len(frame):

@@ -14,7 +14,7 @@ from procplan.engine import StepSurface
 from procplan.errors import InvalidInputError
 
 
-def _given_h(step, product, surface_C: float) -> StepSurface:
+def _given_h(step, product, surface_C: float | None, start_mean_C: float) -> StepSurface:
     from procplan.surface import surface_coefficient
 
     if step.medium_profile:
@@ -29,7 +29,7 @@ def _given_h(step, product, surface_C: float) -> StepSurface:
         None,
         product.geometry,
         medium_C=float(np.mean(temps)),
-        surface_C=surface_C,
+        surface_C=0.5 * (start_mean_C + float(np.mean(temps))) if surface_C is None else surface_C,
         h_W_m2K=step.h_W_m2K,
         packaging=product.packaging,
         emissivity=step.emissivity,
@@ -49,7 +49,9 @@ def _breakdown(res) -> dict:
     }
 
 
-def _equipment(step, index: int, product, surface_C: float, library) -> StepSurface:
+def _equipment(
+    step, index: int, product, surface_C: float | None, start_mean_C: float, library
+) -> StepSurface:
     from procplan.equipment import equipment_h, medium_temperature_C, resolve_settings
 
     if library is None or step.equipment not in library.equipment:
@@ -72,7 +74,11 @@ def _equipment(step, index: int, product, surface_C: float, library) -> StepSurf
     for t, s in rows:
         medium = medium_temperature_C(eq, s)
         res = equipment_h(
-            eq, s, product.geometry, surface_C=0.5 * (surface_C + medium), packaging=product.packaging
+            eq,
+            s,
+            product.geometry,
+            surface_C=0.5 * (start_mean_C + medium) if surface_C is None else surface_C,
+            packaging=product.packaging,
         )
         first = first or res
         times.append(t)
@@ -119,12 +125,15 @@ def _equipment(step, index: int, product, surface_C: float, library) -> StepSurf
     )
 
 
-def resolve_step_surface(step, index: int, product, surface_C: float, library) -> StepSurface:
+def resolve_step_surface(
+    step, index: int, product, start_mean_C: float, library, surface_C: float | None = None
+) -> StepSurface:
     """Medium temperature and effective h for a step, with the breakdown and any warnings.
 
-    ``surface_C`` is the product's mean temperature at the start of the step; h is evaluated at the
-    film temperature between it and the medium.
+    h is evaluated at the representative surface temperature ``surface_C`` (the engine passes the step's
+    time-averaged surface temperature on its second pass); without it, at the temperature halfway between
+    the product's mean temperature at the start of the step (``start_mean_C``) and the medium.
     """
     if step.equipment is not None:
-        return _equipment(step, index, product, surface_C, library)
-    return _given_h(step, product, surface_C)
+        return _equipment(step, index, product, surface_C, start_mean_C, library)
+    return _given_h(step, product, surface_C, start_mean_C)

@@ -237,3 +237,28 @@ def test_every_demo_product_runs_in_every_demo_machine_by_name_and_settings_alon
             lo, hi = min(start, medium) - 0.05, max(start, medium) + 0.05
             assert h["core_C"].between(lo, hi).all() and h["mean_C"].between(lo, hi).all(), (pid, eq_id)
             assert res.outcomes.energy_balance < 0.01, (pid, eq_id, res.outcomes.energy_balance)
+
+
+def test_h_is_consistent_with_the_mean_surface_temperature_of_the_step():
+    # Mixed free/forced convection at 0.3 m/s (Churchill–Chu, Nu³ = Nu_F³ + Nu_N³): h depends on the surface
+    # temperature. The first estimate (halfway between start and medium, 41 °C) is 7.5 % off the step's
+    # time-averaged surface (about 23 °C), so the engine runs the step again; h evaluated at the final
+    # step's own mean surface temperature must then agree with the h used within the 3 % rerun threshold.
+    from procplan.engine import H_SURFACE_TOLERANCE
+    from procplan.surfaces import resolve_step_surface
+
+    plan = plan_from_dict(
+        {
+            "title": "sauce tubs cooling in the cold room",
+            "product": {"library": "tomato-sauce-tub"},
+            "start": {"temperature_C": 80.0},
+            "steps": [{"name": "cold room", "equipment": "coldroom-c1", "duration_min": 240}],
+        },
+        library=LIB,
+    )
+    res = run_plan(plan, library=LIB)
+    assert res.steps[0].details["h_change_on_second_pass"] > H_SURFACE_TOLERANCE  # the second pass ran
+    h = res.history
+    ts_avg = float(np.trapezoid(h["surface_C"], h["time_s"]) / (h["time_s"].iloc[-1] - h["time_s"].iloc[0]))
+    check = resolve_step_surface(plan.steps[0], 0, plan.product, 80.0, LIB, surface_C=ts_avg)
+    assert abs(check.h_W_m2K[0] / res.steps[0].surface.h_W_m2K[0] - 1.0) < H_SURFACE_TOLERANCE
