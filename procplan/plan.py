@@ -18,7 +18,7 @@ from procplan import validate
 from procplan.errors import Collector, InvalidInputError
 from procplan.geometry import SHAPES, Geometry, geometry_from_mm
 from procplan.properties.table import MODEL_RANGE_C, PropertyTable
-from procplan.surface_layers import PackagingLayer
+from procplan.surface_layers import PackagingLayer, packaging_from_dicts, packaging_to_dicts
 from procplan.tomlio import dump_toml, read_toml, write_atomic
 
 T_LO, T_HI = MODEL_RANGE_C
@@ -360,7 +360,8 @@ def product_from_dict(
         validate.choice(f"{prefix}conductivity_model", cond_model, CONDUCTIVITY_MODELS)
     packaging = base.packaging if base else ()
     if "packaging" in data:
-        packaging = _packaging(c, data["packaging"], f"{prefix}packaging")
+        with c.catch():
+            packaging = packaging_from_dicts(data["packaging"], source, field_prefix=prefix)
     unwrapped = data.get("unwrapped", base.unwrapped if base else False)
     if not isinstance(unwrapped, bool):
         c.add(InvalidInputError(f"{prefix}unwrapped", unwrapped, "true or false"))
@@ -383,68 +384,6 @@ def product_from_dict(
         description=description,
         library=library,
     )
-
-
-def _packaging(c: Collector, raw: Any, prefix: str) -> tuple[PackagingLayer, ...]:
-    if not isinstance(raw, list):
-        c.add(
-            InvalidInputError(prefix, raw, "a list of layers [[packaging]] with name, thickness_mm, k_W_mK")
-        )
-        return ()
-    layers = []
-    for i, layer in enumerate(raw):
-        p = f"{prefix}[{i}]."
-        if not isinstance(layer, Mapping):
-            c.add(InvalidInputError(p.rstrip("."), layer, "a table with name, thickness_mm, k_W_mK"))
-            continue
-        _check_keys(c, layer, ("name", "thickness_mm", "k_W_mK", "air_gap"), p)
-        air_gap = layer.get("air_gap", False)
-        if not isinstance(air_gap, bool):
-            c.add(InvalidInputError(p + "air_gap", air_gap, "true or false"))
-            continue
-        if "thickness_mm" not in layer:
-            c.add(InvalidInputError(p + "thickness_mm", None, "(0, 100] mm", "required"))
-        if air_gap == ("k_W_mK" in layer):
-            c.add(
-                InvalidInputError(
-                    p + "k_W_mK",
-                    layer.get("k_W_mK"),
-                    "> 0 W/mK for a solid layer; none for an air gap (air_gap = true)",
-                )
-            )
-            continue
-        t = _get(
-            c,
-            layer,
-            "thickness_mm",
-            p,
-            validate.number,
-            minimum=0.0,
-            min_inclusive=False,
-            maximum=100.0,
-            unit="mm",
-        )
-        k = (
-            None
-            if air_gap
-            else _get(
-                c,
-                layer,
-                "k_W_mK",
-                p,
-                validate.number,
-                minimum=0.0,
-                min_inclusive=False,
-                maximum=500.0,
-                unit="W/mK",
-            )
-        )
-        if t is None or (k is None and not air_gap):
-            continue
-        layers.append(
-            PackagingLayer(str(layer.get("name", "air gap" if air_gap else f"layer {i + 1}")), t / 1000.0, k)
-        )
-    return tuple(layers)
 
 
 STEP_KEYS = (
@@ -959,14 +898,7 @@ def product_to_dict(p: Product) -> dict[str, Any]:
         fp = p.fixed_properties
         d["fixed_properties"] = {k: _num(v) for k, v in vars(fp).items() if v is not None}
     if p.packaging:
-        d["packaging"] = [
-            {
-                "name": layer.name,
-                "thickness_mm": _mm(layer.thickness_m),
-                **({"air_gap": True} if layer.k_W_mK is None else {"k_W_mK": _num(layer.k_W_mK)}),
-            }
-            for layer in p.packaging
-        ]
+        d["packaging"] = packaging_to_dicts(p.packaging)
     return d
 
 

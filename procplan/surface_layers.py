@@ -10,6 +10,7 @@ coefficient), §3.1.3 and eq. 3.19 (thermal resistances in series), Table A.3 (c
 
 from __future__ import annotations
 
+import math
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from typing import Any
@@ -131,7 +132,7 @@ def h_effective(h_conv_W_m2K: Any, h_rad_W_m2K: Any, packaging_resistance_m2K_W:
 
 
 def packaging_from_dicts(
-    items: Iterable[Mapping[str, Any]], source: str = "packaging"
+    items: Iterable[Mapping[str, Any]], source: str = "packaging", field_prefix: str = ""
 ) -> tuple[PackagingLayer, ...]:
     """Parse packaging layers as written in a plan file (user units), reporting every problem.
 
@@ -142,9 +143,15 @@ def packaging_from_dicts(
     0.001
     """
     collector = Collector(source)
+    if isinstance(items, (str, bytes, Mapping)) or not isinstance(items, Iterable):
+        raise InvalidInputError(
+            f"{field_prefix}packaging",
+            items,
+            "a list of layers [[packaging]] with name, thickness_mm, k_W_mK",
+        )
     layers = []
     for i, item in enumerate(items):
-        field = f"packaging[{i}]"
+        field = f"{field_prefix}packaging[{i}]"
         if not isinstance(item, Mapping):
             collector.add(
                 InvalidInputError(
@@ -208,7 +215,13 @@ def packaging_to_dicts(layers: Iterable[PackagingLayer]) -> list[dict[str, Any]]
     """The inverse of :func:`packaging_from_dicts`."""
     out = []
     for layer in layers:
-        d: dict[str, Any] = {"name": layer.name, "thickness_mm": layer.thickness_m * 1000.0}
+        # the thickness that reads back to exactly the stored metres (a file round trip loses nothing)
+        mm = layer.thickness_m * 1000.0
+        for _ in range(8):
+            if mm / 1000.0 == layer.thickness_m:
+                break
+            mm = math.nextafter(mm, math.inf if mm / 1000.0 < layer.thickness_m else -math.inf)
+        d: dict[str, Any] = {"name": layer.name, "thickness_mm": int(mm) if mm.is_integer() else mm}
         if layer.is_air_gap:
             d["air_gap"] = True
         else:
