@@ -116,11 +116,14 @@ def choose_solver(
     start_C: float,
     surface: StepSurface,
     step_label: str,
+    field_carried_on: bool = False,
 ) -> tuple[str, str]:
     """The solver for one step and the reason, in words a technologist can read.
 
     Exact (series / product) solutions need a uniform start, a constant medium and h, no phase change
-    and nearly constant properties; otherwise the finite-volume enthalpy solver runs.
+    and nearly constant properties; otherwise the finite-volume enthalpy solver runs. In automatic mode a
+    step whose field is carried into a following step (``field_carried_on``) also runs finite volumes, since
+    an exact solution cannot start from a non-uniform field.
     """
     validate.choice("solver", requested, SOLVERS)
     lo, hi = min(start_C, *surface.medium_C), max(start_C, *surface.medium_C)
@@ -132,6 +135,8 @@ def choose_solver(
     blockers = []
     if not uniform_start:
         blockers.append("the temperature field carried from the previous step is not uniform")
+    elif field_carried_on and requested == "auto":
+        blockers.append("the temperature field is carried into the following steps")
     if not surface.constant:
         blockers.append("the medium temperature, h or surface evaporation changes during the step")
     if freezes:
@@ -307,21 +312,15 @@ def run_plan(
             geometry,
             float(props.conductivity(0.5 * (mean_C + np.mean(surface.medium_C)))),
         )
-        # Exact solutions cannot start from a carried field, so a multi-step plan runs finite volumes throughout
-        # unless the user forces the exact solver; the field then stays carried by finite volumes.
-        multi = len(plan.steps) > 1
         chosen, reason = choose_solver(
             requested,
             props=props,
-            uniform_start=uniform and not (multi and requested == "auto"),
+            uniform_start=uniform,
             start_C=start_C,
             surface=surface,
             step_label=label,
+            field_carried_on=i < len(plan.steps) - 1,
         )
-        if multi and requested == "auto" and i == 0 and chosen == "finite-volume" and "carried" in reason:
-            reason = (
-                "finite-volume enthalpy solver: the temperature field is carried into the following steps"
-            )
 
         args = (chosen, geometry, props, start_C, field_state, step, n_nodes, dt_s)
         frame, stop_time, ebal, details, fv = _run_step(*args, surface)
