@@ -13,6 +13,7 @@ import pandas as pd
 
 from procplan import outcomes as oc
 from procplan.errors import InvalidInputError
+from procplan.plan import LethalityCheck
 
 #: Evaporating temperature below the medium and condensing temperature assumed when a step names no
 #: machine (common practice for air coolers: 6–10 K approach; air-cooled condensers about 35 °C).
@@ -115,22 +116,21 @@ def _direction(start_C: float, medium_C: float) -> str:
     return "down" if medium_C < start_C else "up"
 
 
-def _lethality(name_or_check, hist, point: str) -> LethalityOutcome:
+def _lethality(chk: LethalityCheck, hist) -> LethalityOutcome:
+    """F-value along the check's point; the check's own values override its preset's."""
+    point = chk.point
     t = hist["time_s"].to_numpy()
     temp = hist[f"{point}_C"].to_numpy()
-    chk = name_or_check
-    preset = oc.LETHALITY_PRESETS[chk.preset] if getattr(chk, "preset", None) else None
-    ref = chk.reference_C if getattr(chk, "reference_C", None) is not None else preset.reference_C
-    z = chk.z_C if getattr(chk, "z_C", None) is not None else preset.z_C
+    preset = oc.LETHALITY_PRESETS[chk.preset] if chk.preset else None
+    ref = chk.reference_C if chk.reference_C is not None else preset.reference_C
+    z = chk.z_C if chk.z_C is not None else preset.z_C
     req = (
-        chk.required_F_min
-        if getattr(chk, "required_F_min", None) is not None
-        else (preset.required_F_min if preset else None)
+        chk.required_F_min if chk.required_F_min is not None else (preset.required_F_min if preset else None)
     )
     cum = oc.f_value(t, temp, ref, z)
     total = float(cum[-1])
     reached = oc.time_to_lethality(t, temp, ref, z, req) if req else None
-    d = getattr(chk, "d_value_min", None)
+    d = chk.d_value_min
     if d is None and preset is not None and preset.log_reductions and preset.required_F_min:
         d = preset.required_F_min / preset.log_reductions
     logred = float(oc.log_reduction(total, d)) if d else None
@@ -210,10 +210,10 @@ def assess_plan(result, library) -> Outcomes:
             rule, seg["time_s"].to_numpy() - rule_from, seg[f"{rule.point}_C"].to_numpy()
         )
     # --- lethality ----------------------------------------------------------------------------
-    lethality = _lethality(ch.lethality, hist, ch.lethality.point) if ch.lethality is not None else None
+    lethality = _lethality(ch.lethality, hist) if ch.lethality is not None else None
     quality = None
     if hist["surface_C"].max() > 60.0:
-        quality = _lethality(_Preset("cook-value-c100"), hist, "surface")
+        quality = _lethality(LethalityCheck(preset="cook-value-c100", point="surface"), hist)
     # --- freezing -----------------------------------------------------------------------------
     freezing = None
     tf = props.initial_freezing_C
@@ -323,11 +323,6 @@ def assess_plan(result, library) -> Outcomes:
         energy_balance=balance,
         warnings=tuple(warnings),
     )
-
-
-@dataclass(frozen=True)
-class _Preset:
-    preset: str
 
 
 def _freezing(result, tf: float, storage_C: float) -> FreezingOutcome:
