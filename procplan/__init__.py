@@ -3,17 +3,15 @@
 The public API is re-exported here; nothing under ``procplan`` except ``procplan.ui`` imports streamlit.
 """
 
+from procplan._version import __version__
 from procplan.caution import CAUTION
 from procplan.errors import InvalidInputError, ValidationErrors
+from procplan.files.library import Library, load_library, save_product  # noqa: E402
+from procplan.files.plan import Plan, load_plan, plan_from_dict, plan_to_dict, save_plan  # noqa: E402
 from procplan.geometry import Geometry, geometry_from_mm
-from procplan.properties.table import PropertyTable
-
-__version__ = "0.1.0"
-
-from procplan.engine import PlanResult, run_plan  # noqa: E402
-from procplan.library import Library, load_library, save_product  # noqa: E402
-from procplan.plan import Plan, load_plan, plan_from_dict, plan_to_dict, save_plan  # noqa: E402
 from procplan.properties import Composition, food_properties, property_table  # noqa: E402
+from procplan.properties.table import PropertyTable
+from procplan.run.engine import PlanResult, run_plan  # noqa: E402
 
 __all__ = [
     "CAUTION",

@@ -142,8 +142,8 @@ class Geometry:
             return math.pi * self.diameter_m**2
         if s == "finite-cylinder":
             return math.pi * self.diameter_m * self.length_m + 2 * math.pi * self.diameter_m**2 / 4
-        l, w, h = self.length_m, self.width_m, self.height_m
-        return 2 * (l * w + l * h + w * h)
+        a, b, c = self.length_m, self.width_m, self.height_m
+        return 2 * (a * b + a * c + b * c)
 
     @property
     def lumped_length_m(self) -> float:

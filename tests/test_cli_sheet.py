@@ -9,11 +9,11 @@ import pytest
 from pypdf import PdfReader
 
 from procplan.cli import main
-from procplan.engine import run_plan
-from procplan.library import load_library
-from procplan.plan import load_plan
-from procplan.site import load_site
-from procplan.tomlio import read_toml
+from procplan.files.library import load_library
+from procplan.files.plan import load_plan
+from procplan.files.site import load_site
+from procplan.files.tomlfile import read_toml
+from procplan.run.engine import run_plan
 
 #: Plan with the exact series solver (single step, no phase change): fast enough to run through the CLI.
 FAST_PLAN = "vial-cool-down"
@@ -139,7 +139,7 @@ def test_new_product_writes_a_loadable_copy_and_never_overwrites(tmp_path, capsy
 def test_new_product_goes_into_the_library_folder(tmp_path):
     import shutil
 
-    from procplan.library import DEMO_LIBRARY
+    from procplan.files.library import DEMO_LIBRARY
 
     root = tmp_path / "lib"
     shutil.copytree(DEMO_LIBRARY, root)

@@ -13,10 +13,10 @@ from hypothesis import strategies as st
 
 from procplan import cli
 from procplan.caution import CAUTION
-from procplan.engine import run_plan
 from procplan.errors import InvalidInputError
-from procplan.library import load_library
-from procplan.plan import plan_from_dict, save_plan
+from procplan.files.library import load_library
+from procplan.files.plan import plan_from_dict, save_plan
+from procplan.run.engine import run_plan
 
 LIB = load_library()
 
@@ -244,8 +244,8 @@ def test_h_is_consistent_with_the_mean_surface_temperature_of_the_step():
     # temperature. The first estimate (halfway between start and medium, 41 °C) is 7.5 % off the step's
     # time-averaged surface (about 23 °C), so the engine runs the step again; h evaluated at the final
     # step's own mean surface temperature must then agree with the h used within the 3 % rerun threshold.
-    from procplan.engine import H_SURFACE_TOLERANCE
-    from procplan.surfaces import resolve_step_surface
+    from procplan.run.engine import H_SURFACE_TOLERANCE
+    from procplan.run.step_surface import resolve_step_surface
 
     plan = plan_from_dict(
         {

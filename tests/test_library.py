@@ -8,8 +8,8 @@ import sys
 import pytest
 
 from procplan.errors import InvalidInputError
-from procplan.library import DEMO_LIBRARY, load_library, save_product
-from procplan.plan import product_from_dict
+from procplan.files.library import DEMO_LIBRARY, load_library, save_product
+from procplan.files.plan import product_from_dict
 
 SHAPES = {"slab", "cylinder", "sphere", "finite-cylinder", "brick"}
 
@@ -61,7 +61,7 @@ def test_save_product_is_atomic_refuses_overwrite_and_bad_names(tmp_path):
 
 
 def load_library_product(path):
-    from procplan.tomlio import read_toml
+    from procplan.files.tomlfile import read_toml
 
     return product_from_dict(read_toml(path), str(path), prefix="")
 
@@ -69,5 +69,5 @@ def load_library_product(path):
 def test_import_procplan_does_not_import_streamlit():
     import subprocess
 
-    code = "import procplan, procplan.engine, procplan.library, sys; assert 'streamlit' not in sys.modules"
+    code = "import procplan, procplan.run.engine, procplan.files.library, sys; assert 'streamlit' not in sys.modules"
     subprocess.run([sys.executable, "-c", code], check=True)

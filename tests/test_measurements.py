@@ -7,10 +7,10 @@ import shutil
 import numpy as np
 import pytest
 
-from procplan.engine import run_plan
 from procplan.errors import InvalidInputError
-from procplan.library import DEMO_LIBRARY, load_library, save_measurement
-from procplan.plan import plan_from_dict
+from procplan.files.library import DEMO_LIBRARY, load_library, save_measurement
+from procplan.files.plan import plan_from_dict
+from procplan.run.engine import run_plan
 from procplan.studies.calibrate import calibrate, fitted_h_record
 from procplan.studies.logger import read_logger
 

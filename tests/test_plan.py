@@ -9,8 +9,15 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from procplan.errors import InvalidInputError, ValidationErrors
-from procplan.library import load_library
-from procplan.plan import load_plan, plan_from_dict, plan_from_toml, plan_to_dict, plan_to_toml, save_plan
+from procplan.files.library import load_library
+from procplan.files.plan import (
+    load_plan,
+    plan_from_dict,
+    plan_from_toml,
+    plan_to_dict,
+    plan_to_toml,
+    save_plan,
+)
 
 BASE = {
     "title": "test plan",

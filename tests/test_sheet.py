@@ -22,15 +22,15 @@ from numpy.testing import assert_allclose
 from pypdf import PdfReader
 
 from procplan.caution import CAUTION
-from procplan.engine import run_plan
 from procplan.errors import InvalidInputError
-from procplan.library import load_library
-from procplan.plan import plan_to_toml
-from procplan.report import format_f
-from procplan.sheet import batch_sheet_pdf, printable
-from procplan.sheet_chart import nice_ticks, spread_positions
-from procplan.sheet_data import ACTION_IF_MISSED, checkpoints, plan_hash, stage_deadlines
-from procplan.site import SiteSettings, load_site
+from procplan.files.library import load_library
+from procplan.files.plan import plan_to_toml
+from procplan.files.site import SiteSettings, load_site
+from procplan.output.chart import nice_ticks, spread_positions
+from procplan.output.report import format_f
+from procplan.output.sheet import batch_sheet_pdf, printable
+from procplan.output.sheet_data import ACTION_IF_MISSED, checkpoints, plan_hash, stage_deadlines
+from procplan.run.engine import run_plan
 
 #: Coarse grid: the sheet's content, not the solver's accuracy, is under test here.
 N_NODES = 12
@@ -144,7 +144,7 @@ def test_letter_paper_and_fahrenheit_hours_site(results, site):
 
 
 def test_plan_hash_is_the_sha256_of_the_plan_toml(results):
-    # Source: FIPS 180-4 (SHA-256) as implemented by hashlib, over procplan.plan.plan_to_toml's text
+    # Source: FIPS 180-4 (SHA-256) as implemented by hashlib, over procplan.files.plan.plan_to_toml's text
     r = results["roulade-blast-chill"]
     assert plan_hash(r.plan) == hashlib.sha256(plan_to_toml(r.plan).encode("utf-8")).hexdigest()
     changed = r.plan.with_step(0, stop_when_core_C=4.0)

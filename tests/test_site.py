@@ -11,8 +11,8 @@ from numpy.testing import assert_allclose
 from reportlab.lib import pagesizes
 
 from procplan.errors import InvalidInputError, ValidationErrors
-from procplan.library import load_library
-from procplan.site import PAPER_SIZES, SiteLine, SiteSettings, load_site, site_from_dict, site_to_text
+from procplan.files.library import load_library
+from procplan.files.site import PAPER_SIZES, SiteLine, SiteSettings, load_site, site_from_dict, site_to_text
 from procplan.units import f_to_c
 
 
@@ -34,7 +34,7 @@ def test_demo_site_loads_and_refers_only_to_library_records(lib):
 
 
 def test_every_demo_plan_lies_on_one_line(lib):
-    from procplan.plan import load_plan
+    from procplan.files.plan import load_plan
 
     site = load_site()
     for name, path in lib.plans.items():

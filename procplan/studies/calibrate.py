@@ -6,7 +6,7 @@ probe temperature is the exact product solution at the probe position (Incropera
 :func:`procplan.conduction.product.exact_temperature_at_C`) with the engine's effective properties
 (k at the mean of start and medium temperatures, secant c_p); the diffusivity factor f_α divides ρc_p (so
 α·f_α with k, and so Bi, unchanged); the probe offset moves the probe from the thermal centre along the
-shortest conduction axis. Otherwise the model is :func:`procplan.engine.run_plan` with the step's h replaced,
+shortest conduction axis. Otherwise the model is :func:`procplan.run.engine.run_plan` with the step's h replaced,
 read at the core, and only h is fitted.
 
 Fit. scipy.optimize.least_squares on the residuals T_model − T_measured with parameters (ln h, ln f_α,
@@ -35,7 +35,7 @@ from scipy.optimize import least_squares
 
 from procplan import validate
 from procplan.errors import InvalidInputError
-from procplan.plan import Plan
+from procplan.files.plan import Plan
 from procplan.studies.logger import LoggerData
 
 #: Parameters that can be fitted.
@@ -193,7 +193,7 @@ def calibrate(
     -------
     Calibration
     """
-    from procplan.engine import run_plan
+    from procplan.run.engine import run_plan
 
     if not isinstance(log, LoggerData):
         raise InvalidInputError(
@@ -218,7 +218,7 @@ def calibrate(
 
     plan_s = replace(plan, start_temperature_C=t0)
     if library is None and (plan.steps[0].equipment or plan.checks.cooling_rule):
-        from procplan.library import load_library
+        from procplan.files.library import load_library
 
         library = load_library()
     nominal = run_plan(plan_s, library=library, solver=solver, n_nodes=n_nodes)

@@ -2,7 +2,7 @@
 
 :func:`variants_of` builds variants of a plan with :func:`dataclasses.replace` (another machine or other
 settings for a step, another size, another product, another start temperature); :func:`compare_plans` runs
-each with :func:`procplan.engine.run_plan` and returns a :class:`Comparison`: one row per scenario with the
+each with :func:`procplan.run.engine.run_plan` and returns a :class:`Comparison`: one row per scenario with the
 figures of :data:`procplan.studies.metrics.METRIC_COLUMNS`, a ranking by one criterion of
 :data:`procplan.studies.metrics.CRITERIA`, and the PlanResults for overlaid charts.
 """
@@ -17,7 +17,7 @@ import pandas as pd
 
 from procplan import validate
 from procplan.errors import InvalidInputError
-from procplan.plan import DIMENSION_KEYS, Plan
+from procplan.files.plan import DIMENSION_KEYS, Plan
 from procplan.studies.metrics import CRITERIA, METRIC_COLUMNS, result_metrics
 
 #: Keys a variant may change, with what they do.
@@ -30,7 +30,7 @@ VARIANT_KEYS: dict[str, str] = {
     "medium_C": "medium temperature of a step with a given h [°C]",
     "duration_min": "duration of the step [min]",
     "stop_when_core_C": "stop condition of the step [°C]",
-    "product": "another product: a library product name or a procplan.plan.Product",
+    "product": "another product: a library product name or a procplan.files.plan.Product",
     "start_C": "start temperature [°C]",
     "cooling_rule": "the plan's cooling rule (a library rule name, or '' for none)",
     "margin_percent": "the site's safety margin [%]",
@@ -181,7 +181,7 @@ def variants_of(plan: Plan, changes: Sequence[Mapping[str, Any]], *, library=Non
     Examples
     --------
     >>> from procplan.geometry import Geometry
-    >>> from procplan.plan import Plan, Product, Step, FixedProperties
+    >>> from procplan.files.plan import Plan, Product, Step, FixedProperties
     >>> prod = Product("slab", Geometry("slab", thickness_m=0.05), fixed_properties=FixedProperties(0.5, 1000, 3500))
     >>> base = Plan("p", prod, 70.0, (Step("chill", 3600.0, 5.0, medium_C=0.0, h_W_m2K=20.0),))
     >>> [v.steps[0].h_W_m2K for v in variants_of(base, [{"h_W_m2K": 40}, {"name": "thin", "thickness_mm": 30}])]
@@ -210,7 +210,7 @@ def compare_plans(
     Parameters
     ----------
     plans : the scenarios (e.g. a plan and its :func:`variants_of`)
-    library : resolves machines and rules (see :func:`procplan.engine.run_plan`)
+    library : resolves machines and rules (see :func:`procplan.run.engine.run_plan`)
     names : scenario names (default: the plans' titles, made unique)
     criterion : a key of CRITERIA: "time", "energy" or "margin"
     solver, n_nodes, dt_s : passed to run_plan
@@ -220,7 +220,7 @@ def compare_plans(
     -------
     Comparison; the table's columns are METRIC_COLUMNS and ``rank`` (1 = best)
     """
-    from procplan.engine import run_plan
+    from procplan.run.engine import run_plan
 
     validate.choice("criterion", criterion, CRITERIA)
     plans = list(plans)

@@ -34,8 +34,8 @@ from scipy.optimize import brentq
 
 from procplan import validate
 from procplan.errors import InvalidInputError
+from procplan.files.plan import MAX_STEP_MIN, Plan
 from procplan.outcomes import plan_time_min
-from procplan.plan import MAX_STEP_MIN, Plan
 from procplan.properties.table import MODEL_RANGE_C
 
 #: Default range of a given surface coefficient [W/m²K]: still air to condensing steam (Incropera Table 1.1).
@@ -108,7 +108,7 @@ def _apply_h(plan: Plan, i: int, v: float, library) -> Plan:
     step = plan.steps[i]
     eq = _machine(plan, i, library, "h_W_m2K")
     if eq is not None:
-        from procplan.equipment import resolve_settings
+        from procplan.surface.machines import resolve_settings
 
         medium = resolve_settings(eq, step.settings_dict)[eq.temperature_key]
         return plan.with_step(
@@ -351,7 +351,7 @@ def required_setting(
     target_min : the allowed time X [min] for the goal "time"
     n_scan : points of the initial scan of the range (≥ 2)
     xtol : absolute tolerance of the answer in the parameter's unit (default 1e-5 of the range)
-    solver, n_nodes, dt_s : passed to :func:`procplan.engine.run_plan`
+    solver, n_nodes, dt_s : passed to :func:`procplan.run.engine.run_plan`
     progress : called as progress(evaluations, value, measure) after each forward run
 
     Returns
@@ -364,14 +364,14 @@ def required_setting(
     within 10 min? (Lumped body: h = ρ c V ln(θi/θ)/(A t) = 8500·400·(0.02/6)·ln 6/600 = 33.85 W/m²K.)
 
     >>> from procplan.geometry import Geometry
-    >>> from procplan.plan import Plan, Product, Step, FixedProperties
+    >>> from procplan.files.plan import Plan, Product, Step, FixedProperties
     >>> prod = Product("ball", Geometry("sphere", diameter_m=0.02), fixed_properties=FixedProperties(1e4, 8500, 400))
     >>> plan = Plan("ball", prod, 80.0, (Step("cool", 3600.0, 30.0, medium_C=20.0, h_W_m2K=10.0),))
     >>> r = required_setting(plan, step_index=0, parameter="h_W_m2K", goal="time", target_min=10.0, bounds=(5, 200))
     >>> r.achievable, r.passes, round(r.value, 2)
     (True, 'above', 33.85)
     """
-    from procplan.engine import run_plan
+    from procplan.run.engine import run_plan
 
     validate.choice("parameter", parameter, PARAMETERS)
     validate.choice("goal", goal, GOALS)
@@ -385,7 +385,7 @@ def required_setting(
         target_min = validate.positive("target_min", target_min, "min")
         _step_target(plan, i)
     if library is None and (any(s.equipment for s in plan.steps) or plan.checks.cooling_rule):
-        from procplan.library import load_library
+        from procplan.files.library import load_library
 
         library = load_library()
     default = spec.default_bounds(plan, i, library)

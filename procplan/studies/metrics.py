@@ -1,7 +1,7 @@
 """Key figures of one run, shared by every study: time to target, plan time, rule, lethality, energy.
 
 A study runs the engine many times and compares runs by a few numbers. :func:`result_metrics` reads them
-from a :class:`procplan.engine.PlanResult` (its assessed outcomes) into a flat dict with unit-suffixed keys,
+from a :class:`procplan.run.engine.PlanResult` (its assessed outcomes) into a flat dict with unit-suffixed keys,
 so that tables of scenarios, sweeps and samples all share one set of columns (:data:`METRIC_COLUMNS`).
 """
 
@@ -75,7 +75,7 @@ def result_metrics(result) -> dict[str, Any]:
 
     Parameters
     ----------
-    result : a :class:`procplan.engine.PlanResult` with outcomes
+    result : a :class:`procplan.run.engine.PlanResult` with outcomes
 
     Returns
     -------

@@ -32,8 +32,8 @@ class Job:
 
 def make_job(key: Any, plan, library, *, solver=None, n_nodes=None, dt_s=None) -> Job:
     """A :class:`Job` carrying the machines and the rule ``plan`` refers to, taken from ``library``."""
-    from procplan.equipment import equipment_to_dict
     from procplan.outcomes import rule_to_dict
+    from procplan.surface.machines import equipment_to_dict
 
     eq, rules = [], []
     if library is not None:
@@ -47,9 +47,9 @@ def make_job(key: Any, plan, library, *, solver=None, n_nodes=None, dt_s=None) -
 
 
 def _library_of(job: Job):
-    from procplan.equipment import equipment_from_dict
-    from procplan.library import Library
+    from procplan.files.library import Library
     from procplan.outcomes import rule_from_dict
+    from procplan.surface.machines import equipment_from_dict
 
     lib = Library(root=Path("."))
     for d in job.equipment:
@@ -61,7 +61,7 @@ def _library_of(job: Job):
 
 def run_job(job: Job) -> dict[str, Any]:
     """Run one job and return ``{"key", "metrics", "error"}``; invalid input becomes an error text."""
-    from procplan.engine import run_plan
+    from procplan.run.engine import run_plan
     from procplan.studies.metrics import result_metrics
 
     try:

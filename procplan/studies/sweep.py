@@ -15,7 +15,7 @@ from dataclasses import dataclass, field
 import pandas as pd
 
 from procplan.errors import InvalidInputError
-from procplan.plan import Checks, Plan, Step
+from procplan.files.plan import Checks, Plan, Step
 from procplan.studies.metrics import METRIC_COLUMNS
 from procplan.studies.runner import make_job, run_jobs
 
@@ -86,7 +86,7 @@ KIND_TASKS: dict[str, KindTask] = {
 def pair_plan(product, equipment, library=None, task: KindTask | None = None) -> Plan:
     """The one-step plan a sweep runs for a product in a machine (at the machine's default settings).
 
-    >>> from procplan.library import load_library
+    >>> from procplan.files.library import load_library
     >>> lib = load_library()
     >>> p = pair_plan(lib.products["chicken-roulade"], lib.equipment["chiller-b2"], lib)
     >>> p.start_temperature_C, p.steps[0].stop_when_core_C, p.checks.cooling_rule

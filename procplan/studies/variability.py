@@ -9,7 +9,7 @@ lognormal, each optionally truncated to bounds) by inverse-CDF sampling with a s
   (eigenvalues by vectorised bisection for every sample's Biot number, time to target by vectorised
   bisection in log time on the centre series θ_c(t) = Π_axes Σ_n C_n exp(−ζ_n² α t/L²)), with properties
   taken as the engine takes them (k at the mean of start and medium temperatures, secant c_p);
-* ``"run"`` (general): :func:`procplan.engine.run_plan` for every sample, optionally through any
+* ``"run"`` (general): :func:`procplan.run.engine.run_plan` for every sample, optionally through any
   ``concurrent.futures.Executor``.
 
 The worst-case corner run evaluates every combination of the distributions' ends (their bounds, or P1 and
@@ -37,7 +37,7 @@ from scipy import stats
 
 from procplan import validate
 from procplan.errors import InvalidInputError
-from procplan.plan import Plan
+from procplan.files.plan import Plan
 
 PERCENTILES = (50.0, 95.0, 99.0)
 #: Terms of each 1-D series in the fast path; with Fo ≥ FO_FLOOR the truncation is below 1e-8 in θ.
@@ -544,7 +544,7 @@ def monte_carlo(
     when ``h_W_m2K`` is sampled or only ``h_factor`` varies (the correlation's weak dependence on size and
     start temperature would otherwise be lost).
     """
-    from procplan.engine import run_plan
+    from procplan.run.engine import run_plan
     from procplan.studies.runner import make_job, run_jobs
 
     t0 = time.perf_counter()
@@ -563,7 +563,7 @@ def monte_carlo(
     if not 0 <= step_index < len(plan.steps):
         raise InvalidInputError("step_index", step_index, f"0 … {len(plan.steps) - 1}")
     if library is None and (any(s.equipment for s in plan.steps) or plan.checks.cooling_rule):
-        from procplan.library import load_library
+        from procplan.files.library import load_library
 
         library = load_library()
     nominal = run_plan(plan, library=library, solver=solver, n_nodes=n_nodes, dt_s=dt_s)
@@ -714,7 +714,7 @@ def _fast_run(plan, nominal, samples, ctx, library, frame) -> None:
 
 
 def _corners(plan, distributions, step_index, ctx, library, solver, n_nodes, dt_s):
-    from procplan.engine import run_plan
+    from procplan.run.engine import run_plan
     from procplan.studies.metrics import result_metrics
 
     names = list(distributions)
@@ -759,8 +759,8 @@ def bench_variability(n_samples: int = 10_000, seed: int = 1) -> dict[str, float
     the per-sample cost of the run_plan path (``run_per_sample_s``, from 20 samples) and the samples per
     second of the fast path.
     """
+    from procplan.files.plan import FixedProperties, Product, Step
     from procplan.geometry import Geometry
-    from procplan.plan import FixedProperties, Product, Step
 
     prod = Product(
         "bench cylinder",

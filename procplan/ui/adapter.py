@@ -71,14 +71,14 @@ class Outcome:
 
 def library_root() -> str:
     """The library folder the app works on."""
-    from procplan.library import DEMO_LIBRARY
+    from procplan.files.library import DEMO_LIBRARY
 
     return str(Path(os.environ.get(LIBRARY_ENV) or DEMO_LIBRARY).resolve())
 
 
 @st.cache_resource(show_spinner="Loading the product library…")
 def _library(root: str, generation: int):
-    from procplan.library import load_library
+    from procplan.files.library import load_library
 
     return load_library(root)
 
@@ -93,27 +93,27 @@ def library(generation: int = 0):
 
 def demo_plan_dict(generation: int = 0) -> dict:
     """The demo plan as a plan dict (file units) with its product written in full."""
-    from procplan.plan import plan_to_dict
+    from procplan.files.plan import plan_to_dict
 
     return plan_to_dict(library(generation).plan(DEMO_PLAN))
 
 
 def library_plan_dict(name: str, generation: int = 0) -> dict:
-    from procplan.plan import plan_to_dict
+    from procplan.files.plan import plan_to_dict
 
     return plan_to_dict(library(generation).plan(name))
 
 
 def plan_toml(plan_dict: dict) -> str:
     """Canonical TOML text of a plan dict: the hashable key of every cached call."""
-    from procplan.tomlio import dump_toml
+    from procplan.files.tomlfile import dump_toml
 
     return dump_toml(plan_dict)
 
 
 @st.cache_resource(max_entries=64, show_spinner=False)
 def _parse(text: str, root: str, generation: int) -> Outcome:
-    from procplan.plan import plan_from_toml
+    from procplan.files.plan import plan_from_toml
 
     try:
         return Outcome(plan_from_toml(text, source="current plan", library=_library(root, generation)))
@@ -129,14 +129,14 @@ def parse_plan(text: str, generation: int = 0) -> Outcome:
 def canonical_toml(plan) -> str:
     """The plan written back by the library: equal plans give equal text (6 and 6.0, defaults), so a
     widget round trip that changes nothing does not start a new calculation."""
-    from procplan.plan import plan_to_toml
+    from procplan.files.plan import plan_to_toml
 
     return plan_to_toml(plan)
 
 
 def read_uploaded_plan(text: str, source: str, generation: int = 0) -> Outcome:
     """Validate an uploaded or pasted plan; on success the value is the plan dict in file units."""
-    from procplan.plan import plan_from_toml, plan_to_dict
+    from procplan.files.plan import plan_from_toml, plan_to_dict
 
     try:
         plan = plan_from_toml(text, source=source, library=library(generation))
@@ -147,7 +147,7 @@ def read_uploaded_plan(text: str, source: str, generation: int = 0) -> Outcome:
 
 @st.cache_resource(max_entries=48, show_spinner="Calculating…")
 def _run(text: str, root: str, generation: int) -> Outcome:
-    from procplan.engine import run_plan
+    from procplan.run.engine import run_plan
 
     parsed = _parse(text, root, generation)
     if not parsed.ok:
@@ -168,7 +168,7 @@ def run(text: str, generation: int = 0) -> Outcome:
 
 def product_from_plan_dict(product_dict: dict):
     """Build a Product from the plan's [product] table (InvalidInputError on bad input)."""
-    from procplan.plan import product_from_dict
+    from procplan.files.plan import product_from_dict
 
     data = dict(product_dict)
     data.pop("library", None)
@@ -177,7 +177,7 @@ def product_from_plan_dict(product_dict: dict):
 
 def product_dict_of(name: str, generation: int = 0) -> dict:
     """A library product as a plan [product] table (file units), remembering where it came from."""
-    from procplan.plan import product_to_dict
+    from procplan.files.plan import product_to_dict
 
     d = product_to_dict(library(generation).products[name])
     d["library"] = name
@@ -191,9 +191,9 @@ def property_curves(product_toml: str, low_C: float = -40.0, high_C: float = 100
     Composition products use :func:`procplan.properties.food_properties`; products with measured
     properties use their property table (no ice fraction then).
     """
-    from procplan.plan import product_from_dict
+    from procplan.files.plan import product_from_dict
+    from procplan.files.tomlfile import parse_toml
     from procplan.properties import food_properties
-    from procplan.tomlio import parse_toml
 
     data = parse_toml(product_toml, "product")
     data.pop("library", None)
@@ -247,8 +247,8 @@ def save_product(product_dict: dict, name: str, overwrite: bool) -> Outcome:
     """
     from dataclasses import replace
 
-    from procplan import library as libmod
-    from procplan.tomlio import check_name
+    from procplan.files import library as libmod
+    from procplan.files.tomlfile import check_name
 
     try:
         check_name("product.name", name)
@@ -286,7 +286,7 @@ def history_csv(text: str, generation: int = 0) -> bytes:
 
 def site_settings(generation: int = 0) -> Outcome:
     """The site settings (plant, lines, display units, paper) of the library folder, or the default site."""
-    import procplan.site as site_mod
+    import procplan.files.site as site_mod
 
     site_file = Path(library_root()) / "site.toml"
     try:
@@ -308,7 +308,7 @@ def sheet_pdf(
     prepared_by: str = "",
 ) -> Outcome:
     """The batch-plan sheet (PDF bytes) of a plan given as TOML text, with the site settings."""
-    import procplan.sheet as mod
+    import procplan.output.sheet as mod
 
     out = run(text, generation)
     if not out.ok:
@@ -503,8 +503,8 @@ def sweep(products: tuple[str, ...], equipment: tuple[str, ...], generation: int
 
 
 def save_measured_h(plan_text: str, calibration, data_source: str, generation: int = 0) -> Outcome:
-    """Save a fitted h of the plan's first step as a measured value in the library (procplan.library)."""
-    from procplan.library import save_measurement
+    """Save a fitted h of the plan's first step as a measured value in the library (procplan.files.library)."""
+    from procplan.files.library import save_measurement
 
     parsed = _parse(plan_text, library_root(), generation)
     if not parsed.ok:

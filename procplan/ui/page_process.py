@@ -16,7 +16,7 @@ CUSTOM_LETHALITY = "custom (from the plan file)"
 
 
 def _setting_input(key: str, rng, value: float, wkey: str) -> float:
-    from procplan.equipment import SETTINGS
+    from procplan.surface.machines import SETTINGS
 
     spec = SETTINGS.get(key)
     label = spec.description.capitalize() if spec else key
@@ -182,8 +182,8 @@ def _step(step: dict, i: int, n: int, lib) -> str | None:
 
 
 def _checks(plan: dict, lib) -> None:
+    from procplan.files.plan import SOLVERS
     from procplan.outcomes import LETHALITY_PRESETS
-    from procplan.plan import SOLVERS
 
     st.subheader("Checks and batch")
     ch = plan.setdefault("checks", {})

@@ -6,7 +6,7 @@ from __future__ import annotations
 import pandas as pd
 import streamlit as st
 
-from procplan.report import format_f, format_log_reduction
+from procplan.output.report import format_f, format_log_reduction
 from procplan.ui import charts, state, widgets
 from procplan.ui.fmt import Units, yes_no
 

@@ -6,7 +6,7 @@ from __future__ import annotations
 import pandas as pd
 import streamlit as st
 
-from procplan.report import format_f
+from procplan.output.report import format_f
 from procplan.ui import adapter, charts, state, widgets
 from procplan.ui.fmt import Units
 

@@ -6,11 +6,11 @@ from pathlib import Path
 
 import pytest
 
+from procplan.files.library import Library
+from procplan.files.plan import Checks, FixedProperties, Plan, Product, Step
+from procplan.files.tomlfile import read_toml
 from procplan.geometry import Geometry
-from procplan.library import Library
 from procplan.outcomes import rule_from_dict
-from procplan.plan import Checks, FixedProperties, Plan, Product, Step
-from procplan.tomlio import read_toml
 
 ROOT = Path(__file__).resolve().parents[2]
 

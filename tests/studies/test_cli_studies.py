@@ -10,7 +10,7 @@ import pytest
 from procplan.caution import CAUTION
 from procplan.cli import main
 from procplan.conduction.product import exact_temperature_at_C
-from procplan.plan import save_plan
+from procplan.files.plan import save_plan
 from procplan.studies.inverse import required_setting
 
 from .conftest import cylinder_plan, lumped_sphere_plan

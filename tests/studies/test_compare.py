@@ -8,8 +8,8 @@ from dataclasses import replace
 import pytest
 from numpy.testing import assert_allclose
 
-from procplan.engine import run_plan
 from procplan.errors import InvalidInputError
+from procplan.run.engine import run_plan
 from procplan.studies.compare import compare_plans, variants_of
 from procplan.studies.metrics import CRITERIA, result_metrics
 

@@ -89,7 +89,7 @@ def test_rule_goal_boundary_flips_the_verdict(rules_library):
     )
     assert r.achievable and r.confirmed and r.passes == "above"
     assert r.result.outcomes.rule_check.passed
-    from procplan.engine import run_plan
+    from procplan.run.engine import run_plan
 
     below = run_plan(plan.with_step(0, h_W_m2K=r.value - 5e-3), library=rules_library)
     assert not below.outcomes.rule_check.passed
@@ -97,7 +97,7 @@ def test_rule_goal_boundary_flips_the_verdict(rules_library):
 
 
 def test_lethality_goal_on_hold_time_meets_required_f():
-    from procplan.plan import Checks, LethalityCheck
+    from procplan.files.plan import Checks, LethalityCheck
 
     # A thin slab heated in water at 75 °C: the hold that just gives Listeria 6-log (F70 = 2 min).
     base = lumped_sphere_plan(200.0)

@@ -7,12 +7,12 @@ from concurrent.futures import ProcessPoolExecutor
 
 import pytest
 
-from procplan.engine import run_plan
 from procplan.errors import InvalidInputError
-from procplan.library import load_library
+from procplan.files.library import load_library
+from procplan.run.engine import run_plan
 from procplan.studies.metrics import result_metrics
 from procplan.studies.sweep import KIND_TASKS, pair_plan, sweep_catalogue
-from procplan.surface_ranges import EQUIPMENT_KINDS
+from procplan.surface.ranges import EQUIPMENT_KINDS
 
 PRODUCTS = ["vaccine-vial-10ml", "beef-meatball"]
 MACHINES = ["pharma-cr1", "chiller-b1", "oven-c1"]

@@ -5,8 +5,8 @@ from iapws import IAPWS95
 from iapws._iapws import _Sublimation_Pressure
 from numpy.testing import assert_allclose
 
-from procplan import air
 from procplan.errors import InvalidInputError
+from procplan.surface import media as air
 
 # Source: Incropera et al., 7th ed., Table A.4, air at 1 atm (from memory): T [K], k [W/mK], ν [m²/s], Pr.
 INCROPERA_A4 = [

@@ -8,8 +8,8 @@ from ht import conv_external as ce
 from ht import conv_free_immersed as cf
 from numpy.testing import assert_allclose
 
-from procplan import surface_correlations as sc
-from procplan.surface_correlations import CORRELATIONS, nusselt_by_name
+from procplan.surface import correlations as sc
+from procplan.surface.correlations import CORRELATIONS, nusselt_by_name
 
 RE_GRID = [10.0, 300.0, 6071.0, 4e4, 2e5, 1e6]
 PR_GRID = [0.7, 1.0, 7.0, 40.0]

@@ -9,7 +9,7 @@ from scipy.optimize import brentq
 from procplan.errors import InvalidInputError
 from procplan.geometry import Geometry
 from procplan.surface import surface_coefficient
-from procplan.surface_moisture import (
+from procplan.surface.moisture import (
     evaporation_flux_kg_m2s,
     mass_transfer_coefficient_chilton_colburn,
     weight_loss_percent,

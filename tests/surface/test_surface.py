@@ -18,7 +18,7 @@ from procplan.surface import (
     h_radiation_linearised,
     surface_coefficient,
 )
-from procplan.surface_correlations import nusselt_mixed_convection
+from procplan.surface.correlations import nusselt_mixed_convection
 
 CYL = Geometry("cylinder", diameter_m=0.08)
 SPHERE = Geometry("sphere", diameter_m=0.06)

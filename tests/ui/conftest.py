@@ -13,7 +13,7 @@ APP = Path(__file__).resolve().parents[2] / "app.py"
 
 @pytest.fixture(scope="session")
 def library_copy(tmp_path_factory) -> Path:
-    from procplan.library import DEMO_LIBRARY
+    from procplan.files.library import DEMO_LIBRARY
 
     root = tmp_path_factory.mktemp("library") / "product_library"
     shutil.copytree(DEMO_LIBRARY, root)

@@ -53,8 +53,8 @@ def caution_shown(at) -> bool:
 
 
 def library_result(library_copy, plan_name: str = "roulade-blast-chill", **step_changes):
-    from procplan.engine import run_plan
-    from procplan.library import load_library
+    from procplan.files.library import load_library
+    from procplan.run.engine import run_plan
 
     lib = load_library(library_copy)
     plan = lib.plan(plan_name)
@@ -114,7 +114,7 @@ def test_colder_air_shortens_the_time_to_target(app, library_copy):
     go(app, "Process")
     air = number_input(app, "Air temperature")
     # the machine's setting range bounds the input
-    from procplan.library import load_library
+    from procplan.files.library import load_library
 
     rng = load_library(library_copy).equipment["chiller-b2"].settings["air_C"]
     assert (air.min, air.max) == (rng.minimum, rng.maximum)
@@ -256,7 +256,7 @@ def test_open_a_library_plan_and_its_result(app, library_copy):
 
 
 def test_pasted_plan_round_trips_through_the_plan_file(app):
-    from procplan.plan import plan_from_toml, plan_to_toml
+    from procplan.files.plan import plan_from_toml, plan_to_toml
 
     go(app, "Sheet & files")
     lib_plan = Path(__file__).resolve().parents[2] / "product_library" / "plans" / "vial-cool-down.toml"
@@ -264,7 +264,7 @@ def test_pasted_plan_round_trips_through_the_plan_file(app):
     app.button(key="paste_btn").click().run()
     assert not errors(app)
     assert app.session_state["plan"]["title"].startswith("Fill suite")
-    from procplan.library import load_library
+    from procplan.files.library import load_library
 
     text = app.session_state["last_good_toml"]
     plan = plan_from_toml(text, library=load_library())
@@ -391,7 +391,7 @@ def test_logger_upload_preview_and_fitted_h(app, library_copy):
 
 
 def test_catalogue_sweep_table_equals_the_library_sweep(app, library_copy):
-    from procplan.library import load_library
+    from procplan.files.library import load_library
     from procplan.studies.sweep import sweep_catalogue
 
     go(app, "Compare & studies")

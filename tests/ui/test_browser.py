@@ -61,7 +61,7 @@ def test_setting_change_and_sheet_download_in_a_real_browser(tmp_path):
         pytest.skip("/usr/bin/chromium is missing (install Debian's chromium to run the browser test)")
     from playwright.sync_api import sync_playwright
 
-    from procplan.library import DEMO_LIBRARY
+    from procplan.files.library import DEMO_LIBRARY
 
     library = tmp_path / "product_library"
     shutil.copytree(DEMO_LIBRARY, library)
@@ -113,7 +113,7 @@ def test_setting_change_and_sheet_download_in_a_real_browser(tmp_path):
                 )
                 button = page.get_by_role("button", name="Download the batch-plan sheet")
                 if button.count() == 0:
-                    pytest.skip("procplan.sheet is not in this build")
+                    pytest.skip("procplan.output.sheet is not in this build")
                 with page.expect_download(timeout=60_000) as info:
                     button.click()
                 pdf = Path(info.value.path()).read_bytes()

@@ -2,7 +2,7 @@
 
 A step gives either ``h_W_m2K`` with ``medium_C`` (or a ``medium_profile``), or a machine from the
 equipment library with its settings (constant, or a ``settings_profile``). Packaging layers of the
-product add their resistance in series (:func:`procplan.surface_layers.h_effective`). The
+product add their resistance in series (:func:`procplan.surface.layers.h_effective`). The
 correlations themselves live in :mod:`procplan.surface`; this module only wires a step to them.
 """
 
@@ -10,12 +10,12 @@ from __future__ import annotations
 
 import numpy as np
 
-from procplan.engine import StepSurface
 from procplan.errors import InvalidInputError
+from procplan.run.engine import StepSurface
 
 
 def _given_h(step, product, surface_C: float | None, start_mean_C: float) -> StepSurface:
-    from procplan.surface import surface_coefficient
+    from procplan.surface.coefficient import surface_coefficient
 
     if step.medium_profile:
         pts = list(step.medium_profile)
@@ -52,7 +52,7 @@ def _breakdown(res) -> dict:
 def _equipment(
     step, index: int, product, surface_C: float | None, start_mean_C: float, library
 ) -> StepSurface:
-    from procplan.equipment import equipment_h, medium_temperature_C, resolve_settings
+    from procplan.surface.machines import equipment_h, medium_temperature_C, resolve_settings
 
     if library is None or step.equipment not in library.equipment:
         names = ", ".join(sorted(library.equipment)) if library is not None else "(no library loaded)"
@@ -107,7 +107,7 @@ def _equipment(
         breakdown["h_eff_W_m2K"] = hs[0]
     evaporation = None
     if product.unwrapped and eq.medium == "air" and "relative_humidity" in eq.settings:
-        from procplan.evaporation import SurfaceEvaporation
+        from procplan.surface.moisture import SurfaceEvaporation
 
         evaporation = SurfaceEvaporation.for_step(eq, rows[0][1], first.h_conv_W_m2K, product)
         breakdown["evaporation"] = evaporation.describe()

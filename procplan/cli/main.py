@@ -19,17 +19,17 @@ from procplan.errors import InvalidInputError
 EXIT_OK, EXIT_CHECK_FAILED, EXIT_INVALID = 0, 1, 2
 
 #: Modules that add their own sub-commands through ``register(subparsers)``.
-EXTENSION_MODULES = ("procplan.cli_studies", "procplan.cli_sheet")
+EXTENSION_MODULES = ("procplan.cli.studies", "procplan.cli.sheet")
 
 
 def _library(args):
-    from procplan.library import load_library
+    from procplan.files.library import load_library
 
     return load_library(args.library)
 
 
 def _load_plan(path: str, lib):
-    from procplan.plan import load_plan
+    from procplan.files.plan import load_plan
 
     p = Path(path)
     if not p.exists() and lib is not None and path in lib.plans:
@@ -49,8 +49,8 @@ def _failed(result) -> bool:
 
 
 def cmd_run(args) -> int:
-    from procplan.engine import run_plan
-    from procplan.report import history_dict, summary_dict, summary_text
+    from procplan.output.report import history_dict, summary_dict, summary_text
+    from procplan.run.engine import run_plan
 
     lib = _library(args)
     plan = _load_plan(args.plan, lib)

@@ -14,10 +14,10 @@ from pathlib import Path
 from typing import Any
 
 from procplan.errors import InvalidInputError
-from procplan.tomlio import check_name, dump_toml, read_toml, write_atomic
+from procplan.files.tomlfile import check_name, dump_toml, read_toml, write_atomic
 
 #: The demo library shipped with procplan (an invented plant).
-DEMO_LIBRARY = Path(__file__).resolve().parent.parent / "product_library"
+DEMO_LIBRARY = Path(__file__).resolve().parents[2] / "product_library"
 
 KINDS = ("products", "equipment", "rules", "plans", "measurements")
 
@@ -60,7 +60,7 @@ class Library:
 
     def plan(self, name: str):
         """Load one of the library's plans by name (resolving its library references)."""
-        from procplan.plan import load_plan
+        from procplan.files.plan import load_plan
 
         if name not in self.plans:
             raise InvalidInputError("plan", name, "one of " + ", ".join(sorted(self.plans)))
@@ -68,9 +68,9 @@ class Library:
 
 
 def _parsers() -> dict[str, Callable[[dict, str], Any]]:
-    from procplan.equipment import equipment_from_dict
+    from procplan.files.plan import product_from_dict
     from procplan.outcomes import rule_from_dict
-    from procplan.plan import product_from_dict
+    from procplan.surface.machines import equipment_from_dict
 
     return {
         "products": lambda d, src: product_from_dict(d, src, prefix=""),
@@ -110,7 +110,7 @@ def load_library(path: str | os.PathLike | None = None) -> Library:
             lib.measurements.append(measurement_from_dict(read_toml(f), str(f), lib))
         except InvalidInputError as exc:
             lib.problems.append(FileProblem(str(f), str(exc)))
-    from procplan.plan import plan_from_dict
+    from procplan.files.plan import plan_from_dict
 
     for f in sorted((root / "plans").glob("*.toml")):
         try:
@@ -132,7 +132,7 @@ def _save(root: str | os.PathLike, kind: str, name: str, data: dict[str, Any], o
 
 def save_product(root: str | os.PathLike, product, *, overwrite: bool = False) -> Path:
     """Save a product as ``products/NAME.toml`` atomically; an existing product is kept unless ``overwrite``."""
-    from procplan.plan import product_from_dict, product_to_dict
+    from procplan.files.plan import product_from_dict, product_to_dict
 
     data = product_to_dict(product)
     data.pop("library", None)
@@ -142,7 +142,7 @@ def save_product(root: str | os.PathLike, product, *, overwrite: bool = False) -
 
 def save_equipment(root: str | os.PathLike, equipment, *, overwrite: bool = False) -> Path:
     """Save a machine as ``equipment/NAME.toml`` atomically; an existing record is kept unless ``overwrite``."""
-    from procplan.equipment import equipment_from_dict, equipment_to_dict
+    from procplan.surface.machines import equipment_from_dict, equipment_to_dict
 
     data = equipment_to_dict(equipment)
     equipment_from_dict(data, "equipment")

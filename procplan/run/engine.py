@@ -4,7 +4,7 @@ For each step the engine turns the surface description (a given h, or a machine 
 medium temperature and an effective h over time, chooses the solver and says why, runs it, and appends
 the step's history. The result is a :class:`PlanResult`: a history DataFrame (``time_s``, ``core_C``,
 ``surface_C``, ``mean_C``, ``heat_flow_W``, ``step``) with the provenance of every step, and the
-outcomes (targets, rule check, lethality, freezing, energy, margin) from :mod:`procplan.assess`.
+outcomes (targets, rule check, lethality, freezing, energy, margin) from :mod:`procplan.run.assess`.
 """
 
 from __future__ import annotations
@@ -22,7 +22,7 @@ from procplan.conduction.finite_volume import solve_conduction
 from procplan.conduction.fv_boundary import SurfaceBoundary
 from procplan.conduction.regime import Regime, classify_regime
 from procplan.errors import InvalidInputError
-from procplan.plan import SOLVERS, Plan, Step
+from procplan.files.plan import SOLVERS, Plan, Step
 from procplan.properties.table import PropertyTable
 
 #: Largest relative spread of k and of the apparent cp over a step's temperature range for which the
@@ -98,7 +98,7 @@ class PlanResult:
 
     def summary(self) -> dict[str, Any]:
         """A JSON-ready summary (provenance and outcomes)."""
-        from procplan.report import summary_dict
+        from procplan.output.report import summary_dict
 
         return summary_dict(self)
 
@@ -277,18 +277,18 @@ def run_plan(
 
     Parameters
     ----------
-    plan : the plan (see :mod:`procplan.plan`)
+    plan : the plan (see :mod:`procplan.files.plan`)
     library : the library that resolves equipment names and rules (default: the demo library when needed)
     solver : "auto" (default: the plan's choice), "exact" or "finite-volume"
     n_nodes, dt_s : finite-volume grid (per axis) and fixed time step [s] (adaptive when None)
     assess : compute outcomes (targets, rules, lethality, freezing, energy, margin)
     """
-    from procplan.surfaces import resolve_step_surface
+    from procplan.run.step_surface import resolve_step_surface
 
     requested = solver or plan.solver
     validate.choice("solver", requested, SOLVERS)
     if library is None and (any(s.equipment for s in plan.steps) or plan.checks.cooling_rule):
-        from procplan.library import load_library
+        from procplan.files.library import load_library
 
         library = load_library()
     product = plan.product
@@ -412,7 +412,7 @@ def run_plan(
         warnings=tuple(warnings),
     )
     if assess:
-        from procplan.assess import assess_plan
+        from procplan.run.assess import assess_plan
 
         outcomes = assess_plan(result, library)
         result = PlanResult(

@@ -16,7 +16,7 @@ from procplan.errors import InvalidInputError
 
 
 def _lib(args):
-    from procplan.library import load_library
+    from procplan.files.library import load_library
 
     return load_library(args.library)
 
@@ -24,7 +24,7 @@ def _lib(args):
 def _plan(path: str, lib):
     from pathlib import Path
 
-    from procplan.plan import load_plan
+    from procplan.files.plan import load_plan
 
     p = Path(path)
     if not p.exists() and lib is not None and path in lib.plans:
@@ -314,7 +314,7 @@ def cmd_calibrate(args) -> int:
             data_source=str(args.logfile),
         )
         if args.save:
-            from procplan.library import save_measurement
+            from procplan.files.library import save_measurement
 
             out["record_saved_to"] = str(save_measurement(lib.root, out["record"]))
     elif args.save:

@@ -2,7 +2,7 @@
 
 Pure parse/validate functions for the library and plan files (``equipment_from_dict``, ``equipment_to_dict``,
 ``resolve_settings``) and the surface coefficient of a product in a machine (``equipment_h``). Files are read
-and written elsewhere (procplan.library); nothing here does I/O.
+and written elsewhere (procplan.files.library); nothing here does I/O.
 
 An equipment file, sketched::
 
@@ -29,8 +29,8 @@ from typing import Any
 from procplan import validate
 from procplan.errors import Collector, InvalidInputError
 from procplan.geometry import Geometry
-from procplan.surface import SurfaceResult, surface_coefficient
-from procplan.surface_ranges import EQUIPMENT_KINDS
+from procplan.surface.coefficient import SurfaceResult, surface_coefficient
+from procplan.surface.ranges import EQUIPMENT_KINDS
 
 __all__ = [
     "EQUIPMENT_KINDS",

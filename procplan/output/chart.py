@@ -15,7 +15,7 @@ from reportlab.graphics.shapes import Drawing, Group, Line, PolyLine, Rect, Stri
 from reportlab.lib import colors
 from reportlab.pdfbase.pdfmetrics import stringWidth
 
-from procplan.sheet_data import stage_deadlines
+from procplan.output.sheet_data import stage_deadlines
 
 BLACK = colors.black
 GREY = colors.Color(0.42, 0.42, 0.42)

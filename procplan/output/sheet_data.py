@@ -1,6 +1,6 @@
 """What the batch-plan sheet prints, computed from a PlanResult: checkpoints, rule deadlines, reference lines.
 
-No layout here (see :mod:`procplan.sheet`); every number is read from the result's history and outcomes.
+No layout here (see :mod:`procplan.output.sheet`); every number is read from the result's history and outcomes.
 
 Checkpoint action limits
 ------------------------
@@ -69,8 +69,8 @@ class StageDeadline:
 
 
 def plan_hash(plan) -> str:
-    """SHA-256 (hex) of the plan's TOML text from :func:`procplan.plan.plan_to_toml`."""
-    from procplan.plan import plan_to_toml
+    """SHA-256 (hex) of the plan's TOML text from :func:`procplan.files.plan.plan_to_toml`."""
+    from procplan.files.plan import plan_to_toml
 
     return hashlib.sha256(plan_to_toml(plan).encode("utf-8")).hexdigest()
 

@@ -16,10 +16,10 @@ from typing import Any
 
 from procplan import validate
 from procplan.errors import Collector, InvalidInputError
+from procplan.files.tomlfile import dump_toml, read_toml, write_atomic
 from procplan.geometry import SHAPES, Geometry, geometry_from_mm
 from procplan.properties.table import MODEL_RANGE_C, PropertyTable
-from procplan.surface_layers import PackagingLayer, packaging_from_dicts, packaging_to_dicts
-from procplan.tomlio import dump_toml, read_toml, write_atomic
+from procplan.surface.layers import PackagingLayer, packaging_from_dicts, packaging_to_dicts
 
 T_LO, T_HI = MODEL_RANGE_C
 #: Longest step accepted [min] (a week): beyond this the unit is almost surely wrong.
@@ -730,7 +730,7 @@ PLAN_KEYS = ("title", "notes", "solver", "product", "start", "steps", "checks")
 def plan_from_dict(data: Mapping[str, Any], source: str = "plan", library=None) -> Plan:
     """Build and validate a Plan from a parsed plan file; every problem is reported at once.
 
-    ``library`` (a :class:`procplan.library.Library`) resolves ``product.library`` references and
+    ``library`` (a :class:`procplan.files.library.Library`) resolves ``product.library`` references and
     checks equipment names and settings.
     """
     c = Collector(source)
@@ -824,7 +824,7 @@ def _check_equipment(c: Collector, step: Step, i: int, library) -> None:
             )
         )
         return
-    from procplan.equipment import resolve_settings
+    from procplan.surface.machines import resolve_settings
 
     eq = library.equipment[step.equipment]
     with c.catch():
@@ -983,7 +983,7 @@ def load_plan(path: str | os.PathLike, library=None) -> Plan:
 
 def plan_from_toml(text: str, source: str = "plan", library=None) -> Plan:
     """Parse and validate plan TOML text (for uploads)."""
-    from procplan.tomlio import parse_toml
+    from procplan.files.tomlfile import parse_toml
 
     return plan_from_dict(parse_toml(text, source), source=source, library=library)
 

@@ -13,7 +13,7 @@ import pandas as pd
 
 from procplan import outcomes as oc
 from procplan.errors import InvalidInputError
-from procplan.plan import LethalityCheck
+from procplan.files.plan import LethalityCheck
 
 #: Evaporating temperature below the medium and condensing temperature assumed when a step names no
 #: machine (common practice for air coolers: 6–10 K approach; air-cooled condensers about 35 °C).

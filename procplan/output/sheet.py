@@ -3,9 +3,9 @@
 Made with reportlab (pure Python, no system libraries: the same bytes on every machine). The font is
 Bitstream Vera, which ships inside reportlab, so the sheet needs no installed fonts either. Text is set
 with platypus Paragraphs and Tables so long texts wrap instead of overlapping; the chart is vector
-graphics (:mod:`procplan.sheet_chart`). Every page carries the standing caution in a box.
+graphics (:mod:`procplan.output.chart`). Every page carries the standing caution in a box.
 
-The numbers printed come from the result as it is (:mod:`procplan.sheet_data` for checkpoints); the
+The numbers printed come from the result as it is (:mod:`procplan.output.sheet_data` for checkpoints); the
 sheet computes nothing physical.
 """
 
@@ -35,13 +35,14 @@ from reportlab.platypus import (
     TableStyle,
 )
 
-from procplan import __version__, validate
+from procplan import validate
+from procplan._version import __version__
 from procplan.caution import CAUTION
 from procplan.errors import InvalidInputError
-from procplan.report import format_f, format_log_reduction
-from procplan.sheet_chart import history_chart
-from procplan.sheet_data import ACTION_IF_MISSED, checkpoints, document_number, margin_note, plan_hash
-from procplan.site import PAPER_SIZES, SiteSettings
+from procplan.files.site import PAPER_SIZES, SiteSettings
+from procplan.output.chart import history_chart
+from procplan.output.report import format_f, format_log_reduction
+from procplan.output.sheet_data import ACTION_IF_MISSED, checkpoints, document_number, margin_note, plan_hash
 
 FONT, BOLD = "ProcplanSans", "ProcplanSans-Bold"
 _FONT_DIR = os.path.join(os.path.dirname(reportlab.__file__), "fonts")
@@ -650,7 +651,7 @@ def _provenance(result, site, st, W, sha):
     out = [
         *st.h("Provenance"),
         st.p(
-            f"procplan {__version__}; plan file SHA-256 {sha} (of the plan's TOML as written by procplan.plan.plan_to_toml)",
+            f"procplan {__version__}; plan file SHA-256 {sha} (of the plan's TOML as written by procplan.files.plan.plan_to_toml)",
             st.small,
         ),
         _table(rows, _cols(W, [0.12, 0.38, 0.25, 0.18, 0.07]), st, small=True),
@@ -786,11 +787,11 @@ def batch_sheet_pdf(
 
     Parameters
     ----------
-    result : a :class:`procplan.engine.PlanResult` run with ``assess=True``
+    result : a :class:`procplan.run.engine.PlanResult` run with ``assess=True``
     site : site settings (plant, lines, display units, tariff, document-number prefix)
     lot_id : the batch's lot (blank line when empty)
     revision : document revision
-    paper : a key of ``procplan.site.PAPER_SIZES`` ("a4" or "letter")
+    paper : a key of ``procplan.files.site.PAPER_SIZES`` ("a4" or "letter")
     prepared_by : name printed in the "prepared by" box
     date : the sheet's date (default today); a date or ISO text
     """

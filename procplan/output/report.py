@@ -8,7 +8,7 @@ from typing import Any
 
 import numpy as np
 
-from procplan import __version__
+from procplan._version import __version__
 from procplan.caution import CAUTION
 
 

@@ -1,15 +1,15 @@
 """Surface heat-transfer coefficient of a product in a machine: convection, radiation, packaging.
 
 :func:`surface_coefficient` picks the published correlation for the medium, the mode and the shape (from the
-one registry :data:`procplan.surface_correlations.CORRELATIONS`), evaluates the fluid at the film temperature,
+one registry :data:`procplan.surface.correlations.CORRELATIONS`), evaluates the fluid at the film temperature,
 combines forced and free convection (Incropera eq. 9.64, n = 3), adds linearised radiation in parallel (air
 only) and packaging layers in series:
 
     1/h_eff = 1/(h_conv + h_rad) + Σ t_i/k_i
 
-The correlations live in :mod:`procplan.surface_correlations`, radiation and packaging in
-:mod:`procplan.surface_layers`, typical ranges and machine kinds in :mod:`procplan.surface_ranges`, moisture
-loss in :mod:`procplan.surface_moisture`; this module re-exports them.
+The correlations live in :mod:`procplan.surface.correlations`, radiation and packaging in
+:mod:`procplan.surface.layers`, typical ranges and machine kinds in :mod:`procplan.surface.ranges`, moisture
+loss in :mod:`procplan.surface.moisture`; this module re-exports them.
 
 References
 ----------
@@ -27,7 +27,27 @@ from typing import Any
 from CoolProp.CoolProp import HAPropsSI
 
 from procplan import validate
-from procplan.air import (
+from procplan.errors import InvalidInputError
+from procplan.geometry import Geometry
+from procplan.surface.correlations import (
+    CORRELATIONS,
+    DEFAULT_CORRELATION,
+    Correlation,
+    nusselt_by_name,
+    nusselt_mixed_convection,
+)
+from procplan.surface.layers import (
+    AIR_GAP_CONDUCTION_LIMIT_M,
+    PackagingLayer,
+    air_gap,
+    as_layers,
+    h_effective,
+    h_radiation_linearised,
+    packaging_from_dicts,
+    packaging_resistance_m2K_W,
+    packaging_to_dicts,
+)
+from procplan.surface.media import (
     AIR_RANGE_C,
     GRAVITY_M_S2,
     WATER_RANGE_C,
@@ -39,28 +59,8 @@ from procplan.air import (
     saturated_liquid_water_properties,
     saturated_vapour_density_kg_m3,
 )
-from procplan.errors import InvalidInputError
-from procplan.geometry import Geometry
-from procplan.surface_correlations import (
-    CORRELATIONS,
-    DEFAULT_CORRELATION,
-    Correlation,
-    nusselt_by_name,
-    nusselt_mixed_convection,
-)
-from procplan.surface_layers import (
-    AIR_GAP_CONDUCTION_LIMIT_M,
-    PackagingLayer,
-    air_gap,
-    as_layers,
-    h_effective,
-    h_radiation_linearised,
-    packaging_from_dicts,
-    packaging_resistance_m2K_W,
-    packaging_to_dicts,
-)
-from procplan.surface_moisture import Evaporation, evaporation_flux_kg_m2s, weight_loss_percent
-from procplan.surface_ranges import (
+from procplan.surface.moisture import Evaporation, evaporation_flux_kg_m2s, weight_loss_percent
+from procplan.surface.ranges import (
     EQUIPMENT_KINDS,
     TYPICAL_H_RANGES_W_M2K,
     TypicalRange,

@@ -23,13 +23,13 @@ EXIT_OK = 0
 
 
 def _library(args):
-    from procplan.library import load_library
+    from procplan.files.library import load_library
 
     return load_library(args.library)
 
 
 def _site(args, lib=None):
-    from procplan.site import load_site
+    from procplan.files.site import load_site
 
     return load_site(args.site, library=lib)
 
@@ -73,10 +73,10 @@ def _write_bytes_atomic(path: Path, data: bytes) -> None:
 
 
 def cmd_sheet(args) -> int:
-    from procplan.cli import _load_plan
-    from procplan.engine import run_plan
-    from procplan.sheet import batch_sheet_pdf
-    from procplan.site import PAPER_SIZES
+    from procplan.cli.main import _load_plan
+    from procplan.files.site import PAPER_SIZES
+    from procplan.output.sheet import batch_sheet_pdf
+    from procplan.run.engine import run_plan
 
     lib = _library(args)
     site = _site(args, lib)
@@ -104,7 +104,7 @@ def cmd_sheet(args) -> int:
             raise InvalidInputError("--date", args.date, exc.allowed) from None
         raise
     _write_bytes_atomic(out, pdf)
-    from procplan.sheet_data import document_number, plan_hash
+    from procplan.output.sheet_data import document_number, plan_hash
 
     print(
         f"batch-plan sheet {document_number(site.document_prefix, plan_hash(plan))} rev {revision} "
@@ -115,7 +115,7 @@ def cmd_sheet(args) -> int:
 
 
 def _destination(args, lib, kind: str) -> Path:
-    from procplan.tomlio import check_name
+    from procplan.files.tomlfile import check_name
 
     check_name("NAME", args.name)
     if args.output:
@@ -129,8 +129,8 @@ def _refuse_existing(field: str, path: Path) -> None:
 
 
 def cmd_new_product(args) -> int:
-    from procplan.plan import product_from_dict, product_to_dict
-    from procplan.tomlio import dump_toml, write_atomic
+    from procplan.files.plan import product_from_dict, product_to_dict
+    from procplan.files.tomlfile import dump_toml, write_atomic
 
     lib = _library(args)
     if args.template not in lib.products:
@@ -153,8 +153,8 @@ def cmd_new_product(args) -> int:
 
 
 def cmd_new_plan(args) -> int:
-    from procplan.plan import plan_from_dict
-    from procplan.tomlio import dump_toml, read_toml, write_atomic
+    from procplan.files.plan import plan_from_dict
+    from procplan.files.tomlfile import dump_toml, read_toml, write_atomic
 
     lib = _library(args)
     if args.product not in lib.products:
@@ -194,7 +194,7 @@ def cmd_new_plan(args) -> int:
 
 
 def cmd_site(args) -> int:
-    from procplan.site import site_to_text
+    from procplan.files.site import site_to_text
 
     lib = _library(args)
     print(site_to_text(_site(args, lib)))
