@@ -19,11 +19,11 @@ from scipy.optimize import brentq
 
 from procplan import validate
 from procplan.conduction.finite_volume import solve_conduction
-from procplan.conduction.fv_boundary import SurfaceBoundary
 from procplan.conduction.regime import Regime, classify_regime
 from procplan.errors import InvalidInputError
 from procplan.files.plan import SOLVERS, Plan, Step
 from procplan.properties.table import PropertyTable
+from procplan.run.step_surface import StepSurface, resolve_step_surface
 
 #: Largest relative spread of k and of the apparent cp over a step's temperature range for which the
 #: exact (constant-property) solution is used in automatic mode.
@@ -32,33 +32,6 @@ PROPERTY_SPREAD_LIMIT = 0.10
 H_SURFACE_TOLERANCE = 0.03
 #: Points in an exact-solution history.
 EXACT_POINTS = 601
-
-
-@dataclass(frozen=True)
-class StepSurface:
-    """What a step's surface condition resolved to."""
-
-    medium_time_s: tuple[float, ...]
-    medium_C: tuple[float, ...]
-    h_time_s: tuple[float, ...]
-    h_W_m2K: tuple[float, ...]
-    breakdown: dict[str, Any]
-    warnings: tuple[str, ...] = ()
-    evaporation: Any = None  # callable q(t, T_s) [W/m²] and mass-flux function, for unwrapped products in air
-
-    @property
-    def constant(self) -> bool:
-        return len(set(self.medium_C)) == 1 and len(set(self.h_W_m2K)) == 1 and self.evaporation is None
-
-    def boundary(self) -> SurfaceBoundary:
-        q = self.evaporation.heat_flux_W_m2 if self.evaporation is not None else None
-        med = (
-            self.medium_C[0]
-            if len(self.medium_C) == 1
-            else (np.array(self.medium_time_s), np.array(self.medium_C))
-        )
-        h = self.h_W_m2K[0] if len(self.h_W_m2K) == 1 else (np.array(self.h_time_s), np.array(self.h_W_m2K))
-        return SurfaceBoundary(med, h, q)
 
 
 @dataclass(frozen=True)
@@ -283,7 +256,6 @@ def run_plan(
     n_nodes, dt_s : finite-volume grid (per axis) and fixed time step [s] (adaptive when None)
     assess : compute outcomes (targets, rules, lethality, freezing, energy, margin)
     """
-    from procplan.run.step_surface import resolve_step_surface
 
     requested = solver or plan.solver
     validate.choice("solver", requested, SOLVERS)

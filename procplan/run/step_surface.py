@@ -8,10 +8,40 @@ correlations themselves live in :mod:`procplan.surface`; this module only wires 
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+from typing import Any
+
 import numpy as np
 
+from procplan.conduction.fv_boundary import SurfaceBoundary
 from procplan.errors import InvalidInputError
-from procplan.run.engine import StepSurface
+
+
+@dataclass(frozen=True)
+class StepSurface:
+    """What a step's surface condition resolved to."""
+
+    medium_time_s: tuple[float, ...]
+    medium_C: tuple[float, ...]
+    h_time_s: tuple[float, ...]
+    h_W_m2K: tuple[float, ...]
+    breakdown: dict[str, Any]
+    warnings: tuple[str, ...] = ()
+    evaporation: Any = None  # callable q(t, T_s) [W/m²] and mass-flux function, for unwrapped products in air
+
+    @property
+    def constant(self) -> bool:
+        return len(set(self.medium_C)) == 1 and len(set(self.h_W_m2K)) == 1 and self.evaporation is None
+
+    def boundary(self) -> SurfaceBoundary:
+        q = self.evaporation.heat_flux_W_m2 if self.evaporation is not None else None
+        med = (
+            self.medium_C[0]
+            if len(self.medium_C) == 1
+            else (np.array(self.medium_time_s), np.array(self.medium_C))
+        )
+        h = self.h_W_m2K[0] if len(self.h_W_m2K) == 1 else (np.array(self.h_time_s), np.array(self.h_W_m2K))
+        return SurfaceBoundary(med, h, q)
 
 
 def _given_h(step, product, surface_C: float | None, start_mean_C: float) -> StepSurface:
