@@ -14,10 +14,11 @@ from pathlib import Path
 from typing import Any
 
 from procplan.errors import InvalidInputError
+from procplan.files.demo import demo_library_path
 from procplan.files.tomlfile import check_name, dump_toml, read_toml, write_atomic
 
 #: The demo library shipped with procplan (an invented plant).
-DEMO_LIBRARY = Path(__file__).resolve().parents[2] / "product_library"
+DEMO_LIBRARY = demo_library_path()
 
 KINDS = ("products", "equipment", "rules", "plans", "measurements")
 

@@ -19,11 +19,12 @@ from typing import Any
 
 from procplan import validate
 from procplan.errors import Collector, InvalidInputError
+from procplan.files.demo import demo_library_path
 from procplan.files.tomlfile import NAME_PATTERN, read_toml
 from procplan.units import c_to_f
 
 #: The demo plant's settings.
-DEFAULT_SITE_FILE = Path(__file__).resolve().parents[2] / "product_library" / "site.toml"
+DEFAULT_SITE_FILE = demo_library_path() / "site.toml"
 
 #: Display units: symbol shown for each choice.
 TEMPERATURE_UNITS: dict[str, str] = {"C": "°C", "F": "°F"}
