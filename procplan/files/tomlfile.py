@@ -36,6 +36,11 @@ def parse_toml(text: str, source: str = "TOML text") -> dict[str, Any]:
         return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise InvalidInputError(source, "malformed TOML", "valid TOML", str(exc)) from None
+    except RecursionError:
+        # tomllib recurses once per nested array or inline table; a few hundred levels exhaust the stack
+        raise InvalidInputError(
+            source, "nested too deeply", "TOML with arrays and tables nested a few levels deep"
+        ) from None
 
 
 def dump_toml(data: dict[str, Any]) -> str:
@@ -66,37 +71,75 @@ def check_name(field: str, name: str) -> str:
     return name
 
 
-def write_atomic(path: str | os.PathLike, text: str, *, overwrite: bool = False) -> Path:
-    """Write ``text`` to ``path`` through a temporary file and a rename, so a crash never leaves half a file.
+def _exists_error(p: Path) -> InvalidInputError:
+    return InvalidInputError(
+        str(p), "exists", "a new file name, or overwrite (--force)", "refusing to replace a saved file"
+    )
 
-    Refuses to replace an existing file unless ``overwrite`` is true.
+
+def _clean_leftovers(p: Path) -> None:
+    """Remove temporaries of ``p`` left by an earlier write that was killed before its rename."""
+    for stale in p.parent.glob(f".{p.name}.*.tmp"):
+        try:
+            stale.unlink()
+        except OSError:
+            pass
+
+
+def _fsync_directory(directory: Path) -> None:
+    """Make the rename itself durable (POSIX); a no-op where directories cannot be opened."""
+    try:
+        fd = os.open(directory, os.O_RDONLY)
+    except OSError:
+        return
+    try:
+        os.fsync(fd)
+    except OSError:
+        pass
+    finally:
+        os.close(fd)
+
+
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
+
+
+def write_atomic(path: str | os.PathLike, data: str | bytes, *, overwrite: bool = False) -> Path:
+    """Write ``data`` (text as UTF-8, or bytes) to ``path`` so that the file is always the old or the new version.
+
+    A temporary file beside the target is written, flushed and fsynced, then renamed over the target (or
+    hard-linked to it when replacing is not allowed, which fails if the target appeared meanwhile), and the
+    directory is fsynced. The file gets the permissions the user's umask gives a new file (``mkstemp`` alone
+    would leave 0600). Temporaries left by a killed earlier write are removed first. Refuses to replace an
+    existing file unless ``overwrite`` is true.
     """
     p = Path(path)
     if p.exists() and not overwrite:
-        raise InvalidInputError(
-            str(p), "exists", "a new file name, or overwrite=True", "refusing to replace a saved file"
-        )
+        raise _exists_error(p)
     p.parent.mkdir(parents=True, exist_ok=True)
+    _clean_leftovers(p)
+    payload = data.encode("utf-8") if isinstance(data, str) else bytes(data)
     fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=p.parent)
     try:
-        with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            fh.write(text)
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(payload)
             fh.flush()
+            os.fchmod(fh.fileno(), 0o666 & ~_umask())
             os.fsync(fh.fileno())
-        if not overwrite:
-            # link() fails if the target appeared meanwhile: no silent overwrite even under a race
+        if overwrite:
+            os.replace(tmp, p)
+        else:
             try:
                 os.link(tmp, p)
             except FileExistsError:
-                raise InvalidInputError(
-                    str(p), "exists", "a new file name, or overwrite=True", "refusing to replace a saved file"
-                ) from None
-            except OSError:
+                raise _exists_error(p) from None
+            except OSError:  # a file system without hard links
+                if p.exists():
+                    raise _exists_error(p) from None
                 os.replace(tmp, p)
-                return p
-            os.unlink(tmp)
-        else:
-            os.replace(tmp, p)
+        _fsync_directory(p.parent)
     finally:
         if os.path.exists(tmp):
             os.unlink(tmp)
