@@ -57,7 +57,8 @@ class EnergySummary:
         whole batch [kW], ≥ 0
     peak_time_s : when it occurs [s]
     enthalpy_change_J_per_piece : m ΔH from the product's enthalpy [J], when given
-    balance_error : (∫ q dt − m ΔH) / |m ΔH|, the energy-balance check of the history, when given
+    balance_error : (∫ q dt − m ΔH) / max(|m ΔH|, ∫ |q| dt), the energy-balance check of the history, when given
+                    (0 when no heat crossed the surface and the enthalpy did not change)
     """
 
     heat_in_J_per_piece: float
@@ -97,6 +98,11 @@ def energy_summary(
     ...                    enthalpy_change_J_kg=-180000.0)
     >>> s.heat_removed_J_per_batch, s.peak_duty_kW_per_batch, s.balance_error
     (3600000.0, 1.0, 0.0)
+
+    A piece already at the medium temperature exchanges nothing and balances exactly:
+
+    >>> energy_summary([0, 600], [0.0, 0.0], piece_mass_kg=0.02, enthalpy_change_J_kg=0.0).balance_error
+    0.0
     """
     m = validate.positive("piece_mass_kg", piece_mass_kg, "kg")
     if pieces is not None and batch_mass_kg is not None:
@@ -118,11 +124,12 @@ def energy_summary(
     dh = bal = None
     if enthalpy_change_J_kg is not None:
         dh = m * validate.number("enthalpy_change_J_kg", enthalpy_change_J_kg, unit="J/kg")
-        if dh == 0:
-            raise InvalidInputError(
-                "enthalpy_change_J_kg", 0.0, "a non-zero enthalpy change", "nothing to balance against"
-            )
-        bal = (q_in - dh) / abs(dh)
+        # Relative to the larger of the enthalpy change and the heat that crossed the surface either way, so a
+        # product loaded at the medium temperature (nothing exchanged) balances at 0 instead of dividing by 0,
+        # and a step that heats then cools is not judged against its small net change.
+        gross = float(np.trapezoid(np.abs(q), t)) if t.size > 1 else 0.0
+        scale = max(abs(dh), gross)
+        bal = (q_in - dh) / scale if scale > 0 else 0.0
     return EnergySummary(q_in, -q_in, n, -q_in * n, peak_kW, float(t[i]), dh, bal)
 
 

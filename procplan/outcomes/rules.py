@@ -65,10 +65,22 @@ class Band:
     max_outside_min: float | None = None
     name: str = ""
 
+    def range_text(self) -> str:
+        """The band's limits in words, with either end open.
+
+        >>> Band(0.0, 3.0).range_text(), Band(0.0, None).range_text(), Band(None, 8.0).range_text()
+        ('0…3 °C', '≥ 0 °C', '≤ 8 °C')
+        """
+        if self.low_C is not None and self.high_C is not None:
+            return f"{self.low_C:g}…{self.high_C:g} °C"
+        if self.low_C is not None:
+            return f"≥ {self.low_C:g} °C"
+        if self.high_C is not None:
+            return f"≤ {self.high_C:g} °C"
+        return "any temperature"
+
     def label(self) -> str:
-        lo = "−∞" if self.low_C is None else f"{self.low_C:g}"
-        hi = "+∞" if self.high_C is None else f"{self.high_C:g}"
-        return self.name or f"{lo}…{hi} °C"
+        return self.name or self.range_text()
 
 
 @dataclass(frozen=True)

@@ -163,9 +163,7 @@ def summary_text(result) -> str:
                     + ("" if st.passed else f" — {st.reason}")
                 )
             for b in rc.bands:
-                lines.append(
-                    f"    band {b.band.low_C:g}…{b.band.high_C:g} °C: {'pass' if b.passed else 'FAIL'} — {b.reason}"
-                )
+                lines.append(f"    band {b.band.range_text()}: {'pass' if b.passed else 'FAIL'} — {b.reason}")
         for leth in (oc.lethality, oc.quality):
             if leth is None:
                 continue
