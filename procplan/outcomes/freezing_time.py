@@ -6,6 +6,7 @@ freezing step, and the test suite checks them against Neumann's exact solution a
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 from procplan import validate
@@ -80,6 +81,82 @@ def freezing_time_plank(
     k = validate.positive("k_frozen_W_mK", k_frozen_W_mK, "W/mK")
     p, r = PLANK_SHAPE_FACTORS[shape]
     return rho * lat / (tf - ta) * (p * a / h + r * a * a / k)
+
+
+def ehtd_cleland(beta1: float, beta2: float, bi: float) -> float:
+    """Equivalent heat-transfer dimensionality E of a brick or finite cylinder (Cleland, Cleland & Earle 1987).
+
+    E = 1 + (1 + 2/Bi) / (β₁² + 2β₁/Bi) + (1 + 2/Bi) / (β₂² + 2β₂/Bi)
+
+    The freezing (or cooling) time of the shape is that of the infinite slab of its smallest dimension D
+    divided by E. β₁ and β₂ are the other two dimensions over D (a finite cylinder of diameter d and length
+    ℓ: D = min(d, ℓ), with the diameter counted in both β when it is the larger; an infinite cylinder is
+    β₁ = 1, β₂ → ∞), Bi = h D / k_f with D the full smallest dimension, the convention of Plank's equation.
+
+    Parameters
+    ----------
+    beta1, beta2 : second and third dimension over the smallest (≥ 1; ``math.inf`` for an infinite extent)
+    bi : Biot number h D / k_f
+
+    Returns
+    -------
+    E (1 for a slab, 2 for an infinite cylinder, up to 3 for a cube)
+
+    Notes
+    -----
+    Limits: Bi → 0 gives 1 + 1/β₁ + 1/β₂, the ratio of the shape's surface-to-volume ratio to the slab's
+    (the lumped limit; the ASHRAE chapter gives this E₀ for finite cylinders, bricks and rectangular rods);
+    Bi → ∞ gives 1 + 1/β₁² + 1/β₂². Cleland et al. report the formula within a few per cent of numerical
+    freezing times of regular multidimensional shapes.
+
+    References
+    ----------
+    Cleland, D.J., Cleland, A.C. & Earle, R.L. (1987). Prediction of freezing and thawing times for
+    multi-dimensional shapes by simple formulae. Part 1: regular shapes. Int. J. Refrigeration 10(3):156–164.
+    ASHRAE Handbook—Refrigeration (2010), ch. 20, Cooling and freezing times of foods, eq. 20 (E₀ of bricks
+    and finite cylinders).
+
+    >>> round(ehtd_cleland(1.0, 1.0, 1e-9), 6), round(ehtd_cleland(1.0, 1.0, 1e12), 6)
+    (3.0, 3.0)
+    >>> round(ehtd_cleland(1.0, math.inf, 2.0), 6)
+    2.0
+    """
+    bi = validate.positive("bi", bi)
+    total = 1.0
+    for name, beta in (("beta1", beta1), ("beta2", beta2)):
+        if not beta >= 1.0:
+            raise InvalidInputError(
+                name, beta, "a dimension ratio ≥ 1 (a larger dimension over the smallest)"
+            )
+        if math.isinf(beta):
+            continue
+        total += (1.0 + 2.0 / bi) / (beta * beta + 2.0 * beta / bi)
+    return total
+
+
+def ehtd_of_dimensions(
+    dimensions_m: tuple[float, ...], h_W_m2K: float, k_frozen_W_mK: float
+) -> tuple[float, float]:
+    """E (Cleland et al. 1987) and the smallest dimension D [m] of a brick (three edges) or a finite cylinder.
+
+    A finite cylinder is given as (diameter, diameter, length): its cross-section counts in both directions.
+
+    >>> E, D = ehtd_of_dimensions((0.1, 0.1, 0.1), 1e9, 1.0)
+    >>> round(E, 4), D
+    (3.0, 0.1)
+    """
+    dims = sorted(validate.positive(f"dimension {i + 1}", d, "m") for i, d in enumerate(dimensions_m))
+    if len(dims) != 3:
+        raise InvalidInputError(
+            "dimensions_m", dimensions_m, "three dimensions (brick edges or d, d, length)"
+        )
+    small = dims[0]
+    bi = (
+        validate.positive("h_W_m2K", h_W_m2K, "W/m²K")
+        * small
+        / validate.positive("k_frozen_W_mK", k_frozen_W_mK, "W/mK")
+    )
+    return ehtd_cleland(dims[1] / small, dims[2] / small, bi), small
 
 
 def pham_mean_freezing_temperature_C(center_end_C: float, medium_C: float) -> float:

@@ -4,6 +4,8 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import given
+from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 from scipy.optimize import brentq
 from scipy.special import erf
@@ -119,3 +121,42 @@ def test_bad_input_names_the_field():
         freezing_time_pham("slab", 0.05, 1000.0, 3600.0, 1800.0, 250e3, 10.0, -45.0, -40.0, 50.0, 1.2)
     with pytest.raises(InvalidInputError, match="frozen_storage_C"):
         freezing_from_history([0, 1], [5.0, -20.0], -1.0, 0.0)
+
+
+# --- Equivalent heat-transfer dimensionality of finite shapes (Cleland, Cleland & Earle 1987) -------------
+
+
+@given(st.floats(0.005, 0.15), st.floats(1.0, 10.0), st.floats(1.0, 10.0))
+def test_ehtd_tends_to_the_surface_to_volume_ratio_at_small_biot(d_m, r1, r2):
+    # Source: ASHRAE Handbook—Refrigeration (2010), ch. 20, eq. 20: E0 = 1 + 1/β1 + 1/β2 for bricks, finite
+    # cylinders and rectangular rods. Independent check: for Bi → 0 every shape cools as a lumped body, so E is
+    # the ratio of the brick's surface-to-volume ratio to that of the slab of its smallest dimension (2/D),
+    # computed here from procplan's own geometry.
+    from procplan.geometry import Geometry
+    from procplan.outcomes.freezing_time import ehtd_of_dimensions
+
+    g = Geometry("brick", length_m=d_m * r2, width_m=d_m * r1, height_m=d_m)
+    e, small = ehtd_of_dimensions((g.length_m, g.width_m, g.height_m), 1e-6, 1.0)
+    assert small == pytest.approx(d_m)
+    assert e == pytest.approx((g.area_m2 / g.volume_m3) / (2.0 / d_m), rel=1e-4)
+
+
+@pytest.mark.parametrize("bi", [0.01, 0.3, 1.0, 5.0, 100.0])
+def test_ehtd_of_basic_shapes(bi):
+    # Source: ASHRAE Handbook—Refrigeration (2010), ch. 20: E = 1, 2 and 3 for the infinite slab, infinite
+    # cylinder and sphere at every Bi. A cube at both limits is 3 (eq. 20 at Bi → 0; 1 + 1/β1² + 1/β2² at
+    # Bi → ∞, Cleland et al. 1987, from memory); in between it must stay between the limits.
+    from procplan.outcomes.freezing_time import ehtd_cleland
+
+    assert ehtd_cleland(1.0, math.inf, bi) == pytest.approx(2.0, abs=1e-12)
+    assert ehtd_cleland(math.inf, math.inf, bi) == pytest.approx(1.0, abs=1e-12)
+    assert 2.0 < ehtd_cleland(1.0, 1.0, bi) <= 3.0 + 1e-12
+    # a longer brick is less multi-dimensional
+    assert ehtd_cleland(1.0, 4.0, bi) < ehtd_cleland(1.0, 2.0, bi)
+
+
+def test_ehtd_refuses_a_ratio_below_one():
+    from procplan.outcomes.freezing_time import ehtd_cleland
+
+    with pytest.raises(InvalidInputError, match="beta1"):
+        ehtd_cleland(0.5, 2.0, 1.0)
