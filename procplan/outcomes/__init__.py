@@ -5,6 +5,14 @@ cooling/holding rule checks, lethality (F-values, log reductions), freezing time
 duty, and the safety margin on a predicted time.
 """
 
+from procplan.outcomes.cold_chain import (
+    MKT_MODES,
+    BudgetCheck,
+    Excursion,
+    StabilityBudget,
+    check_stability_budget,
+    mean_kinetic_temperature_C,
+)
 from procplan.outcomes.energy import (
     EnergySummary,
     RefrigerationEnergy,
@@ -56,6 +64,12 @@ from procplan.outcomes.rules import (
 from procplan.outcomes.targets import DIRECTIONS, TargetResult, history_arrays, time_to_temperature
 
 __all__ = [
+    "MKT_MODES",
+    "BudgetCheck",
+    "Excursion",
+    "StabilityBudget",
+    "check_stability_budget",
+    "mean_kinetic_temperature_C",
     "DIRECTIONS",
     "F_INTEGRATION_METHODS",
     "LETHALITY_PRESETS",
