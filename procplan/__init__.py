@@ -19,7 +19,7 @@ _LAZY: dict[str, str] = {
     "Library": "procplan.files.library",
     "load_library": "procplan.files.library",
     "save_product": "procplan.files.library",
-    "Plan": "procplan.files.plan",
+    "Plan": "procplan.model",
     "load_plan": "procplan.files.plan",
     "plan_from_dict": "procplan.files.plan",
     "plan_to_dict": "procplan.files.plan",
@@ -59,8 +59,9 @@ __all__ = [
 
 if TYPE_CHECKING:  # pragma: no cover - for type checkers and editors only
     from procplan.files.library import Library, load_library, save_product
-    from procplan.files.plan import Plan, load_plan, plan_from_dict, plan_to_dict, save_plan
+    from procplan.files.plan import load_plan, plan_from_dict, plan_to_dict, save_plan
     from procplan.geometry import Geometry, geometry_from_mm
+    from procplan.model import Plan
     from procplan.properties import Composition, food_properties, property_table
     from procplan.properties.table import PropertyTable
     from procplan.run.engine import PlanResult, run_plan

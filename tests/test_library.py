@@ -9,7 +9,7 @@ import pytest
 
 from procplan.errors import InvalidInputError
 from procplan.files.library import DEMO_LIBRARY, load_library, save_product
-from procplan.files.plan import product_from_dict
+from procplan.files.product import product_from_dict
 
 SHAPES = {"slab", "cylinder", "sphere", "finite-cylinder", "brick"}
 

@@ -9,32 +9,22 @@ from __future__ import annotations
 import argparse
 import importlib
 import importlib.util
-import json
 import sys
-from pathlib import Path
 
 from procplan.caution import CAUTION
+from procplan.cli.common import (
+    EXIT_CHECK_FAILED,
+    EXIT_INVALID,
+    EXIT_OK,
+    load_library_of,
+    load_plan_of,
+    write_json,
+)
 from procplan.errors import InvalidInputError
-
-EXIT_OK, EXIT_CHECK_FAILED, EXIT_INVALID = 0, 1, 2
+from procplan.model import SOLVERS
 
 #: Modules that add their own sub-commands through ``register(subparsers)``.
 EXTENSION_MODULES = ("procplan.cli.studies", "procplan.cli.sheet")
-
-
-def _library(args):
-    from procplan.files.library import load_library
-
-    return load_library(args.library)
-
-
-def _load_plan(path: str, lib):
-    from procplan.files.plan import load_plan
-
-    p = Path(path)
-    if not p.exists() and lib is not None and path in lib.plans:
-        p = lib.plans[path]
-    return load_plan(p, library=lib)
 
 
 def _failed(result) -> bool:
@@ -52,16 +42,13 @@ def cmd_run(args) -> int:
     from procplan.output.report import history_dict, summary_dict, summary_text
     from procplan.run.engine import run_plan
 
-    lib = _library(args)
-    plan = _load_plan(args.plan, lib)
+    lib = load_library_of(args)
+    plan = load_plan_of(args.plan, lib)
     result = run_plan(plan, library=lib, solver=args.solver)
     if args.csv:
         result.history.to_csv(args.csv, index=False)
     if args.json:
-        json.dump(
-            {"history": history_dict(result), "summary": summary_dict(result)}, sys.stdout, ensure_ascii=False
-        )
-        sys.stdout.write("\n")
+        write_json({"history": history_dict(result), "summary": summary_dict(result)})
     else:
         print(summary_text(result))
         if args.csv:
@@ -70,7 +57,7 @@ def cmd_run(args) -> int:
 
 
 def cmd_library(args) -> int:
-    lib = _library(args)
+    lib = load_library_of(args)
     if args.action == "list":
         for kind in ("products", "equipment", "rules", "plans"):
             items = getattr(lib, kind)
@@ -107,7 +94,7 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--csv", metavar="FILE", help="write the history as CSV")
     r.add_argument(
         "--solver",
-        choices=["auto", "exact", "finite-volume"],
+        choices=list(SOLVERS),
         default=None,
         help="force a solver (default: the plan's, normally auto)",
     )

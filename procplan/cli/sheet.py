@@ -17,21 +17,8 @@ import os
 from pathlib import Path
 
 from procplan.caution import CAUTION_SHORT
+from procplan.cli.common import EXIT_OK, load_library_of, load_plan_of, load_site_of
 from procplan.errors import InvalidInputError
-
-EXIT_OK = 0
-
-
-def _library(args):
-    from procplan.files.library import load_library
-
-    return load_library(args.library)
-
-
-def _site(args, lib=None):
-    from procplan.files.site import load_site
-
-    return load_site(args.site, library=lib)
 
 
 def _text_option(field: str, value: str | None, max_len: int, *, required: bool = False) -> str:
@@ -73,13 +60,12 @@ def _write_bytes_atomic(path: Path, data: bytes) -> None:
 
 
 def cmd_sheet(args) -> int:
-    from procplan.cli.main import _load_plan
     from procplan.files.site import PAPER_SIZES
     from procplan.output.sheet import batch_sheet_pdf
     from procplan.run.engine import run_plan
 
-    lib = _library(args)
-    site = _site(args, lib)
+    lib = load_library_of(args)
+    site = load_site_of(args, lib)
     paper = args.paper if args.paper is not None else site.paper
     if paper not in PAPER_SIZES:
         raise InvalidInputError("--paper", args.paper, "one of " + ", ".join(PAPER_SIZES))
@@ -87,7 +73,7 @@ def cmd_sheet(args) -> int:
     revision = _text_option("--revision", args.revision, 12, required=True)
     prepared = _text_option("--prepared-by", args.prepared_by, 60)
     out = _output_path("--output", args.output, ".pdf", args.force)
-    plan = _load_plan(args.plan, lib)
+    plan = load_plan_of(args.plan, lib)
     result = run_plan(plan, library=lib)
     try:
         pdf = batch_sheet_pdf(
@@ -129,10 +115,10 @@ def _refuse_existing(field: str, path: Path) -> None:
 
 
 def cmd_new_product(args) -> int:
-    from procplan.files.plan import product_from_dict, product_to_dict
+    from procplan.files.product import product_from_dict, product_to_dict
     from procplan.files.tomlfile import dump_toml, write_atomic
 
-    lib = _library(args)
+    lib = load_library_of(args)
     if args.template not in lib.products:
         raise InvalidInputError("--template", args.template, "one of " + ", ".join(sorted(lib.products)))
     dest = _destination(args, lib, "products")
@@ -156,7 +142,7 @@ def cmd_new_plan(args) -> int:
     from procplan.files.plan import plan_from_dict
     from procplan.files.tomlfile import dump_toml, read_toml, write_atomic
 
-    lib = _library(args)
+    lib = load_library_of(args)
     if args.product not in lib.products:
         raise InvalidInputError("--product", args.product, "one of " + ", ".join(sorted(lib.products)))
     tpl_path = Path(args.template)
@@ -169,7 +155,7 @@ def cmd_new_plan(args) -> int:
     dest = _destination(args, lib, "plans")
     _refuse_existing("NAME" if not args.output else "--output", dest)
     data = read_toml(tpl_path)
-    site = _site(args, lib)
+    site = load_site_of(args, lib)
     template_name = tpl_path.stem
     data["title"] = (
         _text_option("--title", args.title, 200) or f"{args.product}: {data.get('title', template_name)}"
@@ -196,8 +182,8 @@ def cmd_new_plan(args) -> int:
 def cmd_site(args) -> int:
     from procplan.files.site import site_to_text
 
-    lib = _library(args)
-    print(site_to_text(_site(args, lib)))
+    lib = load_library_of(args)
+    print(site_to_text(load_site_of(args, lib)))
     return EXIT_OK
 
 

@@ -6,50 +6,17 @@ raises InvalidInputError for bad input (printed by ``procplan.cli.main``, exit 2
 
 from __future__ import annotations
 
-import json
 import math
 import sys
 from typing import Any
 
 from procplan.caution import CAUTION
+from procplan.cli.common import EXIT_CHECK_FAILED, EXIT_OK, load_library_of, load_plan_of, write_json
 from procplan.errors import InvalidInputError
 
 
-def _lib(args):
-    from procplan.files.library import load_library
-
-    return load_library(args.library)
-
-
-def _plan(path: str, lib):
-    from pathlib import Path
-
-    from procplan.files.plan import load_plan
-
-    p = Path(path)
-    if not p.exists() and lib is not None and path in lib.plans:
-        p = lib.plans[path]
-    return load_plan(p, library=lib)
-
-
-def _clean(x: Any) -> Any:
-    if isinstance(x, dict):
-        return {str(k): _clean(v) for k, v in x.items()}
-    if isinstance(x, list | tuple):
-        return [_clean(v) for v in x]
-    if isinstance(x, float):
-        return x if math.isfinite(x) else None
-    if hasattr(x, "item") and not isinstance(x, str):
-        try:
-            return _clean(x.item())
-        except (TypeError, ValueError):
-            return str(x)
-    return x
-
-
 def _dump(obj) -> None:
-    json.dump(_clean(obj), sys.stdout, ensure_ascii=False, indent=1)
-    sys.stdout.write("\n")
+    write_json(obj, indent=1)
 
 
 def _fmt(x, spec=".1f", unit=" min") -> str:
@@ -112,8 +79,8 @@ def _executor(workers: int | None):
 def cmd_compare(args) -> int:
     from procplan.studies.compare import compare_plans, variants_of
 
-    lib = _lib(args)
-    plans = [_plan(p, lib) for p in args.plans]
+    lib = load_library_of(args)
+    plans = [load_plan_of(p, lib) for p in args.plans]
     if args.vary:
         plans += variants_of(plans[0], [parse_variant(v) for v in args.vary], library=lib)
     cmp_ = compare_plans(
@@ -131,7 +98,7 @@ def cmd_compare(args) -> int:
                 "caution": CAUTION,
             }
         )
-        return 0
+        return EXIT_OK
     print(f"{len(tab)} scenarios ranked by {cmp_.criterion}:")
     for name in cmp_.ranking:
         r = tab.loc[name]
@@ -151,15 +118,15 @@ def cmd_compare(args) -> int:
     if args.csv:
         print(f"table written to {args.csv}")
     print("\n" + CAUTION)
-    return 0
+    return EXIT_OK
 
 
 # --- required ----------------------------------------------------------------------------------------------
 def cmd_required(args) -> int:
     from procplan.studies.inverse import required_setting
 
-    lib = _lib(args)
-    plan = _plan(args.plan, lib)
+    lib = load_library_of(args)
+    plan = load_plan_of(args.plan, lib)
 
     def prog(n, v, m):
         if not args.quiet:
@@ -178,7 +145,7 @@ def cmd_required(args) -> int:
     )
     if args.json:
         _dump({**r.to_dict(), "caution": CAUTION})
-        return 0 if r.achievable else 1
+        return EXIT_OK if r.achievable else EXIT_CHECK_FAILED
     print(r.message)
     print(
         f"  confirmed by a forward run: {'yes' if r.confirmed else 'NO'} ({len(r.evaluations)} runs, tolerance {r.xtol:.3g} {r.unit})"
@@ -186,15 +153,15 @@ def cmd_required(args) -> int:
     for n in r.notes:
         print(f"  note: {n}")
     print("\n" + CAUTION)
-    return 0 if r.achievable else 1
+    return EXIT_OK if r.achievable else EXIT_CHECK_FAILED
 
 
 # --- variability --------------------------------------------------------------------------------------------
 def cmd_variability(args) -> int:
     from procplan.studies.variability import monte_carlo, parse_distribution
 
-    lib = _lib(args)
-    plan = _plan(args.plan, lib)
+    lib = load_library_of(args)
+    plan = load_plan_of(args.plan, lib)
     dists = {}
     for spec in args.vary or []:
         if "=" not in spec:
@@ -221,7 +188,7 @@ def cmd_variability(args) -> int:
         res.samples.to_csv(args.csv, index=False)
     if args.json:
         _dump({**res.to_dict(), "caution": CAUTION})
-        return 0
+        return EXIT_OK
     print(f"{res.n_samples} samples (seed {res.seed}, {res.method} path, {res.seconds:.2f} s)")
     for key, label, unit in (
         ("time_to_target_min", "time to target", " min"),
@@ -247,47 +214,87 @@ def cmd_variability(args) -> int:
     if args.csv:
         print(f"samples written to {args.csv}")
     print("\n" + CAUTION)
-    return 0
+    return EXIT_OK
 
 
 # --- calibrate ----------------------------------------------------------------------------------------------
+def _calibrate_preview(args) -> int:
+    """``procplan calibrate --preview``: the logger file's first rows and the guessed column mapping."""
+    from procplan.studies.logger import preview_logger
+
+    pv = preview_logger(args.logfile, n_rows=args.rows)
+    m = pv.mapping
+    if args.json:
+        _dump(
+            {
+                "columns": list(pv.columns),
+                "separator": pv.separator,
+                "decimal": pv.decimal,
+                "encoding": pv.encoding,
+                "header": pv.header,
+                "rows": pv.rows.to_dict("records"),
+                "mapping": {
+                    "time": m.time,
+                    "time_unit": m.time_unit,
+                    "channels": list(m.channels),
+                    "temperature_unit": m.temperature_unit,
+                },
+            }
+        )
+        return EXIT_OK
+    print(
+        f"separator {pv.separator!r}, decimal {pv.decimal!r}, encoding {pv.encoding}, {pv.n_rows} data rows"
+    )
+    print(
+        f"guessed: time = {m.time!r} ({m.time_unit}), channels = {', '.join(m.channels)} (°{m.temperature_unit})"
+    )
+    print(pv.rows.to_string(index=False))
+    return EXIT_OK
+
+
+def _print_calibration(plan, cal, log, out: dict[str, Any]) -> None:
+    """The fit as readable lines."""
+    measured = out["measured"]
+    print(
+        f"calibration of '{plan.title}' against {cal.source}, channel {cal.channel} ({cal.n_points} points; {cal.method})"
+    )
+    for f in log.flags:
+        print(f"  logger: {f}")
+    print(
+        f"  h = {cal.h_W_m2K:.4g} W/m²K (95 % CI {cal.h_ci95[0]:.4g} … {cal.h_ci95[1]:.4g}); the plan assumed {cal.plan_h_W_m2K:.4g}"
+    )
+    if cal.alpha_factor is not None:
+        print(
+            f"  diffusivity factor {cal.alpha_factor:.3f} (95 % CI {cal.alpha_ci95[0]:.3f} … {cal.alpha_ci95[1]:.3f})"
+        )
+    if cal.offset_mm is not None:
+        print(
+            f"  probe offset {cal.offset_mm:.1f} mm (95 % CI {cal.offset_ci95[0]:.1f} … {cal.offset_ci95[1]:.1f})"
+        )
+    print(f"  RMS residual {cal.rmse_K:.3f} K")
+    if measured["rule_passed"] is not None:
+        print(
+            f"  measured curve, rule: {'PASS' if measured['rule_passed'] else 'FAIL'} (smallest margin {_fmt(measured['rule_margin_min'])})"
+        )
+    if measured["F_min"] is not None:
+        print(f"  measured curve, lethality F = {measured['F_min']:.3g} min")
+    for n in cal.notes:
+        print(f"  note: {n}")
+    print("\n" + CAUTION)
+    if "record_saved_to" in out:
+        print(f"measured h saved to {out['record_saved_to']}")
+
+
 def cmd_calibrate(args) -> int:
     from procplan.studies.calibrate import calibrate, fitted_h_record
-    from procplan.studies.logger import clean_logger, preview_logger, read_logger
+    from procplan.studies.logger import clean_logger, read_logger
 
     if args.preview:
-        pv = preview_logger(args.logfile, n_rows=args.rows)
-        m = pv.mapping
-        if args.json:
-            _dump(
-                {
-                    "columns": list(pv.columns),
-                    "separator": pv.separator,
-                    "decimal": pv.decimal,
-                    "encoding": pv.encoding,
-                    "header": pv.header,
-                    "rows": pv.rows.to_dict("records"),
-                    "mapping": {
-                        "time": m.time,
-                        "time_unit": m.time_unit,
-                        "channels": list(m.channels),
-                        "temperature_unit": m.temperature_unit,
-                    },
-                }
-            )
-            return 0
-        print(
-            f"separator {pv.separator!r}, decimal {pv.decimal!r}, encoding {pv.encoding}, {pv.n_rows} data rows"
-        )
-        print(
-            f"guessed: time = {m.time!r} ({m.time_unit}), channels = {', '.join(m.channels)} (°{m.temperature_unit})"
-        )
-        print(pv.rows.to_string(index=False))
-        return 0
+        return _calibrate_preview(args)
     if not args.plan:
         raise InvalidInputError("--plan", None, "a plan file for the recorded process (or --preview)")
-    lib = _lib(args)
-    plan = _plan(args.plan, lib)
+    lib = load_library_of(args)
+    plan = load_plan_of(args.plan, lib)
     log = clean_logger(read_logger(args.logfile), jump_K=args.jump_K)
     cal = calibrate(
         plan,
@@ -321,36 +328,9 @@ def cmd_calibrate(args) -> int:
         raise InvalidInputError("--save", True, "together with --record PRODUCT")
     if args.json:
         _dump({**out, "caution": CAUTION})
-        return 0
-    print(
-        f"calibration of '{plan.title}' against {cal.source}, channel {cal.channel} ({cal.n_points} points; {cal.method})"
-    )
-    for f in log.flags:
-        print(f"  logger: {f}")
-    print(
-        f"  h = {cal.h_W_m2K:.4g} W/m²K (95 % CI {cal.h_ci95[0]:.4g} … {cal.h_ci95[1]:.4g}); the plan assumed {cal.plan_h_W_m2K:.4g}"
-    )
-    if cal.alpha_factor is not None:
-        print(
-            f"  diffusivity factor {cal.alpha_factor:.3f} (95 % CI {cal.alpha_ci95[0]:.3f} … {cal.alpha_ci95[1]:.3f})"
-        )
-    if cal.offset_mm is not None:
-        print(
-            f"  probe offset {cal.offset_mm:.1f} mm (95 % CI {cal.offset_ci95[0]:.1f} … {cal.offset_ci95[1]:.1f})"
-        )
-    print(f"  RMS residual {cal.rmse_K:.3f} K")
-    if measured["rule_passed"] is not None:
-        print(
-            f"  measured curve, rule: {'PASS' if measured['rule_passed'] else 'FAIL'} (smallest margin {_fmt(measured['rule_margin_min'])})"
-        )
-    if measured["F_min"] is not None:
-        print(f"  measured curve, lethality F = {measured['F_min']:.3g} min")
-    for n in cal.notes:
-        print(f"  note: {n}")
-    print("\n" + CAUTION)
-    if "record_saved_to" in out:
-        print(f"measured h saved to {out['record_saved_to']}")
-    return 0
+        return EXIT_OK
+    _print_calibration(plan, cal, log, out)
+    return EXIT_OK
 
 
 # --- sweep -------------------------------------------------------------------------------------------------------
@@ -361,7 +341,7 @@ def _names(text: str | None):
 def cmd_sweep(args) -> int:
     from procplan.studies.sweep import sweep_catalogue
 
-    lib = _lib(args)
+    lib = load_library_of(args)
     ex = _executor(args.workers)
     try:
         res = sweep_catalogue(
@@ -381,7 +361,7 @@ def cmd_sweep(args) -> int:
         res.to_csv(args.csv)
     if args.json:
         _dump({"table": tab.to_dict("records"), "skipped": list(res.skipped), "caution": CAUTION})
-        return 0
+        return EXIT_OK
     print(f"{len(tab)} product × machine pairs")
     for _, r in tab.iterrows():
         if r["error"]:
@@ -397,15 +377,12 @@ def cmd_sweep(args) -> int:
     if args.csv:
         print(f"table written to {args.csv}")
     print("\n" + CAUTION)
-    return 0
+    return EXIT_OK
 
 
-def register(subparsers) -> None:
-    """Add the study sub-commands to ``procplan``'s argument parser."""
-    from procplan.studies.inverse import GOALS, PARAMETERS
+def _add_compare(subparsers) -> None:
+    """``procplan compare``."""
     from procplan.studies.metrics import CRITERIA
-    from procplan.studies.sweep import KIND_TASKS
-    from procplan.studies.variability import VARIABLES
 
     c = subparsers.add_parser(
         "compare",
@@ -430,6 +407,11 @@ def register(subparsers) -> None:
     c.add_argument("--csv", metavar="FILE", help="write the table as CSV")
     c.add_argument("--quiet", action="store_true", help="no progress on stderr")
     c.set_defaults(func=cmd_compare)
+
+
+def _add_required(subparsers) -> None:
+    """``procplan required``."""
+    from procplan.studies.inverse import GOALS, PARAMETERS
 
     r = subparsers.add_parser(
         "required",
@@ -460,6 +442,11 @@ def register(subparsers) -> None:
     r.add_argument("--quiet", action="store_true", help="no progress on stderr")
     r.set_defaults(func=cmd_required)
 
+
+def _add_variability(subparsers) -> None:
+    """``procplan variability``."""
+    from procplan.studies.variability import VARIABLES
+
     v = subparsers.add_parser(
         "variability",
         help="Monte Carlo percentiles of time to target and lethality",
@@ -488,6 +475,9 @@ def register(subparsers) -> None:
     v.add_argument("--quiet", action="store_true", help="no progress on stderr")
     v.set_defaults(func=cmd_variability)
 
+
+def _add_calibrate(subparsers) -> None:
+    """``procplan calibrate``."""
     k = subparsers.add_parser(
         "calibrate",
         help="fit the effective h to a temperature-logger file",
@@ -527,6 +517,11 @@ def register(subparsers) -> None:
     )
     k.set_defaults(func=cmd_calibrate)
 
+
+def _add_sweep(subparsers) -> None:
+    """``procplan sweep``."""
+    from procplan.studies.sweep import KIND_TASKS
+
     s = subparsers.add_parser(
         "sweep",
         help="every product in every suitable machine",
@@ -547,3 +542,9 @@ def register(subparsers) -> None:
     s.add_argument("--csv", metavar="FILE", help="write the table as CSV")
     s.add_argument("--quiet", action="store_true", help="no progress on stderr")
     s.set_defaults(func=cmd_sweep)
+
+
+def register(subparsers) -> None:
+    """Add the study sub-commands to ``procplan``'s argument parser."""
+    for add in (_add_compare, _add_required, _add_variability, _add_calibrate, _add_sweep):
+        add(subparsers)

@@ -20,8 +20,6 @@ from procplan.files.tomlfile import check_name, dump_toml, read_toml, write_atom
 #: The demo library shipped with procplan (an invented plant).
 DEMO_LIBRARY = demo_library_path()
 
-KINDS = ("products", "equipment", "rules", "plans", "measurements")
-
 
 @dataclass(frozen=True)
 class FileProblem:
@@ -69,9 +67,9 @@ class Library:
 
 
 def _parsers() -> dict[str, Callable[[dict, str], Any]]:
-    from procplan.files.plan import product_from_dict
-    from procplan.outcomes import rule_from_dict
-    from procplan.surface.machines import equipment_from_dict
+    from procplan.files.machines import equipment_from_dict
+    from procplan.files.product import product_from_dict
+    from procplan.files.rules import rule_from_dict
 
     return {
         "products": lambda d, src: product_from_dict(d, src, prefix=""),
@@ -133,30 +131,12 @@ def _save(root: str | os.PathLike, kind: str, name: str, data: dict[str, Any], o
 
 def save_product(root: str | os.PathLike, product, *, overwrite: bool = False) -> Path:
     """Save a product as ``products/NAME.toml`` atomically; an existing product is kept unless ``overwrite``."""
-    from procplan.files.plan import product_from_dict, product_to_dict
+    from procplan.files.product import product_from_dict, product_to_dict
 
     data = product_to_dict(product)
     data.pop("library", None)
     product_from_dict(data, "product", prefix="")  # what is written must load again
     return _save(root, "products", product.name, data, overwrite)
-
-
-def save_equipment(root: str | os.PathLike, equipment, *, overwrite: bool = False) -> Path:
-    """Save a machine as ``equipment/NAME.toml`` atomically; an existing record is kept unless ``overwrite``."""
-    from procplan.surface.machines import equipment_from_dict, equipment_to_dict
-
-    data = equipment_to_dict(equipment)
-    equipment_from_dict(data, "equipment")
-    return _save(root, "equipment", equipment.id, data, overwrite)
-
-
-def save_rule(root: str | os.PathLike, rule, *, overwrite: bool = False) -> Path:
-    """Save a rule as ``rules/NAME.toml`` atomically; an existing rule is kept unless ``overwrite``."""
-    from procplan.outcomes import rule_from_dict, rule_to_dict
-
-    data = rule_to_dict(rule)
-    rule_from_dict(data, "rule")
-    return _save(root, "rules", rule.name, data, overwrite)
 
 
 def measurement_from_dict(

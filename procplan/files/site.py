@@ -20,6 +20,7 @@ from typing import Any
 from procplan import validate
 from procplan.errors import Collector, InvalidInputError
 from procplan.files.demo import demo_library_path
+from procplan.files.fields import check_keys
 from procplan.files.tomlfile import NAME_PATTERN, read_toml
 from procplan.units import c_to_f
 
@@ -91,10 +92,6 @@ class SiteSettings:
     @property
     def time_symbol(self) -> str:
         return TIME_UNITS[self.time_unit]
-
-    @property
-    def line_names(self) -> tuple[str, ...]:
-        return tuple(line.name for line in self.lines)
 
     def temperature_value(self, temperature_C: float) -> float:
         """A temperature in the display unit.
@@ -176,18 +173,8 @@ def _table(c: Collector, data: Mapping[str, Any], key: str, allowed: tuple[str, 
     if not isinstance(v, Mapping):
         c.add(InvalidInputError(f"site.{key}", v, "a table"))
         return {}
-    _unknown(c, v, allowed, f"site.{key}.")
+    check_keys(c, v, allowed, f"site.{key}.")
     return v
-
-
-def _unknown(c: Collector, data: Mapping[str, Any], allowed: tuple[str, ...], prefix: str) -> None:
-    for k in data:
-        if k not in allowed:
-            c.add(
-                InvalidInputError(
-                    prefix + str(k), data[k], "one of the keys " + ", ".join(allowed), "unknown key"
-                )
-            )
 
 
 def _number(c: Collector, data: Mapping[str, Any], key: str, field: str, default, **kw):
@@ -209,6 +196,128 @@ def _choice(c: Collector, data: Mapping[str, Any], key: str, field: str, options
         return default
 
 
+def _document_prefix(c: Collector, data: Mapping[str, Any]) -> str:
+    prefix = data.get("document_prefix", "BP")
+    if not isinstance(prefix, str) or not _PREFIX_PATTERN.match(prefix):
+        c.add(
+            InvalidInputError(
+                "site.document_prefix",
+                prefix,
+                "1-16 characters A-Z a-z 0-9 -, starting with a letter or digit",
+            )
+        )
+        prefix = "BP"
+    return prefix
+
+
+def _default_rules(c: Collector, defaults: Mapping[str, Any], library) -> tuple[str, ...]:
+    """Names of the rules that apply by default (checked against the library when one is given)."""
+    rules_raw = defaults.get("rules", [])
+    rules: list[str] = []
+    if not isinstance(rules_raw, list):
+        c.add(InvalidInputError("site.defaults.rules", rules_raw, "a list of rule names"))
+        rules_raw = []
+    for i, r in enumerate(rules_raw):
+        f = f"site.defaults.rules[{i}]"
+        if not isinstance(r, str) or not NAME_PATTERN.match(r):
+            c.add(InvalidInputError(f, r, "a rule name: 1-64 characters a-z 0-9 . _ -"))
+        elif library is not None and r not in library.rules:
+            c.add(InvalidInputError(f, r, "one of the library's rules: " + ", ".join(sorted(library.rules))))
+        else:
+            rules.append(r)
+    return tuple(rules)
+
+
+def _defaults(c: Collector, data: Mapping[str, Any], library) -> dict[str, Any]:
+    """The ``[defaults]`` table: margins, paper size and default rules, as SiteSettings fields."""
+    defaults = _table(c, data, "defaults", ("margin_percent", "margin_min", "rules", "paper"))
+    margin_percent = _number(
+        c,
+        defaults,
+        "margin_percent",
+        "site.defaults.margin_percent",
+        20.0,
+        minimum=0.0,
+        maximum=500.0,
+        unit="%",
+    )
+    margin_min = _number(
+        c, defaults, "margin_min", "site.defaults.margin_min", 0.0, minimum=0.0, maximum=24 * 60.0, unit="min"
+    )
+    paper = _choice(c, defaults, "paper", "site.defaults.paper", PAPER_SIZES, "a4")
+    return {
+        "margin_percent": margin_percent,
+        "margin_min": margin_min,
+        "paper": paper,
+        "default_rules": _default_rules(c, defaults, library),
+    }
+
+
+def _energy(c: Collector, data: Mapping[str, Any]) -> tuple[float | None, str]:
+    """Electricity price and its currency (a price needs a currency)."""
+    energy = _table(c, data, "energy", ("price_per_kWh", "currency"))
+    price = _number(c, energy, "price_per_kWh", "site.energy.price_per_kWh", None, minimum=0.0, maximum=100.0)
+    currency = energy.get("currency", "")
+    if currency != "" and (not isinstance(currency, str) or not _CURRENCY_PATTERN.match(currency)):
+        c.add(InvalidInputError("site.energy.currency", currency, "a currency code of 1-8 letters, e.g. GBP"))
+        currency = ""
+    if price is not None and not currency:
+        c.add(
+            InvalidInputError(
+                "site.energy.currency",
+                currency or None,
+                "a currency code of 1-8 letters",
+                "a price needs its currency",
+            )
+        )
+    return price, currency
+
+
+def _line_equipment(c: Collector, eq: Any, p: str, library) -> tuple[str, ...]:
+    """Equipment ids of one line (checked against the library when one is given)."""
+    ids: list[str] = []
+    if not isinstance(eq, list):
+        c.add(InvalidInputError(p + "equipment", eq, "a list of equipment ids"))
+        eq = []
+    for j, e in enumerate(eq):
+        f = f"{p}equipment[{j}]"
+        if not isinstance(e, str) or not NAME_PATTERN.match(e):
+            c.add(InvalidInputError(f, e, "an equipment id: 1-64 characters a-z 0-9 . _ -"))
+        elif library is not None and e not in library.equipment:
+            c.add(
+                InvalidInputError(
+                    f, e, "one of the library's machines: " + ", ".join(sorted(library.equipment))
+                )
+            )
+        else:
+            ids.append(e)
+    return tuple(ids)
+
+
+def _lines(c: Collector, data: Mapping[str, Any], library) -> tuple[SiteLine, ...]:
+    """The ``[[lines]]`` tables: unique names, equipment ids, descriptions."""
+    lines: list[SiteLine] = []
+    raw_lines = data.get("lines", [])
+    if not isinstance(raw_lines, list):
+        c.add(InvalidInputError("site.lines", raw_lines, "a list of [[lines]] tables"))
+        raw_lines = []
+    names: set[str] = set()
+    for i, ln in enumerate(raw_lines):
+        p = f"site.lines[{i}]."
+        if not isinstance(ln, Mapping):
+            c.add(InvalidInputError(f"site.lines[{i}]", ln, "a table with name, equipment, description"))
+            continue
+        check_keys(c, ln, ("name", "equipment", "description"), p)
+        name = _text(c, ln, "name", p + "name", required=True, max_len=80)
+        if name and name in names:
+            c.add(InvalidInputError(p + "name", name, "a name not used by another line"))
+        names.add(name)
+        desc = _text(c, ln, "description", p + "description", required=False)
+        ids = _line_equipment(c, ln.get("equipment", []), p, library)
+        lines.append(SiteLine(name, ids, desc))
+    return tuple(lines)
+
+
 def site_from_dict(data: Mapping[str, Any], source: str = "site", library=None) -> SiteSettings:
     """Validate a site-settings table (as read from TOML); every problem is reported together.
 
@@ -225,65 +334,15 @@ def site_from_dict(data: Mapping[str, Any], source: str = "site", library=None) 
     c = Collector(source)
     if not isinstance(data, Mapping):
         raise InvalidInputError("site", data, "a TOML table")
-    _unknown(c, data, _TOP_KEYS, "site.")
+    check_keys(c, data, _TOP_KEYS, "site.")
     plant = _text(c, data, "plant", "site.plant", required=True)
     address = _text(c, data, "address", "site.address", required=False, max_len=300)
-    prefix = data.get("document_prefix", "BP")
-    if not isinstance(prefix, str) or not _PREFIX_PATTERN.match(prefix):
-        c.add(
-            InvalidInputError(
-                "site.document_prefix",
-                prefix,
-                "1-16 characters A-Z a-z 0-9 -, starting with a letter or digit",
-            )
-        )
-        prefix = "BP"
+    prefix = _document_prefix(c, data)
     units = _table(c, data, "units", ("temperature", "time"))
     t_unit = _choice(c, units, "temperature", "site.units.temperature", TEMPERATURE_UNITS, "C")
     time_unit = _choice(c, units, "time", "site.units.time", TIME_UNITS, "min")
-    defaults = _table(c, data, "defaults", ("margin_percent", "margin_min", "rules", "paper"))
-    margin_percent = _number(
-        c,
-        defaults,
-        "margin_percent",
-        "site.defaults.margin_percent",
-        20.0,
-        minimum=0.0,
-        maximum=500.0,
-        unit="%",
-    )
-    margin_min = _number(
-        c, defaults, "margin_min", "site.defaults.margin_min", 0.0, minimum=0.0, maximum=24 * 60.0, unit="min"
-    )
-    paper = _choice(c, defaults, "paper", "site.defaults.paper", PAPER_SIZES, "a4")
-    rules_raw = defaults.get("rules", [])
-    rules: list[str] = []
-    if not isinstance(rules_raw, list):
-        c.add(InvalidInputError("site.defaults.rules", rules_raw, "a list of rule names"))
-        rules_raw = []
-    for i, r in enumerate(rules_raw):
-        f = f"site.defaults.rules[{i}]"
-        if not isinstance(r, str) or not NAME_PATTERN.match(r):
-            c.add(InvalidInputError(f, r, "a rule name: 1-64 characters a-z 0-9 . _ -"))
-        elif library is not None and r not in library.rules:
-            c.add(InvalidInputError(f, r, "one of the library's rules: " + ", ".join(sorted(library.rules))))
-        else:
-            rules.append(r)
-    energy = _table(c, data, "energy", ("price_per_kWh", "currency"))
-    price = _number(c, energy, "price_per_kWh", "site.energy.price_per_kWh", None, minimum=0.0, maximum=100.0)
-    currency = energy.get("currency", "")
-    if currency != "" and (not isinstance(currency, str) or not _CURRENCY_PATTERN.match(currency)):
-        c.add(InvalidInputError("site.energy.currency", currency, "a currency code of 1-8 letters, e.g. GBP"))
-        currency = ""
-    if price is not None and not currency:
-        c.add(
-            InvalidInputError(
-                "site.energy.currency",
-                currency or None,
-                "a currency code of 1-8 letters",
-                "a price needs its currency",
-            )
-        )
+    defaults = _defaults(c, data, library)
+    price, currency = _energy(c, data)
     probe = _table(c, data, "probe", ("tolerance_K",))
     tol = _number(
         c,
@@ -296,57 +355,20 @@ def site_from_dict(data: Mapping[str, Any], source: str = "site", library=None) 
         maximum=10.0,
         unit="K",
     )
-    lines: list[SiteLine] = []
-    raw_lines = data.get("lines", [])
-    if not isinstance(raw_lines, list):
-        c.add(InvalidInputError("site.lines", raw_lines, "a list of [[lines]] tables"))
-        raw_lines = []
-    names: set[str] = set()
-    for i, ln in enumerate(raw_lines):
-        p = f"site.lines[{i}]."
-        if not isinstance(ln, Mapping):
-            c.add(InvalidInputError(f"site.lines[{i}]", ln, "a table with name, equipment, description"))
-            continue
-        _unknown(c, ln, ("name", "equipment", "description"), p)
-        name = _text(c, ln, "name", p + "name", required=True, max_len=80)
-        if name and name in names:
-            c.add(InvalidInputError(p + "name", name, "a name not used by another line"))
-        names.add(name)
-        desc = _text(c, ln, "description", p + "description", required=False)
-        eq = ln.get("equipment", [])
-        ids: list[str] = []
-        if not isinstance(eq, list):
-            c.add(InvalidInputError(p + "equipment", eq, "a list of equipment ids"))
-            eq = []
-        for j, e in enumerate(eq):
-            f = f"{p}equipment[{j}]"
-            if not isinstance(e, str) or not NAME_PATTERN.match(e):
-                c.add(InvalidInputError(f, e, "an equipment id: 1-64 characters a-z 0-9 . _ -"))
-            elif library is not None and e not in library.equipment:
-                c.add(
-                    InvalidInputError(
-                        f, e, "one of the library's machines: " + ", ".join(sorted(library.equipment))
-                    )
-                )
-            else:
-                ids.append(e)
-        lines.append(SiteLine(name, tuple(ids), desc))
+    lines = _lines(c, data, library)
     c.raise_if_any()
     return SiteSettings(
         plant=plant,
         address=address,
-        lines=tuple(lines),
+        lines=lines,
         temperature_unit=t_unit,
         time_unit=time_unit,
-        margin_percent=margin_percent,
-        margin_min=margin_min,
-        default_rules=tuple(rules),
         energy_price_per_kWh=price,
         currency=currency,
-        paper=paper,
         document_prefix=prefix,
         probe_tolerance_K=tol,
         source=source,
+        **defaults,
     )
 
 

@@ -58,8 +58,6 @@ from procplan.outcomes.rules import (
     StageCheck,
     check_rule,
     check_rule_on_history,
-    rule_from_dict,
-    rule_to_dict,
 )
 from procplan.outcomes.targets import DIRECTIONS, TargetResult, history_arrays, time_to_temperature
 
@@ -111,8 +109,6 @@ __all__ = [
     "pham_mean_freezing_temperature_C",
     "plan_time_min",
     "refrigeration_energy",
-    "rule_from_dict",
-    "rule_to_dict",
     "time_to_lethality",
     "time_to_temperature",
     "volume_average_log_reduction",

@@ -2,9 +2,8 @@
 
 A :class:`Rule` is a list of **stages** (go from one temperature to another within a time) and **bands**
 (stay inside, or keep out of, a temperature range for at least / at most a time), applied to one monitored
-point of the product (core by default). Rules live in ``product_library/rules/*.toml``; this module only
-parses and validates the mapping read from such a file (:func:`rule_from_dict`, :func:`rule_to_dict`), so
-that the library loader stays generic.
+point of the product (core by default). Rules live in ``product_library/rules/*.toml``, read and written by
+:mod:`procplan.files.rules`; nothing here does I/O.
 
 Stage clocks. The first stage's clock starts when the monitored point first reaches its ``from_C`` (or at the
 start of the history when ``from_C`` is omitted, or when the history already starts past ``from_C``). Each
@@ -18,12 +17,10 @@ Histories are taken as piecewise linear in time: crossing times and time-in-band
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Any
 
 import numpy as np
 
-from procplan import validate
-from procplan.errors import Collector, InvalidInputError
+from procplan.errors import InvalidInputError
 from procplan.outcomes.targets import TargetResult, history_arrays, time_to_temperature
 
 #: Kinds of rule, with the direction their stages go ("down": each stage cools, "up": each heats).
@@ -32,10 +29,6 @@ RULE_KINDS: dict[str, str | None] = {"cooling": "down", "heating": "up", "holdin
 RULE_POINTS: dict[str, str] = {"core": "core_C", "surface": "surface_C", "mean": "mean_C"}
 #: Stage clocks (see the module notes).
 STAGE_CLOCKS: tuple[str, ...] = ("stage", "rule")
-
-_RULE_KEYS = {"name", "title", "source", "kind", "point", "notes", "stages", "bands"}
-_STAGE_KEYS = {"from_C", "to_C", "within_min", "clock"}
-_BAND_KEYS = {"name", "low_C", "high_C", "at_least_min", "at_most_min", "max_outside_min"}
 
 
 @dataclass(frozen=True)
@@ -110,231 +103,6 @@ class Rule:
     def column(self) -> str:
         """History column of the monitored point (e.g. ``core_C``)."""
         return RULE_POINTS[self.point]
-
-
-# --- parse and validate -------------------------------------------------------------------------------
-
-
-def _opt_number(c: Collector, fieldname: str, value: Any, **kw) -> float | None:
-    if value is None:
-        return None
-    with c.catch():
-        return validate.number(fieldname, value, **kw)
-    return None
-
-
-def _check_keys(c: Collector, where: str, data: dict, allowed: set[str]) -> None:
-    for key in data:
-        if key not in allowed:
-            c.add(
-                InvalidInputError(
-                    f"{where}{key}", data[key], "one of the keys " + ", ".join(sorted(allowed)), "unknown key"
-                )
-            )
-
-
-def rule_from_dict(data: dict, source: str = "rule") -> Rule:
-    """Build a :class:`Rule` from a mapping (a parsed rule file), reporting every problem at once.
-
-    Parameters
-    ----------
-    data : mapping with keys name, source, kind, point, title, notes, stages (list of mappings with
-        from_C, to_C, within_min, clock) and bands (list of mappings with low_C, high_C, at_least_min,
-        at_most_min, max_outside_min, name)
-    source : where the mapping came from (a file name), used in error messages
-
-    Raises
-    ------
-    InvalidInputError (or ValidationErrors, its subclass, for several problems), naming each field.
-
-    >>> r = rule_from_dict({"name": "x", "source": "s", "kind": "cooling",
-    ...                     "stages": [{"from_C": 57, "to_C": 21, "within_min": 120}]})
-    >>> r.stages[0]
-    Stage(from_C=57.0, to_C=21.0, within_min=120.0, clock='stage')
-    >>> rule_from_dict({"name": "x", "source": "s", "kind": "cooling",
-    ...                 "stages": [{"from_C": 21, "to_C": 57, "within_min": 120}]})
-    Traceback (most recent call last):
-    ...
-    procplan.errors.InvalidInputError: stages[0].to_C = '21 → 57': allowed below from_C for a cooling rule
-    """
-    c = Collector(source)
-    if not isinstance(data, dict):
-        raise InvalidInputError(source, type(data).__name__, "a table of rule keys")
-    _check_keys(c, "", data, _RULE_KEYS)
-
-    def text(key: str, required: bool) -> str:
-        v = data.get(key, "")
-        if not isinstance(v, str) or (required and not v.strip()):
-            c.add(InvalidInputError(key, v, "a non-empty text" if required else "a text"))
-            return ""
-        return v.strip()
-
-    name = text("name", True)
-    citation = text("source", True)
-    title = text("title", False)
-    notes = text("notes", False)
-    kind = data.get("kind", "cooling")
-    with c.catch():
-        validate.choice("kind", kind, RULE_KINDS)
-    point = data.get("point", "core")
-    with c.catch():
-        validate.choice("point", point, RULE_POINTS)
-    direction = RULE_KINDS.get(kind) if isinstance(kind, str) else None
-
-    stages: list[Stage] = []
-    raw_stages = data.get("stages", [])
-    if not isinstance(raw_stages, list):
-        c.add(InvalidInputError("stages", raw_stages, "a list of stage tables"))
-        raw_stages = []
-    for i, s in enumerate(raw_stages):
-        w = f"stages[{i}]."
-        if not isinstance(s, dict):
-            c.add(InvalidInputError(f"stages[{i}]", s, "a table with from_C, to_C, within_min"))
-            continue
-        _check_keys(c, w, s, _STAGE_KEYS)
-        frm = _opt_number(c, w + "from_C", s.get("from_C"), unit="°C")
-        if "to_C" not in s:
-            c.add(InvalidInputError(w + "to_C", None, "a temperature in °C", "required"))
-        to = _opt_number(c, w + "to_C", s.get("to_C"), unit="°C")
-        if "within_min" not in s:
-            c.add(InvalidInputError(w + "within_min", None, "> 0 min", "required"))
-        within = _opt_number(
-            c, w + "within_min", s.get("within_min"), minimum=0.0, min_inclusive=False, unit="min"
-        )
-        clock = s.get("clock", "stage")
-        with c.catch():
-            validate.choice(w + "clock", clock, STAGE_CLOCKS)
-        if i == 0 and clock == "rule":
-            clock = "stage"  # the first stage's clock is the rule's clock
-        if frm is not None and to is not None and direction is not None:
-            if direction == "down" and not to < frm:
-                c.add(InvalidInputError(w + "to_C", f"{frm:g} → {to:g}", f"below from_C for a {kind} rule"))
-            if direction == "up" and not to > frm:
-                c.add(InvalidInputError(w + "to_C", f"{frm:g} → {to:g}", f"above from_C for a {kind} rule"))
-        if stages and to is not None and direction is not None:
-            prev = stages[-1]
-            if (direction == "down" and not to < prev.to_C) or (direction == "up" and not to > prev.to_C):
-                c.add(
-                    InvalidInputError(
-                        w + "to_C",
-                        to,
-                        f"{'below' if direction == 'down' else 'above'} the previous stage's to_C ({prev.to_C:g} °C)",
-                        "stages go one way",
-                    )
-                )
-        if stages and clock == "rule" and within is not None:
-            prev_total = _stage_total_allowed(stages)
-            if prev_total is not None and not within > prev_total:
-                c.add(
-                    InvalidInputError(
-                        w + "within_min",
-                        within,
-                        f"> {prev_total:g} min (the total already allowed before this stage)",
-                        'clock = "rule" counts from the first stage',
-                    )
-                )
-        if to is not None and within is not None:
-            stages.append(Stage(frm, to, within, clock))
-    if direction is None and stages and isinstance(kind, str) and kind in RULE_KINDS:
-        c.add(
-            InvalidInputError("stages", f"{len(stages)} stage(s)", f"no stages for a {kind} rule (use bands)")
-        )
-
-    bands: list[Band] = []
-    raw_bands = data.get("bands", [])
-    if not isinstance(raw_bands, list):
-        c.add(InvalidInputError("bands", raw_bands, "a list of band tables"))
-        raw_bands = []
-    for i, b in enumerate(raw_bands):
-        w = f"bands[{i}]."
-        if not isinstance(b, dict):
-            c.add(InvalidInputError(f"bands[{i}]", b, "a table with low_C/high_C and a time limit"))
-            continue
-        _check_keys(c, w, b, _BAND_KEYS)
-        lo = _opt_number(c, w + "low_C", b.get("low_C"), unit="°C")
-        hi = _opt_number(c, w + "high_C", b.get("high_C"), unit="°C")
-        if lo is None and hi is None:
-            c.add(
-                InvalidInputError(w + "low_C", None, "low_C and/or high_C", "a band needs at least one end")
-            )
-        if lo is not None and hi is not None and not lo < hi:
-            c.add(InvalidInputError(w + "high_C", hi, f"> low_C ({lo:g} °C)"))
-        limits = {
-            k: _opt_number(c, w + k, b.get(k), minimum=0.0, unit="min")
-            for k in ("at_least_min", "at_most_min", "max_outside_min")
-        }
-        if all(b.get(k) is None for k in limits):
-            c.add(
-                InvalidInputError(
-                    w + "at_least_min", None, "at least one of at_least_min, at_most_min, max_outside_min"
-                )
-            )
-        bname = b.get("name", "")
-        if not isinstance(bname, str):
-            c.add(InvalidInputError(w + "name", bname, "a text"))
-            bname = ""
-        bands.append(
-            Band(lo, hi, limits["at_least_min"], limits["at_most_min"], limits["max_outside_min"], bname)
-        )
-    if not raw_stages and not raw_bands:
-        c.add(InvalidInputError("stages", [], "at least one stage or band"))
-    c.raise_if_any()
-    return Rule(name, citation, kind, tuple(stages), tuple(bands), point, title, notes)
-
-
-def _stage_total_allowed(stages: list[Stage] | tuple[Stage, ...]) -> float | None:
-    """Total allowed time from the first stage's start, when every stage so far counts from it (else None)."""
-    total = 0.0
-    for j, s in enumerate(stages):
-        if j == 0:
-            total = s.within_min
-        elif s.clock == "rule":
-            total = s.within_min
-        else:
-            return None
-    return total
-
-
-def rule_to_dict(rule: Rule) -> dict:
-    """The mapping :func:`rule_from_dict` reads, omitting defaults and empty values (TOML-ready).
-
-    >>> r = rule_from_dict({"name": "x", "source": "s", "kind": "storage",
-    ...                     "bands": [{"low_C": 2, "high_C": 8, "max_outside_min": 0}]})
-    >>> rule_from_dict(rule_to_dict(r)) == r
-    True
-    """
-    d: dict[str, Any] = {"name": rule.name}
-    if rule.title:
-        d["title"] = rule.title
-    d["source"] = rule.source
-    d["kind"] = rule.kind
-    if rule.point != "core":
-        d["point"] = rule.point
-    if rule.notes:
-        d["notes"] = rule.notes
-    if rule.stages:
-        d["stages"] = []
-        for s in rule.stages:
-            sd: dict[str, Any] = {}
-            if s.from_C is not None:
-                sd["from_C"] = s.from_C
-            sd["to_C"] = s.to_C
-            sd["within_min"] = s.within_min
-            if s.clock != "stage":
-                sd["clock"] = s.clock
-            d["stages"].append(sd)
-    if rule.bands:
-        d["bands"] = []
-        for b in rule.bands:
-            bd: dict[str, Any] = {}
-            if b.name:
-                bd["name"] = b.name
-            for k in ("low_C", "high_C", "at_least_min", "at_most_min", "max_outside_min"):
-                v = getattr(b, k)
-                if v is not None:
-                    bd[k] = v
-            d["bands"].append(bd)
-    return d
 
 
 # --- check ---------------------------------------------------------------------------------------------
@@ -455,9 +223,7 @@ def check_rule(rule: Rule, time_s, temperature_C) -> RuleCheck:
     time_s : sample times [s], strictly increasing
     temperature_C : the monitored point's temperature at each time [°C]
 
-    >>> r = rule_from_dict({"name": "two-stage", "source": "s", "kind": "cooling", "stages": [
-    ...     {"from_C": 57, "to_C": 21, "within_min": 120},
-    ...     {"from_C": 21, "to_C": 5, "within_min": 360, "clock": "rule"}]})
+    >>> r = Rule("two-stage", "s", "cooling", stages=(Stage(57.0, 21.0, 120.0), Stage(21.0, 5.0, 360.0, "rule")))
     >>> chk = check_rule(r, [0, 3600, 7200, 18000], [57.0, 39.0, 21.0, 5.0])
     >>> chk.passed, [round(s.margin_min, 1) for s in chk.stages]
     (True, [0.0, 60.0])

@@ -13,7 +13,7 @@ import pandas as pd
 
 from procplan import outcomes as oc
 from procplan.errors import InvalidInputError
-from procplan.files.plan import LethalityCheck
+from procplan.model import LethalityCheck
 
 #: Evaporating temperature below the medium and condensing temperature assumed when a step names no
 #: machine (common practice for air coolers: 6–10 K approach; air-cooled condensers about 35 °C).

@@ -21,7 +21,7 @@ from procplan import validate
 from procplan.conduction.finite_volume import solve_conduction
 from procplan.conduction.regime import Regime, classify_regime
 from procplan.errors import InvalidInputError
-from procplan.files.plan import SOLVERS, Plan, Step
+from procplan.model import SOLVERS, Plan, Step
 from procplan.properties.table import PropertyTable
 from procplan.run.step_surface import StepSurface, resolve_step_surface
 

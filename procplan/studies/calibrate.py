@@ -35,7 +35,7 @@ from scipy.optimize import least_squares
 
 from procplan import validate
 from procplan.errors import InvalidInputError
-from procplan.files.plan import Plan
+from procplan.model import Plan
 from procplan.studies.logger import LoggerData
 
 #: Parameters that can be fitted.

@@ -17,7 +17,7 @@ import pandas as pd
 
 from procplan import validate
 from procplan.errors import InvalidInputError
-from procplan.files.plan import DIMENSION_KEYS, Plan
+from procplan.model import DIMENSION_KEYS, Plan
 from procplan.studies.metrics import CRITERIA, METRIC_COLUMNS, result_metrics
 
 #: Keys a variant may change, with what they do.
@@ -181,7 +181,7 @@ def variants_of(plan: Plan, changes: Sequence[Mapping[str, Any]], *, library=Non
     Examples
     --------
     >>> from procplan.geometry import Geometry
-    >>> from procplan.files.plan import Plan, Product, Step, FixedProperties
+    >>> from procplan.model import Plan, Product, Step, FixedProperties
     >>> prod = Product("slab", Geometry("slab", thickness_m=0.05), fixed_properties=FixedProperties(0.5, 1000, 3500))
     >>> base = Plan("p", prod, 70.0, (Step("chill", 3600.0, 5.0, medium_C=0.0, h_W_m2K=20.0),))
     >>> [v.steps[0].h_W_m2K for v in variants_of(base, [{"h_W_m2K": 40}, {"name": "thin", "thickness_mm": 30}])]

@@ -34,7 +34,7 @@ from scipy.optimize import brentq
 
 from procplan import validate
 from procplan.errors import InvalidInputError
-from procplan.files.plan import MAX_STEP_MIN, Plan
+from procplan.model import MAX_STEP_MIN, Plan
 from procplan.outcomes import plan_time_min
 from procplan.properties.table import MODEL_RANGE_C
 
@@ -364,7 +364,7 @@ def required_setting(
     within 10 min? (Lumped body: h = ρ c V ln(θi/θ)/(A t) = 8500·400·(0.02/6)·ln 6/600 = 33.85 W/m²K.)
 
     >>> from procplan.geometry import Geometry
-    >>> from procplan.files.plan import Plan, Product, Step, FixedProperties
+    >>> from procplan.model import Plan, Product, Step, FixedProperties
     >>> prod = Product("ball", Geometry("sphere", diameter_m=0.02), fixed_properties=FixedProperties(1e4, 8500, 400))
     >>> plan = Plan("ball", prod, 80.0, (Step("cool", 3600.0, 30.0, medium_C=20.0, h_W_m2K=10.0),))
     >>> r = required_setting(plan, step_index=0, parameter="h_W_m2K", goal="time", target_min=10.0, bounds=(5, 200))

@@ -32,8 +32,8 @@ class Job:
 
 def make_job(key: Any, plan, library, *, solver=None, n_nodes=None, dt_s=None) -> Job:
     """A :class:`Job` carrying the machines and the rule ``plan`` refers to, taken from ``library``."""
-    from procplan.outcomes import rule_to_dict
-    from procplan.surface.machines import equipment_to_dict
+    from procplan.files.machines import equipment_to_dict
+    from procplan.files.rules import rule_to_dict
 
     eq, rules = [], []
     if library is not None:
@@ -48,8 +48,8 @@ def make_job(key: Any, plan, library, *, solver=None, n_nodes=None, dt_s=None) -
 
 def _library_of(job: Job):
     from procplan.files.library import Library
-    from procplan.outcomes import rule_from_dict
-    from procplan.surface.machines import equipment_from_dict
+    from procplan.files.machines import equipment_from_dict
+    from procplan.files.rules import rule_from_dict
 
     lib = Library(root=Path("."))
     for d in job.equipment:

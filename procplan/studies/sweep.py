@@ -15,7 +15,7 @@ from dataclasses import dataclass, field
 import pandas as pd
 
 from procplan.errors import InvalidInputError
-from procplan.files.plan import Checks, Plan, Step
+from procplan.model import Checks, Plan, Step
 from procplan.studies.metrics import METRIC_COLUMNS
 from procplan.studies.runner import make_job, run_jobs
 

@@ -37,7 +37,7 @@ from scipy import stats
 
 from procplan import validate
 from procplan.errors import InvalidInputError
-from procplan.files.plan import Plan
+from procplan.model import Plan
 
 PERCENTILES = (50.0, 95.0, 99.0)
 #: Terms of each 1-D series in the fast path; with Fo ≥ FO_FLOOR the truncation is below 1e-8 in θ.
@@ -759,8 +759,8 @@ def bench_variability(n_samples: int = 10_000, seed: int = 1) -> dict[str, float
     the per-sample cost of the run_plan path (``run_per_sample_s``, from 20 samples) and the samples per
     second of the fast path.
     """
-    from procplan.files.plan import FixedProperties, Product, Step
     from procplan.geometry import Geometry
+    from procplan.model import FixedProperties, Product, Step
 
     prod = Product(
         "bench cylinder",

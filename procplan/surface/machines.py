@@ -1,8 +1,7 @@
 """Machines of a plant: kind, medium, adjustable settings with their ranges, refrigeration data.
 
-Pure parse/validate functions for the library and plan files (``equipment_from_dict``, ``equipment_to_dict``,
-``resolve_settings``) and the surface coefficient of a product in a machine (``equipment_h``). Files are read
-and written elsewhere (procplan.files.library); nothing here does I/O.
+Settings checks for plan files (``resolve_settings``) and the surface coefficient of a product in a machine
+(``equipment_h``). Equipment files are read and written by :mod:`procplan.files.machines`; nothing here does I/O.
 
 An equipment file, sketched::
 
@@ -20,7 +19,6 @@ An equipment file, sketched::
 
 from __future__ import annotations
 
-import re
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 from types import MappingProxyType
@@ -39,9 +37,7 @@ __all__ = [
     "Equipment",
     "SettingRange",
     "SettingSpec",
-    "equipment_from_dict",
     "equipment_h",
-    "equipment_to_dict",
     "medium_temperature_C",
     "resolve_settings",
 ]
@@ -81,21 +77,6 @@ MEDIA: dict[str, dict[str, tuple[str, ...]]] = {
 #: Kinds that refrigerate, for which evaporating and condensing temperatures are required.
 REFRIGERATED_KINDS = frozenset(
     k for k, v in EQUIPMENT_KINDS.items() if k not in ("convection-oven", "water-bath", "steam-oven")
-)
-
-_ID = re.compile(r"^[a-z0-9][a-z0-9-]{0,63}$")
-_TOP_KEYS = (
-    "id",
-    "name",
-    "kind",
-    "medium",
-    "plant",
-    "description",
-    "capacity_kW",
-    "evaporating_C",
-    "condensing_C",
-    "brine_nacl_fraction",
-    "settings",
 )
 
 
@@ -153,208 +134,6 @@ class Equipment:
         return {k: r.default for k, r in self.settings.items()}
 
 
-def _text(collector: Collector, data: Mapping[str, Any], key: str, required: bool) -> str:
-    v = data.get(key)
-    if v is None:
-        if required:
-            collector.add(InvalidInputError(key, None, "a text value", "required"))
-        return ""
-    if not isinstance(v, str):
-        collector.add(InvalidInputError(key, v, "a text value"))
-        return ""
-    return v
-
-
-def equipment_from_dict(data: Mapping[str, Any], source: str = "equipment") -> Equipment:
-    """Validate a machine description (as read from TOML) and build an Equipment; every problem is reported.
-
-    Parameters
-    ----------
-    data : the parsed table
-    source : where it came from (a file name), used in the error message
-
-    Raises
-    ------
-    InvalidInputError (ValidationErrors when there are several problems)
-
-    Examples
-    --------
-    >>> e = equipment_from_dict({"id": "c1", "name": "C1", "kind": "cold-room", "medium": "air", "capacity_kW": 5,
-    ...     "evaporating_C": -8, "condensing_C": 35,
-    ...     "settings": {"air_C": {"min": 0, "max": 6, "default": 2}, "air_speed_m_s": {"min": 0.1, "max": 1, "default": 0.3}}})
-    >>> e.settings["air_C"].default
-    2.0
-    """
-    c = Collector(source)
-    if not isinstance(data, Mapping):
-        raise InvalidInputError(source, type(data).__name__, "a table of equipment keys")
-    for key in data:
-        if key not in _TOP_KEYS:
-            c.add(InvalidInputError(str(key), data[key], "one of the keys " + ", ".join(_TOP_KEYS)))
-    eid = _text(c, data, "id", True)
-    if eid and not _ID.match(eid):
-        c.add(
-            InvalidInputError(
-                "id",
-                eid,
-                "lower-case letters, digits and hyphens, starting with a letter or digit, ≤ 64 characters",
-            )
-        )
-    name = _text(c, data, "name", True)
-    kind = _text(c, data, "kind", True)
-    medium = _text(c, data, "medium", True)
-    description = _text(c, data, "description", False)
-    plant = _text(c, data, "plant", False)
-    if kind:
-        with c.catch():
-            validate.choice("kind", kind, EQUIPMENT_KINDS)
-    if medium:
-        with c.catch():
-            validate.choice("medium", medium, MEDIA)
-    if kind in EQUIPMENT_KINDS and medium in MEDIA and EQUIPMENT_KINDS[kind].medium != medium:
-        c.add(InvalidInputError("medium", medium, f"'{EQUIPMENT_KINDS[kind].medium}' for a {kind}"))
-    capacity = 0.0
-    with c.catch():
-        capacity = validate.number(
-            "capacity_kW", data.get("capacity_kW"), minimum=0.0, min_inclusive=False, maximum=1e5, unit="kW"
-        )
-    evap = cond = None
-    refrigerated = kind in REFRIGERATED_KINDS
-    for key in ("evaporating_C", "condensing_C"):
-        v = data.get(key)
-        if v is None:
-            if refrigerated:
-                c.add(InvalidInputError(key, None, "a temperature in °C", f"required for a {kind}"))
-            continue
-        with c.catch():
-            x = validate.number(key, v, minimum=-100.0, maximum=100.0, unit="°C")
-            if key == "evaporating_C":
-                evap = x
-            else:
-                cond = x
-    if evap is not None and cond is not None and evap >= cond:
-        c.add(InvalidInputError("evaporating_C", evap, f"below condensing_C = {cond:g} °C"))
-    nacl = None
-    if data.get("brine_nacl_fraction") is not None or medium == "brine":
-        with c.catch():
-            nacl = validate.number(
-                "brine_nacl_fraction",
-                data.get("brine_nacl_fraction", 0.2 if medium == "brine" else None),
-                minimum=0.01,
-                maximum=0.23,
-            )
-            if medium != "brine":
-                raise InvalidInputError("brine_nacl_fraction", nacl, "only for a brine medium")
-    settings = _settings_from_dict(c, data.get("settings"), medium)
-    if (
-        kind in EQUIPMENT_KINDS
-        and medium in MEDIA
-        and evap is not None
-        and medium in ("air", "water", "brine")
-    ):
-        tkey = MEDIA[medium]["required"][0]
-        if tkey in settings and evap > settings[tkey].minimum:
-            c.add(
-                InvalidInputError(
-                    "evaporating_C",
-                    evap,
-                    f"below the lowest {tkey} = {settings[tkey].minimum:g} °C (heat flows from the medium to the refrigerant)",
-                )
-            )
-    c.raise_if_any()
-    return Equipment(
-        eid, name, kind, medium, MappingProxyType(settings), capacity, evap, cond, description, plant, nacl
-    )
-
-
-def _settings_from_dict(c: Collector, raw: Any, medium: str) -> dict[str, SettingRange]:
-    out: dict[str, SettingRange] = {}
-    if not isinstance(raw, Mapping):
-        c.add(
-            InvalidInputError(
-                "settings", raw, "a table of settings, e.g. air_C = { min = -10, max = 3, default = -4 }"
-            )
-        )
-        return out
-    allowed = MEDIA.get(medium, {"required": (), "optional": ()})
-    keys_ok = allowed["required"] + allowed["optional"]
-    for key, spec in raw.items():
-        field_name = f"settings.{key}"
-        if medium in MEDIA and key not in keys_ok:
-            c.add(
-                InvalidInputError(field_name, spec, f"a setting of a {medium} machine: " + ", ".join(keys_ok))
-            )
-            continue
-        if key not in SETTINGS:
-            continue
-        s = SETTINGS[key]
-        if (
-            not isinstance(spec, Mapping)
-            or set(spec) - {"min", "max", "default"}
-            or not {"min", "max", "default"} <= set(spec)
-        ):
-            c.add(InvalidInputError(field_name, spec, "{ min = ..., max = ..., default = ... }"))
-            continue
-        vals = {}
-        for part in ("min", "max", "default"):
-            with c.catch():
-                vals[part] = validate.number(
-                    f"{field_name}.{part}", spec[part], minimum=s.minimum, maximum=s.maximum, unit=s.unit
-                )
-        if len(vals) < 3:
-            continue
-        if vals["min"] > vals["max"]:
-            c.add(
-                InvalidInputError(
-                    f"{field_name}.min", vals["min"], f"≤ max = {vals['max']:g} {s.unit}".rstrip()
-                )
-            )
-            continue
-        if not vals["min"] <= vals["default"] <= vals["max"]:
-            c.add(
-                InvalidInputError(
-                    f"{field_name}.default",
-                    vals["default"],
-                    f"[{vals['min']:g}, {vals['max']:g}] {s.unit}".rstrip(),
-                )
-            )
-            continue
-        out[key] = SettingRange(vals["min"], vals["max"], vals["default"], s.unit)
-    for key in allowed["required"]:
-        if key not in raw:
-            c.add(
-                InvalidInputError(
-                    f"settings.{key}", None, "{ min, max, default }", f"required for a {medium} machine"
-                )
-            )
-    return out
-
-
-def equipment_to_dict(equipment: Equipment) -> dict[str, Any]:
-    """The inverse of :func:`equipment_from_dict`: plain data ready for TOML."""
-    d: dict[str, Any] = {
-        "id": equipment.id,
-        "name": equipment.name,
-        "kind": equipment.kind,
-        "medium": equipment.medium,
-    }
-    if equipment.plant:
-        d["plant"] = equipment.plant
-    if equipment.description:
-        d["description"] = equipment.description
-    d["capacity_kW"] = equipment.capacity_kW
-    if equipment.evaporating_C is not None:
-        d["evaporating_C"] = equipment.evaporating_C
-    if equipment.condensing_C is not None:
-        d["condensing_C"] = equipment.condensing_C
-    if equipment.brine_nacl_fraction is not None:
-        d["brine_nacl_fraction"] = equipment.brine_nacl_fraction
-    d["settings"] = {
-        k: {"min": r.minimum, "max": r.maximum, "default": r.default} for k, r in equipment.settings.items()
-    }
-    return d
-
-
 def medium_temperature_C(equipment: Equipment, settings: Mapping[str, Any]) -> float:
     """The medium temperature [°C] of resolved settings (air_C, water_C, brine_C or steam_C)."""
     return float(settings[equipment.temperature_key])
@@ -367,9 +146,8 @@ def resolve_settings(
 
     Raises InvalidInputError naming the setting and the machine's allowed range (all problems together).
 
-    >>> e = equipment_from_dict({"id": "c1", "name": "C1", "kind": "cold-room", "medium": "air", "capacity_kW": 5,
-    ...     "evaporating_C": -8, "condensing_C": 35,
-    ...     "settings": {"air_C": {"min": 0, "max": 6, "default": 2}, "air_speed_m_s": {"min": 0.1, "max": 1, "default": 0.3}}})
+    >>> e = Equipment("c1", "C1", "cold-room", "air", {"air_C": SettingRange(0.0, 6.0, 2.0, "°C"),
+    ...     "air_speed_m_s": SettingRange(0.1, 1.0, 0.3, "m/s")}, 5.0, -8.0, 35.0)
     >>> resolve_settings(e, {"air_C": 4})
     {'air_C': 4.0, 'air_speed_m_s': 0.3}
     >>> resolve_settings(e, {"air_C": 9})
@@ -411,9 +189,8 @@ def equipment_h(
     """Surface coefficient of a product in this machine at the given (or default) settings.
 
     >>> from procplan.geometry import Geometry
-    >>> e = equipment_from_dict({"id": "c1", "name": "C1", "kind": "cold-room", "medium": "air", "capacity_kW": 5,
-    ...     "evaporating_C": -8, "condensing_C": 35,
-    ...     "settings": {"air_C": {"min": 0, "max": 6, "default": 2}, "air_speed_m_s": {"min": 0.1, "max": 1, "default": 0.3}}})
+    >>> e = Equipment("c1", "C1", "cold-room", "air", {"air_C": SettingRange(0.0, 6.0, 2.0, "°C"),
+    ...     "air_speed_m_s": SettingRange(0.1, 1.0, 0.3, "m/s")}, 5.0, -8.0, 35.0)
     >>> r = equipment_h(e, {}, Geometry("cylinder", diameter_m=0.08), surface_C=15.0)
     >>> 5 < r.h_conv_W_m2K < 10
     True

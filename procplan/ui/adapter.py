@@ -168,7 +168,7 @@ def run(text: str, generation: int = 0) -> Outcome:
 
 def product_from_plan_dict(product_dict: dict):
     """Build a Product from the plan's [product] table (InvalidInputError on bad input)."""
-    from procplan.files.plan import product_from_dict
+    from procplan.files.product import product_from_dict
 
     data = dict(product_dict)
     data.pop("library", None)
@@ -177,7 +177,7 @@ def product_from_plan_dict(product_dict: dict):
 
 def product_dict_of(name: str, generation: int = 0) -> dict:
     """A library product as a plan [product] table (file units), remembering where it came from."""
-    from procplan.files.plan import product_to_dict
+    from procplan.files.product import product_to_dict
 
     d = product_to_dict(library(generation).products[name])
     d["library"] = name
@@ -191,7 +191,7 @@ def property_curves(product_toml: str, low_C: float = -40.0, high_C: float = 100
     Composition products use :func:`procplan.properties.food_properties`; products with measured
     properties use their property table (no ice fraction then).
     """
-    from procplan.files.plan import product_from_dict
+    from procplan.files.product import product_from_dict
     from procplan.files.tomlfile import parse_toml
     from procplan.properties import food_properties
 

@@ -182,7 +182,7 @@ def _step(step: dict, i: int, n: int, lib) -> str | None:
 
 
 def _checks(plan: dict, lib) -> None:
-    from procplan.files.plan import SOLVERS
+    from procplan.model import SOLVERS
     from procplan.outcomes import LETHALITY_PRESETS
 
     st.subheader("Checks and batch")

@@ -207,7 +207,7 @@ def _composition(prod: dict) -> None:
         if extra:
             st.caption("Also from the file (kept): " + ", ".join(f"{k} = {v:g}" for k, v in extra.items()))
     c1, c2 = st.columns(2)
-    from procplan.files.plan import FOOD_CATEGORIES
+    from procplan.model import FOOD_CATEGORIES
 
     cats = list(FOOD_CATEGORIES)
     prod["category"] = c1.selectbox(

@@ -13,7 +13,8 @@ from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 
 from procplan.errors import InvalidInputError
-from procplan.outcomes import check_rule, check_rule_on_history, rule_from_dict, rule_to_dict
+from procplan.files.rules import rule_from_dict, rule_to_dict
+from procplan.outcomes import check_rule, check_rule_on_history
 
 RULES_DIR = Path(__file__).resolve().parents[2] / "product_library" / "rules"
 

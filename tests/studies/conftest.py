@@ -7,10 +7,10 @@ from pathlib import Path
 import pytest
 
 from procplan.files.library import Library
-from procplan.files.plan import Checks, FixedProperties, Plan, Product, Step
+from procplan.files.rules import rule_from_dict
 from procplan.files.tomlfile import read_toml
 from procplan.geometry import Geometry
-from procplan.outcomes import rule_from_dict
+from procplan.model import Checks, FixedProperties, Plan, Product, Step
 
 ROOT = Path(__file__).resolve().parents[2]
 

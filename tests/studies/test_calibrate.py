@@ -9,7 +9,7 @@ from numpy.testing import assert_allclose
 
 from procplan.conduction.product import exact_temperature_at_C
 from procplan.errors import InvalidInputError
-from procplan.files.plan import Checks, LethalityCheck
+from procplan.model import Checks, LethalityCheck
 from procplan.outcomes import check_rule, f_value
 from procplan.studies.calibrate import calibrate, fitted_h_record, measured_outcomes
 from procplan.studies.logger import clean_logger, read_logger

@@ -97,7 +97,7 @@ def test_rule_goal_boundary_flips_the_verdict(rules_library):
 
 
 def test_lethality_goal_on_hold_time_meets_required_f():
-    from procplan.files.plan import Checks, LethalityCheck
+    from procplan.model import Checks, LethalityCheck
 
     # A thin slab heated in water at 75 °C: the hold that just gives Listeria 6-log (F70 = 2 min).
     base = lumped_sphere_plan(200.0)

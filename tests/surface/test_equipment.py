@@ -6,14 +6,9 @@ from pathlib import Path
 import pytest
 
 from procplan.errors import InvalidInputError, ValidationErrors
+from procplan.files.machines import equipment_from_dict, equipment_to_dict
 from procplan.geometry import Geometry
-from procplan.surface.machines import (
-    EQUIPMENT_KINDS,
-    equipment_from_dict,
-    equipment_h,
-    equipment_to_dict,
-    resolve_settings,
-)
+from procplan.surface.machines import EQUIPMENT_KINDS, equipment_h, resolve_settings
 from procplan.surface.ranges import BROAD_CLASSES, TYPICAL_H_RANGES_W_M2K
 
 LIBRARY = Path(__file__).resolve().parents[2] / "product_library" / "equipment"

@@ -1,0 +1,61 @@
+"""What every ``procplan`` sub-command shares: exit codes, loading the library, a plan and the site, JSON output.
+
+Exit codes: 0 done; 1 a check failed; 2 invalid input (bad arguments, plan, library or site file), with the
+field named.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import sys
+from pathlib import Path
+from typing import Any
+
+EXIT_OK, EXIT_CHECK_FAILED, EXIT_INVALID = 0, 1, 2
+
+
+def load_library_of(args):
+    """The library named by ``--library`` (default: the demo library)."""
+    from procplan.files.library import load_library
+
+    return load_library(args.library)
+
+
+def load_plan_of(path: str, lib):
+    """A plan file, or the plan of that name in ``lib`` when no such file exists."""
+    from procplan.files.plan import load_plan
+
+    p = Path(path)
+    if not p.exists() and lib is not None and path in lib.plans:
+        p = lib.plans[path]
+    return load_plan(p, library=lib)
+
+
+def load_site_of(args, lib=None):
+    """The site settings named by ``--site`` (default: the demo plant's), checked against ``lib``."""
+    from procplan.files.site import load_site
+
+    return load_site(args.site, library=lib)
+
+
+def _clean(x: Any) -> Any:
+    """Plain JSON data: numpy scalars as numbers, non-finite floats as null."""
+    if isinstance(x, dict):
+        return {str(k): _clean(v) for k, v in x.items()}
+    if isinstance(x, list | tuple):
+        return [_clean(v) for v in x]
+    if isinstance(x, float):
+        return x if math.isfinite(x) else None
+    if hasattr(x, "item") and not isinstance(x, str):
+        try:
+            return _clean(x.item())
+        except (TypeError, ValueError):
+            return str(x)
+    return x
+
+
+def write_json(obj: Any, *, indent: int | None = None) -> None:
+    """Write ``obj`` to stdout as one JSON document and a newline."""
+    json.dump(_clean(obj), sys.stdout, ensure_ascii=False, indent=indent)
+    sys.stdout.write("\n")

@@ -1,0 +1,254 @@
+"""Rule files (``product_library/rules/*.toml``) to and from :class:`procplan.outcomes.rules.Rule`.
+
+:func:`rule_from_dict` parses and validates the mapping read from a rule file and reports every problem at
+once; :func:`rule_to_dict` writes it back. What the stages and bands mean is told in
+:mod:`procplan.outcomes.rules`.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import Any
+
+from procplan import validate
+from procplan.errors import Collector, InvalidInputError
+from procplan.files.fields import check_keys
+from procplan.outcomes.rules import RULE_KINDS, RULE_POINTS, STAGE_CLOCKS, Band, Rule, Stage
+
+RULE_KEYS = ("bands", "kind", "name", "notes", "point", "source", "stages", "title")
+STAGE_KEYS = ("clock", "from_C", "to_C", "within_min")
+BAND_KEYS = ("at_least_min", "at_most_min", "high_C", "low_C", "max_outside_min", "name")
+BAND_LIMITS = ("at_least_min", "at_most_min", "max_outside_min")
+
+
+def _opt_number(c: Collector, fieldname: str, value: Any, **kw) -> float | None:
+    if value is None:
+        return None
+    with c.catch():
+        return validate.number(fieldname, value, **kw)
+    return None
+
+
+def _text(c: Collector, data: Mapping[str, Any], key: str, required: bool) -> str:
+    v = data.get(key, "")
+    if not isinstance(v, str) or (required and not v.strip()):
+        c.add(InvalidInputError(key, v, "a non-empty text" if required else "a text"))
+        return ""
+    return v.strip()
+
+
+def _stage_total_allowed(stages: list[Stage] | tuple[Stage, ...]) -> float | None:
+    """Total allowed time from the first stage's start, when every stage so far counts from it (else None)."""
+    total = 0.0
+    for j, s in enumerate(stages):
+        if j == 0:
+            total = s.within_min
+        elif s.clock == "rule":
+            total = s.within_min
+        else:
+            return None
+    return total
+
+
+def _check_stage_order(
+    c: Collector, w: str, kind: str, direction: str | None, frm, to, clock: str, within, stages: list[Stage]
+) -> None:
+    """A stage goes the rule's way, past the previous stage, and a rule clock allows more than before."""
+    if frm is not None and to is not None and direction is not None:
+        if direction == "down" and not to < frm:
+            c.add(InvalidInputError(w + "to_C", f"{frm:g} → {to:g}", f"below from_C for a {kind} rule"))
+        if direction == "up" and not to > frm:
+            c.add(InvalidInputError(w + "to_C", f"{frm:g} → {to:g}", f"above from_C for a {kind} rule"))
+    if stages and to is not None and direction is not None:
+        prev = stages[-1]
+        if (direction == "down" and not to < prev.to_C) or (direction == "up" and not to > prev.to_C):
+            c.add(
+                InvalidInputError(
+                    w + "to_C",
+                    to,
+                    f"{'below' if direction == 'down' else 'above'} the previous stage's to_C ({prev.to_C:g} °C)",
+                    "stages go one way",
+                )
+            )
+    if stages and clock == "rule" and within is not None:
+        prev_total = _stage_total_allowed(stages)
+        if prev_total is not None and not within > prev_total:
+            c.add(
+                InvalidInputError(
+                    w + "within_min",
+                    within,
+                    f"> {prev_total:g} min (the total already allowed before this stage)",
+                    'clock = "rule" counts from the first stage',
+                )
+            )
+
+
+def _stage(
+    c: Collector, i: int, s: dict, kind: str, direction: str | None, stages: list[Stage]
+) -> Stage | None:
+    """One ``[[stages]]`` table, checked against the stages before it; None when incomplete."""
+    w = f"stages[{i}]."
+    check_keys(c, s, STAGE_KEYS, w)
+    frm = _opt_number(c, w + "from_C", s.get("from_C"), unit="°C")
+    if "to_C" not in s:
+        c.add(InvalidInputError(w + "to_C", None, "a temperature in °C", "required"))
+    to = _opt_number(c, w + "to_C", s.get("to_C"), unit="°C")
+    if "within_min" not in s:
+        c.add(InvalidInputError(w + "within_min", None, "> 0 min", "required"))
+    within = _opt_number(
+        c, w + "within_min", s.get("within_min"), minimum=0.0, min_inclusive=False, unit="min"
+    )
+    clock = s.get("clock", "stage")
+    with c.catch():
+        validate.choice(w + "clock", clock, STAGE_CLOCKS)
+    if i == 0 and clock == "rule":
+        clock = "stage"  # the first stage's clock is the rule's clock
+    _check_stage_order(c, w, kind, direction, frm, to, clock, within, stages)
+    if to is not None and within is not None:
+        return Stage(frm, to, within, clock)
+    return None
+
+
+def _stages(c: Collector, raw_stages: Any, kind: Any) -> list[Stage]:
+    """The rule's stages, in order."""
+    direction = RULE_KINDS.get(kind) if isinstance(kind, str) else None
+    stages: list[Stage] = []
+    for i, s in enumerate(raw_stages):
+        if not isinstance(s, dict):
+            c.add(InvalidInputError(f"stages[{i}]", s, "a table with from_C, to_C, within_min"))
+            continue
+        stage = _stage(c, i, s, kind, direction, stages)
+        if stage is not None:
+            stages.append(stage)
+    if direction is None and stages and isinstance(kind, str) and kind in RULE_KINDS:
+        c.add(
+            InvalidInputError("stages", f"{len(stages)} stage(s)", f"no stages for a {kind} rule (use bands)")
+        )
+    return stages
+
+
+def _band(c: Collector, i: int, b: dict) -> Band:
+    """One ``[[bands]]`` table: a range with at least one end and at least one time limit."""
+    w = f"bands[{i}]."
+    check_keys(c, b, BAND_KEYS, w)
+    lo = _opt_number(c, w + "low_C", b.get("low_C"), unit="°C")
+    hi = _opt_number(c, w + "high_C", b.get("high_C"), unit="°C")
+    if lo is None and hi is None:
+        c.add(InvalidInputError(w + "low_C", None, "low_C and/or high_C", "a band needs at least one end"))
+    if lo is not None and hi is not None and not lo < hi:
+        c.add(InvalidInputError(w + "high_C", hi, f"> low_C ({lo:g} °C)"))
+    limits = {k: _opt_number(c, w + k, b.get(k), minimum=0.0, unit="min") for k in BAND_LIMITS}
+    if all(b.get(k) is None for k in limits):
+        c.add(
+            InvalidInputError(
+                w + "at_least_min", None, "at least one of at_least_min, at_most_min, max_outside_min"
+            )
+        )
+    bname = b.get("name", "")
+    if not isinstance(bname, str):
+        c.add(InvalidInputError(w + "name", bname, "a text"))
+        bname = ""
+    return Band(lo, hi, limits["at_least_min"], limits["at_most_min"], limits["max_outside_min"], bname)
+
+
+def _list(c: Collector, data: dict, key: str, what: str) -> list:
+    raw = data.get(key, [])
+    if not isinstance(raw, list):
+        c.add(InvalidInputError(key, raw, what))
+        return []
+    return raw
+
+
+def rule_from_dict(data: dict, source: str = "rule") -> Rule:
+    """Build a :class:`Rule` from a mapping (a parsed rule file), reporting every problem at once.
+
+    Parameters
+    ----------
+    data : mapping with keys name, source, kind, point, title, notes, stages (list of mappings with
+        from_C, to_C, within_min, clock) and bands (list of mappings with low_C, high_C, at_least_min,
+        at_most_min, max_outside_min, name)
+    source : where the mapping came from (a file name), used in error messages
+
+    Raises
+    ------
+    InvalidInputError (or ValidationErrors, its subclass, for several problems), naming each field.
+
+    >>> r = rule_from_dict({"name": "x", "source": "s", "kind": "cooling",
+    ...                     "stages": [{"from_C": 57, "to_C": 21, "within_min": 120}]})
+    >>> r.stages[0]
+    Stage(from_C=57.0, to_C=21.0, within_min=120.0, clock='stage')
+    >>> rule_from_dict({"name": "x", "source": "s", "kind": "cooling",
+    ...                 "stages": [{"from_C": 21, "to_C": 57, "within_min": 120}]})
+    Traceback (most recent call last):
+    ...
+    procplan.errors.InvalidInputError: stages[0].to_C = '21 → 57': allowed below from_C for a cooling rule
+    """
+    c = Collector(source)
+    if not isinstance(data, dict):
+        raise InvalidInputError(source, type(data).__name__, "a table of rule keys")
+    check_keys(c, data, RULE_KEYS)
+    name = _text(c, data, "name", True)
+    citation = _text(c, data, "source", True)
+    title = _text(c, data, "title", False)
+    notes = _text(c, data, "notes", False)
+    kind = data.get("kind", "cooling")
+    with c.catch():
+        validate.choice("kind", kind, RULE_KINDS)
+    point = data.get("point", "core")
+    with c.catch():
+        validate.choice("point", point, RULE_POINTS)
+    raw_stages = _list(c, data, "stages", "a list of stage tables")
+    stages = _stages(c, raw_stages, kind)
+    raw_bands = _list(c, data, "bands", "a list of band tables")
+    bands: list[Band] = []
+    for i, b in enumerate(raw_bands):
+        if not isinstance(b, dict):
+            c.add(InvalidInputError(f"bands[{i}]", b, "a table with low_C/high_C and a time limit"))
+            continue
+        bands.append(_band(c, i, b))
+    if not raw_stages and not raw_bands:
+        c.add(InvalidInputError("stages", [], "at least one stage or band"))
+    c.raise_if_any()
+    return Rule(name, citation, kind, tuple(stages), tuple(bands), point, title, notes)
+
+
+def rule_to_dict(rule: Rule) -> dict:
+    """The mapping :func:`rule_from_dict` reads, omitting defaults and empty values (TOML-ready).
+
+    >>> r = rule_from_dict({"name": "x", "source": "s", "kind": "storage",
+    ...                     "bands": [{"low_C": 2, "high_C": 8, "max_outside_min": 0}]})
+    >>> rule_from_dict(rule_to_dict(r)) == r
+    True
+    """
+    d: dict[str, Any] = {"name": rule.name}
+    if rule.title:
+        d["title"] = rule.title
+    d["source"] = rule.source
+    d["kind"] = rule.kind
+    if rule.point != "core":
+        d["point"] = rule.point
+    if rule.notes:
+        d["notes"] = rule.notes
+    if rule.stages:
+        d["stages"] = []
+        for s in rule.stages:
+            sd: dict[str, Any] = {}
+            if s.from_C is not None:
+                sd["from_C"] = s.from_C
+            sd["to_C"] = s.to_C
+            sd["within_min"] = s.within_min
+            if s.clock != "stage":
+                sd["clock"] = s.clock
+            d["stages"].append(sd)
+    if rule.bands:
+        d["bands"] = []
+        for b in rule.bands:
+            bd: dict[str, Any] = {}
+            if b.name:
+                bd["name"] = b.name
+            for k in ("low_C", "high_C", "at_least_min", "at_most_min", "max_outside_min"):
+                v = getattr(b, k)
+                if v is not None:
+                    bd[k] = v
+            d["bands"].append(bd)
+    return d

@@ -1,0 +1,161 @@
+"""The plan's records: a product, its starting state, ordered process steps and the checks to apply.
+
+Frozen dataclasses holding SI values (metres, seconds, °C) and the constants that bound them; no I/O here.
+Plan files (user units: mm, min, °C) are read and written by :mod:`procplan.files.plan`.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field, replace
+from typing import Any
+
+from procplan.geometry import Geometry
+from procplan.properties.table import PropertyTable
+from procplan.surface.layers import PackagingLayer
+
+#: Longest step accepted [min] (a week): beyond this the unit is almost surely wrong.
+MAX_STEP_MIN = 7 * 24 * 60.0
+#: Duration used for a step that only gives a stop condition [min].
+DEFAULT_STOP_CAP_MIN = 72 * 60.0
+#: Medium temperatures accepted [°C]: ovens run above the product-property range, which bounds the product only.
+MEDIUM_RANGE_C = (-80.0, 300.0)
+SOLVERS = ("auto", "exact", "finite-volume")
+POINTS = ("core", "surface", "mean")
+FOOD_CATEGORIES = ("meat", "fruit-vegetable", "juice", "other")
+DIMENSION_KEYS = ("thickness_mm", "diameter_mm", "length_mm", "width_mm", "height_mm")
+
+
+@dataclass(frozen=True)
+class FixedProperties:
+    """Measured constant properties that replace the composition model."""
+
+    k_W_mK: float
+    rho_kg_m3: float
+    cp_J_kgK: float
+    latent_J_kg: float = 0.0
+    freezing_C: float | None = None
+    frozen_k_W_mK: float | None = None
+    frozen_cp_J_kgK: float | None = None
+
+
+@dataclass(frozen=True)
+class Product:
+    """A product: name, shape and size, and either a composition or measured properties."""
+
+    name: str
+    geometry: Geometry
+    composition: tuple[tuple[str, float], ...] = ()
+    fixed_properties: FixedProperties | None = None
+    freezing_C: float | None = None
+    category: str = "meat"
+    conductivity_model: str = "parallel"
+    packaging: tuple[PackagingLayer, ...] = ()
+    unwrapped: bool = False
+    description: str = ""
+    library: str | None = None
+
+    @property
+    def composition_dict(self) -> dict[str, float]:
+        return dict(self.composition)
+
+    def property_table(self):
+        """The product's PropertyTable (composition model, or measured constants)."""
+        from procplan.properties import property_table
+
+        if self.fixed_properties is not None:
+            fp = self.fixed_properties
+            return PropertyTable.constant(
+                fp.k_W_mK,
+                fp.rho_kg_m3,
+                fp.cp_J_kgK,
+                latent_J_kg=fp.latent_J_kg,
+                freezing_C=fp.freezing_C,
+                frozen_k_W_mK=fp.frozen_k_W_mK,
+                frozen_cp_J_kgK=fp.frozen_cp_J_kgK,
+            )
+        from procplan.properties import Composition
+
+        comp = Composition.from_mapping(self.composition_dict)
+        return property_table(
+            comp,
+            freezing_C=self.freezing_C,
+            conductivity_model=self.conductivity_model,
+            category=self.category,
+        )
+
+
+@dataclass(frozen=True)
+class Target:
+    """A temperature to reach at a monitored point during a step."""
+
+    temperature_C: float
+    point: str = "core"
+
+
+@dataclass(frozen=True)
+class Step:
+    """One process step. The surface is either a given h with a medium temperature (constant or a
+    time profile), or a machine from the equipment library with its settings (constant, or a profile)."""
+
+    name: str
+    duration_s: float
+    stop_when_core_C: float | None = None
+    medium_C: float | None = None
+    medium_profile: tuple[tuple[float, float], ...] = ()  # (time_s, temperature_C)
+    h_W_m2K: float | None = None
+    equipment: str | None = None
+    settings: tuple[tuple[str, Any], ...] = ()
+    settings_profile: tuple[tuple[float, tuple[tuple[str, Any], ...]], ...] = ()  # (time_s, settings)
+    emissivity: float | None = None
+    surroundings_C: float | None = None
+    targets: tuple[Target, ...] = ()
+    duration_given: bool = True
+
+    @property
+    def settings_dict(self) -> dict[str, Any]:
+        return dict(self.settings)
+
+
+@dataclass(frozen=True)
+class LethalityCheck:
+    """A lethality requirement: a preset by name, or reference temperature, z and required F."""
+
+    preset: str | None = None
+    reference_C: float | None = None
+    z_C: float | None = None
+    required_F_min: float | None = None
+    d_value_min: float | None = None
+    point: str = "core"
+
+
+@dataclass(frozen=True)
+class Checks:
+    """What the result is judged against, and batch data for energy."""
+
+    cooling_rule: str | None = None
+    lethality: LethalityCheck | None = None
+    margin_percent: float = 0.0
+    margin_min: float = 0.0
+    pieces_per_batch: int = 1
+    cop_fraction: float = 0.5
+    energy_price_per_kWh: float | None = None
+    frozen_storage_C: float = -18.0
+
+
+@dataclass(frozen=True)
+class Plan:
+    """A whole plan: the unit every engine run, study and sheet starts from."""
+
+    title: str
+    product: Product
+    start_temperature_C: float
+    steps: tuple[Step, ...]
+    checks: Checks = field(default_factory=Checks)
+    solver: str = "auto"
+    notes: str = ""
+
+    def with_step(self, index: int, **changes: Any) -> Plan:
+        """A copy with one step changed (used by studies)."""
+        steps = list(self.steps)
+        steps[index] = replace(steps[index], **changes)
+        return replace(self, steps=tuple(steps))
