@@ -37,7 +37,18 @@ def test_wheel_runs_a_demo_plan_from_another_directory(tmp_path):
     venv.EnvBuilder(system_site_packages=True, with_pip=False).create(env_dir)
     python = env_dir / "bin" / "python"
     install = subprocess.run(
-        [sys.executable, "-m", "pip", "--python", str(python), "install", "--no-deps", "-q", str(wheel)],
+        [
+            sys.executable,
+            "-m",
+            "pip",
+            "--python",
+            str(python),
+            "install",
+            "--no-deps",
+            "--ignore-installed",
+            "-q",
+            str(wheel),
+        ],
         capture_output=True,
         text=True,
         timeout=300,
