@@ -328,8 +328,13 @@ def cmd_calibrate(args) -> int:
     for f in log.flags:
         print(f"  logger: {f}")
     print(
-        f"  h = {cal.h_W_m2K:.4g} W/m²K (95 % CI {cal.h_ci95[0]:.4g} … {cal.h_ci95[1]:.4g}); the plan assumed {cal.plan_h_W_m2K:.4g}"
+        f"  effective h = {cal.h_W_m2K:.4g} W/m²K (95 % CI {cal.h_ci95[0]:.4g} … {cal.h_ci95[1]:.4g}); the plan's effective h {cal.plan_h_W_m2K:.4g}"
     )
+    if cal.packaging_resistance_m2K_W > 0:
+        outside = f"{cal.h_outside_W_m2K:.4g} W/m²K" if cal.h_outside_W_m2K else "none (h ≥ 1/R)"
+        print(
+            f"  (packaging resistance {cal.packaging_resistance_m2K_W:.3g} m²K/W included; medium-side h {outside})"
+        )
     if cal.alpha_factor is not None:
         print(
             f"  diffusivity factor {cal.alpha_factor:.3f} (95 % CI {cal.alpha_ci95[0]:.3f} … {cal.alpha_ci95[1]:.3f})"
