@@ -251,12 +251,18 @@ def cmd_variability(args) -> int:
 
 
 # --- calibrate ----------------------------------------------------------------------------------------------
+def _logger_options(args) -> dict:
+    from procplan.studies.logger import OPTION_HELP
+
+    return {k: getattr(args, k) for k in OPTION_HELP}
+
+
 def cmd_calibrate(args) -> int:
     from procplan.studies.calibrate import calibrate, fitted_h_record
     from procplan.studies.logger import clean_logger, preview_logger, read_logger
 
     if args.preview:
-        pv = preview_logger(args.logfile, n_rows=args.rows)
+        pv = preview_logger(args.logfile, n_rows=args.rows, **_logger_options(args))
         m = pv.mapping
         if args.json:
             _dump(
@@ -267,11 +273,13 @@ def cmd_calibrate(args) -> int:
                     "encoding": pv.encoding,
                     "header": pv.header,
                     "rows": pv.rows.to_dict("records"),
+                    "decisions": list(pv.decisions),
                     "mapping": {
                         "time": m.time,
                         "time_unit": m.time_unit,
                         "channels": list(m.channels),
                         "temperature_unit": m.temperature_unit,
+                        "date": m.date,
                     },
                 }
             )
@@ -282,13 +290,15 @@ def cmd_calibrate(args) -> int:
         print(
             f"guessed: time = {m.time!r} ({m.time_unit}), channels = {', '.join(m.channels)} (°{m.temperature_unit})"
         )
+        for d in pv.decisions:
+            print(f"  read: {d}")
         print(pv.rows.to_string(index=False))
         return 0
     if not args.plan:
         raise InvalidInputError("--plan", None, "a plan file for the recorded process (or --preview)")
     lib = _lib(args)
     plan = _plan(args.plan, lib)
-    log = clean_logger(read_logger(args.logfile), jump_K=args.jump_K)
+    log = clean_logger(read_logger(args.logfile, **_logger_options(args)), jump_K=args.jump_K)
     cal = calibrate(
         plan,
         log,
@@ -302,6 +312,8 @@ def cmd_calibrate(args) -> int:
         cal.residuals.to_csv(args.csv, index=False)
     out = cal.to_dict()
     out["flags"] = list(log.flags)
+    out["logger_decisions"] = list(log.decisions)
+    out["logger_missing"] = dict(log.missing)
     measured = out["measured"]
     measured.pop("rule", None)
     if args.record:
@@ -325,6 +337,8 @@ def cmd_calibrate(args) -> int:
     print(
         f"calibration of '{plan.title}' against {cal.source}, channel {cal.channel} ({cal.n_points} points; {cal.method})"
     )
+    for d in log.decisions:
+        print(f"  read: {d}")
     for f in log.flags:
         print(f"  logger: {f}")
     print(
@@ -505,6 +519,11 @@ def register(subparsers) -> None:
         "--preview", action="store_true", help="show the first rows and the guessed column mapping only"
     )
     k.add_argument("--rows", type=int, default=10, help="rows to preview")
+    from procplan.studies.logger import OPTION_HELP
+
+    g = k.add_argument_group("logger format (each overrides what is detected from the file)")
+    for name, text in OPTION_HELP.items():
+        g.add_argument("--" + name.replace("_", "-"), help=text)
     k.add_argument("--channel", help="probe column (default: the first)")
     k.add_argument(
         "--fit", default="h", help="parameters to fit, comma-separated: h, alpha_factor, offset_mm"
