@@ -222,7 +222,7 @@ def _calibrate_preview(args) -> int:
     """``procplan calibrate --preview``: the logger file's first rows and the guessed column mapping."""
     from procplan.studies.logger import preview_logger
 
-    pv = preview_logger(args.logfile, n_rows=args.rows)
+    pv = preview_logger(args.logfile, n_rows=args.rows, **_logger_options(args))
     m = pv.mapping
     if args.json:
         _dump(
@@ -233,11 +233,13 @@ def _calibrate_preview(args) -> int:
                 "encoding": pv.encoding,
                 "header": pv.header,
                 "rows": pv.rows.to_dict("records"),
+                "decisions": list(pv.decisions),
                 "mapping": {
                     "time": m.time,
                     "time_unit": m.time_unit,
                     "channels": list(m.channels),
                     "temperature_unit": m.temperature_unit,
+                    "date": m.date,
                 },
             }
         )
@@ -248,6 +250,8 @@ def _calibrate_preview(args) -> int:
     print(
         f"guessed: time = {m.time!r} ({m.time_unit}), channels = {', '.join(m.channels)} (°{m.temperature_unit})"
     )
+    for d in pv.decisions:
+        print(f"  read: {d}")
     print(pv.rows.to_string(index=False))
     return EXIT_OK
 
@@ -258,11 +262,18 @@ def _print_calibration(plan, cal, log, out: dict[str, Any]) -> None:
     print(
         f"calibration of '{plan.title}' against {cal.source}, channel {cal.channel} ({cal.n_points} points; {cal.method})"
     )
+    for d in log.decisions:
+        print(f"  read: {d}")
     for f in log.flags:
         print(f"  logger: {f}")
     print(
-        f"  h = {cal.h_W_m2K:.4g} W/m²K (95 % CI {cal.h_ci95[0]:.4g} … {cal.h_ci95[1]:.4g}); the plan assumed {cal.plan_h_W_m2K:.4g}"
+        f"  effective h = {cal.h_W_m2K:.4g} W/m²K (95 % CI {cal.h_ci95[0]:.4g} … {cal.h_ci95[1]:.4g}); the plan's effective h {cal.plan_h_W_m2K:.4g}"
     )
+    if cal.packaging_resistance_m2K_W > 0:
+        outside = f"{cal.h_outside_W_m2K:.4g} W/m²K" if cal.h_outside_W_m2K else "none (h ≥ 1/R)"
+        print(
+            f"  (packaging resistance {cal.packaging_resistance_m2K_W:.3g} m²K/W included; medium-side h {outside})"
+        )
     if cal.alpha_factor is not None:
         print(
             f"  diffusivity factor {cal.alpha_factor:.3f} (95 % CI {cal.alpha_ci95[0]:.3f} … {cal.alpha_ci95[1]:.3f})"
@@ -285,6 +296,12 @@ def _print_calibration(plan, cal, log, out: dict[str, Any]) -> None:
         print(f"measured h saved to {out['record_saved_to']}")
 
 
+def _logger_options(args) -> dict:
+    from procplan.studies.logger import OPTION_HELP
+
+    return {k: getattr(args, k) for k in OPTION_HELP}
+
+
 def cmd_calibrate(args) -> int:
     from procplan.studies.calibrate import calibrate, fitted_h_record
     from procplan.studies.logger import clean_logger, read_logger
@@ -295,7 +312,7 @@ def cmd_calibrate(args) -> int:
         raise InvalidInputError("--plan", None, "a plan file for the recorded process (or --preview)")
     lib = load_library_of(args)
     plan = load_plan_of(args.plan, lib)
-    log = clean_logger(read_logger(args.logfile), jump_K=args.jump_K)
+    log = clean_logger(read_logger(args.logfile, **_logger_options(args)), jump_K=args.jump_K)
     cal = calibrate(
         plan,
         log,
@@ -309,6 +326,8 @@ def cmd_calibrate(args) -> int:
         cal.residuals.to_csv(args.csv, index=False)
     out = cal.to_dict()
     out["flags"] = list(log.flags)
+    out["logger_decisions"] = list(log.decisions)
+    out["logger_missing"] = dict(log.missing)
     measured = out["measured"]
     measured.pop("rule", None)
     if args.record:
@@ -490,6 +509,11 @@ def _add_calibrate(subparsers) -> None:
         "--preview", action="store_true", help="show the first rows and the guessed column mapping only"
     )
     k.add_argument("--rows", type=int, default=10, help="rows to preview")
+    from procplan.studies.logger import OPTION_HELP
+
+    g = k.add_argument_group("logger format (each overrides what is detected from the file)")
+    for name, text in OPTION_HELP.items():
+        g.add_argument("--" + name.replace("_", "-"), help=text)
     k.add_argument("--channel", help="probe column (default: the first)")
     k.add_argument(
         "--fit", default="h", help="parameters to fit, comma-separated: h, alpha_factor, offset_mm"

@@ -1,18 +1,25 @@
-"""Temperature-logger files: read, preview the guessed column mapping, clean.
+"""Temperature-logger files: read, preview the detected format and column mapping, clean.
 
-Accepted: CSV-like text with ``,``, ``;`` or tab separators, decimal point or comma, an optional header
-(and preamble lines before it), a time column in seconds, minutes, hours or as timestamps, and one or more
-probe channels in °C or °F. UTF-8 (with or without BOM), UTF-16 with BOM and Windows-1252 are decoded;
-anything else, an empty or non-numeric file, or one larger than :data:`MAX_BYTES` or :data:`MAX_ROWS`
-raises :class:`procplan.errors.InvalidInputError` naming the problem (and never another exception).
+Accepted: CSV-like text with ``,``, ``;`` or tab separators, decimal point or comma, an optional header (and
+preamble lines before it), and one or more probe channels in °C or °F (named in the header, e.g. ``Temp (°F)``
+or ``Temp (*F)``, or inside the cells, e.g. ``4.5 °C``). Time is a number of ms, s, min or h (the unit named
+in the header), a timestamp, a time of day (crossing midnight adds a day), or separate date and time columns.
+UTF-8 (with or without BOM), UTF-16 (with or without BOM) and Windows-1252 are decoded. Missing-value
+sentinels (:data:`MISSING_VALUES`, e.g. -9999) are dropped and counted.
+
+Nothing is guessed silently: every detected property of the format is stated in ``decisions`` with what it
+rests on, and each has an override parameter. Where the data cannot decide (dates that read both day-first
+and month-first, °C and °F named in different columns) the reader refuses with
+:class:`procplan.errors.InvalidInputError` naming the parameter that settles it. Once the format is known the
+rows are parsed by :func:`pandas.read_csv` (vectorised). Anything unreadable, empty, or larger than
+:data:`MAX_BYTES` or :data:`MAX_ROWS` raises InvalidInputError (and never another exception).
 """
 
 from __future__ import annotations
 
+import io
 import os
-import re
 import warnings
-from collections import Counter
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
@@ -21,35 +28,48 @@ import numpy as np
 import pandas as pd
 
 from procplan.errors import InvalidInputError
+from procplan.studies.logger_format import (
+    DATE_ORDERS,
+    MAX_BYTES,
+    MAX_ROWS,
+    MISSING_VALUES,
+    OPTION_HELP,
+    SEPARATORS,
+    TEMPERATURE_UNITS,
+    TIME_UNITS,
+    ColumnMapping,
+    LoggerFormat,
+    ReadOptions,
+    count_rows,
+    decode_text,
+    guess_mapping,
+    numbers,
+    sniff,
+    times_s,
+)
 
-MAX_BYTES = 50 * 1024 * 1024
-MAX_ROWS = 1_000_000
-SEPARATORS = (",", ";", "\t")
-TIME_UNITS: dict[str, float | None] = {"s": 1.0, "min": 60.0, "h": 3600.0, "timestamp": None}
-TEMPERATURE_UNITS = ("C", "F")
-
-_TIME_NAME = re.compile(r"(time|zeit|date|datum|timestamp|elapsed|^t$|^t[ _(\[])", re.I)
-_NUM = re.compile(r"^\s*[-+]?(\d+([.,]\d*)?|[.,]\d+)([eE][-+]?\d+)?\s*$")
-_DEC_COMMA = re.compile(r"^\s*[-+]?\d*,\d+\s*$")
-
-
-@dataclass(frozen=True)
-class ColumnMapping:
-    """Which columns mean what.
-
-    time : name of the time column; time_unit : a key of TIME_UNITS
-    channels : names of the probe columns; temperature_unit : "C" or "F"
-    """
-
-    time: str
-    time_unit: str
-    channels: tuple[str, ...]
-    temperature_unit: str = "C"
+__all__ = [
+    "DATE_ORDERS",
+    "MAX_BYTES",
+    "MAX_ROWS",
+    "MISSING_VALUES",
+    "OPTION_HELP",
+    "SEPARATORS",
+    "TEMPERATURE_UNITS",
+    "TIME_UNITS",
+    "ColumnMapping",
+    "LoggerData",
+    "LoggerPreview",
+    "ReadOptions",
+    "clean_logger",
+    "preview_logger",
+    "read_logger",
+]
 
 
 @dataclass(frozen=True)
 class LoggerPreview:
-    """The first rows as read (strings) and the guessed format and mapping."""
+    """The first rows as read (strings), the detected format and mapping, and what each detection rests on."""
 
     rows: pd.DataFrame
     columns: tuple[str, ...]
@@ -59,6 +79,7 @@ class LoggerPreview:
     encoding: str
     header: bool
     n_rows: int
+    decisions: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True, eq=False)
@@ -66,7 +87,8 @@ class LoggerData:
     """A logger file as numbers: ``frame`` has ``time_s`` and one °C column per channel (its name).
 
     flags : what cleaning found (empty until :func:`clean_logger`); jumps : channel → times [s] of jumps;
-    gaps : (start_s, end_s) of gaps between samples
+    gaps : (start_s, end_s) of gaps between samples; missing : channel → readings dropped as missing-value
+    sentinels; decisions : how the format was read and why
     """
 
     frame: pd.DataFrame
@@ -76,6 +98,8 @@ class LoggerData:
     jumps: dict[str, tuple[float, ...]] = field(default_factory=dict)
     gaps: tuple[tuple[float, float], ...] = ()
     cleaned: bool = False
+    missing: dict[str, int] = field(default_factory=dict)
+    decisions: tuple[str, ...] = ()
 
     @property
     def channels(self) -> tuple[str, ...]:
@@ -119,160 +143,54 @@ def _raw_bytes(source: Any) -> tuple[bytes, str]:
     return data, str(name)
 
 
-def _decode(data: bytes, name: str) -> tuple[str, str]:
-    if data.startswith(b"\xef\xbb\xbf"):
-        candidates = [("utf-8-sig", data)]
-    elif data.startswith((b"\xff\xfe", b"\xfe\xff")):
-        candidates = [("utf-16", data)]
-    else:
-        candidates = [("utf-8", data), ("cp1252", data)]
-    for enc, d in candidates:
-        try:
-            text = d.decode(enc)
-        except UnicodeDecodeError:
-            continue
-        if "\x00" in text or sum(1 for c in text[:10000] if ord(c) < 32 and c not in "\t\r\n") > 0:
-            raise InvalidInputError(
-                "logger file",
-                name,
-                "text (UTF-8, UTF-16 with BOM or Windows-1252)",
-                "control characters: mis-encoded or binary",
-            )
-        return text, enc
-    raise InvalidInputError(
-        "logger file", name, "text (UTF-8, UTF-16 with BOM or Windows-1252)", "cannot be decoded"
-    )
-
-
-def _is_num(s: str) -> bool:
-    return bool(_NUM.match(s))
-
-
-def _split(text: str, name: str, separator: str | None) -> tuple[list[list[str]], str]:
-    import csv
-
-    lines = [ln for ln in text.splitlines() if ln.strip()]
-    if not lines:
-        raise InvalidInputError("logger file", name, "a header and rows of numbers", "the file is empty")
-    if len(lines) > MAX_ROWS + 50:
-        raise InvalidInputError("logger file", name, f"at most {MAX_ROWS:,} rows", f"{len(lines):,} lines")
-    if separator is None:
-        sample = lines[:50] + lines[-50:] if len(lines) > 100 else lines
-        best, best_score = None, (0.0, 0.0)
-        for priority, sep in enumerate(("\t", ";", ",")):
-            counts = [ln.count(sep) for ln in sample]
-            n = Counter(counts).most_common(1)[0][0]
-            if n == 0:
-                continue
-            score = (sum(c == n for c in counts) / len(counts), -priority)
-            if score > best_score:
-                best, best_score = sep, score
-        if best is None:
-            raise InvalidInputError(
-                "logger file", name, "columns separated by ',', ';' or tab", "found a single column"
-            )
-        separator = best
-    elif separator not in SEPARATORS:
-        raise InvalidInputError("separator", separator, "one of ',', ';', tab")
-    rows = list(csv.reader(lines, delimiter=separator))
-    widths = Counter(len(r) for r in rows)
-    width = widths.most_common(1)[0][0]
-    if width < 2:
-        raise InvalidInputError("logger file", name, "a time column and at least one probe column")
-    # Preamble lines (logger name, serial number...) come before the first row of the modal width.
-    first = next(i for i, r in enumerate(rows) if len(r) == width)
-    rows = [r for r in rows[first:] if len(r) == width]
-    return [[c.strip().strip('"') for c in r] for r in rows], separator
-
-
-def _guess(rows: list[list[str]], separator: str) -> tuple[bool, list[str], str]:
-    head = rows[0]
-    header = not all(_is_num(c) or c == "" for c in head[1:]) or not (
-        _is_num(head[0]) or _looks_time(head[0])
-    )
-    body = rows[1:] if header else rows
-    cols = (
-        [c or f"column {j + 1}" for j, c in enumerate(head)]
-        if header
-        else [f"column {j + 1}" for j in range(len(head))]
-    )
-    seen: dict[str, int] = {}
-    for j, c in enumerate(cols):
-        if c in seen:
-            cols[j] = f"{c} ({j + 1})"
-        seen[c] = j
-    decimal = "."
-    if separator != ",":
-        sample = [c for r in body[:200] for c in r[1:]]
-        if sample and sum(bool(_DEC_COMMA.match(c)) for c in sample) > 0.3 * len(sample):
-            decimal = ","
-    return header, cols, decimal
-
-
-def _looks_time(s: str) -> bool:
-    return bool(re.match(r"^\s*\d{1,4}[-/.:]\d{1,2}([-/.: T]\d{1,4})*", s))
-
-
-def _guess_mapping(cols: list[str], body: list[list[str]]) -> ColumnMapping:
-    t_idx = next((j for j, c in enumerate(cols) if _TIME_NAME.search(c)), 0)
-    tname = cols[t_idx]
-    first_vals = [r[t_idx] for r in body[:20] if r[t_idx]]
-    low = tname.lower()
-    if first_vals and not all(_is_num(v) for v in first_vals):
-        unit = "timestamp"
-    elif re.search(r"\bmin|\(min\)|\[min\]|_min\b", low):
-        unit = "min"
-    elif re.search(r"\(h\)|\[h\]|_h\b|hour|stunde", low):
-        unit = "h"
-    else:
-        unit = "s"
-    channels = []
-    for j, c in enumerate(cols):
-        if j == t_idx:
-            continue
-        vals = [r[j] for r in body[:200] if r[j] != ""]
-        if vals and sum(_is_num(v) for v in vals) >= 0.5 * len(vals):
-            channels.append(c)
-    heads = " ".join(channels)
-    f = bool(re.search(r"°\s*F|degF|deg F|\(F\)|\[F\]|_F\b|fahrenheit", heads, re.I))
-    return ColumnMapping(tname, unit, tuple(channels), "F" if f else "C")
-
-
-def _table(source: Any, separator: str | None):
+def _detect(source: Any, opts: ReadOptions) -> LoggerFormat:
     data, name = _raw_bytes(source)
-    text, enc = _decode(data, name)
-    rows, sep = _split(text, name, separator)
-    return rows, sep, enc, name
+    text, enc, why = decode_text(data, name, opts.encoding)
+    fmt = sniff(text, name, opts, enc, why)
+    fmt.data = data
+    return fmt
 
 
-def preview_logger(source: Any, n_rows: int = 10, *, separator: str | None = None) -> LoggerPreview:
-    """The first ``n_rows`` of a logger file as read, with the guessed separator, decimal mark, header and
-    column mapping (pass the mapping, possibly edited, to :func:`read_logger`).
-
-    >>> pv = preview_logger("Zeit [min];Kern °C;Oberfläche °C\\n0;74,1;73,0\\n1;73,9;70,2\\n")
-    >>> pv.separator, pv.decimal, pv.mapping.time_unit, pv.mapping.channels
-    (';', ',', 'min', ('Kern °C', 'Oberfläche °C'))
-    """
+def _guarded(fn, *args):
     try:
-        rows, sep, enc, name = _table(source, separator)
-        header, cols, decimal = _guess(rows, sep)
-        body = rows[1:] if header else rows
-        mapping = _guess_mapping(cols, body)
-        frame = pd.DataFrame(body[: max(int(n_rows), 0)], columns=cols)
+        return fn(*args)
     except InvalidInputError:
         raise
     except Exception as exc:  # the guarantee: malformed input never escapes as another exception
         raise InvalidInputError(
             "logger file", "unreadable", "a CSV logger file", f"{type(exc).__name__}: {exc}"
         ) from None
-    return LoggerPreview(frame, tuple(cols), mapping, sep, decimal, enc, header, len(body))
 
 
-def _numbers(values: list[str], decimal: str) -> np.ndarray:
-    s = pd.Series(values, dtype="string")
-    if decimal == ",":
-        s = s.str.replace(".", "", regex=False).str.replace(",", ".", regex=False)
-    return pd.to_numeric(s, errors="coerce").to_numpy(dtype=float, na_value=np.nan)
+def preview_logger(source: Any, n_rows: int = 10, **options: Any) -> LoggerPreview:
+    """The first ``n_rows`` of a logger file as read, with the detected separator, decimal mark, header and
+    column mapping (pass the mapping, possibly edited, to :func:`read_logger`) and the reason for each.
+    ``options`` are those of :func:`read_logger`.
+
+    >>> pv = preview_logger("Zeit [min];Kern °C;Oberfläche °C\\n0;74,1;73,0\\n1;73,9;70,2\\n")
+    >>> pv.separator, pv.decimal, pv.mapping.time_unit, pv.mapping.channels
+    (';', ',', 'min', ('Kern °C', 'Oberfläche °C'))
+    """
+
+    def run():
+        opts = ReadOptions.build(**options)
+        fmt = _detect(source, opts)
+        mapping = guess_mapping(fmt, opts)
+        frame = pd.DataFrame(fmt.sample[: max(int(n_rows), 0)], columns=fmt.columns)
+        n = count_rows(fmt.text, fmt.skip)
+        return LoggerPreview(
+            frame,
+            tuple(fmt.columns),
+            mapping,
+            fmt.separator,
+            fmt.decimal,
+            fmt.encoding,
+            fmt.header,
+            n,
+            tuple(fmt.decisions),
+        )
+
+    return _guarded(run)
 
 
 def read_logger(
@@ -281,50 +199,46 @@ def read_logger(
     *,
     separator: str | None = None,
     decimal: str | None = None,
+    encoding: str | None = None,
+    date_order: str | None = None,
+    time_column: str | None = None,
+    date_column: str | None = None,
+    time_unit: str | None = None,
+    temperature_unit: str | None = None,
+    missing_values: Any = None,
 ) -> LoggerData:
     """Read a logger file into seconds and °C.
 
     Parameters
     ----------
     source : a path, bytes, text (with line breaks) or a file object
-    mapping : which columns mean what (default: the guess of :func:`preview_logger`)
-    separator, decimal : override the guessed separator (",", ";", tab) and decimal mark ("." or ",")
+    mapping : which columns mean what (default: detected, see :func:`preview_logger`)
+    separator, decimal, encoding : override the detected separator (",", ";", tab), decimal mark ("." or
+        ",") and text encoding (a Python codec name)
+    date_order : "day-first" or "month-first" for dates such as 03/04/2026 (needed when the data fit both)
+    time_column, date_column, time_unit, temperature_unit : override parts of the detected mapping
+    missing_values : readings meaning "no value" (default :data:`MISSING_VALUES`; ``()`` or "none": none)
 
     Returns
     -------
-    LoggerData with ``time_s`` from the first sample and one column per channel [°C], in file order
+    LoggerData with ``time_s`` from the first sample and one column per channel [°C], in file order;
+    ``missing`` counts the sentinel readings dropped and ``decisions`` says how the format was read
 
     >>> d = read_logger("time_min,probe (F)\\n0,165.2\\n1,160.7\\n")
     >>> d.frame["time_s"].tolist(), [round(x, 2) for x in d.frame["probe (F)"]]
     ([0.0, 60.0], [74.0, 71.5])
     """
-    try:
-        return _read(source, mapping, separator, decimal)
-    except InvalidInputError:
-        raise
-    except Exception as exc:  # the guarantee: malformed input never escapes as another exception
-        raise InvalidInputError(
-            "logger file", "unreadable", "a CSV logger file", f"{type(exc).__name__}: {exc}"
-        ) from None
+    given = dict(separator=separator, decimal=decimal, encoding=encoding, date_order=date_order)
+    given.update(time_column=time_column, date_column=date_column, time_unit=time_unit)
+    given.update(temperature_unit=temperature_unit, missing_values=missing_values)
+    return _guarded(lambda: _read(source, mapping, ReadOptions.build(**given)))
 
 
-def _read(source, mapping, separator, decimal) -> LoggerData:
-    rows, sep, enc, name = _table(source, separator)
-    header, cols, dec = _guess(rows, sep)
-    if decimal is not None:
-        if decimal not in (".", ","):
-            raise InvalidInputError("decimal", decimal, "'.' or ','")
-        dec = decimal
-    if dec == "," and sep == ",":
-        raise InvalidInputError("decimal", ",", "'.' when the separator is ','")
-    body = rows[1:] if header else rows
-    if not body:
-        raise InvalidInputError("logger file", name, "rows of numbers below the header", "no data rows")
-    if len(body) > MAX_ROWS:
-        raise InvalidInputError("logger file", name, f"at most {MAX_ROWS:,} rows", f"{len(body):,} rows")
-    m = mapping or _guess_mapping(cols, body)
+def _check_mapping(m: ColumnMapping, cols: list[str]) -> None:
     if m.time not in cols:
         raise InvalidInputError("mapping.time", m.time, "one of the columns " + ", ".join(cols))
+    if m.date is not None and (m.date not in cols or m.date == m.time):
+        raise InvalidInputError("mapping.date", m.date, "another of the columns " + ", ".join(cols))
     if m.time_unit not in TIME_UNITS:
         raise InvalidInputError("mapping.time_unit", m.time_unit, "one of " + ", ".join(TIME_UNITS))
     if m.temperature_unit not in TEMPERATURE_UNITS:
@@ -332,41 +246,77 @@ def _read(source, mapping, separator, decimal) -> LoggerData:
     if not m.channels:
         raise InvalidInputError("mapping.channels", (), "at least one probe column of numbers")
     for c in m.channels:
-        if c not in cols or c == m.time:
+        if c not in cols or c in (m.time, m.date):
             raise InvalidInputError("mapping.channels", c, "columns other than the time: " + ", ".join(cols))
-    ti = cols.index(m.time)
-    traw = [r[ti] for r in body]
-    if m.time_unit == "timestamp":
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore")
-            ts = pd.to_datetime(pd.Series(traw), errors="coerce", dayfirst=False)
-        if ts.isna().mean() > 0.5:
-            raise InvalidInputError(
-                "mapping.time", m.time, "timestamps, or numbers with time_unit s, min or h"
-            )
-        t = (ts - ts.dropna().min()).dt.total_seconds().to_numpy(dtype=float, na_value=np.nan)
+
+
+def _numeric_time(m: ColumnMapping, column: str) -> bool:
+    return column == m.time and m.date is None and TIME_UNITS.get(m.time_unit) is not None
+
+
+def _load(fmt: LoggerFormat, m: ColumnMapping) -> pd.DataFrame:
+    """The data rows of the needed columns, parsed by pandas.read_csv (numbers where they are plain)."""
+    needed = [c for c in fmt.columns if c in (m.time, m.date, *m.channels)]
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        frame = pd.read_csv(
+            io.BytesIO(fmt.data) if fmt.data is not None else io.StringIO(fmt.text),
+            encoding=fmt.encoding if fmt.data is not None else None,
+            sep=fmt.separator,
+            decimal=fmt.decimal,
+            header=None,
+            names=fmt.columns,
+            usecols=needed,
+            skiprows=fmt.skip,
+            index_col=False,
+            skipinitialspace=True,
+            dtype={c: str for c in (m.time, m.date) if c is not None and not _numeric_time(m, c)},
+            on_bad_lines="skip",
+            engine="c",
+        )
+    if frame.empty:
+        raise InvalidInputError("logger file", fmt.name, "rows of numbers below the header", "no data rows")
+    if len(frame) > MAX_ROWS:
+        raise InvalidInputError("logger file", fmt.name, f"at most {MAX_ROWS:,} rows", f"{len(frame):,} rows")
+    return frame
+
+
+def _read(source, mapping, opts: ReadOptions) -> LoggerData:
+    fmt = _detect(source, opts)
+    if mapping is None:
+        m = guess_mapping(fmt, opts)
     else:
-        t = _numbers(traw, dec) * TIME_UNITS[m.time_unit]
+        m = mapping
+        fmt.decisions.append("column mapping as given")
+    _check_mapping(m, fmt.columns)
+    frame = _load(fmt, m)
+    t = times_s(frame, m, fmt.decimal, opts.date_order, fmt.decisions)
     if np.isnan(t).mean() > 0.5:
-        raise InvalidInputError("mapping.time", m.time, "a column of times", "most entries are not numbers")
-    data = {"time_s": t}
+        raise InvalidInputError("mapping.time", m.time, "a column of times", "most entries are not times")
+    sentinels = MISSING_VALUES if opts.missing_values is None else opts.missing_values
+    data, missing = {"time_s": t}, {}
     for c in m.channels:
-        v = _numbers([r[cols.index(c)] for r in body], dec)
+        v = numbers(frame[c], fmt.decimal)
+        hit = np.isin(v, sentinels)
+        missing[c] = int(hit.sum())
+        v[hit] = np.nan
         if np.all(np.isnan(v)):
             raise InvalidInputError("mapping.channels", c, "a column of temperatures", "no numbers in it")
         data[c] = (v - 32.0) * 5.0 / 9.0 if m.temperature_unit == "F" else v
-    frame = pd.DataFrame(data)
-    finite_t = frame["time_s"].dropna()
+    if any(missing.values()):
+        counts = ", ".join(f"{c}: {n}" for c, n in missing.items() if n)
+        fmt.decisions.append(f"missing-value sentinels dropped ({counts}) (override: missing_values)")
+    out = pd.DataFrame(data)
+    finite_t = out["time_s"].dropna()
     if finite_t.empty or not np.all(np.isfinite(finite_t)):
         raise InvalidInputError("mapping.time", m.time, "finite times")
-    t0 = float(finite_t.min())
-    frame["time_s"] = frame["time_s"] - t0
-    vals = frame[list(m.channels)].to_numpy()
+    out["time_s"] = out["time_s"] - float(finite_t.min())
+    vals = out[list(m.channels)].to_numpy()
     if np.any(np.abs(vals[np.isfinite(vals)]) > 1000) or np.any(np.isinf(vals)):
         raise InvalidInputError(
             "mapping.channels", "temperatures beyond ±1000 °C", "product temperatures in °C or °F"
         )
-    return LoggerData(frame, m, name)
+    return LoggerData(out, m, fmt.name, missing=missing, decisions=tuple(fmt.decisions))
 
 
 # --- cleaning ----------------------------------------------------------------------------------------------
