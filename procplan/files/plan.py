@@ -64,6 +64,7 @@ class Product:
     unwrapped: bool = False
     description: str = ""
     library: str | None = None
+    porosity: float = 0.0
 
     @property
     def composition_dict(self) -> dict[str, float]:
@@ -92,6 +93,7 @@ class Product:
             freezing_C=self.freezing_C,
             conductivity_model=self.conductivity_model,
             category=self.category,
+            porosity=self.porosity,
         )
 
 
@@ -220,6 +222,8 @@ PRODUCT_KEYS = (
     "conductivity_model",
     "packaging",
     "unwrapped",
+    "porosity",
+    "overrun_percent",
 )
 
 
@@ -370,6 +374,9 @@ def product_from_dict(
         c.add(InvalidInputError(f"{prefix}unwrapped", True, "false when packaging layers are given"))
     description = str(data.get("description", base.description if base else ""))
     library = data.get("library", base.library if base else None)
+    porosity = base.porosity if base and "fixed_properties" not in data else 0.0
+    with c.catch():
+        porosity = _porosity(data, prefix, porosity, fixed is not None)
     c.raise_if_any()
     return Product(
         name=name,
@@ -383,7 +390,34 @@ def product_from_dict(
         unwrapped=unwrapped,
         description=description,
         library=library,
+        porosity=porosity,
     )
+
+
+def _porosity(data: Mapping[str, Any], prefix: str, default: float, fixed: bool) -> float:
+    """Air volume fraction from ``porosity`` or ``overrun_percent`` (one of them), else ``default``."""
+    from procplan.properties.porosity import OVERRUN_RANGE_PERCENT, check_porosity, porosity_from_overrun
+
+    if "porosity" in data and "overrun_percent" in data:
+        raise InvalidInputError(
+            f"{prefix}overrun_percent", "both given", "either porosity or overrun_percent"
+        )
+    if "overrun_percent" in data:
+        lo, hi = OVERRUN_RANGE_PERCENT
+        value = validate.number(
+            f"{prefix}overrun_percent", data["overrun_percent"], minimum=lo, maximum=hi, unit="%"
+        )
+        porosity = float(porosity_from_overrun(value))
+    else:
+        porosity = check_porosity(data.get("porosity", default), f"{prefix}porosity")
+    if porosity > 0.0 and fixed:
+        raise InvalidInputError(
+            f"{prefix}porosity",
+            porosity,
+            "0 with fixed_properties",
+            "measured properties already include the air",
+        )
+    return porosity
 
 
 STEP_KEYS = (
@@ -892,6 +926,8 @@ def product_to_dict(p: Product) -> dict[str, Any]:
         d["freezing_C"] = _num(p.freezing_C)
     if p.unwrapped:
         d["unwrapped"] = True
+    if p.porosity:
+        d["porosity"] = _num(p.porosity)
     if p.composition:
         d["composition"] = {k: _num(v) for k, v in p.composition}
     if p.fixed_properties is not None:
