@@ -53,6 +53,7 @@ class Product:
     unwrapped: bool = False
     description: str = ""
     library: str | None = None
+    porosity: float = 0.0
 
     @property
     def composition_dict(self) -> dict[str, float]:
@@ -81,6 +82,7 @@ class Product:
             freezing_C=self.freezing_C,
             conductivity_model=self.conductivity_model,
             category=self.category,
+            porosity=self.porosity,
         )
 
 

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 import shutil
 import sys
 
@@ -71,3 +72,95 @@ def test_import_procplan_does_not_import_streamlit():
 
     code = "import procplan, procplan.run.engine, procplan.files.library, sys; assert 'streamlit' not in sys.modules"
     subprocess.run([sys.executable, "-c", code], check=True)
+
+
+# --- declared quantities against geometry × density ---------------------------------------------------
+
+#: A mass or a volume in a description: "400 g", "about 2.4 kg", "500 ml", "1 l".
+QUANTITY = re.compile(r"(\d+(?:\.\d+)?)\s*(kg|g|ml|l)\b")
+TO_SI = {"kg": 1.0, "g": 1e-3, "ml": 1e-6, "l": 1e-3}  # kg or m³
+
+
+def declared_quantity(description: str) -> tuple[float, str]:
+    """The product's declared net quantity: the last mass or volume in its description (a vial's
+    "10 ml type I glass vial ... filled 8 ml" declares its 8 ml fill), as (kg or m³, "mass" or "volume")."""
+    found = QUANTITY.findall(description)
+    assert found, f"no declared mass or volume in {description!r}"
+    value, unit = found[-1]
+    return float(value) * TO_SI[unit], "volume" if unit in ("ml", "l") else "mass"
+
+
+@pytest.mark.parametrize("name", sorted(load_library().products))
+def test_declared_mass_or_volume_matches_geometry_within_5_percent(name):
+    # Consistency of the demo data (labels a technologist reads against what the solver weighs): a declared
+    # volume is compared with the shape's volume; a declared mass with volume × density, the density from
+    # the product's property model (porosity included) at 20 °C, the temperature at which a label's net
+    # quantity is stated. 5 % leaves room for a label's rounding ("about 2.5 kg").
+    product = load_library().products[name]
+    declared, kind = declared_quantity(product.description)
+    volume_m3 = product.geometry.volume_m3
+    if kind == "volume":
+        actual = volume_m3
+    else:
+        actual = volume_m3 * float(product.property_table().density(20.0))
+    assert abs(actual / declared - 1.0) <= 0.05, (name, kind, declared, actual)
+
+
+def test_aerated_demo_products_carry_their_air():
+    # The frozen dessert is whipped (overrun) and the loaf's crumb is porous: without air their density
+    # and conductivity would be those of the unfrozen mix and of a bubble-free dough.
+    lib = load_library()
+    assert lib.products["vanilla-dessert-tub"].porosity > 0.3
+    assert lib.products["sourdough-loaf"].porosity > 0.5
+
+
+# --- porosity in product files ---------------------------------------------------------------------
+
+MIX = {"water": 0.61, "protein": 0.04, "fat": 0.12, "carbohydrate": 0.22, "ash": 0.01}
+
+
+def _tub(**extra):
+    return {
+        "name": "tub",
+        "shape": "sphere",
+        "diameter_mm": 80,
+        "category": "other",
+        "freezing_C": -2.7,
+        "composition": MIX,
+        **extra,
+    }
+
+
+def test_overrun_is_read_as_porosity_and_written_back_as_porosity(tmp_path):
+    from procplan.files.plan import product_to_dict
+
+    p = product_from_dict(_tub(overrun_percent=100), prefix="")
+    assert p.porosity == pytest.approx(0.5)
+    d = product_to_dict(p)
+    assert d["porosity"] == pytest.approx(0.5) and "overrun_percent" not in d
+    again = load_library_product(save_product(tmp_path, p))
+    assert again.porosity == p.porosity
+    assert product_from_dict(_tub(porosity=0.3), prefix="").porosity == 0.3
+    assert product_from_dict(_tub(), prefix="").porosity == 0.0
+    assert "porosity" not in product_to_dict(product_from_dict(_tub(), prefix=""))
+
+
+@pytest.mark.parametrize(
+    ("extra", "field", "allowed"),
+    [
+        ({"porosity": 0.95}, "porosity", "[0, 0.9]"),
+        ({"overrun_percent": -10}, "overrun_percent", "[0, 900] %"),
+        ({"porosity": 0.5, "overrun_percent": 100}, "overrun_percent", "either porosity or overrun_percent"),
+    ],
+)
+def test_bad_porosity_names_the_field_and_the_allowed_range(extra, field, allowed):
+    with pytest.raises(InvalidInputError) as err:
+        product_from_dict(_tub(**extra), prefix="")
+    assert field in str(err.value) and allowed in str(err.value)
+
+
+def test_porosity_is_refused_with_measured_properties():
+    fixed = {"k_W_mK": 0.2, "rho_kg_m3": 550, "cp_J_kgK": 3000}
+    data = {k: v for k, v in _tub(porosity=0.5).items() if k != "composition"}
+    with pytest.raises(InvalidInputError, match="measured properties already include the air"):
+        product_from_dict({**data, "fixed_properties": fixed}, prefix="")

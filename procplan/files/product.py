@@ -34,6 +34,8 @@ PRODUCT_KEYS = (
     "conductivity_model",
     "packaging",
     "unwrapped",
+    "porosity",
+    "overrun_percent",
 )
 FIXED_PROPERTY_KEYS = (
     "k_W_mK",
@@ -189,6 +191,32 @@ def _wrapping(
     return packaging, unwrapped
 
 
+def _porosity(data: Mapping[str, Any], prefix: str, default: float, fixed: bool) -> float:
+    """Air volume fraction from ``porosity`` or ``overrun_percent`` (one of them), else ``default``."""
+    from procplan.properties.porosity import OVERRUN_RANGE_PERCENT, check_porosity, porosity_from_overrun
+
+    if "porosity" in data and "overrun_percent" in data:
+        raise InvalidInputError(
+            f"{prefix}overrun_percent", "both given", "either porosity or overrun_percent"
+        )
+    if "overrun_percent" in data:
+        lo, hi = OVERRUN_RANGE_PERCENT
+        value = validate.number(
+            f"{prefix}overrun_percent", data["overrun_percent"], minimum=lo, maximum=hi, unit="%"
+        )
+        porosity = float(porosity_from_overrun(value))
+    else:
+        porosity = check_porosity(data.get("porosity", default), f"{prefix}porosity")
+    if porosity > 0.0 and fixed:
+        raise InvalidInputError(
+            f"{prefix}porosity",
+            porosity,
+            "0 with fixed_properties",
+            "measured properties already include the air",
+        )
+    return porosity
+
+
 def product_from_dict(
     data: Mapping[str, Any], source: str = "product", prefix: str = "product.", base: Product | None = None
 ) -> Product:
@@ -210,6 +238,9 @@ def product_from_dict(
     packaging, unwrapped = _wrapping(c, data, source, prefix, base)
     description = str(data.get("description", base.description if base else ""))
     library = data.get("library", base.library if base else None)
+    porosity = base.porosity if base and "fixed_properties" not in data else 0.0
+    with c.catch():
+        porosity = _porosity(data, prefix, porosity, fixed is not None)
     c.raise_if_any()
     return Product(
         name=name,
@@ -223,6 +254,7 @@ def product_from_dict(
         unwrapped=unwrapped,
         description=description,
         library=library,
+        porosity=porosity,
     )
 
 
@@ -248,6 +280,8 @@ def product_to_dict(p: Product) -> dict[str, Any]:
         d["freezing_C"] = file_number(p.freezing_C)
     if p.unwrapped:
         d["unwrapped"] = True
+    if p.porosity:
+        d["porosity"] = file_number(p.porosity)
     if p.composition:
         d["composition"] = {k: file_number(v) for k, v in p.composition}
     if p.fixed_properties is not None:

@@ -1,7 +1,8 @@
 """Thermal properties of products: food properties from composition, and the tabulated interface for solvers.
 
 Modules: ``composition`` (mass fractions), ``choi_okos`` (component properties against temperature),
-``mixing`` (mixture rules and the conductivity-model registry), ``freezing`` (initial freezing point,
+``mixing`` (mixture rules and the conductivity-model registry), ``porosity`` (air in a food: density and
+Maxwell–Eucken conductivity), ``freezing`` (initial freezing point,
 bound water, ice-fraction registry), ``food`` (properties of a food, its property table), ``table``
 (the PropertyTable every solver uses).
 """
@@ -30,6 +31,13 @@ from procplan.properties.freezing import (
     initial_freezing_point_C,
 )
 from procplan.properties.mixing import CONDUCTIVITY_MODELS, conductivity_mixture
+from procplan.properties.porosity import (
+    OVERRUN_RANGE_PERCENT,
+    POROSITY_RANGE,
+    conductivity_maxwell_eucken_porous,
+    density_porous,
+    porosity_from_overrun,
+)
 from procplan.properties.table import MODEL_RANGE_C, PropertyTable
 
 __all__ = [
@@ -41,18 +49,23 @@ __all__ = [
     "ICE_MODELS",
     "LATENT_HEAT_WATER_J_KG",
     "MODEL_RANGE_C",
+    "OVERRUN_RANGE_PERCENT",
+    "POROSITY_RANGE",
     "REFERENCE_C",
     "Composition",
     "FoodProperties",
     "PropertyTable",
     "bound_water_schwartzberg",
     "conductivity_choi_okos",
+    "conductivity_maxwell_eucken_porous",
     "conductivity_mixture",
     "density_choi_okos",
+    "density_porous",
     "fixed_property_table",
     "food_properties",
     "ice_fraction",
     "initial_freezing_point_C",
+    "porosity_from_overrun",
     "property_table",
     "specific_heat_choi_okos",
 ]

@@ -4,7 +4,8 @@ Above the initial freezing point t_f the food is water + protein + fat + carbohy
 below it the water splits into ice (x_ice, from the chosen ice model) and unfrozen water
 (x_w − x_ice). Each component's k, rho and cp come from Choi & Okos (1986); the mixture's density from
 the specific volumes, its sensible cp mass weighted, its conductivity from the chosen model — all with
-the ice included. The mass fractions are scaled to sum to exactly 1 before use.
+the ice included. The mass fractions are scaled to sum to exactly 1 before use. A porous food's
+composition describes its air-free matrix; air (``porosity``) then lowers k and rho (module ``porosity``).
 
 Enthalpy (reference: H = 0 at −40 °C, the usual reference for frozen foods, e.g. Chen 1985 and the
 ASHRAE chapter's enthalpy tables):
@@ -51,6 +52,12 @@ from procplan.properties.mixing import (
     density_mixture,
     specific_heat_mixture,
     volume_fractions,
+)
+from procplan.properties.porosity import (
+    check_porosity,
+    conductivity_air,
+    conductivity_maxwell_eucken_porous,
+    density_porous,
 )
 from procplan.properties.table import MODEL_RANGE_C, PropertyTable
 
@@ -110,6 +117,7 @@ class _Food:
     bound_water: float
     ice: IceModel
     conductivity_model: str
+    porosity: float = 0.0
 
     # --- pointwise properties --------------------------------------------------------------
     def ice_fraction(self, t: np.ndarray) -> np.ndarray:
@@ -138,6 +146,10 @@ class _Food:
         v = volume_fractions(mass, rho_c)
         k_mix = CONDUCTIVITY_MODELS[self.conductivity_model](v, k_c)
         cp_mix = specific_heat_mixture(mass, cp_c)
+        if self.porosity > 0.0:
+            # air bubbles in the food matrix; cp per kg unchanged (module porosity)
+            k_mix = conductivity_maxwell_eucken_porous(k_mix, self.porosity, conductivity_air(t))
+            rho_mix = density_porous(rho_mix, self.porosity)
         return x_ice, k_mix, rho_mix, cp_mix
 
     # --- grid and enthalpy -------------------------------------------------------------------
@@ -193,6 +205,7 @@ def _food(
     conductivity_model: str,
     ice_model: str,
     category: str,
+    porosity: float = 0.0,
 ) -> _Food:
     if isinstance(composition, Mapping):
         composition = Composition.from_mapping(composition)
@@ -205,7 +218,7 @@ def _food(
     tf = initial_freezing_point_C(composition, category, freezing_C=freezing_C)
     x = composition.normalized()
     xb = bound_water_schwartzberg(x["protein"], x["water"])
-    return _Food(x, tf, xb, ICE_MODELS[ice_model], conductivity_model)
+    return _Food(x, tf, xb, ICE_MODELS[ice_model], conductivity_model, check_porosity(porosity))
 
 
 def food_properties(
@@ -216,6 +229,7 @@ def food_properties(
     conductivity_model: str = "parallel",
     ice_model: str = "chen",
     category: str = "meat",
+    porosity: float = 0.0,
 ) -> FoodProperties:
     """Thermal properties of a food of given composition at the given temperatures.
 
@@ -229,6 +243,8 @@ def food_properties(
     ice_model : key of ``ICE_MODELS`` ("chen", "tchigeov")
     category : key of ``FREEZING_POINT_MODELS`` ("meat", "fruit-vegetable", "juice"), used only
         when ``freezing_C`` is None
+    porosity : air volume fraction, 0…0.9; the composition describes the air-free matrix, whose k and
+        rho are then corrected for the air (Maxwell–Eucken, food continuous; see ``porosity``)
 
     Returns
     -------
@@ -244,7 +260,7 @@ def food_properties(
     >>> [round(float(v), 3) for v in p.ice_fraction]
     [0.597, 0.0]
     """
-    food = _food(composition, freezing_C, conductivity_model, ice_model, category)
+    food = _food(composition, freezing_C, conductivity_model, ice_model, category, porosity)
     lo, hi = MODEL_RANGE_C
     t = validate.array("temperature_C", temperature_C, minimum=lo, maximum=hi, unit="°C")
     flat = t.reshape(-1)
@@ -288,6 +304,7 @@ def property_table(
     conductivity_model: str = "parallel",
     ice_model: str = "chen",
     category: str = "meat",
+    porosity: float = 0.0,
 ) -> PropertyTable:
     """The :class:`~procplan.properties.table.PropertyTable` of a food, −40…150 °C.
 
@@ -300,7 +317,7 @@ def property_table(
     >>> table.initial_freezing_C, table.reference_C
     (-1.7, -40.0)
     """
-    food = _food(composition, freezing_C, conductivity_model, ice_model, category)
+    food = _food(composition, freezing_C, conductivity_model, ice_model, category, porosity)
     grid = food.grid()
     x_ice, k, rho, _ = food.state(grid)
     h = food.enthalpy_at_nodes(grid, food.sensible_integral(grid), x_ice)
@@ -309,12 +326,16 @@ def property_table(
         f"({food.ice.reference}), initial freezing point {food.freezing_C:.2f} °C "
         f"({'given' if freezing_C is not None else 'Chang & Tao 1981, ' + category})"
     )
+    if food.porosity > 0.0:
+        source += f", porosity {food.porosity:.3g} (air dispersed in the food, Maxwell–Eucken)"
+
     extra = {
         "composition": dict(food.x),
         "bound_water": food.bound_water,
         "conductivity_model": conductivity_model,
         "ice_model": ice_model,
         "freezing_point_source": "given" if freezing_C is not None else f"chang-tao-{category}",
+        "porosity": food.porosity,
     }
     return PropertyTable(grid, h, k, rho, food.freezing_C, REFERENCE_C, source, extra)
 

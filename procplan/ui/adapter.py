@@ -207,6 +207,7 @@ def property_curves(product_toml: str, low_C: float = -40.0, high_C: float = 100
                 freezing_C=product.freezing_C,
                 conductivity_model=product.conductivity_model,
                 category=product.category,
+                porosity=product.porosity,
             )
             frame = pd.DataFrame(
                 {

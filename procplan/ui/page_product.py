@@ -57,9 +57,9 @@ def _library_picker(lib) -> None:
         format_func=lambda n: f"{n} — {lib.products[n].description}" if lib.products[n].description else n,
     )
     if st.button("Use this product in the plan", key="use_product", disabled=pick is None):
-        plan = state.plan()
-        plan["product"] = adapter.product_dict_of(pick, state.generation())
-        state.replace_plan(plan, f"Product '{pick}' loaded from the library.")
+        state.switch_product(
+            adapter.product_dict_of(pick, state.generation()), f"Product '{pick}' loaded from the library."
+        )
         st.rerun()
 
 

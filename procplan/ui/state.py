@@ -21,6 +21,9 @@ GOOD = "last_good_toml"
 SCENARIOS = "scenarios"
 LIBGEN = "library_generation"
 NOTICE = "notice"
+#: The title the app last put in the plan (demo, upload, library pick); a title still equal to it, or
+#: empty, or the default for the current product, was not written by the user and follows the product.
+AUTO_TITLE = "auto_title"
 
 
 def init() -> None:
@@ -33,6 +36,7 @@ def init() -> None:
     ss.setdefault("time_unit", "min")
     if PLAN not in ss:
         ss[PLAN] = adapter.demo_plan_dict(ss[LIBGEN])
+        ss[AUTO_TITLE] = ss[PLAN].get("title", "")
         ss[GOOD] = adapter.canonical_toml(adapter.parse_plan(adapter.plan_toml(ss[PLAN]), ss[LIBGEN]).value)
 
 
@@ -51,9 +55,33 @@ def reload_library() -> None:
 def replace_plan(new_plan: dict, notice: str | None = None) -> None:
     """Replace the whole plan (upload, library pick, reset) and let every widget re-read it."""
     st.session_state[PLAN] = copy.deepcopy(new_plan)
+    st.session_state[AUTO_TITLE] = new_plan.get("title", "")
     st.session_state[REV] = int(st.session_state.get(REV, 0)) + 1
     if notice:
         st.session_state[NOTICE] = notice
+
+
+def default_title(plan_dict: dict) -> str:
+    """ "<product> in <machine>" (machines of the steps in order, each once), or the product alone."""
+    product = plan_dict.get("product", {})
+    name = product.get("library") or product.get("name") or "product"
+    machines: list[str] = []
+    for step in plan_dict.get("steps", []):
+        m = step.get("equipment")
+        if m and m not in machines:
+            machines.append(m)
+    return f"{name} in {' then '.join(machines)}" if machines else str(name)
+
+
+def switch_product(product: dict, notice: str | None = None) -> None:
+    """Put another product in the plan; a title the user did not write follows the new product."""
+    new = copy.deepcopy(plan())
+    title = str(new.get("title", "")).strip()
+    automatic = title in ("", st.session_state.get(AUTO_TITLE, ""), default_title(new))
+    new["product"] = product
+    if automatic:
+        new["title"] = default_title(new)
+    replace_plan(new, notice)
 
 
 def touch() -> None:

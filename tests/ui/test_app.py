@@ -201,6 +201,40 @@ def test_pick_a_library_product_with_the_search_filter(app):
     )
 
 
+def _use_product(app, query: str, name: str):
+    go(app, "Product")
+    app.text_input(key="product_search").set_value(query).run()
+    assert app.selectbox(key="product_pick").value == name
+    app.button(key="use_product").click().run()
+    assert not app.exception, app.exception
+
+
+def _title_input(app):
+    return next(w for w in app.text_input if w.label == "Plan title")
+
+
+def test_switching_the_product_updates_the_plan_title(app):
+    # The demo plan's title names the roulade; once the cod portion is in the plan that title would be
+    # wrong, so a title the user did not write follows the product ("<product> in <machine>").
+    _use_product(app, "cod", "cod-portion")
+    assert app.session_state["plan"]["title"] == "cod-portion in chiller-b2"
+    assert any("cod-portion in chiller-b2" in c.value for c in app.sidebar.caption)
+    go(app, "Process")
+    assert _title_input(app).value == "cod-portion in chiller-b2"
+    # switching again: the default title follows again
+    _use_product(app, "meatball", "beef-meatball")
+    go(app, "Process")
+    assert _title_input(app).value == "beef-meatball in chiller-b2"
+
+
+def test_a_title_the_user_wrote_is_kept_when_the_product_changes(app):
+    go(app, "Process")
+    _title_input(app).set_value("Trial 14: line 2 chiller").run()
+    _use_product(app, "cod", "cod-portion")
+    assert app.session_state["plan"]["title"] == "Trial 14: line 2 chiller"
+    assert app.session_state["plan"]["product"]["name"] == "cod-portion"
+
+
 def test_save_product_refuses_to_overwrite_unless_confirmed(app, library_copy):
     go(app, "Product")
     target = library_copy / "products" / "chicken-roulade.toml"
