@@ -7,7 +7,6 @@ field named.
 from __future__ import annotations
 
 import json
-import math
 import sys
 from pathlib import Path
 from typing import Any
@@ -39,23 +38,9 @@ def load_site_of(args, lib=None):
     return load_site(args.site, library=lib)
 
 
-def _clean(x: Any) -> Any:
-    """Plain JSON data: numpy scalars as numbers, non-finite floats as null."""
-    if isinstance(x, dict):
-        return {str(k): _clean(v) for k, v in x.items()}
-    if isinstance(x, list | tuple):
-        return [_clean(v) for v in x]
-    if isinstance(x, float):
-        return x if math.isfinite(x) else None
-    if hasattr(x, "item") and not isinstance(x, str):
-        try:
-            return _clean(x.item())
-        except (TypeError, ValueError):
-            return str(x)
-    return x
-
-
 def write_json(obj: Any, *, indent: int | None = None) -> None:
-    """Write ``obj`` to stdout as one JSON document and a newline."""
-    json.dump(_clean(obj), sys.stdout, ensure_ascii=False, indent=indent)
+    """Write ``obj`` to stdout as one JSON document and a newline (NaN and infinity as null)."""
+    from procplan.output.json_safe import json_safe
+
+    json.dump(json_safe(obj), sys.stdout, ensure_ascii=False, indent=indent)
     sys.stdout.write("\n")

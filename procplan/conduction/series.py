@@ -229,6 +229,13 @@ def coefficients(kind: str, bi: float, n_terms: int = 1) -> np.ndarray:
     >>> round(float(coefficients("sphere", 1.0)[0]), 4)
     1.2732
 
+    ζ1 and C1 at Bi = 0.1 and 10 (slab, cylinder, sphere) as in Incropera et al., 7th ed., Table 5.1:
+
+    >>> [[round(float(eigenvalues(k, b)[0]), 4) for k in ("slab", "cylinder", "sphere")] for b in (0.1, 10.0)]
+    [[0.3111, 0.4417, 0.5423], [1.4289, 2.1795, 2.8363]]
+    >>> [[round(float(coefficients(k, b)[0]), 4) for k in ("slab", "cylinder", "sphere")] for b in (0.1, 10.0)]
+    [[1.0161, 1.0246, 1.0298], [1.262, 1.5677, 1.9249]]
+
     References
     ----------
     Incropera, DeWitt, Bergman, Lavine, Fundamentals of Heat and Mass Transfer, 7th ed., eqs. 5.39b, 5.50b, 5.51b.

@@ -229,122 +229,9 @@ def check_rule(rule: Rule, time_s, temperature_C) -> RuleCheck:
     (True, [0.0, 60.0])
     """
     t, temp = history_arrays(time_s, temperature_C, temperature_field=rule.column)
-    direction = RULE_KINDS[rule.kind]
-    stage_checks: list[StageCheck] = []
-    rule_start: float | None = None
-    prev_start: float | None = float(t[0])
-    end_s = float(t[-1])
-    for i, s in enumerate(rule.stages):
-        allowed = s.within_min
-        if prev_start is None:
-            stage_checks.append(
-                StageCheck(
-                    i,
-                    s,
-                    False,
-                    False,
-                    None,
-                    None,
-                    None,
-                    allowed,
-                    None,
-                    None,
-                    "not started: an earlier stage never started",
-                )
-            )
-            continue
-        start, why = _start_of_stage(t, temp, s.from_C, direction, prev_start)
-        if start is None:
-            stage_checks.append(
-                StageCheck(
-                    i,
-                    s,
-                    False,
-                    False,
-                    None,
-                    None,
-                    None,
-                    allowed,
-                    None,
-                    None,
-                    f"not started: the {rule.point} {why}",
-                )
-            )
-            prev_start = None
-            continue
-        if rule_start is None:
-            rule_start = start
-        clock0 = rule_start if s.clock == "rule" else start
-        r = time_to_temperature(t, temp, s.to_C, direction=direction, start_s=start)
-        if r.reached:
-            used = (r.time_s - clock0) / 60.0
-            margin = allowed - used
-            ok = margin >= 0
-            verdict = "within" if ok else "over"
-            reason = f"{rule.point} {why}; reached {s.to_C:g} °C after {used:.1f} min, {verdict} the {allowed:g} min allowed"
-            stage_checks.append(
-                StageCheck(
-                    i, s, ok, True, start, r.time_s, used, allowed, margin, 100.0 * margin / allowed, reason
-                )
-            )
-        else:
-            used = (end_s - clock0) / 60.0
-            if used > allowed:
-                margin = allowed - used
-                reason = f"not reached: {rule.point} did not reach {s.to_C:g} °C within {allowed:g} min (closest {r.closest_C:.2f} °C by the end of the history)"
-                stage_checks.append(
-                    StageCheck(
-                        i,
-                        s,
-                        False,
-                        False,
-                        start,
-                        None,
-                        used,
-                        allowed,
-                        margin,
-                        100.0 * margin / allowed,
-                        reason,
-                    )
-                )
-            else:
-                reason = f"not reached: the history ends {used:.1f} min into the {allowed:g} min allowed with the {rule.point} at {temp[-1]:.2f} °C, above {s.to_C:g} °C; undecided, counted as a failure"
-                stage_checks.append(
-                    StageCheck(i, s, False, False, start, None, used, allowed, None, None, reason)
-                )
-        prev_start = start
-
-    band_checks: list[BandCheck] = []
-    total = end_s - float(t[0])
-    for i, b in enumerate(rule.bands):
-        inside_s, longest_s = _time_in_band(t, temp, b.low_C, b.high_C)
-        inside, outside, longest = inside_s / 60.0, (total - inside_s) / 60.0, longest_s / 60.0
-        margins: list[float] = []
-        fails: list[str] = []
-        if b.at_least_min is not None:
-            margins.append(inside - b.at_least_min)
-            if inside < b.at_least_min:
-                fails.append(f"only {inside:.1f} min inside, at least {b.at_least_min:g} min required")
-        if b.at_most_min is not None:
-            margins.append(b.at_most_min - inside)
-            if inside > b.at_most_min:
-                fails.append(f"{inside:.1f} min inside, at most {b.at_most_min:g} min allowed")
-        if b.max_outside_min is not None:
-            margins.append(b.max_outside_min - outside)
-            if outside > b.max_outside_min:
-                fails.append(
-                    f"{outside:.1f} min outside (longest excursion {longest:.1f} min), at most {b.max_outside_min:g} min allowed"
-                )
-        ok = not fails
-        reason = f"{b.label()}: " + (
-            "; ".join(fails)
-            if fails
-            else f"{inside:.1f} min inside, {outside:.1f} min outside: within limits"
-        )
-        band_checks.append(
-            BandCheck(i, b, ok, inside, outside, longest, min(margins) if margins else None, reason)
-        )
-
+    stage_checks = _check_stages(rule, t, temp)
+    total = float(t[-1]) - float(t[0])
+    band_checks = [_check_band(i, b, t, temp, total) for i, b in enumerate(rule.bands)]
     passed = all(s.passed for s in stage_checks) and all(b.passed for b in band_checks)
     reasons = tuple(f"stage {s.index + 1}: {s.reason}" for s in stage_checks if not s.passed) + tuple(
         f"band {b.index + 1}: {b.reason}" for b in band_checks if not b.passed
@@ -352,6 +239,88 @@ def check_rule(rule: Rule, time_s, temperature_C) -> RuleCheck:
     return RuleCheck(
         rule.name, rule.source, rule.point, passed, tuple(stage_checks), tuple(band_checks), reasons
     )
+
+
+def _not_started(i: int, s: Stage, reason: str) -> StageCheck:
+    """A stage whose clock never started: failed, nothing measured."""
+    return StageCheck(i, s, False, False, None, None, None, s.within_min, None, None, reason)
+
+
+def _check_stages(rule: Rule, t: np.ndarray, temp: np.ndarray) -> list[StageCheck]:
+    """Every stage in turn; each starts searching where the previous stage started."""
+    direction = RULE_KINDS[rule.kind]
+    stage_checks: list[StageCheck] = []
+    rule_start: float | None = None
+    prev_start: float | None = float(t[0])
+    for i, s in enumerate(rule.stages):
+        if prev_start is None:
+            stage_checks.append(_not_started(i, s, "not started: an earlier stage never started"))
+            continue
+        start, why = _start_of_stage(t, temp, s.from_C, direction, prev_start)
+        if start is None:
+            stage_checks.append(_not_started(i, s, f"not started: the {rule.point} {why}"))
+            prev_start = None
+            continue
+        if rule_start is None:
+            rule_start = start
+        clock0 = rule_start if s.clock == "rule" else start
+        stage_checks.append(_check_started_stage(rule, i, s, t, temp, start, clock0, why))
+        prev_start = start
+    return stage_checks
+
+
+def _check_started_stage(
+    rule: Rule, i: int, s: Stage, t: np.ndarray, temp: np.ndarray, start: float, clock0: float, why: str
+) -> StageCheck:
+    """A stage that started at ``start`` [s], its clock at ``clock0`` [s]: reached in time, late, not reached
+    (failed once the allowed time is over) or undecided (the history ends first; counted as a failure)."""
+    allowed = s.within_min
+    r = time_to_temperature(t, temp, s.to_C, direction=RULE_KINDS[rule.kind], start_s=start)
+    if r.reached:
+        used = (r.time_s - clock0) / 60.0
+        margin = allowed - used
+        ok = margin >= 0
+        verdict = "within" if ok else "over"
+        reason = f"{rule.point} {why}; reached {s.to_C:g} °C after {used:.1f} min, {verdict} the {allowed:g} min allowed"
+        return StageCheck(
+            i, s, ok, True, start, r.time_s, used, allowed, margin, 100.0 * margin / allowed, reason
+        )
+    used = (float(t[-1]) - clock0) / 60.0
+    if used > allowed:
+        margin = allowed - used
+        reason = f"not reached: {rule.point} did not reach {s.to_C:g} °C within {allowed:g} min (closest {r.closest_C:.2f} °C by the end of the history)"
+        return StageCheck(
+            i, s, False, False, start, None, used, allowed, margin, 100.0 * margin / allowed, reason
+        )
+    reason = f"not reached: the history ends {used:.1f} min into the {allowed:g} min allowed with the {rule.point} at {temp[-1]:.2f} °C, above {s.to_C:g} °C; undecided, counted as a failure"
+    return StageCheck(i, s, False, False, start, None, used, allowed, None, None, reason)
+
+
+def _check_band(i: int, b: Band, t: np.ndarray, temp: np.ndarray, total: float) -> BandCheck:
+    """Time inside and outside one band [min] of a history lasting ``total`` seconds, against its limits."""
+    inside_s, longest_s = _time_in_band(t, temp, b.low_C, b.high_C)
+    inside, outside, longest = inside_s / 60.0, (total - inside_s) / 60.0, longest_s / 60.0
+    margins: list[float] = []
+    fails: list[str] = []
+    if b.at_least_min is not None:
+        margins.append(inside - b.at_least_min)
+        if inside < b.at_least_min:
+            fails.append(f"only {inside:.1f} min inside, at least {b.at_least_min:g} min required")
+    if b.at_most_min is not None:
+        margins.append(b.at_most_min - inside)
+        if inside > b.at_most_min:
+            fails.append(f"{inside:.1f} min inside, at most {b.at_most_min:g} min allowed")
+    if b.max_outside_min is not None:
+        margins.append(b.max_outside_min - outside)
+        if outside > b.max_outside_min:
+            fails.append(
+                f"{outside:.1f} min outside (longest excursion {longest:.1f} min), at most {b.max_outside_min:g} min allowed"
+            )
+    ok = not fails
+    reason = f"{b.label()}: " + (
+        "; ".join(fails) if fails else f"{inside:.1f} min inside, {outside:.1f} min outside: within limits"
+    )
+    return BandCheck(i, b, ok, inside, outside, longest, min(margins) if margins else None, reason)
 
 
 def check_rule_on_history(rule: Rule, history) -> RuleCheck:

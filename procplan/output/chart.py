@@ -133,6 +133,28 @@ def _string(x, y, text, font, size, anchor="start", color=BLACK) -> String:
     return String(x, y, text, fontName=font, fontSize=size, textAnchor=anchor, fillColor=color)
 
 
+@dataclass(frozen=True)
+class _Plot:
+    """The plot area [pt] and the data range it shows (display units), with the maps between them."""
+
+    px0: float
+    px1: float
+    py0: float
+    py1: float
+    x0v: float
+    x1v: float
+    y0v: float
+    y1v: float
+    font: str
+    size: float
+
+    def X(self, v):
+        return self.px0 + (v - self.x0v) / (self.x1v - self.x0v) * (self.px1 - self.px0)
+
+    def Y(self, v):
+        return self.py0 + (v - self.y0v) / (self.y1v - self.y0v) * (self.py1 - self.py0)
+
+
 def history_chart(
     result, site, width: float, height: float, *, font: str, bold: str, size: float = 7.0
 ) -> Drawing:
@@ -146,7 +168,6 @@ def history_chart(
     font, bold : registered font names
     size : label font size [pt]
     """
-    d = Drawing(width, height)
     hist = result.history
     to_t = (lambda s: s / 3600.0) if site.time_unit == "h" else (lambda s: s / 60.0)
     t = to_t(hist["time_s"].to_numpy())
@@ -154,25 +175,14 @@ def history_chart(
         p: np.array([site.temperature_value(v) for v in hist[f"{p}_C"].to_numpy()]) for p in POINT_STYLES
     }
     refs = reference_lines(result, site)
-    deadlines = stage_deadlines(result)
     t_end = float(t[-1]) if t.size else 1.0
-    x_hi = t_end
-    far: list[str] = []
-    drawn_deadlines = []
-    for dl in deadlines:
-        x = to_t(dl.deadline_s)
-        if x <= DEADLINE_STRETCH * t_end:
-            x_hi = max(x_hi, x)
-            drawn_deadlines.append((x, dl))
-        else:
-            far.append(f"stage {dl.index + 1} limit at {site.format_time(dl.deadline_s / 60.0)}")
+    drawn_deadlines, far = _split_deadlines(result, site, to_t, t_end)
+    x_hi = max([t_end] + [x for x, _ in drawn_deadlines])
     values = np.concatenate([s for s in series.values()] + [np.array([r.value for r in refs])])
     y_lo, y_hi = float(np.min(values)), float(np.max(values))
     pad = 0.04 * max(y_hi - y_lo, 1.0)
     yt = nice_ticks(y_lo - pad, y_hi + pad, 8)
     xt = nice_ticks(0.0, x_hi, 8)
-    y0v, y1v = float(yt[0]), float(yt[-1])
-    x0v, x1v = 0.0, float(xt[-1])
 
     label_w = max(
         [stringWidth(f"{r.label} {r.value:.1f} {site.temperature_symbol}", font, size - 0.5) for r in refs]
@@ -183,16 +193,47 @@ def history_chart(
     row_a = size + 4.0  # step names, just above the plot
     row_b = size + 3.0 if (drawn_deadlines or far) else 0.0  # rule deadlines above them
     top = row_a + row_b + 1.0
-    px0, px1 = left, width - right
-    py0, py1 = legend_h + bottom_axis, height - top
-
-    def X(v):
-        return px0 + (v - x0v) / (x1v - x0v) * (px1 - px0)
-
-    def Y(v):
-        return py0 + (v - y0v) / (y1v - y0v) * (py1 - py0)
-
+    pl = _Plot(
+        left,
+        width - right,
+        legend_h + bottom_axis,
+        height - top,
+        0.0,
+        float(xt[-1]),
+        float(yt[0]),
+        float(yt[-1]),
+        font,
+        size,
+    )
     g = Group()
+    _draw_axes(g, pl, xt, yt, site, legend_h)
+    _draw_steps(g, pl, result, to_t)
+    _draw_references(g, pl, refs, site)
+    _draw_deadlines(g, pl, drawn_deadlines, far, pl.py1 + row_a + 1.0)
+    _draw_histories(g, pl, t, series)
+    _draw_legend(g, pl, result, refs, bool(drawn_deadlines))
+    d = Drawing(width, height)
+    d.add(g)
+    return d
+
+
+def _split_deadlines(result, site, to_t, t_end: float) -> tuple[list, list[str]]:
+    """Rule-stage deadlines to draw (x in display units, deadline) and notes of those far beyond the plan."""
+    far: list[str] = []
+    drawn_deadlines = []
+    for dl in stage_deadlines(result):
+        x = to_t(dl.deadline_s)
+        if x <= DEADLINE_STRETCH * t_end:
+            drawn_deadlines.append((x, dl))
+        else:
+            far.append(f"stage {dl.index + 1} limit at {site.format_time(dl.deadline_s / 60.0)}")
+    return drawn_deadlines, far
+
+
+def _draw_axes(g: Group, pl: _Plot, xt, yt, site, legend_h: float) -> None:
+    """Frame, grid, ticks and axis titles."""
+    X, Y, font, size = pl.X, pl.Y, pl.font, pl.size
+    px0, px1, py0, py1 = pl.px0, pl.px1, pl.py0, pl.py1
     g.add(Rect(px0, py0, px1 - px0, py1 - py0, strokeColor=BLACK, strokeWidth=0.6, fillColor=None))
     for v in yt:
         g.add(_line(px0, Y(v), px1, Y(v), LIGHT, 0.3))
@@ -220,22 +261,28 @@ def history_chart(
     yg.rotate(90)
     g.add(yg)
 
-    # step boundaries and names (above the plot)
+
+def _draw_steps(g: Group, pl: _Plot, result, to_t) -> None:
+    """Step boundaries and names (above the plot)."""
+    font, size = pl.font, pl.size
     for sr in result.steps:
-        xs = X(to_t(sr.start_s))
+        xs = pl.X(to_t(sr.start_s))
         if sr.index > 0:
-            g.add(_line(xs, py0, xs, py1 + 2.0, GREY, 0.5))
-        xe = X(to_t(sr.end_s)) if sr.index < len(result.steps) - 1 else px1
+            g.add(_line(xs, pl.py0, xs, pl.py1 + 2.0, GREY, 0.5))
+        xe = pl.X(to_t(sr.end_s)) if sr.index < len(result.steps) - 1 else pl.px1
         name = f"{sr.index + 1} {sr.name}"
         room = xe - xs - 3.0
         while name and stringWidth(name, font, size - 0.5) > room:
             name = name[:-1]
         if name:
-            g.add(_string(xs + 2.0, py1 + 3.0, name, font, size - 0.5, color=GREY))
+            g.add(_string(xs + 2.0, pl.py1 + 3.0, name, font, size - 0.5, color=GREY))
 
-    # horizontal reference lines, labels in the right gutter
-    wanted = [Y(r.value) for r in refs]
-    placed = spread_positions(wanted, size + 1.0, py0, py1)
+
+def _draw_references(g: Group, pl: _Plot, refs: list[RefLine], site) -> None:
+    """Horizontal reference lines, labels in the right gutter."""
+    size, px0, px1 = pl.size, pl.px0, pl.px1
+    wanted = [pl.Y(r.value) for r in refs]
+    placed = spread_positions(wanted, size + 1.0, pl.py0, pl.py1)
     for r, yw, yp in zip(refs, wanted, placed, strict=True):
         dash = RULE_DASH if r.kind == "rule" else TARGET_DASH
         g.add(_line(px0, yw, px1, yw, GREY, 0.7, dash))
@@ -245,13 +292,16 @@ def history_chart(
                 px1 + 8.0,
                 yp - size / 3.0,
                 f"{r.label} {r.value:.1f} {site.temperature_symbol}",
-                font,
+                pl.font,
                 size - 0.5,
             )
         )
 
-    # vertical rule deadlines, labels in the top row; deadlines far beyond the plan noted at the right
-    yb = py1 + row_a + 1.0
+
+def _draw_deadlines(g: Group, pl: _Plot, drawn_deadlines: list, far: list[str], yb: float) -> None:
+    """Vertical rule deadlines, labels in the top row at height yb; deadlines far beyond the plan noted at
+    the right."""
+    font, size, px0, px1 = pl.font, pl.size, pl.px0, pl.px1
     right_end = px1
     if far:
         note = "; ".join(far) + " (beyond the time axis)"
@@ -260,35 +310,38 @@ def history_chart(
     if drawn_deadlines:
         texts = [f"stage {dl.index + 1} limit" for _, dl in drawn_deadlines]
         widths = [stringWidth(s, font, size - 0.5) for s in texts]
-        xs_w = [X(x) for x, _ in drawn_deadlines]
+        xs_w = [pl.X(x) for x, _ in drawn_deadlines]
         gap = max(widths) + 6.0
         xs_p = spread_positions(xs_w, gap, px0 + gap / 2.0, max(px0 + gap / 2.0, right_end - gap / 2.0))
         for xw, xp, s in zip(xs_w, xs_p, texts, strict=True):
-            g.add(_line(xw, py0, xw, yb - 1.0, GREY, 0.8, RULE_DASH))
+            g.add(_line(xw, pl.py0, xw, yb - 1.0, GREY, 0.8, RULE_DASH))
             g.add(_string(xp, yb, s, font, size - 0.5, "middle"))
 
-    # the three histories
+
+def _draw_histories(g: Group, pl: _Plot, t: np.ndarray, series: dict[str, np.ndarray]) -> None:
+    """The three histories, black, told apart by width and dash."""
     for p, (w, dash) in POINT_STYLES.items():
         pts: list[float] = []
         for a, b in zip(t, series[p], strict=True):
-            pts.extend((X(float(a)), Y(float(b))))
-        pl = PolyLine(pts, strokeColor=BLACK, strokeWidth=w, strokeLineJoin=1)
+            pts.extend((pl.X(float(a)), pl.Y(float(b))))
+        line = PolyLine(pts, strokeColor=BLACK, strokeWidth=w, strokeLineJoin=1)
         if dash:
-            pl.strokeDashArray = dash
-        g.add(pl)
+            line.strokeDashArray = dash
+        g.add(line)
 
-    # legend
+
+def _draw_legend(g: Group, pl: _Plot, result, refs: list[RefLine], has_deadlines: bool) -> None:
+    """The legend below the time axis."""
+    font, size = pl.font, pl.size
     items = [(p, POINT_STYLES[p][0], POINT_STYLES[p][1], BLACK) for p in POINT_STYLES]
     if any(r.kind == "target" for r in refs):
         items.append(("target", 0.7, TARGET_DASH, GREY))
-    if any(r.kind == "rule" for r in refs) or drawn_deadlines:
+    if any(r.kind == "rule" for r in refs) or has_deadlines:
         items.append(("rule limit", 0.7, RULE_DASH, GREY))
     if len(result.steps) > 1:
         items.append(("step change", 0.5, None, GREY))
-    x = px0
+    x = pl.px0
     for label, w, dash, col in items:
         g.add(_line(x, 4.0, x + 20.0, 4.0, col, w, dash))
         g.add(_string(x + 23.0, 4.0 - size / 3.0, label, font, size))
         x += 23.0 + stringWidth(label, font, size) + 12.0
-    d.add(g)
-    return d

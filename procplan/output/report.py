@@ -2,48 +2,16 @@
 
 from __future__ import annotations
 
-import dataclasses
-import math
 from typing import Any
-
-import numpy as np
 
 from procplan._version import __version__
 from procplan.caution import CAUTION
+from procplan.output.json_safe import json_safe
 
 
 def _plain(obj: Any) -> Any:
-    """JSON-ready copy: dataclasses to dicts, numpy to Python, NaN/inf to None; arrays and callables dropped."""
-    if dataclasses.is_dataclass(obj) and not isinstance(obj, type):
-        out = {}
-        for f in dataclasses.fields(obj):
-            v = getattr(obj, f.name)
-            if isinstance(v, np.ndarray) and v.size > 8:
-                continue
-            if callable(v) and not dataclasses.is_dataclass(v):
-                continue
-            out[f.name] = _plain(v)
-        return out
-    if isinstance(obj, dict):
-        return {
-            str(k): _plain(v)
-            for k, v in obj.items()
-            if not (callable(v) and not dataclasses.is_dataclass(v)) and not k.endswith("_record")
-        }
-    if isinstance(obj, (list, tuple)):
-        return [_plain(v) for v in obj]
-    if isinstance(obj, np.ndarray):
-        return [_plain(v) for v in obj.tolist()]
-    if isinstance(obj, (np.floating, float)):
-        x = float(obj)
-        return x if math.isfinite(x) else None
-    if isinstance(obj, (np.integer,)):
-        return int(obj)
-    if isinstance(obj, (np.bool_,)):
-        return bool(obj)
-    if isinstance(obj, (str, int, bool)) or obj is None:
-        return obj
-    return str(obj)
+    """JSON-ready copy for the summary: records referred to by a breakdown and long arrays left out."""
+    return json_safe(obj, omit_key_suffix="_record", omit_arrays_over=8)
 
 
 def _minutes(t_s: float | None) -> float | None:
@@ -118,13 +86,28 @@ def _fmt_min(t_min: float | None) -> str:
 def summary_text(result) -> str:
     """A readable summary for the terminal."""
     plan = result.plan
-    hist = result.history
     lines = [
         f"{plan.title}",
         f"  product: {plan.product.name}, {plan.product.geometry.describe()}, {result.piece_mass_kg:.3f} kg per piece",
     ]
     lines.append(f"  properties: {result.properties.source}")
     lines.append(f"  start {plan.start_temperature_C:g} °C")
+    lines += _step_lines(result)
+    oc = result.outcomes
+    if oc is not None:
+        for part in (_target_lines, _rule_lines, _lethality_lines, _freezing_lines, _energy_lines):
+            lines += part(oc)
+    for w in result.warnings:
+        lines.append(f"  warning: {w}")
+    lines.append("")
+    lines.append(CAUTION)
+    return "\n".join(lines)
+
+
+def _step_lines(result) -> list[str]:
+    """Medium, h, solver, regime and end temperatures of each step."""
+    lines: list[str] = []
+    hist = result.history
     for sr in result.steps:
         med = "…".join(f"{m:g}" for m in sorted(set(sr.surface.medium_C)))
         hh = "…".join(f"{h:.1f}" for h in sorted(set(sr.surface.h_W_m2K)))
@@ -139,70 +122,94 @@ def summary_text(result) -> str:
             lines.append(
                 f"    end: core {e.core_C:.1f} °C, surface {e.surface_C:.1f} °C, mean {e.mean_C:.1f} °C; energy-balance error {sr.energy_balance_error:.2%}"
             )
-    oc = result.outcomes
-    if oc is not None:
-        for tg in oc.targets:
-            tr = tg.target
-            if tr.reached:
-                t_rel = (tr.time_s - (tr.start_s or 0.0)) / 60.0
-                line = f"  {tg.step}: {tg.point} reaches {tr.target_C:g} °C after {_fmt_min(t_rel)}"
-                if tg.margin is not None:
-                    line += f"; plan time with margin {_fmt_min(tg.margin.plan_min)}; cycle {_fmt_min(tg.margin.cycle_min)}"
-                    if tg.margin.cycle_too_short:
-                        line += "  ** CYCLE SHORTER THAN PLAN TIME **"
-            else:
-                line = f"  {tg.step}: {tg.point} does NOT reach {tr.target_C:g} °C within the step (closest {tr.closest_C:.1f} °C)"
-            lines.append(line)
-        rc = oc.rule_check
-        if rc is not None:
-            lines.append(f"  rule {rc.rule_name}: {'PASS' if rc.passed else 'FAIL'} ({rc.source})")
-            for st in rc.stages:
-                lines.append(
-                    f"    stage {st.index + 1} {st.stage.from_C if st.stage.from_C is not None else 'start'} → {st.stage.to_C:g} °C within {st.stage.within_min:g} min: {'pass' if st.passed else 'FAIL'}; used {_fmt_min(st.used_min)}, margin {_fmt_min(st.margin_min)}"
-                    + (f" ({st.margin_percent:.0f} %)" if st.margin_percent is not None else "")
-                    + ("" if st.passed else f" — {st.reason}")
-                )
-            for b in rc.bands:
-                lines.append(f"    band {b.band.range_text()}: {'pass' if b.passed else 'FAIL'} — {b.reason}")
-        for leth in (oc.lethality, oc.quality):
-            if leth is None:
-                continue
-            line = f"  lethality {leth.name} at the {leth.point}: F = {format_f(leth.total_F_min)} min (T_ref {leth.reference_C:g} °C, z {leth.z_C:g} °C)"
-            if leth.required_F_min:
-                line += f", required {leth.required_F_min:g} min: {'PASS' if leth.passed else 'FAIL'}"
-                if leth.reached is not None and leth.reached.reached:
-                    line += f", reached after {_fmt_min(leth.reached.time_s / 60)}"
-            if leth.log_reduction is not None:
-                line += f"; {format_log_reduction(leth.log_reduction)} log reduction"
-            lines.append(line)
-        fz = oc.freezing
-        if fz is not None:
-            fh = fz.from_history
-            onset = _fmt_min(fh.onset.time_s / 60) if fh.onset.reached else "not reached"
-            end = _fmt_min(fh.end.time_s / 60) if fh.end.reached else "not reached"
+    return lines
+
+
+def _target_lines(oc) -> list[str]:
+    """When each target is reached, with plan time and cycle."""
+    lines: list[str] = []
+    for tg in oc.targets:
+        tr = tg.target
+        if tr.reached:
+            t_rel = (tr.time_s - (tr.start_s or 0.0)) / 60.0
+            line = f"  {tg.step}: {tg.point} reaches {tr.target_C:g} °C after {_fmt_min(t_rel)}"
+            if tg.margin is not None:
+                line += f"; plan time with margin {_fmt_min(tg.margin.plan_min)}; cycle {_fmt_min(tg.margin.cycle_min)}"
+                if tg.margin.cycle_too_short:
+                    line += "  ** CYCLE SHORTER THAN PLAN TIME **"
+        else:
+            line = f"  {tg.step}: {tg.point} does NOT reach {tr.target_C:g} °C within the step (closest {tr.closest_C:.1f} °C)"
+        lines.append(line)
+    return lines
+
+
+def _rule_lines(oc) -> list[str]:
+    """The cooling rule's verdict, stage by stage and band by band."""
+    lines: list[str] = []
+    rc = oc.rule_check
+    if rc is not None:
+        lines.append(f"  rule {rc.rule_name}: {'PASS' if rc.passed else 'FAIL'} ({rc.source})")
+        for st in rc.stages:
             lines.append(
-                f"  freezing: onset (core {fz.initial_freezing_C:.1f} °C) {onset}; core at {fh.end.target_C:g} °C {end}"
+                f"    stage {st.index + 1} {st.stage.from_C if st.stage.from_C is not None else 'start'} → {st.stage.to_C:g} °C within {st.stage.within_min:g} min: {'pass' if st.passed else 'FAIL'}; used {_fmt_min(st.used_min)}, margin {_fmt_min(st.margin_min)}"
+                + (f" ({st.margin_percent:.0f} %)" if st.margin_percent is not None else "")
+                + ("" if st.passed else f" — {st.reason}")
             )
-            lines.append(
-                f"    Plank {_fmt_min(fz.plank_s / 60 if fz.plank_s else None)}; Pham {_fmt_min(fz.pham.time_s / 60 if fz.pham else None)} ({fz.basis})"
-            )
-        for step_name, pct in oc.weight_loss_percent:
-            lines.append(f"  {step_name}: weight loss by surface evaporation {pct:.2f} % of the piece's mass")
-        en = oc.energy
+        for b in rc.bands:
+            lines.append(f"    band {b.band.range_text()}: {'pass' if b.passed else 'FAIL'} — {b.reason}")
+    return lines
+
+
+def _lethality_lines(oc) -> list[str]:
+    """Accumulated F (lethality and quality) against the requirement."""
+    lines: list[str] = []
+    for leth in (oc.lethality, oc.quality):
+        if leth is None:
+            continue
+        line = f"  lethality {leth.name} at the {leth.point}: F = {format_f(leth.total_F_min)} min (T_ref {leth.reference_C:g} °C, z {leth.z_C:g} °C)"
+        if leth.required_F_min:
+            line += f", required {leth.required_F_min:g} min: {'PASS' if leth.passed else 'FAIL'}"
+            if leth.reached is not None and leth.reached.reached:
+                line += f", reached after {_fmt_min(leth.reached.time_s / 60)}"
+        if leth.log_reduction is not None:
+            line += f"; {format_log_reduction(leth.log_reduction)} log reduction"
+        lines.append(line)
+    return lines
+
+
+def _freezing_lines(oc) -> list[str]:
+    """Freezing onset and end from the history, with Plank's and Pham's times."""
+    lines: list[str] = []
+    fz = oc.freezing
+    if fz is not None:
+        fh = fz.from_history
+        onset = _fmt_min(fh.onset.time_s / 60) if fh.onset.reached else "not reached"
+        end = _fmt_min(fh.end.time_s / 60) if fh.end.reached else "not reached"
         lines.append(
-            f"  energy (batch of {en.pieces:g}): net {en.heat_removed_J_per_batch / 3.6e6:.2f} kWh removed; balance against the enthalpy change {oc.energy_balance:.2%}"
+            f"  freezing: onset (core {fz.initial_freezing_C:.1f} °C) {onset}; core at {fh.end.target_C:g} °C {end}"
         )
-        for se in oc.refrigeration:
-            kwh = se.heat_removed_J_per_batch / 3.6e6
-            verb = "removed" if kwh >= 0 else "added"
-            line = f"    {se.step}: {abs(kwh):.2f} kWh {verb}, peak {se.peak_duty_kW:.1f} kW, mean {se.mean_duty_kW:.1f} kW"
-            if se.refrigeration is not None:
-                r = se.refrigeration
-                cost = f", cost {r.cost:.2f}" if r.cost is not None else ""
-                line += f"; COP {r.cop:.2f} (Carnot {r.cop_carnot:.2f}), electricity {r.electricity_kWh:.2f} kWh{cost} — {se.basis}"
-            lines.append(line)
-    for w in result.warnings:
-        lines.append(f"  warning: {w}")
-    lines.append("")
-    lines.append(CAUTION)
-    return "\n".join(lines)
+        lines.append(
+            f"    Plank {_fmt_min(fz.plank_s / 60 if fz.plank_s else None)}; Pham {_fmt_min(fz.pham.time_s / 60 if fz.pham else None)} ({fz.basis})"
+        )
+    return lines
+
+
+def _energy_lines(oc) -> list[str]:
+    """Weight loss, the batch's energy and each step's refrigeration duty."""
+    lines: list[str] = []
+    for step_name, pct in oc.weight_loss_percent:
+        lines.append(f"  {step_name}: weight loss by surface evaporation {pct:.2f} % of the piece's mass")
+    en = oc.energy
+    lines.append(
+        f"  energy (batch of {en.pieces:g}): net {en.heat_removed_J_per_batch / 3.6e6:.2f} kWh removed; balance against the enthalpy change {oc.energy_balance:.2%}"
+    )
+    for se in oc.refrigeration:
+        kwh = se.heat_removed_J_per_batch / 3.6e6
+        verb = "removed" if kwh >= 0 else "added"
+        line = f"    {se.step}: {abs(kwh):.2f} kWh {verb}, peak {se.peak_duty_kW:.1f} kW, mean {se.mean_duty_kW:.1f} kW"
+        if se.refrigeration is not None:
+            r = se.refrigeration
+            cost = f", cost {r.cost:.2f}" if r.cost is not None else ""
+            line += f"; COP {r.cop:.2f} (Carnot {r.cop_carnot:.2f}), electricity {r.electricity_kWh:.2f} kWh{cost} — {se.basis}"
+        lines.append(line)
+    return lines

@@ -163,8 +163,15 @@ def checkpoints(result, tolerance_K: float = 1.0, site=None) -> tuple[Checkpoint
     fmt_T = site.format_temperature if site is not None else _celsius
     fmt_t = site.format_time if site is not None else _minutes
     oc = result.outcomes
-    hist = result.history
-    t_end = float(hist["time_s"].iloc[-1])
+    t_end = float(result.history["time_s"].iloc[-1])
+    cps = _step_checkpoints(result, oc, t_end, tolerance_K, fmt_T)
+    cps += _rule_checkpoints(result, oc, t_end, fmt_T, fmt_t)
+    cps += _lethality_checkpoints(result, oc, t_end, tolerance_K)
+    return _merge(cps)
+
+
+def _step_checkpoints(result, oc, t_end: float, tolerance_K: float, fmt_T) -> list[Checkpoint]:
+    """Half-way to and at each step's binding target (or the step's end when it has none)."""
     cps: list[Checkpoint] = []
     for sr in result.steps:
         tgs = [t for t in (oc.targets if oc is not None else ()) if t.step == sr.name and t.target.reached]
@@ -189,6 +196,12 @@ def checkpoints(result, tolerance_K: float = 1.0, site=None) -> tuple[Checkpoint
             t_s = min(t_min * 60.0, t_end)
             exp, lo, hi = _margin_limit(result, point, sr.start_s, t_s, mode, tolerance_K)
             cps.append(Checkpoint(t_s / 60.0, sr.name, point, exp, lo, hi, why, action))
+    return cps
+
+
+def _rule_checkpoints(result, oc, t_end: float, fmt_T, fmt_t) -> list[Checkpoint]:
+    """At each cooling-rule stage deadline, and at each step's end for every band of the rule."""
+    cps: list[Checkpoint] = []
     rc = oc.rule_check if oc is not None else None
     if rc is not None:
         rule = rc
@@ -220,6 +233,12 @@ def checkpoints(result, tolerance_K: float = 1.0, site=None) -> tuple[Checkpoint
                         rule=True,
                     )
                 )
+    return cps
+
+
+def _lethality_checkpoints(result, oc, t_end: float, tolerance_K: float) -> list[Checkpoint]:
+    """When the lethality requirement is predicted to be reached."""
+    cps: list[Checkpoint] = []
     leth = oc.lethality if oc is not None else None
     if leth is not None and leth.reached is not None and leth.reached.reached:
         t_min = math.ceil(leth.reached.time_s / 60.0 - 1e-9)
@@ -239,7 +258,7 @@ def checkpoints(result, tolerance_K: float = 1.0, site=None) -> tuple[Checkpoint
                 ACTION_EXTEND,
             )
         )
-    return _merge(cps)
+    return cps
 
 
 def _step_index_at(result, t_s: float) -> int:

@@ -1,0 +1,117 @@
+"""The discrete operator of one finite-volume problem: table look-ups, face conductances and surface fluxes.
+
+The Newton iteration of one implicit step is in :mod:`procplan.conduction.fv_newton`, the linear systems it
+solves in :mod:`procplan.conduction.fv_linear`.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from procplan.conduction.fv_boundary import SurfaceBoundary
+from procplan.conduction.fv_grid import FVGrid
+from procplan.conduction.fv_linear import sparse_pattern
+from procplan.conduction.fv_newton import solve_step
+from procplan.properties.table import PropertyTable
+
+__all__ = ["FVModel"]
+
+
+class FVModel:
+    """Discrete operator of one problem: fluxes, residual and Newton solve."""
+
+    def __init__(self, grid: FVGrid, props: PropertyTable, boundary: SurfaceBoundary) -> None:
+        self.grid = grid
+        self.props = props
+        self.boundary = boundary
+        self.n = grid.n_cells
+        self.dim = len(grid.shape)
+        self.mass = props.mass_density_kg_m3 * grid.volume_m3
+        self.fi, self.fj, self.fg = grid.face_i, grid.face_j, grid.face_geometry_m
+        self.sc, self.sa = grid.surface_cells, grid.surface_area_m2
+        hg, tg = props.enthalpy_J_kg, props.temperature_C
+        self.h_grid = hg
+        self.slope = np.diff(tg) / np.diff(hg)  # dT/dH per table segment [K kg/J], 0 on an isothermal plateau
+        self.nseg = self.slope.size
+        sensible = np.diff(tg) > 0
+        self.cp_min = float((np.diff(hg)[sensible] / np.diff(tg)[sensible]).min())
+        # The table's own look-ups, with its linear extension past the ends built into the arrays so that a
+        # bare np.interp reproduces PropertyTable.temperature / conductivity (checked in the tests).
+        span = 1e3 * (hg[-1] - hg[0])
+        self._hx = np.r_[hg[0] - span, hg, hg[-1] + span]
+        self._tx = np.r_[tg[0] - span * self.slope[0], tg, tg[-1] + span * self.slope[-1]]
+        self._tk, self._kk = tg, props.conductivity_W_mK
+        dtg = np.diff(tg)
+        self._kslope = np.where(dtg > 0, np.diff(self._kk) / np.where(dtg > 0, dtg, 1.0), 0.0)
+        # "Strong" kinks of T(H), where the slope changes by more than a factor 2 (the ends of a freezing
+        # range): a Newton update is stopped on such a kink so that the next iteration uses the slope beyond it.
+        sl = self.slope
+        ratio = np.maximum(sl[1:], 1e-300) / np.maximum(sl[:-1], 1e-300)
+        strong = (ratio > 2.0) | (ratio < 0.5)
+        kinks = hg[1:-1][strong]
+        self.kinks = kinks if kinks.size <= 16 else kinks[:0]
+        if self.dim > 1:
+            self._perm, self._indices, self._indptr = sparse_pattern(self.fi, self.fj, self.n)
+        self.has_q = boundary.q_extra_W_m2 is not None
+
+    # -- pieces --------------------------------------------------------------------------
+    def temperature(self, H):
+        """T(H) [°C], the table's piecewise-linear inverse (same values as ``props.temperature``)."""
+        return np.interp(H, self._hx, self._tx)
+
+    def dT_dH(self, H: np.ndarray, direction: np.ndarray) -> np.ndarray:
+        """Slope of T(H) on the table segment H lies in; at a table point, the segment H moves into."""
+        hg = self.h_grid
+        i = np.searchsorted(hg, H, side="right") - 1
+        at_point = hg[np.minimum(np.maximum(i, 0), hg.size - 1)] == H
+        i = i - (at_point & (direction < 0))
+        return self.slope[np.minimum(np.maximum(i, 0), self.nseg - 1)]
+
+    def conductance(self, T: np.ndarray, derivatives: bool = False):
+        """Face conductances G = k_f A/Δx [W/K] with the harmonic mean k_f = 2 k_i k_j/(k_i + k_j);
+        with ``derivatives``, also dG/dT_i and dG/dT_j."""
+        k = np.interp(T, self._tk, self._kk)
+        ki, kj = k[self.fi], k[self.fj]
+        s = ki + kj
+        G = self.fg * (2.0 * ki * kj / s)
+        if not derivatives:
+            return G
+        seg = np.searchsorted(self._tk, T, side="right") - 1
+        inside = (seg >= 0) & (seg < self._kslope.size)
+        dk = np.where(inside, self._kslope[np.minimum(np.maximum(seg, 0), self._kslope.size - 1)], 0.0)
+        w = 2.0 * self.fg / (s * s)
+        return G, w * kj * kj * dk[self.fi], w * ki * ki * dk[self.fj]
+
+    def surface_flux(self, t: float, Ts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Heat into each surface cell [W] and its derivative with respect to the cell temperature [W/K]."""
+        h = self.boundary.h(t)
+        q = h * (self.boundary.medium(t) - Ts)
+        dq = np.full(Ts.shape, -h)
+        if self.has_q:
+            eps = 1e-3
+            q0 = self.boundary.q_extra(t, Ts)
+            q1 = self.boundary.q_extra(t, Ts + eps)
+            q = q + q0
+            dq = dq + (q1 - q0) / eps
+        return self.sa * q, self.sa * dq
+
+    def net_flow(self, t: float, T: np.ndarray, G: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        flux = G * (T[self.fj] - T[self.fi])
+        if self.dim == 1:
+            F = np.zeros(self.n)
+            F[:-1] += flux
+            F[1:] -= flux
+        else:
+            F = np.bincount(self.fi, flux, self.n) - np.bincount(self.fj, flux, self.n)
+        qs, dqs = self.surface_flux(t, T[self.sc])
+        F[self.sc] += qs
+        return F, qs, dqs
+
+    def heat_flow_W(self, t: float, H: np.ndarray) -> float:
+        qs, _ = self.surface_flux(t, self.temperature(H[self.sc]))
+        return float(qs.sum()) * self.grid.piece_factor
+
+    # -- one implicit step (procplan.conduction.fv_newton) ---------------------------------
+    def solve_step(self, t1: float, dt: float, a: float, hist: np.ndarray, Hn: np.ndarray, H0: np.ndarray):
+        """Solve m (a H − hist)/dt = F(T(H)) at t1. Returns (H, iterations) or (None, iterations)."""
+        return solve_step(self, t1, dt, a, hist, Hn, H0)

@@ -1,0 +1,147 @@
+"""One implicit step of the enthalpy form: Newton's method on H with dT/dH from the enthalpy table.
+
+The Jacobian uses dT/dH = 1/c_app from the table (zero on an isothermal plateau), switched to per-cell secant
+slopes when the iteration is slow, and an update is stopped on a strong kink of T(H) (the ends of a freezing
+range) so that the next iteration uses the slope beyond it: the enthalpy-Newton family of Voller &
+Swaminathan (1991), Numerical Heat Transfer B 19:175–189.
+"""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
+import numpy as np
+
+from procplan.conduction.fv_linear import _gtsv, linear_solve
+
+if TYPE_CHECKING:
+    from procplan.conduction.fv_model import FVModel
+
+__all__ = ["linear_on", "solve_step", "solve_step_1d"]
+
+_MAX_NEWTON = 40
+_SECANT_AFTER = 8
+
+
+def solve_step(
+    model: FVModel, t1: float, dt: float, a: float, hist: np.ndarray, Hn: np.ndarray, H0: np.ndarray
+):
+    """Solve m (a H − hist)/dt = F(T(H)) at t1. Returns (H, iterations) or (None, iterations)."""
+    if model.dim == 1:
+        return solve_step_1d(model, t1, dt, a, hist, Hn, H0)
+    M = model.mass
+    md = a * M / dt
+    tol = 1e-6 * model.cp_min  # J/kg, about a micro-kelvin of sensible heat
+    H = H0.copy()
+    Hold = Told = None
+    for it in range(1, _MAX_NEWTON + 1):
+        T = model.temperature(H)
+        G, dGi, dGj = model.conductance(T, derivatives=True)
+        F, _, dqs = model.net_flow(t1, T, G)
+        R = md * H - (M / dt) * hist - F
+        if np.max(np.abs(R) / md) < tol:
+            return H, it - 1
+        direction = np.sign(H - Hn)
+        direction = np.where(direction == 0, -np.sign(R), direction)
+        D = model.dT_dH(H, direction)
+        if it > _SECANT_AFTER and Hold is not None:
+            dH = H - Hold
+            ok = np.abs(dH) > 1e-9 * (1.0 + np.abs(H))
+            D = np.where(ok, (T - Told) / np.where(ok, dH, 1.0), D)
+        Hold, Told = H, T
+        dTf = T[model.fj] - T[model.fi]
+        delta = linear_solve(model, md, -G + dTf * dGi, G + dTf * dGj, dqs, D, -R)
+        if not np.all(np.isfinite(delta)):
+            return None, it
+        if model.kinks.size and it <= _SECANT_AFTER:
+            with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+                frac = (model.kinks[None, :] - H[:, None]) / delta[:, None]
+                frac = np.where(frac > 1e-12, frac, np.inf).min(axis=1)
+                delta = np.where(frac < 1.0, frac * delta, delta)
+        H = H + delta
+    return None, _MAX_NEWTON
+
+
+def solve_step_1d(model: FVModel, t1, dt, a, hist, Hn, H0):
+    """The same Newton iteration as :func:`solve_step`, written with slices for the 1-D tridiagonal case."""
+    M = model.mass
+    md = a * M / dt
+    rhs0 = (M / dt) * hist
+    tol = 1e-6 * model.cp_min
+    hx, tx, tk, kk, ksl = model._hx, model._tx, model._tk, model._kk, model._kslope
+    hg, slope, nseg, nks = model.h_grid, model.slope, model.nseg, ksl.size
+    fg, area, kinks = model.fg, model.sa[0], model.kinks
+    h = float(model.boundary.h(t1))
+    tm = float(model.boundary.medium(t1))
+    has_q = model.has_q
+    n = model.n
+    H = H0.copy()
+    dd = np.empty(n)
+    for it in range(1, _MAX_NEWTON + 1):
+        T = np.interp(H, hx, tx)
+        k = np.interp(T, tk, kk)
+        ki, kj = k[:-1], k[1:]
+        ssum = ki + kj
+        G = fg * (2.0 * ki * kj / ssum)
+        dT = T[1:] - T[:-1]
+        flux = G * dT
+        F = np.empty(n)
+        F[0] = 0.0
+        F[1:] = -flux
+        F[:-1] += flux
+        ts = T[-1]
+        qs = h * (tm - ts)
+        dqs = -h
+        if has_q:
+            q0 = float(model.boundary.q_extra(t1, T[-1:])[0])
+            q1 = float(model.boundary.q_extra(t1, T[-1:] + 1e-3)[0])
+            qs += q0
+            dqs += (q1 - q0) / 1e-3
+        F[-1] += area * qs
+        R = md * H - rhs0 - F
+        if np.max(np.abs(R) / md) < tol:
+            return H, it - 1
+        # dT/dH on the segment H moves into
+        idx = np.searchsorted(hg, H, side="right") - 1
+        np.clip(idx, 0, nseg - 1, out=idx)
+        at_point = hg[idx] == H
+        if at_point.any():
+            moving_down = np.where(H != Hn, H < Hn, R > 0)
+            idx = np.clip(idx - (at_point & moving_down), 0, nseg - 1)
+        D = slope[idx]
+        if nks:
+            seg = np.searchsorted(tk, T, side="right") - 1
+            dk = np.where((seg >= 0) & (seg < nks), ksl[np.clip(seg, 0, nks - 1)], 0.0)
+            w = 2.0 * fg / (ssum * ssum)
+            af = -G + dT * (w * kj * kj * dk[:-1])
+            bf = G + dT * (w * ki * ki * dk[1:])
+        else:
+            af, bf = -G, G
+        dd[:-1] = af
+        dd[-1] = area * dqs
+        dd[1:] -= bf
+        _, _, _, delta, info = _gtsv(af * D[:-1], md - dd * D, -bf * D[1:], -R, 1, 1, 1, 1)
+        if info != 0 or not np.all(np.isfinite(delta)):
+            return None, it
+        if kinks.size:
+            with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+                frac = (kinks[None, :] - H[:, None]) / delta[:, None]
+                frac = np.where(frac > 1e-12, frac, np.inf).min(axis=1)
+                cut = frac < 1.0
+                delta = np.where(cut, frac * delta, delta)
+        else:
+            cut = np.zeros(1, dtype=bool)
+        H = H + delta
+        if not cut.any() and linear_on(model, idx, H, has_q):
+            return H, it
+    return None, _MAX_NEWTON
+
+
+def linear_on(model: FVModel, idx: np.ndarray, H: np.ndarray, has_q: bool) -> bool:
+    """True when every cell stayed on its table segment and k is constant there: the discrete problem
+    is then linear over the update, so the Newton step was exact and no further residual is needed."""
+    if has_q or model._kslope[idx].any():
+        return False
+    new = np.searchsorted(model.h_grid, H, side="right") - 1
+    np.clip(new, 0, model.nseg - 1, out=new)
+    return bool(np.array_equal(new, idx))

@@ -1,0 +1,143 @@
+"""The record of a finite-volume run: its history, collected step by step, and the result it becomes."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from procplan.conduction.fv_grid import FVGrid
+
+__all__ = ["ConductionResult", "ConductionSolverError", "HistoryRecorder"]
+
+
+class ConductionSolverError(RuntimeError):
+    """The nonlinear iteration failed even at the smallest time step (a property table or input far outside sense)."""
+
+
+@dataclass(frozen=True, eq=False)
+class ConductionResult:
+    """History and provenance of one finite-volume run (one piece of product).
+
+    Attributes
+    ----------
+    time_s : times of the history [s]
+    core_C : thermal-centre temperature [°C]
+    surface_C : surface temperature at the fastest point [°C] (1-D: the surface; 2-D: the rim edge;
+        3-D: the corner), the temperature of the node on the surface
+    face_surface_C : surface temperature at the centre of the face on the shortest axis [°C]
+    mean_C : mass-weighted mean temperature [°C], the temperature at the mean specific enthalpy
+        T(Σ m_i H_i / Σ m_i) (this is the one to use for energy and "average product temperature")
+    volume_mean_C : plain volume mean of the cell temperatures [°C] (differs from mean_C in a freezing range)
+    heat_flow_W : heat flow into the piece through its surface [W] (per m² of face for an unbounded slab,
+        per m of length for an unbounded cylinder, as ``Geometry.volume_m3`` and ``area_m2`` define)
+    heat_J : cumulative heat into the piece since t = 0 [J] (trapezoidal rule over every accepted step)
+    final_field : temperature field at the last time [°C], shaped like ``grid.shape``
+    final_enthalpy_J_kg : specific-enthalpy field at the last time [J/kg]
+    grid : the grid (axes, node positions, cell volumes)
+    n_steps, n_rejected, n_iterations : accepted steps, rejected steps, Newton iterations
+    dt_min_s, dt_max_s : smallest and largest accepted step [s]
+    energy_balance_error : |∫Q dt − Δ(Σ m H)| / |Δ(Σ m H)| (0 when nothing changed)
+    stopped_at_s : time the core crossed ``stop_when_core_C`` [s], or None
+    method : description of the discretisation
+    """
+
+    time_s: np.ndarray
+    core_C: np.ndarray
+    surface_C: np.ndarray
+    face_surface_C: np.ndarray
+    mean_C: np.ndarray
+    volume_mean_C: np.ndarray
+    heat_flow_W: np.ndarray
+    heat_J: np.ndarray
+    final_field: np.ndarray
+    final_enthalpy_J_kg: np.ndarray
+    grid: FVGrid
+    n_steps: int
+    n_rejected: int
+    n_iterations: int
+    dt_min_s: float
+    dt_max_s: float
+    energy_balance_error: float
+    stopped_at_s: float | None
+    method: str
+
+    def to_frame(self) -> pd.DataFrame:
+        """The history as a DataFrame with unit-suffixed columns."""
+        return pd.DataFrame(
+            {
+                "time_s": self.time_s,
+                "core_C": self.core_C,
+                "surface_C": self.surface_C,
+                "face_surface_C": self.face_surface_C,
+                "mean_C": self.mean_C,
+                "volume_mean_C": self.volume_mean_C,
+                "heat_flow_W": self.heat_flow_W,
+                "heat_J": self.heat_J,
+            }
+        )
+
+
+class HistoryRecorder:
+    """Collects the history of a run (one row per recorded time) and turns it into a ConductionResult."""
+
+    def __init__(self, grid: FVGrid, temperature) -> None:
+        self.grid = grid
+        self.temperature = temperature  # T(H), the model's look-up
+        self.rows: dict[str, list] = {k: [] for k in ("t", "core", "surf", "face", "mean", "vmean", "q", "e")}
+        self.volume = grid.volume_m3
+        self.volume_sum = self.volume.sum()
+
+    def record(self, t: float, Hv: np.ndarray, T: np.ndarray, q: float, e: float) -> None:
+        """Add the row at time t [s] of enthalpy field Hv, temperature field T, heat flow q [W], heat e [J]."""
+        grid, rec, V, Vsum = self.grid, self.rows, self.volume, self.volume_sum
+        rec["t"].append(t)
+        rec["core"].append(T[grid.core_index])
+        rec["surf"].append(T[grid.corner_index])
+        rec["face"].append(T[grid.face_centre_index])
+        rec["mean"].append(float(self.temperature(np.dot(V, Hv) / Vsum)))
+        rec["vmean"].append(np.dot(V, T) / Vsum)
+        rec["q"].append(q)
+        rec["e"].append(e)
+
+    def result(
+        self,
+        H: np.ndarray,
+        *,
+        n_steps: int,
+        n_rejected: int,
+        n_iterations: int,
+        dts: list[float],
+        energy_balance_error: float,
+        stopped_at_s: float | None,
+        method: str,
+    ) -> ConductionResult:
+        """The ConductionResult of the recorded history with the final enthalpy field H [J/kg]."""
+        grid = self.grid
+        Tfin = self.temperature(H).reshape(grid.shape)
+        Hfin = H.reshape(grid.shape).copy()
+        Tfin.setflags(write=False)
+        Hfin.setflags(write=False)
+        arr = {k: np.asarray(v, dtype=float) for k, v in self.rows.items()}
+        return ConductionResult(
+            time_s=arr["t"],
+            core_C=arr["core"],
+            surface_C=arr["surf"],
+            face_surface_C=arr["face"],
+            mean_C=arr["mean"],
+            volume_mean_C=arr["vmean"],
+            heat_flow_W=arr["q"],
+            heat_J=arr["e"],
+            final_field=Tfin,
+            final_enthalpy_J_kg=Hfin,
+            grid=grid,
+            n_steps=n_steps,
+            n_rejected=n_rejected,
+            n_iterations=n_iterations,
+            dt_min_s=float(min(dts)) if dts else 0.0,
+            dt_max_s=float(max(dts)) if dts else 0.0,
+            energy_balance_error=float(energy_balance_error),
+            stopped_at_s=stopped_at_s,
+            method=method,
+        )

@@ -1,0 +1,225 @@
+"""The outcome sections of the batch-plan sheet: rule compliance, lethality, freezing, energy, provenance and
+the box for measured values and signatures. Each returns a list of platypus flowables.
+"""
+
+from __future__ import annotations
+
+from procplan._version import __version__
+from procplan.output.report import format_f, format_log_reduction
+from procplan.output.sheet_layout import (
+    cols,
+    esc,
+    fixed,
+    table,
+)
+from procplan.output.sheet_sections import (
+    difference_text,
+)
+
+
+def rules_section(result, site, st, W):
+    oc = result.outcomes
+    out = [*st.h("Rule compliance")]
+    rc = oc.rule_check if oc is not None else None
+    if rc is None:
+        default = ", ".join(site.default_rules) or "none"
+        out.append(st.p(f"No cooling or storage rule in this plan (site default rules: {default})."))
+        return out
+    out.append(
+        st.p(f"<b>{esc(rc.rule_name)}: {'PASS' if rc.passed else 'FAIL'}</b> — {esc(rc.source)}", raw=True)
+    )
+    if rc.stages:
+        rows = [["Stage", "Limit", "Used", "Allowed", "Margin", "Margin %", "Result"]]
+        for s in rc.stages:
+            frm = site.format_temperature(s.stage.from_C) if s.stage.from_C is not None else "start"
+            lim = f"{frm} to {site.format_temperature(s.stage.to_C)} within {s.stage.within_min:g} min" + (
+                " (from the rule's start)" if s.stage.clock == "rule" else ""
+            )
+            rows.append(
+                [
+                    str(s.index + 1),
+                    lim,
+                    site.format_time(s.used_min),
+                    site.format_time(s.allowed_min),
+                    site.format_time(s.margin_min),
+                    f"{s.margin_percent:.0f} %" if s.margin_percent is not None else "—",
+                    "pass" if s.passed else f"FAIL: {s.reason}",
+                ]
+            )
+        out.append(table(rows, cols(W, [0.06, 0.32, 0.1, 0.1, 0.1, 0.08, 0.24]), st))
+    if rc.bands:
+        rows = [["Band", "Inside", "Outside", "Longest excursion", "Margin", "Result"]]
+        for b in rc.bands:
+            rows.append(
+                [
+                    b.band.label(),
+                    site.format_time(b.inside_min),
+                    site.format_time(b.outside_min),
+                    site.format_time(b.longest_outside_min),
+                    site.format_time(b.margin_min),
+                    "pass" if b.passed else f"FAIL: {b.reason}",
+                ]
+            )
+        out.append(table(rows, cols(W, [0.16, 0.11, 0.11, 0.13, 0.11, 0.38]), st))
+    return out
+
+
+def lethality_section(result, site, st, W):
+    oc = result.outcomes
+    out = [*st.h("Lethality")]
+    items = (
+        [x for x in ((oc.lethality, "requirement"), (oc.quality, "cook value")) if x[0] is not None]
+        if oc
+        else []
+    )
+    if not items:
+        out.append(st.p("No lethality requirement in this plan, and the surface stays below 60 °C."))
+        return out
+    rows = [["Check", "Point", "T_ref, z", "F", "Required", "Result", "Reached at", "Log reduction"]]
+    for leth, role in items:
+        if leth.required_F_min:
+            res = "PASS" if leth.passed else "FAIL"
+            req = f"{leth.required_F_min:g} min"
+        else:
+            res, req = "information only", "—"
+        reached = (
+            site.format_time(leth.reached.time_s / 60.0)
+            if (leth.reached is not None and leth.reached.reached)
+            else ("not reached" if leth.required_F_min else "—")
+        )
+        rows.append(
+            [
+                f"{leth.name} ({role}): {leth.target}",
+                leth.point,
+                f"{site.format_temperature(leth.reference_C)}, z {difference_text(site, leth.z_C)}",
+                f"{format_f(leth.total_F_min)} min",
+                req,
+                res,
+                reached,
+                format_log_reduction(leth.log_reduction) if leth.log_reduction is not None else "—",
+            ]
+        )
+    out.append(table(rows, cols(W, [0.3, 0.07, 0.14, 0.1, 0.08, 0.1, 0.1, 0.11]), st))
+    srcs = "; ".join(dict.fromkeys(leth.source for leth, _ in items))
+    out.append(st.p(f"Sources: {srcs}", st.small))
+    return out
+
+
+def freezing_section(result, site, st, W):
+    oc = result.outcomes
+    fz = oc.freezing if oc is not None else None
+    if fz is None:
+        return []
+    fh = fz.from_history
+    onset = site.format_time(fh.onset.time_s / 60.0) if fh.onset.reached else "not reached"
+    end = site.format_time(fh.end.time_s / 60.0) if fh.end.reached else "not reached"
+    rows = [
+        ["Onset (core at initial freezing point)", "End (core at storage temperature)", "Plank", "Pham"],
+        [
+            f"{onset} (core {site.format_temperature(fz.initial_freezing_C, 2)})",
+            f"{end} (core {site.format_temperature(fh.end.target_C)})",
+            site.format_time(fz.plank_s / 60.0) if fz.plank_s else "—",
+            site.format_time(fz.pham.time_s / 60.0) if fz.pham else "—",
+        ],
+    ]
+    return [
+        *st.h("Freezing"),
+        table(rows, cols(W, [0.3, 0.3, 0.2, 0.2]), st),
+        st.p(fz.basis, st.small),
+    ]
+
+
+def energy_section(result, site, st, W):
+    oc = result.outcomes
+    if oc is None:
+        return []
+    ch = result.plan.checks
+    price, cur, price_src = ch.energy_price_per_kWh, site.currency, "plan"
+    if price is None and site.energy_price_per_kWh is not None:
+        price, price_src = site.energy_price_per_kWh, "site tariff"
+    rows = [
+        [
+            "Step",
+            "Heat per batch",
+            "Peak duty",
+            "Mean duty",
+            "COP (Carnot)",
+            "Electricity",
+            f"Cost ({cur or 'currency'})",
+            "Basis",
+        ]
+    ]
+    for se in oc.refrigeration:
+        kwh = se.heat_removed_J_per_batch / 3.6e6
+        r = se.refrigeration
+        cost = "—"
+        if r is not None and price is not None:
+            cost = f"{r.electricity_kWh * price:.2f} {cur}".strip()
+        rows.append(
+            [
+                se.step,
+                f"{abs(kwh):.2f} kWh {'removed' if kwh >= 0 else 'added'}",
+                f"{se.peak_duty_kW:.1f} kW",
+                f"{se.mean_duty_kW:.1f} kW",
+                f"{r.cop:.2f} ({r.cop_carnot:.2f})" if r is not None else "—",
+                f"{r.electricity_kWh:.2f} kWh" if r is not None else "—",
+                cost,
+                se.basis,
+            ]
+        )
+    en = oc.energy
+    note = (
+        f"Batch of {en.pieces:g}: net {fixed(en.heat_removed_J_per_batch / 3.6e6, 2)} kWh removed; heat through the surface "
+        f"against the enthalpy change: {oc.energy_balance:.2%}. COP = {ch.cop_fraction:g} × Carnot."
+    )
+    if price is not None:
+        note += f" Price {price:g} {cur}/kWh ({price_src})."
+    return [
+        *st.h("Energy"),
+        table(rows, cols(W, [0.12, 0.13, 0.08, 0.08, 0.09, 0.09, 0.09, 0.32]), st),
+        st.p(note, st.small),
+    ]
+
+
+def provenance_section(result, site, st, W, sha):
+    rows = [["Step", "Solver and reason", "Regime", "Grid / series", "Energy-balance error"]]
+    for sr in result.steps:
+        det = sr.details
+        grid = det.get("grid") or ("series solution" if sr.solver == "exact" else "—")
+        if "time_steps" in det:
+            grid += f"; {det['time_steps']} time steps"
+        rows.append(
+            [
+                f"{sr.index + 1} {sr.name}",
+                f"{sr.solver}: {sr.reason}",
+                sr.regime.reason,
+                grid,
+                f"{sr.energy_balance_error:.2%}",
+            ]
+        )
+    out = [
+        *st.h("Provenance"),
+        st.p(
+            f"procplan {__version__}; plan file SHA-256 {sha} (of the plan's TOML as written by procplan.files.plan.plan_to_toml)",
+            st.small,
+        ),
+        table(rows, cols(W, [0.12, 0.38, 0.25, 0.18, 0.07]), st, small=True),
+    ]
+    if result.warnings:
+        out.append(st.p("Warnings: " + " | ".join(result.warnings), st.small))
+    return out
+
+
+def measured_section(result, site, st, W):
+    rows = [
+        ["Measured", "Value", "Time", "Initials"],
+        ["Core at the start of the first step", "", "", ""],
+        ["Core at the end of the last step", "", "", ""],
+        ["Equipment set points checked (step by step)", "", "", ""],
+        ["Deviations and corrective actions", "", "", ""],
+        ["Released for production by (name, signature)", "", "", ""],
+    ]
+    t = table(
+        rows, cols(W, [0.4, 0.3, 0.13, 0.17]), st, row_heights=[None] + [st.size * 2.4] * (len(rows) - 1)
+    )
+    return [*st.h("Measured values and signatures"), t]
