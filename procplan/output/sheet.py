@@ -41,7 +41,7 @@ from procplan.caution import CAUTION
 from procplan.errors import InvalidInputError
 from procplan.files.site import PAPER_SIZES, SiteSettings
 from procplan.output.chart import history_chart
-from procplan.output.report import format_f, format_log_reduction
+from procplan.output.report import format_f, indicative_text, log_reduction_text
 from procplan.output.sheet_data import ACTION_IF_MISSED, checkpoints, document_number, margin_note, plan_hash
 
 FONT, BOLD = "ProcplanSans", "ProcplanSans-Bold"
@@ -531,6 +531,8 @@ def _lethality(result, site, st, W):
         if leth.required_F_min:
             res = "PASS" if leth.passed else "FAIL"
             req = f"{leth.required_F_min:g} min"
+            if leth.process_fraction is not None:
+                res += f" ({leth.process_fraction:.3g} of the process)"
         else:
             res, req = "information only", "—"
         reached = (
@@ -540,14 +542,15 @@ def _lethality(result, site, st, W):
         )
         rows.append(
             [
-                f"{leth.name} ({role}): {leth.target}",
+                f"{leth.name} ({role}): {leth.target}{indicative_text(leth)}",
                 leth.point,
-                f"{site.format_temperature(leth.reference_C)}, z {_difference_text(site, leth.z_C)}",
+                f"{site.format_temperature(leth.reference_C)}, "
+                + ("published table" if leth.z_C is None else f"z {_difference_text(site, leth.z_C)}"),
                 f"{format_f(leth.total_F_min)} min",
                 req,
                 res,
                 reached,
-                format_log_reduction(leth.log_reduction) if leth.log_reduction is not None else "—",
+                log_reduction_text(leth),
             ]
         )
     out.append(_table(rows, _cols(W, [0.3, 0.07, 0.14, 0.1, 0.08, 0.1, 0.1, 0.11]), st))
