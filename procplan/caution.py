@@ -7,3 +7,6 @@ CAUTION = (
 )
 
 CAUTION_SHORT = "Planning estimate: validate by measurement; food-safety law, pharmacopoeia, HACCP/validation plan and the process authority prevail."
+
+#: Marks a rule or lethality preset whose values were not all confirmed in a source that was read.
+INDICATIVE = "indicative – confirm with your process authority"

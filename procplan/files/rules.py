@@ -15,7 +15,7 @@ from procplan.errors import Collector, InvalidInputError
 from procplan.files.fields import check_keys
 from procplan.outcomes.rules import RULE_KINDS, RULE_POINTS, STAGE_CLOCKS, Band, Rule, Stage
 
-RULE_KEYS = ("bands", "kind", "name", "notes", "point", "source", "stages", "title")
+RULE_KEYS = ("bands", "confirmed", "kind", "name", "notes", "point", "source", "stages", "title")
 STAGE_KEYS = ("clock", "from_C", "to_C", "within_min")
 BAND_KEYS = ("at_least_min", "at_most_min", "high_C", "low_C", "max_outside_min", "name")
 BAND_LIMITS = ("at_least_min", "at_most_min", "max_outside_min")
@@ -191,6 +191,8 @@ def rule_from_dict(data: dict, source: str = "rule") -> Rule:
     citation = _text(c, data, "source", True)
     title = _text(c, data, "title", False)
     notes = _text(c, data, "notes", False)
+    if not isinstance(confirmed := data.get("confirmed", True), bool):
+        c.add(InvalidInputError("confirmed", confirmed, "true or false (false: the rule is indicative)"))
     kind = data.get("kind", "cooling")
     with c.catch():
         validate.choice("kind", kind, RULE_KINDS)
@@ -209,7 +211,7 @@ def rule_from_dict(data: dict, source: str = "rule") -> Rule:
     if not raw_stages and not raw_bands:
         c.add(InvalidInputError("stages", [], "at least one stage or band"))
     c.raise_if_any()
-    return Rule(name, citation, kind, tuple(stages), tuple(bands), point, title, notes)
+    return Rule(name, citation, kind, tuple(stages), tuple(bands), point, title, notes, confirmed)
 
 
 def rule_to_dict(rule: Rule) -> dict:
@@ -229,6 +231,8 @@ def rule_to_dict(rule: Rule) -> dict:
         d["point"] = rule.point
     if rule.notes:
         d["notes"] = rule.notes
+    if not rule.confirmed:
+        d["confirmed"] = False
     if rule.stages:
         d["stages"] = []
         for s in rule.stages:

@@ -5,6 +5,7 @@ cooling/holding rule checks, lethality (F-values, log reductions), freezing time
 duty, and the safety margin on a predicted time.
 """
 
+from procplan.caution import INDICATIVE
 from procplan.outcomes.cold_chain import (
     MKT_MODES,
     BudgetCheck,
@@ -34,17 +35,22 @@ from procplan.outcomes.freezing_time import (
     pham_mean_freezing_temperature_C,
 )
 from procplan.outcomes.lethality import (
+    DEFAULT_MAX_LOG_REDUCTION,
     F_INTEGRATION_METHODS,
     LETHALITY_PRESETS,
+    Z_VALUE_PRESETS,
     FieldLogReduction,
+    LethalityBasis,
     LethalityPreset,
     LethalityTarget,
     f_value,
     lethal_rate,
+    lethality_basis,
     log_reduction,
     time_to_lethality,
     volume_average_log_reduction,
 )
+from procplan.outcomes.lethality_tables import LETHALITY_TABLES, TabulatedPreset
 from procplan.outcomes.margin import MarginCheck, check_cycle, plan_time_min
 from procplan.outcomes.rules import (
     RULE_KINDS,
@@ -71,6 +77,13 @@ __all__ = [
     "DIRECTIONS",
     "F_INTEGRATION_METHODS",
     "LETHALITY_PRESETS",
+    "DEFAULT_MAX_LOG_REDUCTION",
+    "LETHALITY_TABLES",
+    "INDICATIVE",
+    "Z_VALUE_PRESETS",
+    "LethalityBasis",
+    "TabulatedPreset",
+    "lethality_basis",
     "PLANK_SHAPE_FACTORS",
     "RULE_KINDS",
     "RULE_POINTS",

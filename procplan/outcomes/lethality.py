@@ -32,10 +32,15 @@ from dataclasses import dataclass
 import numpy as np
 
 from procplan import validate
+from procplan.caution import INDICATIVE
 from procplan.errors import InvalidInputError
+from procplan.outcomes.lethality_tables import LETHALITY_TABLES, TabulatedPreset
 from procplan.outcomes.targets import history_arrays
 
 LN10 = math.log(10.0)
+#: Largest log reduction reported as a number when a check names no preset with its own maximum: a 12D
+#: botulinum cook is the usual ceiling of what a process is validated for; beyond it "> 12" is shown.
+DEFAULT_MAX_LOG_REDUCTION = 12.0
 
 
 def lethal_rate(temperature_C, reference_C: float, z_C: float) -> np.ndarray:
@@ -244,7 +249,7 @@ def volume_average_log_reduction(
 
 @dataclass(frozen=True)
 class LethalityPreset:
-    """A published (or common-practice) lethality requirement or kinetic reference.
+    """A published (or common-practice) lethality requirement or kinetic reference with one z-value.
 
     name : registry key
     target : the organism or quality attribute
@@ -254,7 +259,9 @@ class LethalityPreset:
     log_reductions : decimal reductions the requirement stands for, or None
     kind : "safety" (a minimum at the slowest-heating point) or "quality" (an over-processing indicator,
         usually evaluated at the surface)
-    source : where the numbers come from; "(from memory)" marks values not confirmed in the source
+    source : document, year and table/page the numbers come from
+    confirmed : whether every number was checked in a source that was read; False makes the preset indicative
+    max_log_reduction : the largest log reduction the source supports (reported beyond it as "> N log")
     """
 
     name: str
@@ -265,6 +272,15 @@ class LethalityPreset:
     log_reductions: float | None
     kind: str
     source: str
+    confirmed: bool = True
+    max_log_reduction: float | None = None
+
+    tabulated = False
+
+    @property
+    def source_text(self) -> str:
+        """The source as shown to users, marked indicative when not confirmed."""
+        return self.source if self.confirmed else f"{INDICATIVE}: {self.source}"
 
     @property
     def d_value_min(self) -> float | None:
@@ -283,8 +299,14 @@ class LethalityPreset:
         return self.required_F_min * 10.0 ** ((self.reference_C - temp) / self.z_C)
 
 
-#: Lethality presets. One registry: the engine, the CLI and the UI all read it.
-LETHALITY_PRESETS: dict[str, LethalityPreset] = {
+_FSIS_A = (
+    "USDA FSIS (1999), Appendix A: Compliance Guidelines for Meeting Lethality Performance Standards for Certain "
+    "Meat and Poultry Products, guideline 1 table: 140 °F (60 °C) for 12 min in the {col} column; z 10 °F "
+    "(5.56 °C) fitted to the table's rows (within a few per cent of them; the '-table' preset follows the rows)"
+)
+
+#: Lethality presets with one z-value.
+Z_VALUE_PRESETS: dict[str, LethalityPreset] = {
     p.name: p
     for p in (
         LethalityPreset(
@@ -295,8 +317,11 @@ LETHALITY_PRESETS: dict[str, LethalityPreset] = {
             3.0,
             12.0,
             "safety",
-            "F0 definition (121.1 °C, z 10 °C): European Pharmacopoeia 5.1.5; F0 ≥ 3 min minimum botulinum cook: common practice "
-            "for low-acid canned foods (12 × D121.1 ≈ 0.21–0.25 min, from memory)",
+            "F0 (121.1 °C, z 10 °C; European Pharmacopoeia 5.1.5); F0 ≥ 3 min as the minimum botulinum cook "
+            "(12D) of low-acid canned foods: trade guidelines (National Canners Association 1968; NFPA 1971–1985) "
+            "as summarised in the thermal-process lethality literature",
+            True,
+            12.0,
         ),
         LethalityPreset(
             "listeria-6log",
@@ -307,18 +332,10 @@ LETHALITY_PRESETS: dict[str, LethalityPreset] = {
             6.0,
             "safety",
             "70 °C for 2 min: Mackey, B.M. & Bratchell, N. (1989), The heat resistance of Listeria monocytogenes, "
-            "Lett. Appl. Microbiol. 9:89–94; z 7.5 °C as used in UK guidance for equivalent times (from memory)",
-        ),
-        LethalityPreset(
-            "c-botulinum-nonproteolytic-6log",
-            "non-proteolytic Clostridium botulinum, 6-log reduction (chilled foods with extended shelf life)",
-            90.0,
-            10.0,
-            10.0,
+            "Lett. Appl. Microbiol. 9:89–94; z 7.5 °C fitted to UK equivalent times not read in the primary "
+            "document (see listeria-6log-uk-table)",
+            False,
             6.0,
-            "safety",
-            "90 °C for 10 min: Chilled Food Association best-practice guidelines and ACMSF (1992) report on vacuum packaging "
-            "and associated processes; z ≈ 10 °C above 90 °C (from memory; CFA equivalents below 90 °C use a different z)",
         ),
         LethalityPreset(
             "salmonella-beef-7log-fsis",
@@ -328,8 +345,9 @@ LETHALITY_PRESETS: dict[str, LethalityPreset] = {
             12.0,
             7.0,
             "safety",
-            "USDA FSIS (1999) Appendix A, Compliance guidelines for meeting lethality performance standards for certain meat and "
-            "poultry products: 140 °F (60 °C) for 12 min; z 5.56 °C (10 °F) implied by the table's rows (from memory)",
+            _FSIS_A.format(col="7-log"),
+            True,
+            7.0,
         ),
         LethalityPreset(
             "salmonella-beef-6.5log-fsis",
@@ -339,8 +357,9 @@ LETHALITY_PRESETS: dict[str, LethalityPreset] = {
             12.0,
             6.5,
             "safety",
-            "USDA FSIS (1999) Appendix A: 140 °F (60 °C) for 12 min in the 6.5-log column as well (from memory); "
-            "the column's rows in seconds follow 12 × 6.5/7 = 11.1 min at 140 °F, so 12 min is conservative",
+            _FSIS_A.format(col="6.5-log"),
+            True,
+            6.5,
         ),
         LethalityPreset(
             "pasteurisation-units",
@@ -350,7 +369,9 @@ LETHALITY_PRESETS: dict[str, LethalityPreset] = {
             None,
             None,
             "safety",
-            "common practice (beer and beverage pasteurisation: T_ref 60 °C, z ≈ 7 °C)",
+            "common practice in beer and beverage pasteurisation (T_ref 60 °C, z about 7 °C); no single published "
+            "source checked",
+            False,
         ),
         LethalityPreset(
             "cook-value-c100",
@@ -360,7 +381,64 @@ LETHALITY_PRESETS: dict[str, LethalityPreset] = {
             None,
             None,
             "quality",
-            "common practice (C-value at 100 °C with z ≈ 33 °C for overall quality loss; from memory)",
+            "common practice (C-value at 100 °C with z about 33 °C for overall quality loss); no published "
+            "source checked",
+            False,
         ),
     )
 }
+
+#: Lethality presets. One registry: the engine, the CLI and the UI all read it. The non-proteolytic
+#: C. botulinum requirement is the published table only: one z-value from 90 °C/10 min asks for less than the
+#: table below 90 °C (31.6 min at 85 °C where the table asks 36 min).
+LETHALITY_PRESETS: dict[str, LethalityPreset | TabulatedPreset] = {**Z_VALUE_PRESETS, **LETHALITY_TABLES}
+
+
+@dataclass(frozen=True)
+class LethalityBasis:
+    """How a lethality check accumulates: a z-value (F in min at T_ref) or a table (equivalent minutes at the
+    table's reference row, fraction × that row's time).
+
+    preset : the preset, or None for a user-defined check
+    reference_C, z_C : T_ref [°C] and z [°C] (z None for a table)
+    required_F_min : requirement [min at T_ref], or None
+    """
+
+    preset: LethalityPreset | TabulatedPreset | None
+    reference_C: float
+    z_C: float | None
+    required_F_min: float | None
+
+    @property
+    def tabulated(self) -> bool:
+        return self.z_C is None
+
+    def segments(self, dt_s, ta, tb) -> np.ndarray:
+        """Equivalent minutes at T_ref gained on each linear segment (any array shape)."""
+        if self.tabulated:
+            return self.preset.fraction_segments(dt_s, ta, tb) * self.preset.required_F_min
+        return _segments_exact_linear(
+            np.asarray(dt_s, float), np.asarray(ta, float), np.asarray(tb, float), self.reference_C, self.z_C
+        )
+
+    def cumulative_F_min(self, time_s, temperature_C) -> np.ndarray:
+        """Equivalent minutes at T_ref at every sample of a history, starting at 0."""
+        t, temp = history_arrays(time_s, temperature_C)
+        return np.concatenate(([0.0], np.cumsum(self.segments(np.diff(t), temp[:-1], temp[1:]))))
+
+
+def lethality_basis(preset_name, reference_C=None, z_C=None, required_F_min=None) -> LethalityBasis:
+    """Resolve a lethality check (a preset name and/or its own values; the check's values win)."""
+    preset = LETHALITY_PRESETS[preset_name] if preset_name else None
+    if preset is not None and preset.tabulated:
+        if z_C is not None or reference_C is not None or required_F_min is not None:
+            raise InvalidInputError(
+                "checks.lethality",
+                preset_name,
+                "a tabulated preset alone (a table has no T_ref, z or F to override)",
+            )
+        return LethalityBasis(preset, preset.reference_C, None, preset.required_F_min)
+    ref = reference_C if reference_C is not None else preset.reference_C
+    z = z_C if z_C is not None else preset.z_C
+    req = required_F_min if required_F_min is not None else (preset.required_F_min if preset else None)
+    return LethalityBasis(preset, ref, z, req)

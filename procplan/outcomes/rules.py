@@ -20,6 +20,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from procplan.caution import INDICATIVE
 from procplan.errors import InvalidInputError
 from procplan.outcomes.targets import TargetResult, history_arrays, time_to_temperature
 
@@ -81,7 +82,8 @@ class Rule:
     """A cooling, heating, holding or storage rule.
 
     name : registry key (the file name stem in the library)
-    source : published source of the limits, in full ("(from memory)" where a limit was not confirmed)
+    source : published source of the limits, in full
+    confirmed : False when a limit was not confirmed in a source that was read: the rule is shown as indicative
     kind : a key of ``RULE_KINDS``
     stages : ordered stages
     bands : band limits
@@ -98,6 +100,7 @@ class Rule:
     point: str = "core"
     title: str = ""
     notes: str = ""
+    confirmed: bool = True
 
     @property
     def column(self) -> str:
@@ -236,9 +239,8 @@ def check_rule(rule: Rule, time_s, temperature_C) -> RuleCheck:
     reasons = tuple(f"stage {s.index + 1}: {s.reason}" for s in stage_checks if not s.passed) + tuple(
         f"band {b.index + 1}: {b.reason}" for b in band_checks if not b.passed
     )
-    return RuleCheck(
-        rule.name, rule.source, rule.point, passed, tuple(stage_checks), tuple(band_checks), reasons
-    )
+    cite = rule.source if rule.confirmed else f"{INDICATIVE}: {rule.source}"
+    return RuleCheck(rule.name, cite, rule.point, passed, tuple(stage_checks), tuple(band_checks), reasons)
 
 
 def _not_started(i: int, s: Stage, reason: str) -> StageCheck:

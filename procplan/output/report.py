@@ -6,6 +6,7 @@ from typing import Any
 
 from procplan._version import __version__
 from procplan.caution import CAUTION
+from procplan.outcomes import DEFAULT_MAX_LOG_REDUCTION, INDICATIVE
 from procplan.output.json_safe import json_safe
 
 
@@ -65,9 +66,37 @@ def history_dict(result) -> dict[str, list]:
     return {c: _plain(result.history[c].to_numpy()) for c in result.history.columns}
 
 
-def format_log_reduction(lr: float) -> str:
-    """Log reductions beyond 12 carry no meaning for planning (a 12D process is the usual ceiling)."""
-    return "> 12" if lr > 12 else f"{lr:.1f}"
+def format_log_reduction(lr: float, max_log: float | None = None) -> str:
+    """A log reduction as shown everywhere: beyond the preset's validated maximum it reads "> N".
+
+    ``max_log`` is the largest log reduction the preset's source supports (the table's own value for a
+    tabulated preset, 12 for a botulinum cook); a number beyond it is an extrapolation of the kinetics with no
+    meaning for planning. Without a maximum, :data:`procplan.outcomes.DEFAULT_MAX_LOG_REDUCTION` applies.
+
+    >>> format_log_reduction(15502.3, 6.0), format_log_reduction(5.94, 6.0)
+    ('> 6', '5.9')
+    """
+    cap = DEFAULT_MAX_LOG_REDUCTION if max_log is None else max_log
+    return f"> {cap:g}" if lr > cap else f"{lr:.1f}"
+
+
+def log_reduction_text(leth) -> str:
+    """The log reduction of a lethality outcome, capped at its preset's maximum ("—" when none)."""
+    if leth.log_reduction is None:
+        return "—"
+    return format_log_reduction(leth.log_reduction, leth.max_log_reduction)
+
+
+def lethality_basis_text(leth) -> str:
+    """T_ref and z of a lethality outcome, or that it follows a published table."""
+    if leth.z_C is None:
+        return f"tabulated, equivalent min at {leth.reference_C:.4g} °C"
+    return f"T_ref {leth.reference_C:g} °C, z {leth.z_C:g} °C"
+
+
+def indicative_text(leth) -> str:
+    """'' for a confirmed preset, else the indicative marker to append wherever the check shows."""
+    return "" if getattr(leth, "confirmed", True) else f" [{INDICATIVE}]"
 
 
 def format_f(f_min: float) -> str:
@@ -166,13 +195,15 @@ def _lethality_lines(oc) -> list[str]:
     for leth in (oc.lethality, oc.quality):
         if leth is None:
             continue
-        line = f"  lethality {leth.name} at the {leth.point}: F = {format_f(leth.total_F_min)} min (T_ref {leth.reference_C:g} °C, z {leth.z_C:g} °C)"
+        line = f"  lethality {leth.name}{indicative_text(leth)} at the {leth.point}: F = {format_f(leth.total_F_min)} min ({lethality_basis_text(leth)})"
         if leth.required_F_min:
             line += f", required {leth.required_F_min:g} min: {'PASS' if leth.passed else 'FAIL'}"
             if leth.reached is not None and leth.reached.reached:
                 line += f", reached after {_fmt_min(leth.reached.time_s / 60)}"
+        if leth.process_fraction is not None:
+            line += f", {leth.process_fraction:.3g} of the required process"
         if leth.log_reduction is not None:
-            line += f"; {format_log_reduction(leth.log_reduction)} log reduction"
+            line += f"; {log_reduction_text(leth)} log reduction"
         lines.append(line)
     return lines
 

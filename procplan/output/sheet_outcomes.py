@@ -5,7 +5,7 @@ the box for measured values and signatures. Each returns a list of platypus flow
 from __future__ import annotations
 
 from procplan._version import __version__
-from procplan.output.report import format_f, format_log_reduction
+from procplan.output.report import format_f, indicative_text, log_reduction_text
 from procplan.output.sheet_layout import (
     cols,
     esc,
@@ -80,6 +80,8 @@ def lethality_section(result, site, st, W):
         if leth.required_F_min:
             res = "PASS" if leth.passed else "FAIL"
             req = f"{leth.required_F_min:g} min"
+            if leth.process_fraction is not None:
+                res += f" ({leth.process_fraction:.3g} of the process)"
         else:
             res, req = "information only", "—"
         reached = (
@@ -89,14 +91,15 @@ def lethality_section(result, site, st, W):
         )
         rows.append(
             [
-                f"{leth.name} ({role}): {leth.target}",
+                f"{leth.name} ({role}): {leth.target}{indicative_text(leth)}",
                 leth.point,
-                f"{site.format_temperature(leth.reference_C)}, z {difference_text(site, leth.z_C)}",
+                f"{site.format_temperature(leth.reference_C)}, "
+                + ("published table" if leth.z_C is None else f"z {difference_text(site, leth.z_C)}"),
                 f"{format_f(leth.total_F_min)} min",
                 req,
                 res,
                 reached,
-                format_log_reduction(leth.log_reduction) if leth.log_reduction is not None else "—",
+                log_reduction_text(leth),
             ]
         )
     out.append(table(rows, cols(W, [0.3, 0.07, 0.14, 0.1, 0.08, 0.1, 0.1, 0.11]), st))

@@ -39,16 +39,22 @@ class LethalityOutcome:
     source: str
     point: str
     reference_C: float
-    z_C: float
+    z_C: float | None  # None for a tabulated preset
     total_F_min: float
     required_F_min: float | None
     reached: oc.LethalityTarget | None
     log_reduction: float | None
     time_s: np.ndarray = field(repr=False, default=None)
     f_cumulative_min: np.ndarray = field(repr=False, default=None)
+    confirmed: bool = True  # False: the preset is indicative (confirm with your process authority)
+    process_fraction: float | None = None  # tabulated presets: ∫ dt / t_req(T); passes at ≥ 1
+    max_log_reduction: float | None = None  # the largest log reduction the preset's source supports
+    log_reduction_capped: bool = False  # log_reduction exceeds max_log_reduction: shown as "> N"
 
     @property
     def passed(self) -> bool | None:
+        if self.process_fraction is not None:
+            return bool(self.process_fraction >= 1.0 - 1e-12)
         return None if self.required_F_min is None else bool(self.total_F_min >= self.required_F_min)
 
 
@@ -116,28 +122,41 @@ def _direction(start_C: float, medium_C: float) -> str:
     return "down" if medium_C < start_C else "up"
 
 
+def _table_reached(t: np.ndarray, cum: np.ndarray, req: float, fraction: float) -> oc.LethalityTarget:
+    """When a tabulated process completes: linear in time inside the sample interval where it does."""
+    total = float(cum[-1])
+    if fraction < 1.0 - 1e-12:
+        return oc.LethalityTarget(False, None, req, total, f"{fraction:.3g} of the required process")
+    i = max(int(np.argmax(cum >= req * (1.0 - 1e-12))), 1)
+    span = cum[i] - cum[i - 1]
+    when = float(t[i - 1] + (t[i] - t[i - 1]) * (0.0 if span <= 0 else min(1.0, (req - cum[i - 1]) / span)))
+    return oc.LethalityTarget(True, when, req, total, f"required process completed at {when / 60:.2f} min")
+
+
 def _lethality(chk: LethalityCheck, hist) -> LethalityOutcome:
-    """F-value along the check's point; the check's own values override its preset's."""
+    """Lethality along the check's point; the check's own values override its preset's (z-value presets)."""
     point = chk.point
     t = hist["time_s"].to_numpy()
     temp = hist[f"{point}_C"].to_numpy()
-    preset = oc.LETHALITY_PRESETS[chk.preset] if chk.preset else None
-    ref = chk.reference_C if chk.reference_C is not None else preset.reference_C
-    z = chk.z_C if chk.z_C is not None else preset.z_C
-    req = (
-        chk.required_F_min if chk.required_F_min is not None else (preset.required_F_min if preset else None)
-    )
-    cum = oc.f_value(t, temp, ref, z)
+    basis = oc.lethality_basis(chk.preset, chk.reference_C, chk.z_C, chk.required_F_min)
+    preset, ref, z, req = basis.preset, basis.reference_C, basis.z_C, basis.required_F_min
+    cum = basis.cumulative_F_min(t, temp)
     total = float(cum[-1])
-    reached = oc.time_to_lethality(t, temp, ref, z, req) if req else None
-    d = chk.d_value_min
-    if d is None and preset is not None and preset.log_reductions and preset.required_F_min:
-        d = preset.required_F_min / preset.log_reductions
-    logred = float(oc.log_reduction(total, d)) if d else None
+    fraction = total / req if (basis.tabulated and req) else None
+    if basis.tabulated:
+        reached = _table_reached(t, cum, req, fraction)
+        logred = fraction * preset.log_reductions if fraction is not None else None
+    else:
+        reached = oc.time_to_lethality(t, temp, ref, z, req) if req else None
+        d = chk.d_value_min
+        if d is None and preset is not None and preset.log_reductions and preset.required_F_min:
+            d = preset.required_F_min / preset.log_reductions
+        logred = float(oc.log_reduction(total, d)) if d else None
+    cap = (preset.max_log_reduction if preset is not None else None) or oc.DEFAULT_MAX_LOG_REDUCTION
     return LethalityOutcome(
         name=preset.name if preset else "custom",
         target=preset.target if preset else "user-defined lethality",
-        source=preset.source if preset else "user input",
+        source=preset.source_text if preset else "user input",
         point=point,
         reference_C=ref,
         z_C=z,
@@ -147,6 +166,10 @@ def _lethality(chk: LethalityCheck, hist) -> LethalityOutcome:
         log_reduction=logred,
         time_s=t,
         f_cumulative_min=cum,
+        confirmed=preset.confirmed if preset else True,
+        process_fraction=fraction,
+        max_log_reduction=cap,
+        log_reduction_capped=bool(logred is not None and cap is not None and logred > cap),
     )
 
 

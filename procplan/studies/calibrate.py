@@ -156,15 +156,9 @@ def measured_outcomes(time_s, temperature_C, plan: Plan, library=None) -> dict[s
         out.update(rule=rc, rule_passed=rc.passed, rule_margin_min=rc.margin_min)
     le = ch.lethality
     if le is not None:
-        preset = oc.LETHALITY_PRESETS[le.preset] if le.preset else None
-        ref = le.reference_C if le.reference_C is not None else preset.reference_C
-        z = le.z_C if le.z_C is not None else preset.z_C
-        req = (
-            le.required_F_min
-            if le.required_F_min is not None
-            else (preset.required_F_min if preset else None)
-        )
-        f = float(oc.f_value(t, temp, ref, z)[-1])
+        basis = oc.lethality_basis(le.preset, le.reference_C, le.z_C, le.required_F_min)
+        req = basis.required_F_min
+        f = float(basis.cumulative_F_min(t, temp)[-1])
         out.update(F_min=f, lethality_passed=None if not req else f >= req)
     return out
 

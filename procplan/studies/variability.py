@@ -674,8 +674,6 @@ def _fast_target(plan: Plan) -> float | None:
 
 
 def _fast_run(plan, nominal, samples, ctx, library, frame) -> None:
-    from procplan.outcomes import F_INTEGRATION_METHODS
-
     fast = _fast_model(plan, nominal, samples, ctx)
     step = plan.steps[0]
     n = fast.start_C.shape[0]
@@ -686,19 +684,13 @@ def _fast_run(plan, nominal, samples, ctx, library, frame) -> None:
     t_end = np.where(np.isnan(tt) | (step.stop_when_core_C is None), dur, tt)
     le = plan.checks.lethality
     if le is not None:
-        from procplan.outcomes import LETHALITY_PRESETS
+        from procplan.outcomes import lethality_basis
 
-        preset = LETHALITY_PRESETS[le.preset] if le.preset else None
-        ref = le.reference_C if le.reference_C is not None else preset.reference_C
-        z = le.z_C if le.z_C is not None else preset.z_C
-        req = (
-            le.required_F_min
-            if le.required_F_min is not None
-            else (preset.required_F_min if preset else None)
-        )
+        basis = lethality_basis(le.preset, le.reference_C, le.z_C, le.required_F_min)
+        req = basis.required_F_min
         grid = np.linspace(0.0, 1.0, 241)[None, :] * t_end[:, None]
         temp = fast.core_C(grid)
-        seg = F_INTEGRATION_METHODS["exact-linear"](np.diff(grid, axis=1), temp[:, :-1], temp[:, 1:], ref, z)
+        seg = basis.segments(np.diff(grid, axis=1), temp[:, :-1], temp[:, 1:])
         f = seg.sum(axis=1)
         frame["lethality_F_min"] = f
         frame["lethality_passed"] = (f >= req) if req else None

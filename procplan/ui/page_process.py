@@ -214,7 +214,10 @@ def _checks(plan: dict, lib) -> None:
         options,
         index=options.index(current) if current in options else 0,
         format_func=lambda p: (
-            p if p in (NO_LETHALITY, CUSTOM_LETHALITY) else f"{p}: {LETHALITY_PRESETS[p].target}"
+            p
+            if p in (NO_LETHALITY, CUSTOM_LETHALITY)
+            else f"{p}: {LETHALITY_PRESETS[p].target}"
+            + ("" if LETHALITY_PRESETS[p].confirmed else " (indicative)")
         ),
         key=state.key("c.leth"),
     )

@@ -6,7 +6,7 @@ from __future__ import annotations
 import pandas as pd
 import streamlit as st
 
-from procplan.output.report import format_f, format_log_reduction
+from procplan.output.report import format_f, indicative_text, lethality_basis_text, log_reduction_text
 from procplan.ui import charts, state, widgets
 from procplan.ui.fmt import Units, yes_no
 
@@ -55,7 +55,11 @@ def headline(result, u: Units) -> None:
     leth = oc.lethality if oc else None
     if leth is not None:
         verdict = "" if leth.passed is None else (": PASS" if leth.passed else ": FAIL")
-        c[3].metric(f"Lethality F ({leth.name}){verdict}", f"{format_f(leth.total_F_min)} min")
+        c[3].metric(
+            f"Lethality F ({leth.name}){verdict}",
+            f"{format_f(leth.total_F_min)} min",
+            help=indicative_text(leth).strip(" []") or None,
+        )
     else:
         end = result.history.iloc[-1]
         c[3].metric("Core at the end", u.temp(float(end["core_C"])))
@@ -139,12 +143,12 @@ def _lethality(result, u: Units) -> None:
         c[0].metric(
             f"F at the {leth.point}",
             f"{format_f(leth.total_F_min)} min",
-            help=f"T_ref {u.temp(leth.reference_C)}, z {u.dt(leth.z_C):g} {u.temperature}",
+            help=lethality_basis_text(leth)
+            if leth.z_C is None
+            else f"T_ref {u.temp(leth.reference_C)}, z {u.dt(leth.z_C):g} {u.temperature}",
         )
         c[1].metric("Required F", "—" if leth.required_F_min is None else f"{leth.required_F_min:g} min")
-        c[2].metric(
-            "Log reduction", "—" if leth.log_reduction is None else format_log_reduction(leth.log_reduction)
-        )
+        c[2].metric("Log reduction", log_reduction_text(leth))
         reached = leth.reached
         c[3].metric(
             "Requirement reached after",
@@ -152,6 +156,10 @@ def _lethality(result, u: Units) -> None:
             if reached is not None and reached.reached
             else ("—" if leth.required_F_min is None else "not reached"),
         )
+        if not leth.confirmed:
+            st.warning(f"{leth.name}{indicative_text(leth)}")
+        if leth.process_fraction is not None:
+            st.caption(f"{leth.process_fraction:.3g} of the required process (passes at 1).")
         st.caption(f"{leth.name}: {leth.target}. Source: {leth.source}")
         if leth.time_s is not None and leth.f_cumulative_min is not None:
             st.plotly_chart(charts.lethality_figure(leth, u), width="stretch", key=f"leth_{leth.name}")
