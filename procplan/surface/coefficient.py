@@ -24,7 +24,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable, Iterable
-from dataclasses import asdict, dataclass, field
+from dataclasses import dataclass, field
 from typing import Any
 
 from procplan import validate
@@ -121,12 +121,6 @@ class SurfaceResult:
     validity: str
     typical_range: TypicalRange | None
     warnings: tuple[str, ...] = field(default_factory=tuple)
-
-    def to_dict(self) -> dict[str, Any]:
-        """Plain data for JSON output."""
-        d = asdict(self)
-        d["warnings"] = list(self.warnings)
-        return d
 
 
 # --- the models, one per medium ------------------------------------------------------------------------------
