@@ -303,6 +303,13 @@ def surface_coefficient(
     >>> r = surface_coefficient("blast-chiller", Geometry("cylinder", diameter_m=0.08), medium_C=-2.0, surface_C=20.0, air_speed_m_s=3.0)
     >>> 15 < r.h_conv_W_m2K < 40, r.correlation.split(" ")[0]
     (True, 'cylinder-churchill-bernstein')
+
+    References
+    ----------
+    Incropera, DeWitt, Bergman & Lavine, Fundamentals of Heat and Mass Transfer, 7th ed., Wiley, 2011: eqs.
+    7.30, 7.38, 7.54, 7.56 (forced), 9.26–9.34 (free), 9.64 (combined), 10.26 and 10.41 (condensation), 1.9
+    (radiation), 3.19 (series resistances). Each correlation's own reference is in
+    :data:`procplan.surface.correlations.CORRELATIONS`.
     """
     warnings: list[str] = []
     c = _conditions(

@@ -43,6 +43,12 @@ def condensation_h_W_m2K(
     >>> h, re_film = condensation_h_W_m2K(100.0, 95.0, 0.1)
     >>> 5000 < h < 20000, 30 < re_film < 1800
     (True, True)
+
+    References
+    ----------
+    Nusselt, W. (1916), "Die Oberflächenkondensation des Wasserdampfes", Z. Ver. Dtsch. Ing. 60, 541–546 and
+    569–575. Incropera, DeWitt, Bergman & Lavine, Fundamentals of Heat and Mass Transfer, 7th ed., Wiley, 2011,
+    §10.7–10.8.
     """
     t_sat = validate.number("steam_C", steam_C, minimum=1.0, maximum=200.0, unit="°C")
     dT = max(

@@ -227,6 +227,11 @@ def brine_freezing_C(nacl_mass_fraction: float = 0.2) -> float:
 
     >>> round(brine_freezing_C(0.2), 1)
     -16.5
+
+    References
+    ----------
+    Melinder, Å. (2007), Thermophysical properties of aqueous solutions used as secondary working fluids,
+    doctoral thesis, KTH Stockholm, as implemented in CoolProp's incompressible mixture ``INCOMP::MNA``.
     """
     x = round(
         validate.number(
