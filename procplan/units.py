@@ -31,12 +31,3 @@ def f_to_c(temperature_F):
         if np.ndim(temperature_F)
         else (float(temperature_F) - 32.0) * 5.0 / 9.0
     )
-
-
-def c_to_k(temperature_C):
-    """°C → K."""
-    return (
-        np.asarray(temperature_C, dtype=float) + ZERO_CELSIUS_K
-        if np.ndim(temperature_C)
-        else float(temperature_C) + ZERO_CELSIUS_K
-    )

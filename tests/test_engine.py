@@ -232,7 +232,7 @@ def test_every_demo_product_runs_in_every_demo_machine_by_name_and_settings_alon
             res = run_plan(plan, library=LIB, n_nodes=9)
             sr = res.steps[0]
             medium = sr.surface.medium_C[0]
-            assert sr.surface.breakdown["source"].startswith("machine"), (pid, eq_id)
+            assert sr.surface.breakdown.source.startswith("machine"), (pid, eq_id)
             h = res.history
             lo, hi = min(start, medium) - 0.05, max(start, medium) + 0.05
             assert h["core_C"].between(lo, hi).all() and h["mean_C"].between(lo, hi).all(), (pid, eq_id)

@@ -69,10 +69,10 @@ def test_fitted_h_is_saved_and_then_used_by_the_machine_at_those_settings(tmp_pa
     assert lib2.problems == [] and len(lib2.measurements) == 1
     res = run_plan(_plan(lib2, settings), library=lib2)
     assert res.steps[0].surface.h_W_m2K[0] == pytest.approx(cal.h_W_m2K)
-    assert "measured h" in res.steps[0].surface.breakdown["source"]
+    assert "measured h" in res.steps[0].surface.breakdown.source
     # at other settings the measurement does not apply and the correlation is used
     other = run_plan(_plan(lib2, {"air_C": 3.0, "air_speed_m_s": 0.8}), library=lib2)
-    assert "measured" not in other.steps[0].surface.breakdown["source"]
+    assert "measured" not in other.steps[0].surface.breakdown.source
 
 
 def test_a_bad_measurement_file_is_listed_and_the_rest_loads(tmp_path):

@@ -48,7 +48,7 @@ def summary_dict(result) -> dict[str, Any]:
                 "regime": _plain(sr.regime),
                 "medium_C": list(sr.surface.medium_C),
                 "h_W_m2K": list(sr.surface.h_W_m2K),
-                "surface": _plain(sr.surface.breakdown),
+                "surface": _plain(sr.surface.breakdown.to_dict()),
                 "stopped": sr.stopped,
                 "stop_time_min": _minutes(sr.stop_time_s),
                 "energy_balance_error": sr.energy_balance_error,

@@ -50,20 +50,20 @@ def limit_text(site: SiteSettings, lo: float | None, hi: float | None) -> str:
 
 
 def machine_text(sr, step) -> str:
-    eq = sr.surface.breakdown.get("equipment_record")
-    if eq is not None:
-        return f"{eq.name} ({eq.id})"
+    machine = sr.surface.breakdown.machine
+    if machine is not None:
+        return f"{machine.name} ({machine.id})"
     return "given h and medium"
 
 
 def settings_text(sr, step, site: SiteSettings) -> str:
-    eq = sr.surface.breakdown.get("equipment_record")
-    used = sr.surface.breakdown.get("settings") or step.settings_dict
+    machine = sr.surface.breakdown.machine
+    used = (machine.settings if machine is not None else None) or step.settings_dict
     parts = []
     for k, v in (used or {}).items():
         unit = ""
-        if eq is not None and k in eq.settings:
-            unit = eq.settings[k].unit
+        if machine is not None and k in machine.setting_units:
+            unit = machine.setting_units[k]
         if not isinstance(v, (int, float)):
             parts.append(f"{k} = {v}")
         elif (unit == "°C" or k.endswith("_C")) and site.temperature_unit == "F":

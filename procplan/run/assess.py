@@ -282,9 +282,9 @@ def assess_plan(result, library) -> Outcomes:
                 )
             )
             continue
-        eq = sr.surface.breakdown.get("equipment_record")
+        eq = sr.surface.breakdown.machine
         medium = float(np.min(sr.surface.medium_C))
-        if eq is not None and getattr(eq, "evaporating_C", None) is not None:
+        if eq is not None and eq.evaporating_C is not None:
             evap, cond, basis = (
                 eq.evaporating_C,
                 eq.condensing_C,

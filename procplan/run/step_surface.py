@@ -8,13 +8,121 @@ correlations themselves live in :mod:`procplan.surface`; this module only wires 
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from collections.abc import Mapping
+from dataclasses import dataclass, replace
 from typing import Any
 
 import numpy as np
 
 from procplan.conduction.fv_boundary import SurfaceBoundary
 from procplan.errors import InvalidInputError
+
+
+@dataclass(frozen=True)
+class MachineUsed:
+    """The machine a step ran in, as the step used it.
+
+    Attributes
+    ----------
+    id, name : the machine's library id and display name
+    kind : key of EQUIPMENT_KINDS
+    medium : "air", "water", "brine" or "steam"
+    settings : the settings the step started with, resolved against the machine's ranges (keys carry units)
+    setting_units : unit of each setting the machine has ("" for a fraction)
+    evaporating_C, condensing_C : refrigerant temperatures for energy estimates [°C] (None for heating kinds)
+    """
+
+    id: str
+    name: str
+    kind: str
+    medium: str
+    settings: Mapping[str, float]
+    setting_units: Mapping[str, str]
+    evaporating_C: float | None
+    condensing_C: float | None
+
+    @classmethod
+    def of(cls, equipment, settings: Mapping[str, float]) -> MachineUsed:
+        """The record of ``equipment`` (a procplan.surface.machines.Equipment) run at ``settings``."""
+        return cls(
+            id=equipment.id,
+            name=equipment.name,
+            kind=equipment.kind,
+            medium=equipment.medium,
+            settings=dict(settings),
+            setting_units={k: r.unit for k, r in equipment.settings.items()},
+            evaporating_C=equipment.evaporating_C,
+            condensing_C=equipment.condensing_C,
+        )
+
+
+@dataclass(frozen=True)
+class MeasuredH:
+    """A measured effective h (fitted to logger data of this product in this machine) that replaced the correlation.
+
+    Attributes
+    ----------
+    h_W_m2K : the measured effective coefficient [W/m²K]
+    date : date of the trial (ISO)
+    data_source : where the logger data came from
+    """
+
+    h_W_m2K: float
+    date: str
+    data_source: str
+
+    @classmethod
+    def of(cls, record: Mapping[str, Any]) -> MeasuredH:
+        """From a measurement record of the library (``value``, ``date``, optional ``data_source``)."""
+        return cls(float(record["value"]), str(record["date"]), str(record.get("data_source", "logger data")))
+
+    @property
+    def note(self) -> str:
+        return f"measured h {self.h_W_m2K:.1f} W/m²K ({self.date}, {self.data_source})"
+
+
+@dataclass(frozen=True)
+class SurfaceBreakdown:
+    """How a step's effective h was obtained, at the step's first setting point.
+
+    Attributes
+    ----------
+    source : one line saying where h came from (the plan, a machine, a measurement in a machine)
+    correlation : name(s) of the correlation(s) used, or "user-entered"
+    h_conv_W_m2K : convection (or condensation, or user-entered) coefficient [W/m²K]
+    h_rad_W_m2K : linearised radiation coefficient [W/m²K]
+    packaging_resistance_m2K_W : series resistance of the packaging layers [m²K/W]
+    h_eff_W_m2K : effective coefficient the step used [W/m²K] (the measured one when a measurement applied)
+    machine : the machine and its settings (None when the plan gives h)
+    measured : the measured coefficients that replaced the correlation, in the order of the setting points
+    evaporation : description of the surface evaporation modelled (None without it)
+    """
+
+    source: str
+    correlation: str
+    h_conv_W_m2K: float
+    h_rad_W_m2K: float
+    packaging_resistance_m2K_W: float
+    h_eff_W_m2K: float
+    machine: MachineUsed | None = None
+    measured: tuple[MeasuredH, ...] = ()
+    evaporation: str | None = None
+
+    def to_dict(self) -> dict[str, Any]:
+        """Plain data for the JSON summary (the machine's settings under ``settings``, no machine record)."""
+        out: dict[str, Any] = {"source": self.source}
+        if self.machine is not None:
+            out["settings"] = dict(self.machine.settings)
+        out.update(
+            correlation=self.correlation,
+            h_conv_W_m2K=self.h_conv_W_m2K,
+            h_rad_W_m2K=self.h_rad_W_m2K,
+            packaging_resistance_m2K_W=self.packaging_resistance_m2K_W,
+            h_eff_W_m2K=self.h_eff_W_m2K,
+        )
+        if self.evaporation is not None:
+            out["evaporation"] = self.evaporation
+        return out
 
 
 @dataclass(frozen=True)
@@ -25,7 +133,7 @@ class StepSurface:
     medium_C: tuple[float, ...]
     h_time_s: tuple[float, ...]
     h_W_m2K: tuple[float, ...]
-    breakdown: dict[str, Any]
+    breakdown: SurfaceBreakdown
     warnings: tuple[str, ...] = ()
     evaporation: Any = None  # callable q(t, T_s) [W/m²] and mass-flux function, for unwrapped products in air
 
@@ -65,18 +173,20 @@ def _given_h(step, product, surface_C: float | None, start_mean_C: float) -> Ste
         emissivity=step.emissivity,
         surroundings_C=step.surroundings_C,
     )
-    breakdown = {"source": "h given in the plan", **_breakdown(res)}
+    breakdown = _breakdown(res, "h given in the plan")
     return StepSurface(times, temps, (0.0,), (res.h_eff_W_m2K,), breakdown, tuple(res.warnings))
 
 
-def _breakdown(res) -> dict:
-    return {
-        "correlation": res.correlation,
-        "h_conv_W_m2K": res.h_conv_W_m2K,
-        "h_rad_W_m2K": res.h_rad_W_m2K,
-        "packaging_resistance_m2K_W": res.packaging_resistance_m2K_W,
-        "h_eff_W_m2K": res.h_eff_W_m2K,
-    }
+def _breakdown(res, source: str, **more: Any) -> SurfaceBreakdown:
+    return SurfaceBreakdown(
+        source=source,
+        correlation=res.correlation,
+        h_conv_W_m2K=res.h_conv_W_m2K,
+        h_rad_W_m2K=res.h_rad_W_m2K,
+        packaging_resistance_m2K_W=res.packaging_resistance_m2K_W,
+        h_eff_W_m2K=res.h_eff_W_m2K,
+        **more,
+    )
 
 
 def _equipment(
@@ -99,7 +209,7 @@ def _equipment(
         else:
             rows.append((t, merged))
     times, temps, hs, warnings = [], [], [], []
-    measured_notes: list[str] = []
+    measured_used: list[MeasuredH] = []
     first = None
     for t, s in rows:
         medium = medium_temperature_C(eq, s)
@@ -118,29 +228,23 @@ def _equipment(
             hs.append(res.h_eff_W_m2K)
         else:
             # a measured effective h, fitted to logger data of this product in this machine, wins
-            hs.append(float(measured["value"]))
-            note = f"measured h {measured['value']:.1f} W/m²K ({measured['date']}, {measured.get('data_source', 'logger data')})"
-            if note not in measured_notes:
-                measured_notes.append(note)
+            m = MeasuredH.of(measured)
+            hs.append(m.h_W_m2K)
+            if m.note not in [u.note for u in measured_used]:
+                measured_used.append(m)
         warnings.extend(w for w in res.warnings if w not in warnings)
-    breakdown = {
-        "source": f"machine {eq.name}",
-        "settings": dict(rows[0][1]),
-        **_breakdown(first),
-        "equipment_record": eq,
-    }
-    if measured_notes:
-        breakdown["source"] = (
-            "; ".join(measured_notes)
+    source, h_eff = f"machine {eq.name}", first.h_eff_W_m2K
+    if measured_used:
+        source = (
+            "; ".join(m.note for m in measured_used)
             + f" in machine {eq.name} (the correlation gives {first.h_eff_W_m2K:.1f} W/m²K)"
         )
-        breakdown["h_eff_W_m2K"] = hs[0]
+        h_eff = hs[0]
     evaporation = None
     if product.unwrapped and eq.medium == "air" and "relative_humidity" in eq.settings:
         from procplan.surface.moisture import SurfaceEvaporation
 
         evaporation = SurfaceEvaporation.for_step(eq, rows[0][1], first.h_conv_W_m2K, product)
-        breakdown["evaporation"] = evaporation.describe()
     elif product.unwrapped and eq.medium == "air":
         warnings.append(
             f"{eq.name} has no humidity setting, so surface evaporation of the unwrapped product is not modelled: "
@@ -150,6 +254,11 @@ def _equipment(
         times.append(step.duration_s)
         temps.append(temps[-1])
         hs.append(hs[-1])
+    breakdown = replace(
+        _breakdown(first, source, machine=MachineUsed.of(eq, rows[0][1]), measured=tuple(measured_used)),
+        h_eff_W_m2K=h_eff,
+        evaporation=None if evaporation is None else evaporation.describe(),
+    )
     return StepSurface(
         tuple(times), tuple(temps), tuple(times), tuple(hs), breakdown, tuple(warnings), evaporation
     )

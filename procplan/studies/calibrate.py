@@ -427,7 +427,7 @@ def _result(
         plan_h_W_m2K=plan_h,
         source=source,
         notes=tuple(notes) + f.notes,
-        packaging_resistance_m2K_W=float(breakdown.get("packaging_resistance_m2K_W") or 0.0),
+        packaging_resistance_m2K_W=float(breakdown.packaging_resistance_m2K_W or 0.0),
     )
 
 

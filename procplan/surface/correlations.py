@@ -132,10 +132,12 @@ def nusselt_cylinder_churchill_bernstein(re: Any, pr: Any) -> Any:
 
     Examples
     --------
-    Incropera 7th ed., Example 7.3 (as quoted in the ``ht`` documentation): Re = 6071, Pr = 0.7 → Nu = 40.6.
+    Bergman, Lavine, Incropera & DeWitt, *Introduction to Heat Transfer*, 6th ed., Wiley, 2011, Example 7.3:
+    Re_D = 6071, Pr = 0.7 → Nu_D = 40.6 (as quoted in the ``ht`` package documentation, whose
+    ``Nu_cylinder_Churchill_Bernstein(6071, 0.7)`` gives 40.637):
 
-    >>> round(nusselt_cylinder_churchill_bernstein(6071, 0.7), 1)
-    40.6
+    >>> round(nusselt_cylinder_churchill_bernstein(6071, 0.7), 3)
+    40.637
 
     References
     ----------
@@ -199,11 +201,12 @@ def nusselt_vertical_plate_churchill_chu(ra: Any, pr: Any) -> Any:
 
     Examples
     --------
-    Incropera 7th ed., Example 9.2 (glass fire screen, 0.71 m high): Ra_L = 1.813e9, Pr = 0.690 → Nu_L = 147
-    (from memory).
+    Bergman, Lavine, Incropera & DeWitt, *Introduction to Heat Transfer*, 6th ed., Wiley, 2011, Example 9.2:
+    Pr = 0.69, Gr_L = 2.63e9 (Ra_L = Gr_L Pr) → Nu_L = 147 (as quoted in the ``ht`` package documentation,
+    whose ``Nu_vertical_plate_Churchill(0.69, 2.63E9)`` gives 147.16):
 
-    >>> round(nusselt_vertical_plate_churchill_chu(1.813e9, 0.690))
-    147
+    >>> round(nusselt_vertical_plate_churchill_chu(0.69 * 2.63e9, 0.69), 2)
+    147.16
 
     References
     ----------

@@ -34,8 +34,6 @@ MOLAR_MASS_WATER_KG_MOL = 0.018015268
 GAS_CONSTANT_J_MOLK = 8.314462618
 #: Standard gravity [m/s²].
 GRAVITY_M_S2 = 9.80665
-#: Latent heat of fusion of water at 0 °C [J/kg] (/work/shared/references.md, 333.6 kJ/kg).
-LATENT_HEAT_FUSION_J_KG = 333.6e3
 
 #: Temperature range [°C] accepted for air (CoolProp's air model is valid far beyond; this is the process range).
 AIR_RANGE_C = (-100.0, 300.0)
@@ -229,6 +227,11 @@ def brine_freezing_C(nacl_mass_fraction: float = 0.2) -> float:
 
     >>> round(brine_freezing_C(0.2), 1)
     -16.5
+
+    References
+    ----------
+    Melinder, Å. (2007), Thermophysical properties of aqueous solutions used as secondary working fluids,
+    doctoral thesis, KTH Stockholm, as implemented in CoolProp's incompressible mixture ``INCOMP::MNA``.
     """
     x = round(
         validate.number(

@@ -286,12 +286,12 @@ def _provenance(result, u: Units) -> None:
             c[2].metric("Regime", sr.regime.regime)
             c[3].metric("Solver", sr.solver)
             rows = [
-                ("source", str(bd.get("source", ""))),
-                ("correlation", str(bd.get("correlation", ""))),
-                ("convection h_conv", f"{bd.get('h_conv_W_m2K', float('nan')):.2f} W/m²K"),
-                ("radiation h_rad", f"{bd.get('h_rad_W_m2K', float('nan')):.2f} W/m²K"),
-                ("packaging resistance", f"{bd.get('packaging_resistance_m2K_W', 0.0):.5f} m²K/W"),
-                ("effective h_eff", f"{bd.get('h_eff_W_m2K', float('nan')):.2f} W/m²K"),
+                ("source", bd.source),
+                ("correlation", bd.correlation),
+                ("convection h_conv", f"{bd.h_conv_W_m2K:.2f} W/m²K"),
+                ("radiation h_rad", f"{bd.h_rad_W_m2K:.2f} W/m²K"),
+                ("packaging resistance", f"{bd.packaging_resistance_m2K_W:.5f} m²K/W"),
+                ("effective h_eff", f"{bd.h_eff_W_m2K:.2f} W/m²K"),
                 ("medium", " → ".join(u.temp(m) for m in dict.fromkeys(sr.surface.medium_C))),
                 ("Biot number", f"Bi = {sr.regime.bi:.3g} (lumped Bi = {sr.regime.bi_lumped:.3g})"),
                 ("regime", sr.regime.reason),

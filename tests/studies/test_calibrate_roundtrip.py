@@ -57,7 +57,7 @@ def _round_trip(plan, root, n_nodes=None):
     save_measurement(root, rec)
     lib2 = load_library(root)
     after = run_plan(plan, library=lib2, n_nodes=n_nodes)
-    assert after.steps[0].surface.breakdown["source"].startswith("measured h")  # the record applies
+    assert after.steps[0].surface.breakdown.source.startswith("measured h")  # the record applies
     t = before.history["time_s"].to_numpy()
     moved = np.interp(t, after.history["time_s"].to_numpy(), after.history["core_C"].to_numpy())
     return cal, rec, float(np.max(np.abs(moved - before.history["core_C"].to_numpy())))
@@ -71,13 +71,13 @@ def test_packaged_soup_1d_finite_volume_round_trip(lib_root):
     surface = cal.prediction.steps[0].surface.breakdown
     assert cal.prediction.steps[0].solver == "finite-volume"
     assert plan.product.geometry.shape == "slab"
-    assert surface["packaging_resistance_m2K_W"] > 0
+    assert surface.packaging_resistance_m2K_W > 0
     assert cal.h_W_m2K == pytest.approx(cal.plan_h_W_m2K, rel=0.01)
-    assert cal.plan_h_W_m2K == pytest.approx(surface["h_eff_W_m2K"])
-    assert abs(cal.h_W_m2K - surface["h_conv_W_m2K"]) > 0.1 * surface["h_conv_W_m2K"]
-    assert cal.h_outside_W_m2K == pytest.approx(surface["h_conv_W_m2K"], rel=0.01)
+    assert cal.plan_h_W_m2K == pytest.approx(surface.h_eff_W_m2K)
+    assert abs(cal.h_W_m2K - surface.h_conv_W_m2K) > 0.1 * surface.h_conv_W_m2K
+    assert cal.h_outside_W_m2K == pytest.approx(surface.h_conv_W_m2K, rel=0.01)
     assert rec["h_basis"] == "effective" and "packaging" in rec["basis"]
-    assert rec["packaging_resistance_m2K_W"] == pytest.approx(surface["packaging_resistance_m2K_W"])
+    assert rec["packaging_resistance_m2K_W"] == pytest.approx(surface.packaging_resistance_m2K_W)
     assert change_K < 0.05
 
 
@@ -87,7 +87,7 @@ def test_packaged_roulade_2d_finite_volume_round_trip(lib_root):
     surface = cal.prediction.steps[0].surface.breakdown
     assert plan.product.geometry.shape == "finite-cylinder"
     assert cal.prediction.steps[0].solver == "finite-volume"
-    assert surface["packaging_resistance_m2K_W"] > 0 and surface["h_rad_W_m2K"] > 0
+    assert surface.packaging_resistance_m2K_W > 0 and surface.h_rad_W_m2K > 0
     assert cal.h_W_m2K == pytest.approx(cal.plan_h_W_m2K, rel=0.01)
     assert change_K < 0.05
 

@@ -30,8 +30,9 @@ def test_churchill_bernstein_matches_ht(re, pr):
 
 
 def test_churchill_bernstein_incropera_example_7_3():
-    # Source: Incropera et al., 7th ed., Example 7.3 (air in cross-flow over a cylinder), Nu_D = 40.6 at
-    # Re_D = 6071, Pr = 0.7, as reproduced in the ht docstring (40.637). Tolerance: the book's 3 digits, 0.1 %.
+    # Source: Bergman, Lavine, Incropera & DeWitt, Introduction to Heat Transfer, 6th ed. (2011), Example 7.3,
+    # Nu_D = 40.6 at Re_D = 6071, Pr = 0.7, as quoted in the ht package documentation (40.637; the book itself
+    # not seen). Tolerance: the book's 3 digits, 0.1 %.
     assert_allclose(sc.nusselt_cylinder_churchill_bernstein(6071.0, 0.7), 40.6, rtol=1e-3)
 
 

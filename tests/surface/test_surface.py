@@ -261,3 +261,44 @@ def test_liquid_states_beyond_the_property_model_warn_not_fail():
     with pytest.raises(InvalidInputError) as exc:
         surface_coefficient("water-bath", CYL, medium_C=-3.0, surface_C=20.0, liquid_speed_m_s=0.1)
     assert exc.value.field == "medium_C" and "[0, 99] °C" in str(exc.value)
+
+
+@pytest.mark.parametrize(
+    "key, kind, kw",
+    [
+        ("air", "blast-chiller", {"medium_C": -2.0, "surface_C": 20.0, "air_speed_m_s": 3.0}),
+        ("water", "water-bath", {"medium_C": 80.0, "surface_C": 40.0, "liquid_speed_m_s": 0.2}),
+        ("brine", "brine-chiller", {"medium_C": -8.0, "surface_C": 10.0, "liquid_speed_m_s": 0.2}),
+        ("steam", "steam-oven", {"medium_C": 100.0, "surface_C": 60.0}),
+        ("user-entered", "blast-chiller", {"medium_C": -2.0, "surface_C": 20.0, "h_W_m2K": 25.0}),
+    ],
+)
+def test_every_surface_model_is_reached_through_the_dispatcher(key, kind, kw):
+    # Independent method: the registry's model called directly on the same conditions gives the same h.
+    from procplan.surface.coefficient import SURFACE_MODELS
+    from procplan.surface.conditions import SurfaceConditions
+    from procplan.surface.ranges import EQUIPMENT_KINDS
+
+    r = surface_coefficient(kind, CYL, **kw)
+    c = SurfaceConditions(
+        kind=kind,
+        medium=EQUIPMENT_KINDS[kind].medium,
+        geometry=CYL,
+        medium_C=kw["medium_C"],
+        surface_C=kw["surface_C"],
+        surroundings_C=kw["medium_C"],
+        emissivity=0.0 if "h_W_m2K" in kw else 0.9,
+        air_speed_m_s=kw.get("air_speed_m_s"),
+        liquid_speed_m_s=kw.get("liquid_speed_m_s"),
+        relative_humidity=None,
+        pressure_Pa=101325.0,
+        nacl_mass_fraction=0.2,
+        forced_correlation=None,
+        natural_correlation=None,
+        h_W_m2K=kw.get("h_W_m2K"),
+    )
+    direct = SURFACE_MODELS[key](c, [])
+    assert r.medium == c.medium
+    assert_allclose(r.h_conv_W_m2K, direct.h_conv_W_m2K, rtol=1e-12)
+    assert_allclose(r.h_rad_W_m2K, direct.h_rad_W_m2K, rtol=1e-12)
+    assert r.correlation == direct.correlation
