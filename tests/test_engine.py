@@ -257,7 +257,7 @@ def test_h_is_consistent_with_the_mean_surface_temperature_of_the_step():
         library=LIB,
     )
     res = run_plan(plan, library=LIB)
-    assert res.steps[0].details["h_change_on_second_pass"] > H_SURFACE_TOLERANCE  # the second pass ran
+    assert res.steps[0].details.h_change_on_second_pass > H_SURFACE_TOLERANCE  # the second pass ran
     h = res.history
     ts_avg = float(np.trapezoid(h["surface_C"], h["time_s"]) / (h["time_s"].iloc[-1] - h["time_s"].iloc[0]))
     check = resolve_step_surface(plan.steps[0], 0, plan.product, 80.0, LIB, surface_C=ts_avg)

@@ -2,94 +2,11 @@
 
 from __future__ import annotations
 
-import dataclasses
-import math
-from typing import Any
-
-import numpy as np
-
-from procplan._version import __version__
 from procplan.caution import CAUTION
+from procplan.run.summary import plain as _plain
+from procplan.run.summary import summary_dict
 
-
-def _plain(obj: Any) -> Any:
-    """JSON-ready copy: dataclasses to dicts, numpy to Python, NaN/inf to None; arrays and callables dropped."""
-    if dataclasses.is_dataclass(obj) and not isinstance(obj, type):
-        out = {}
-        for f in dataclasses.fields(obj):
-            v = getattr(obj, f.name)
-            if isinstance(v, np.ndarray) and v.size > 8:
-                continue
-            if callable(v) and not dataclasses.is_dataclass(v):
-                continue
-            out[f.name] = _plain(v)
-        return out
-    if isinstance(obj, dict):
-        return {
-            str(k): _plain(v)
-            for k, v in obj.items()
-            if not (callable(v) and not dataclasses.is_dataclass(v)) and not k.endswith("_record")
-        }
-    if isinstance(obj, (list, tuple)):
-        return [_plain(v) for v in obj]
-    if isinstance(obj, np.ndarray):
-        return [_plain(v) for v in obj.tolist()]
-    if isinstance(obj, (np.floating, float)):
-        x = float(obj)
-        return x if math.isfinite(x) else None
-    if isinstance(obj, (np.integer,)):
-        return int(obj)
-    if isinstance(obj, (np.bool_,)):
-        return bool(obj)
-    if isinstance(obj, (str, int, bool)) or obj is None:
-        return obj
-    return str(obj)
-
-
-def _minutes(t_s: float | None) -> float | None:
-    return None if t_s is None else round(t_s / 60.0, 2)
-
-
-def summary_dict(result) -> dict[str, Any]:
-    """Provenance and outcomes of a run as plain data."""
-    plan = result.plan
-    hist = result.history
-    out: dict[str, Any] = {
-        "title": plan.title,
-        "product": plan.product.name,
-        "geometry": plan.product.geometry.describe(),
-        "piece_mass_kg": result.piece_mass_kg,
-        "start_temperature_C": plan.start_temperature_C,
-        "end": {k: float(hist[k].iloc[-1]) for k in ("time_s", "core_C", "surface_C", "mean_C")},
-        "properties_source": result.properties.source,
-        "initial_freezing_C": result.properties.initial_freezing_C,
-        "steps": [],
-        "warnings": list(result.warnings),
-        "procplan_version": __version__,
-        "caution": CAUTION,
-    }
-    for sr in result.steps:
-        out["steps"].append(
-            {
-                "name": sr.name,
-                "start_min": _minutes(sr.start_s),
-                "end_min": _minutes(sr.end_s),
-                "solver": sr.solver,
-                "reason": sr.reason,
-                "regime": _plain(sr.regime),
-                "medium_C": list(sr.surface.medium_C),
-                "h_W_m2K": list(sr.surface.h_W_m2K),
-                "surface": _plain(sr.surface.breakdown),
-                "stopped": sr.stopped,
-                "stop_time_min": _minutes(sr.stop_time_s),
-                "energy_balance_error": sr.energy_balance_error,
-                "details": _plain(sr.details),
-                "warnings": list(sr.warnings),
-            }
-        )
-    if result.outcomes is not None:
-        out["outcomes"] = _plain(result.outcomes)
-    return out
+__all__ = ["summary_dict", "history_dict", "summary_text", "format_f", "format_log_reduction"]
 
 
 def history_dict(result) -> dict[str, list]:
