@@ -1,14 +1,14 @@
 """Variability: Monte Carlo over uncertain inputs, percentiles of time to target and lethality.
 
-Inputs (:data:`VARIABLES`) are drawn from distributions (:data:`DISTRIBUTIONS`: normal, uniform, triangular,
-lognormal, each optionally truncated to bounds) by inverse-CDF sampling with a seeded
+Inputs (:data:`VARIABLES`) are drawn from distributions (:mod:`procplan.studies.distributions`: normal,
+uniform, triangular, lognormal, each optionally truncated to bounds) with a seeded
 ``numpy.random.Generator``, so the same seed gives the same numbers. Two paths:
 
-* ``"exact"`` (fast): one step, uniform start, constant medium and h, and the engine's exact solver; the
-  core history is the product of 1-D eigen-series (Incropera §5.5–5.8) evaluated for all samples at once
-  (eigenvalues by vectorised bisection for every sample's Biot number, time to target by vectorised
-  bisection in log time on the centre series θ_c(t) = Π_axes Σ_n C_n exp(−ζ_n² α t/L²)), with properties
-  taken as the engine takes them (k at the mean of start and medium temperatures, secant c_p);
+* ``"exact"`` (fast): one step for which the engine chooses the exact solver
+  (:func:`procplan.run.solver.choose_solver`); the core history of every sample at once from
+  :func:`procplan.conduction.product.centre_series` (Incropera §5.5–5.8), with properties taken as the
+  engine takes them (:func:`procplan.run.solver.exact_properties`), and the cooling rule checked by
+  :func:`procplan.outcomes.rules.check_rule` on each sample's core history;
 * ``"run"`` (general): :func:`procplan.run.engine.run_plan` for every sample, optionally through any
   ``concurrent.futures.Executor``.
 
