@@ -16,6 +16,7 @@ from procplan.caution import CAUTION
 from procplan.errors import InvalidInputError
 from procplan.files.library import load_library
 from procplan.files.plan import plan_from_dict, save_plan
+from procplan.output.report import summary_dict
 from procplan.run.engine import run_plan
 
 LIB = load_library()
@@ -148,7 +149,7 @@ def test_every_demo_plan_runs_with_outcomes_and_caution(name):
     h = res.history
     assert not h[["time_s", "core_C", "surface_C", "mean_C", "heat_flow_W"]].isna().any().any()
     assert res.outcomes is not None
-    s = res.summary()
+    s = summary_dict(res)
     assert s["caution"] == CAUTION
     json.dumps(s)  # JSON-ready
     for sr in res.steps:
@@ -257,7 +258,7 @@ def test_h_is_consistent_with_the_mean_surface_temperature_of_the_step():
         library=LIB,
     )
     res = run_plan(plan, library=LIB)
-    assert res.steps[0].details["h_change_on_second_pass"] > H_SURFACE_TOLERANCE  # the second pass ran
+    assert res.steps[0].details.h_change_on_second_pass > H_SURFACE_TOLERANCE  # the second pass ran
     h = res.history
     ts_avg = float(np.trapezoid(h["surface_C"], h["time_s"]) / (h["time_s"].iloc[-1] - h["time_s"].iloc[0]))
     check = resolve_step_surface(plan.steps[0], 0, plan.product, 80.0, LIB, surface_C=ts_avg)

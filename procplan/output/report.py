@@ -52,7 +52,7 @@ def summary_dict(result) -> dict[str, Any]:
                 "stopped": sr.stopped,
                 "stop_time_min": _minutes(sr.stop_time_s),
                 "energy_balance_error": sr.energy_balance_error,
-                "details": _plain(sr.details),
+                "details": {k: v for k, v in _plain(sr.details).items() if v is not None},
                 "warnings": list(sr.warnings),
             }
         )

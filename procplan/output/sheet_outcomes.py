@@ -188,9 +188,9 @@ def provenance_section(result, site, st, W, sha):
     rows = [["Step", "Solver and reason", "Regime", "Grid / series", "Energy-balance error"]]
     for sr in result.steps:
         det = sr.details
-        grid = det.get("grid") or ("series solution" if sr.solver == "exact" else "—")
-        if "time_steps" in det:
-            grid += f"; {det['time_steps']} time steps"
+        grid = det.grid or ("series solution" if sr.solver == "exact" else "—")
+        if det.time_steps is not None:
+            grid += f"; {det.time_steps} time steps"
         rows.append(
             [
                 f"{sr.index + 1} {sr.name}",

@@ -13,7 +13,8 @@ import pandas as pd
 
 from procplan import outcomes as oc
 from procplan.errors import InvalidInputError
-from procplan.model import LethalityCheck
+from procplan.model import LethalityCheck, Plan
+from procplan.properties.table import PropertyTable
 
 #: Evaporating temperature below the medium and condensing temperature assumed when a step names no
 #: machine (common practice for air coolers: 6–10 K approach; air-cooled condensers about 35 °C).
@@ -25,31 +26,64 @@ AMBIENT_MIN_C = 15.0
 
 @dataclass(frozen=True)
 class StepTarget:
+    """Time to one stop condition or declared target of a step.
+
+    Attributes
+    ----------
+    step : the step's name
+    point : the point watched: "core", "surface" or "mean"
+    target : when the point reached the temperature (times [s] from the start of the plan)
+    margin : the safety-margin check of the cycle (None when the target is not reached)
+    kind : "stop" for a stop condition, "target" for a declared target
+    """
+
     step: str
     point: str
     target: oc.TargetResult
     margin: oc.MarginCheck | None = None
-    kind: str = "target"  # "stop" for a stop condition, "target" for a declared target
+    kind: str = "target"
 
 
 @dataclass(frozen=True)
 class LethalityOutcome:
+    """Lethality (F-value) accumulated at one point over the whole run.
+
+    Attributes
+    ----------
+    name, target, source : the preset's name, the organism or quality it targets and its source
+        ("custom", "user input" without a preset)
+    point : the point integrated: "core", "surface" or "mean"
+    reference_C : reference temperature [°C]
+    z_C : z-value [K] (None for a tabulated preset)
+    total_F_min : F accumulated over the run [min]
+    required_F_min : the required F [min] (None when none is set)
+    reached : when the required F was reached (None without a requirement)
+    log_reduction : decimal reductions F/D [-] (None without a D-value)
+    time_s, f_cumulative_min : the cumulative F [min] at every history time [s]
+    confirmed : False when the preset is indicative (confirm with your process authority)
+    process_fraction : tabulated presets: ∫ dt / t_req(T) [-]; the check passes at ≥ 1
+    max_log_reduction : the largest log reduction the preset's source supports [-]
+    log_reduction_capped : the log reduction exceeds ``max_log_reduction`` (shown as "> N")
+    passed : whether the total reaches the required F, or the tabulated process is complete (None without a
+        requirement)
+    """
+
     name: str
     target: str
     source: str
     point: str
     reference_C: float
-    z_C: float | None  # None for a tabulated preset
+    z_C: float | None
     total_F_min: float
     required_F_min: float | None
     reached: oc.LethalityTarget | None
     log_reduction: float | None
     time_s: np.ndarray = field(repr=False, default=None)
     f_cumulative_min: np.ndarray = field(repr=False, default=None)
-    confirmed: bool = True  # False: the preset is indicative (confirm with your process authority)
-    process_fraction: float | None = None  # tabulated presets: ∫ dt / t_req(T); passes at ≥ 1
-    max_log_reduction: float | None = None  # the largest log reduction the preset's source supports
-    log_reduction_capped: bool = False  # log_reduction exceeds max_log_reduction: shown as "> N"
+    confirmed: bool = True
+    process_fraction: float | None = None
+    max_log_reduction: float | None = None
+    log_reduction_capped: bool = False
 
     @property
     def passed(self) -> bool | None:
@@ -60,6 +94,17 @@ class LethalityOutcome:
 
 @dataclass(frozen=True)
 class FreezingOutcome:
+    """Freezing times, from the history and from the Plank and Pham estimates.
+
+    Attributes
+    ----------
+    initial_freezing_C : the product's initial freezing point [°C]
+    from_history : onset, end of the latent plateau and time to the storage temperature from the core history
+    plank_s : Plank's freezing time [s] (None when not applicable)
+    pham : Pham's freezing time with its parts (None when not applicable)
+    basis : the shape and dimension the estimates use, and their limits, in words
+    """
+
     initial_freezing_C: float
     from_history: oc.FreezingFromHistory
     plank_s: float | None
@@ -69,18 +114,45 @@ class FreezingOutcome:
 
 @dataclass(frozen=True)
 class StepEnergy:
-    """Heat exchanged in one step for the whole batch (negative removed = heat added)."""
+    """Heat exchanged in one step for the whole batch (negative removed = heat added).
+
+    Attributes
+    ----------
+    step : the step's name
+    heat_removed_J_per_batch : heat removed from the batch in the step [J] (negative: heat added)
+    refrigeration : compressor energy and cost (None when no refrigeration plant takes the heat)
+    basis : the evaporating and condensing temperatures used, or why there is no refrigeration, in words
+    peak_duty_kW : largest 1-minute mean duty of the step for the batch [kW]
+    mean_duty_kW : mean duty over the step for the batch [kW]
+    """
 
     step: str
     heat_removed_J_per_batch: float
     refrigeration: oc.RefrigerationEnergy | None
     basis: str
-    peak_duty_kW: float = 0.0  # largest 1-minute mean duty of the step for the batch
+    peak_duty_kW: float = 0.0
     mean_duty_kW: float = 0.0
 
 
 @dataclass(frozen=True)
 class Outcomes:
+    """Everything assessed from a run.
+
+    Attributes
+    ----------
+    targets : time to every stop condition and declared target, with its safety margin
+    rule_check : the cooling rule's verdict stage by stage (None when the plan names no rule)
+    rule_applied_from_s : the time the rule's clock starts [s] (None without a rule)
+    lethality : the plan's lethality check (None when the plan has none)
+    quality : the surface cook value, when the surface passes 60 °C (None otherwise)
+    freezing : freezing times (None when the product does not freeze)
+    energy : heat exchanged per piece and per batch over the run
+    refrigeration : heat, duty and refrigeration energy of every step
+    energy_balance : |surface heat − enthalpy change| as a fraction of the heat exchanged [-]
+    weight_loss_percent : (step, moisture loss [% of the piece's mass]) for unwrapped products
+    warnings : what the assessment found worth a warning
+    """
+
     targets: tuple[StepTarget, ...]
     rule_check: oc.RuleCheck | None
     rule_applied_from_s: float | None
@@ -90,9 +162,7 @@ class Outcomes:
     energy: oc.EnergySummary
     refrigeration: tuple[StepEnergy, ...]
     energy_balance: float = 0.0
-    weight_loss_percent: tuple[
-        tuple[str, float], ...
-    ] = ()  # (step, % of the piece's mass) for unwrapped products
+    weight_loss_percent: tuple[tuple[str, float], ...] = ()
     warnings: tuple[str, ...] = ()
 
 
@@ -173,34 +243,41 @@ def _lethality(chk: LethalityCheck, hist) -> LethalityOutcome:
     )
 
 
-def assess_plan(result, library) -> Outcomes:
-    """Compute every outcome of a PlanResult (see :class:`Outcomes`)."""
-    plan = result.plan
-    hist = result.history
-    props = result.properties
-    warnings: list[str] = []
-    ch = plan.checks
-    # --- targets and stop conditions, with the safety margin ---------------------------------
+@dataclass(frozen=True)
+class _Run:
+    """What the outcomes are computed from: the parts of a run (see :class:`procplan.run.engine.PlanResult`)."""
+
+    plan: Plan
+    history: pd.DataFrame
+    steps: tuple  # of procplan.run.engine.StepResult
+    properties: PropertyTable
+    piece_mass_kg: float
+
+
+def _step_segment(hist: pd.DataFrame, index: int) -> pd.DataFrame:
+    """A step's rows, with the previous step's last row in front (its starting state)."""
+    seg = hist[hist["step_index"] == index]
+    if index > 0:
+        prev = hist[hist["step_index"] == index - 1].iloc[-1:]
+        seg = pd.concat([prev, seg])
+    return seg
+
+
+def _targets(run: _Run, warnings: list[str]) -> tuple[StepTarget, ...]:
+    """Time to every stop condition and declared target, with the safety margin of the cycle."""
+    ch = run.plan.checks
     targets: list[StepTarget] = []
-    for sr, step in zip(result.steps, plan.steps, strict=True):
-        seg = hist[hist["step_index"] == sr.index]
-        if sr.index > 0:
-            prev = hist[hist["step_index"] == sr.index - 1].iloc[-1:]
-            seg = pd.concat([prev, seg])
+    for sr, step in zip(run.steps, run.plan.steps, strict=True):
+        seg = _step_segment(run.history, sr.index)
         t = seg["time_s"].to_numpy()
-        start_core = float(seg["core_C"].iloc[0])
-        medium = float(np.mean(sr.surface.medium_C))
+        direction = _direction(float(seg["core_C"].iloc[0]), float(np.mean(sr.surface.medium_C)))
         wanted = []
         if step.stop_when_core_C is not None:
             wanted.append(("core", step.stop_when_core_C, "stop"))
         wanted.extend((tg.point, tg.temperature_C, "target") for tg in step.targets)
         for point, temp, kind in wanted:
             tr = oc.time_to_temperature(
-                t,
-                seg[f"{point}_C"].to_numpy(),
-                temp,
-                direction=_direction(start_core, medium),
-                start_s=sr.start_s,
+                t, seg[f"{point}_C"].to_numpy(), temp, direction=direction, start_s=sr.start_s
             )
             margin = None
             if tr.reached:
@@ -210,145 +287,180 @@ def assess_plan(result, library) -> Outcomes:
                 if step.duration_given and margin.cycle_too_short:
                     warnings.append(f"{step.name}: {margin.message}")
             targets.append(StepTarget(step.name, point, tr, margin, kind))
-    # --- cooling rule -------------------------------------------------------------------------
-    rule_check = None
-    rule_from = None
-    if ch.cooling_rule:
-        if library is None or ch.cooling_rule not in library.rules:
-            raise InvalidInputError("checks.cooling_rule", ch.cooling_rule, "a rule of the loaded library")
-        rule = library.rules[ch.cooling_rule]
-        first_cool = next(
-            (
-                sr
-                for sr in result.steps
-                if np.mean(sr.surface.medium_C) < hist.loc[hist["step_index"] == sr.index, "core_C"].iloc[0]
-            ),
-            None,
-        )
-        rule_from = (
-            first_cool.start_s if (first_cool is not None and rule.stages) else float(hist["time_s"].iloc[0])
-        )
-        seg = hist[hist["time_s"] >= rule_from]
-        rule_check = oc.check_rule(
-            rule, seg["time_s"].to_numpy() - rule_from, seg[f"{rule.point}_C"].to_numpy()
-        )
-    # --- lethality ----------------------------------------------------------------------------
-    lethality = _lethality(ch.lethality, hist) if ch.lethality is not None else None
+    return tuple(targets)
+
+
+def _rule_check(run: _Run, library) -> tuple[oc.RuleCheck | None, float | None]:
+    """The cooling rule, applied from the start of the first step that cools (or of the history)."""
+    name = run.plan.checks.cooling_rule
+    if not name:
+        return None, None
+    if library is None or name not in library.rules:
+        raise InvalidInputError("checks.cooling_rule", name, "a rule of the loaded library")
+    rule = library.rules[name]
+    hist = run.history
+    first_cool = next(
+        (
+            sr
+            for sr in run.steps
+            if np.mean(sr.surface.medium_C) < hist.loc[hist["step_index"] == sr.index, "core_C"].iloc[0]
+        ),
+        None,
+    )
+    rule_from = (
+        first_cool.start_s if (first_cool is not None and rule.stages) else float(hist["time_s"].iloc[0])
+    )
+    seg = hist[hist["time_s"] >= rule_from]
+    check = oc.check_rule(rule, seg["time_s"].to_numpy() - rule_from, seg[f"{rule.point}_C"].to_numpy())
+    return check, rule_from
+
+
+def _lethalities(run: _Run) -> tuple[LethalityOutcome | None, LethalityOutcome | None]:
+    """The plan's lethality check, and the surface cook value when the surface passes 60 °C."""
+    hist = run.history
+    chk = run.plan.checks.lethality
+    lethality = _lethality(chk, hist) if chk is not None else None
     quality = None
     if hist["surface_C"].max() > 60.0:
         quality = _lethality(LethalityCheck(preset="cook-value-c100", point="surface"), hist)
-    # --- freezing -----------------------------------------------------------------------------
-    freezing = None
-    tf = props.initial_freezing_C
+    return lethality, quality
+
+
+def _freezing_times(run: _Run) -> FreezingOutcome | None:
+    """Freezing outcomes when the core freezes or a medium is below the frozen-storage temperature."""
+    tf = run.properties.initial_freezing_C
+    storage = run.plan.checks.frozen_storage_C
     if tf is not None and (
-        hist["core_C"].min() < tf - 0.05
-        or any(min(sr.surface.medium_C) < ch.frozen_storage_C for sr in result.steps)
+        run.history["core_C"].min() < tf - 0.05 or any(min(sr.surface.medium_C) < storage for sr in run.steps)
     ):
-        freezing = _freezing(result, tf, ch.frozen_storage_C)
-    # --- energy -------------------------------------------------------------------------------
+        return _freezing(run, tf, storage)
+    return None
+
+
+def _energy(run: _Run, warnings: list[str]) -> tuple[oc.EnergySummary, float]:
+    """Energy summary of the batch and the energy-balance error (surface heat against enthalpy change)."""
+    hist, props, ch = run.history, run.properties, run.plan.checks
     t = hist["time_s"].to_numpy()
-    t0 = plan.start_temperature_C
-    t_end = float(hist["mean_C"].iloc[-1])
-    dh = float(props.enthalpy(t_end) - props.enthalpy(t0))
-    energy = oc.energy_summary(
-        t,
-        hist["heat_flow_W"].to_numpy(),
-        piece_mass_kg=result.piece_mass_kg,
-        pieces=ch.pieces_per_batch,
-        enthalpy_change_J_kg=dh,
-    )
+    dh = float(props.enthalpy(float(hist["mean_C"].iloc[-1])) - props.enthalpy(run.plan.start_temperature_C))
     q_all = hist["heat_flow_W"].to_numpy()
+    energy = oc.energy_summary(
+        t, q_all, piece_mass_kg=run.piece_mass_kg, pieces=ch.pieces_per_batch, enthalpy_change_J_kg=dh
+    )
     gross_J = float(np.sum(0.5 * (np.abs(q_all[1:]) + np.abs(q_all[:-1])) * np.diff(t)))
     net_J = float(oc.heat_transferred_J(t, q_all)[-1])
-    balance = abs(net_J - result.piece_mass_kg * dh) / max(abs(result.piece_mass_kg * dh), gross_J, 1e-12)
+    balance = abs(net_J - run.piece_mass_kg * dh) / max(abs(run.piece_mass_kg * dh), gross_J, 1e-12)
     if balance > 0.01:
         warnings.append(
             f"energy: heat through the surface and enthalpy change differ by {balance:.1%} of the heat exchanged"
         )
-    refrigeration = []
-    for sr in result.steps:
-        seg = hist[hist["step_index"] == sr.index]
-        if sr.index > 0:
-            seg = hist[(hist["time_s"] >= sr.start_s) & (hist["time_s"] <= sr.end_s)]
-        q = seg["heat_flow_W"].to_numpy()
-        ts = seg["time_s"].to_numpy()
-        removed = -float(oc.heat_transferred_J(ts, q)[-1]) * ch.pieces_per_batch
-        peak_kW = peak_duty_W(ts, q) * ch.pieces_per_batch / 1000.0
-        mean_kW = abs(removed) / max(ts[-1] - ts[0], 1e-9) / 1000.0 if q.size > 1 else 0.0
-        if removed <= 0:
-            refrigeration.append(
-                StepEnergy(
-                    sr.name, removed, None, "heating step: heat added, no refrigeration", peak_kW, mean_kW
-                )
-            )
-            continue
-        eq = sr.surface.breakdown.machine
-        medium = float(np.min(sr.surface.medium_C))
-        if eq is not None and eq.evaporating_C is not None:
-            evap, cond, basis = (
-                eq.evaporating_C,
-                eq.condensing_C,
-                f"{eq.name}: evaporating {eq.evaporating_C:g} °C, condensing {eq.condensing_C:g} °C",
-            )
-        elif medium >= AMBIENT_MIN_C:
-            refrigeration.append(
-                StepEnergy(
-                    sr.name,
-                    removed,
-                    None,
-                    f"medium {medium:g} °C: heat goes to the room, no refrigeration",
-                    peak_kW,
-                    mean_kW,
-                )
-            )
-            continue
-        else:
-            evap, cond = medium - DEFAULT_EVAPORATOR_APPROACH_K, DEFAULT_CONDENSING_C
-            basis = f"no machine named: evaporating {evap:g} °C ({DEFAULT_EVAPORATOR_APPROACH_K:g} K below the medium), condensing {cond:g} °C (common practice)"
-        if evap >= cond:
-            refrigeration.append(
-                StepEnergy(
-                    sr.name,
-                    removed,
-                    None,
-                    "medium above condensing temperature: no refrigeration duty",
-                    peak_kW,
-                    mean_kW,
-                )
-            )
-            continue
-        ref = oc.refrigeration_energy(
-            removed, evap, cond, carnot_fraction=ch.cop_fraction, price_per_kWh=ch.energy_price_per_kWh
+    return energy, balance
+
+
+def _refrigeration_basis(sr) -> tuple[float, float, str] | str:
+    """Evaporating and condensing temperatures [°C] with their basis, or why the step has no refrigeration."""
+    eq = sr.surface.breakdown.machine
+    medium = float(np.min(sr.surface.medium_C))
+    if eq is not None and eq.evaporating_C is not None:
+        evap, cond, basis = (
+            eq.evaporating_C,
+            eq.condensing_C,
+            f"{eq.name}: evaporating {eq.evaporating_C:g} °C, condensing {eq.condensing_C:g} °C",
         )
-        refrigeration.append(StepEnergy(sr.name, removed, ref, basis, peak_kW, mean_kW))
-    # --- moisture loss of unwrapped products --------------------------------------------------
-    weight_loss = []
-    g = plan.product.geometry
-    for sr in result.steps:
+    elif medium >= AMBIENT_MIN_C:
+        return f"medium {medium:g} °C: heat goes to the room, no refrigeration"
+    else:
+        evap, cond = medium - DEFAULT_EVAPORATOR_APPROACH_K, DEFAULT_CONDENSING_C
+        basis = f"no machine named: evaporating {evap:g} °C ({DEFAULT_EVAPORATOR_APPROACH_K:g} K below the medium), condensing {cond:g} °C (common practice)"
+    if evap >= cond:
+        return "medium above condensing temperature: no refrigeration duty"
+    return evap, cond, basis
+
+
+def _step_energy(run: _Run, sr) -> StepEnergy:
+    """Heat removed in one step for the batch, its duty and the refrigeration it takes."""
+    hist, ch = run.history, run.plan.checks
+    seg = hist[hist["step_index"] == sr.index]
+    if sr.index > 0:
+        seg = hist[(hist["time_s"] >= sr.start_s) & (hist["time_s"] <= sr.end_s)]
+    q = seg["heat_flow_W"].to_numpy()
+    ts = seg["time_s"].to_numpy()
+    removed = -float(oc.heat_transferred_J(ts, q)[-1]) * ch.pieces_per_batch
+    peak_kW = peak_duty_W(ts, q) * ch.pieces_per_batch / 1000.0
+    mean_kW = abs(removed) / max(ts[-1] - ts[0], 1e-9) / 1000.0 if q.size > 1 else 0.0
+    if removed <= 0:
+        return StepEnergy(
+            sr.name, removed, None, "heating step: heat added, no refrigeration", peak_kW, mean_kW
+        )
+    basis = _refrigeration_basis(sr)
+    if isinstance(basis, str):
+        return StepEnergy(sr.name, removed, None, basis, peak_kW, mean_kW)
+    evap, cond, why = basis
+    ref = oc.refrigeration_energy(
+        removed, evap, cond, carnot_fraction=ch.cop_fraction, price_per_kWh=ch.energy_price_per_kWh
+    )
+    return StepEnergy(sr.name, removed, ref, why, peak_kW, mean_kW)
+
+
+def _weight_loss(run: _Run) -> tuple[tuple[str, float], ...]:
+    """Moisture loss of unwrapped products per step [% of the piece's mass]."""
+    hist = run.history
+    area = run.plan.product.geometry.area_m2
+    out = []
+    for sr in run.steps:
         ev = sr.surface.evaporation
         if ev is None:
             continue
         seg = hist[(hist["time_s"] >= sr.start_s) & (hist["time_s"] <= sr.end_s)]
         pct = ev.weight_loss_percent(
-            seg["time_s"].to_numpy(), seg["surface_C"].to_numpy(), g.area_m2, result.piece_mass_kg
+            seg["time_s"].to_numpy(), seg["surface_C"].to_numpy(), area, run.piece_mass_kg
         )
-        weight_loss.append((sr.name, pct))
+        out.append((sr.name, pct))
+    return tuple(out)
+
+
+def assess_plan(
+    plan: Plan,
+    history: pd.DataFrame,
+    steps: tuple,
+    properties: PropertyTable,
+    piece_mass_kg: float,
+    library,
+) -> Outcomes:
+    """Compute every outcome of a run (see :class:`Outcomes`).
+
+    Parameters
+    ----------
+    plan : the plan that ran
+    history : the run's history (``time_s``, ``core_C``, ``surface_C``, ``mean_C``, ``heat_flow_W``,
+        ``step_index``)
+    steps : the per-step results (:class:`procplan.run.engine.StepResult`)
+    properties : the product's property table
+    piece_mass_kg : mass of one piece [kg]
+    library : resolves the cooling rule
+    """
+    run = _Run(plan, history, tuple(steps), properties, piece_mass_kg)
+    warnings: list[str] = []
+    targets = _targets(run, warnings)
+    rule_check, rule_from = _rule_check(run, library)
+    lethality, quality = _lethalities(run)
+    freezing = _freezing_times(run)
+    energy, balance = _energy(run, warnings)
     return Outcomes(
-        weight_loss_percent=tuple(weight_loss),
-        targets=tuple(targets),
+        weight_loss_percent=_weight_loss(run),
+        targets=targets,
         rule_check=rule_check,
         rule_applied_from_s=rule_from,
         lethality=lethality,
         quality=quality,
         freezing=freezing,
         energy=energy,
-        refrigeration=tuple(refrigeration),
+        refrigeration=tuple(_step_energy(run, sr) for sr in run.steps),
         energy_balance=balance,
         warnings=tuple(warnings),
     )
 
 
-def _freezing(result, tf: float, storage_C: float) -> FreezingOutcome:
+def _freezing(result: _Run, tf: float, storage_C: float) -> FreezingOutcome:
     hist = result.history
     props = result.properties
     fh = oc.freezing_from_history(hist["time_s"].to_numpy(), hist["core_C"].to_numpy(), tf, storage_C)

@@ -5,12 +5,12 @@ medium temperature and an effective h over time, chooses the solver and says why
 the step's history. The result is a :class:`PlanResult`: a history DataFrame (``time_s``, ``core_C``,
 ``surface_C``, ``mean_C``, ``heat_flow_W``, ``step``) with the provenance of every step, and the
 outcomes (targets, rule check, lethality, freezing, energy, margin) from :mod:`procplan.run.assess`.
+The solver choice and its reasons live in :mod:`procplan.run.solver`.
 """
 
 from __future__ import annotations
 
-import dataclasses
-from dataclasses import dataclass, field
+from dataclasses import dataclass, replace
 from typing import Any
 
 import numpy as np
@@ -19,15 +19,25 @@ from scipy.optimize import brentq
 
 from procplan import validate
 from procplan.conduction.finite_volume import solve_conduction
+from procplan.conduction.product import ExactProvenance, exact_history
 from procplan.conduction.regime import Regime, classify_regime
-from procplan.errors import InvalidInputError
 from procplan.model import SOLVERS, Plan, Step
 from procplan.properties.table import PropertyTable
+from procplan.run.assess import Outcomes, assess_plan
+from procplan.run.solver import PROPERTY_SPREAD_LIMIT, choose_solver, exact_properties
 from procplan.run.step_surface import StepSurface, resolve_step_surface
 
-#: Largest relative spread of k and of the apparent cp over a step's temperature range for which the
-#: exact (constant-property) solution is used in automatic mode.
-PROPERTY_SPREAD_LIMIT = 0.10
+__all__ = [
+    "EXACT_POINTS",
+    "H_SURFACE_TOLERANCE",
+    "PROPERTY_SPREAD_LIMIT",
+    "PlanResult",
+    "StepResult",
+    "StepSolverDetails",
+    "choose_solver",
+    "run_plan",
+]
+
 #: Relative change of h, re-evaluated at the step's mean surface temperature, above which the step runs again.
 H_SURFACE_TOLERANCE = 0.03
 #: Points in an exact-solution history.
@@ -35,8 +45,44 @@ EXACT_POINTS = 601
 
 
 @dataclass(frozen=True)
+class StepSolverDetails:
+    """How a step was solved, as a lab notebook would record it. Fields that do not apply to the step's
+    solver are None (and left out of the JSON summary).
+
+    Attributes
+    ----------
+    k_W_mK, rho_kg_m3, cp_J_kgK : exact solver: the constant properties used [W/mK], [kg/m³], [J/kgK]
+    properties_at : exact solver: where the properties were taken
+    series : exact solver: the series provenance (axes, Biot numbers, terms, truncation bound)
+    grid : finite volumes: the grid in words (nodes per axis)
+    time_steps, rejected_steps : finite volumes: accepted and rejected time steps [-]
+    dt_min_s, dt_max_s : finite volumes: smallest and largest accepted time step [s]
+    method : finite volumes: the discretisation in words
+    h_surface_C : surface temperature averaged over the step at which h was evaluated again [°C]
+    h_change_on_second_pass : relative change of h at that temperature [-]; above
+        :data:`H_SURFACE_TOLERANCE` the step ran again with the new h
+    regime : the conduction regime of the step (from the Biot number)
+    """
+
+    k_W_mK: float | None = None
+    rho_kg_m3: float | None = None
+    cp_J_kgK: float | None = None
+    properties_at: str | None = None
+    series: ExactProvenance | None = None
+    grid: str | None = None
+    time_steps: int | None = None
+    rejected_steps: int | None = None
+    dt_min_s: float | None = None
+    dt_max_s: float | None = None
+    method: str | None = None
+    h_surface_C: float | None = None
+    h_change_on_second_pass: float | None = None
+    regime: str | None = None
+
+
+@dataclass(frozen=True)
 class StepResult:
-    """Provenance and key numbers of one step."""
+    """Provenance and key numbers of one step (times [s] from the start of the plan)."""
 
     index: int
     name: str
@@ -49,7 +95,7 @@ class StepResult:
     stopped: bool
     stop_time_s: float | None
     energy_balance_error: float
-    details: dict[str, Any] = field(default_factory=dict)
+    details: StepSolverDetails = StepSolverDetails()
     warnings: tuple[str, ...] = ()
 
     @property
@@ -66,90 +112,51 @@ class PlanResult:
     steps: tuple[StepResult, ...]
     properties: PropertyTable
     piece_mass_kg: float
-    outcomes: Any = None
+    outcomes: Outcomes | None = None
     warnings: tuple[str, ...] = ()
 
-    def summary(self) -> dict[str, Any]:
-        """A JSON-ready summary (provenance and outcomes)."""
-        from procplan.output.report import summary_dict
 
-        return summary_dict(self)
+@dataclass(frozen=True)
+class _StepRun:
+    """One solver pass over a step: its history (times from the step's start) and what the solver reported."""
 
-
-def _spread(values: np.ndarray) -> float:
-    m = float(np.mean(values))
-    return float((np.max(values) - np.min(values)) / m) if m > 0 else np.inf
-
-
-def choose_solver(
-    requested: str,
-    *,
-    props: PropertyTable,
-    uniform_start: bool,
-    start_C: float,
-    surface: StepSurface,
-    step_label: str,
-    field_carried_on: bool = False,
-) -> tuple[str, str]:
-    """The solver for one step and the reason, in words a technologist can read.
-
-    Exact (series / product) solutions need a uniform start, a constant medium and h, no phase change
-    and nearly constant properties; otherwise the finite-volume enthalpy solver runs. In automatic mode a
-    step whose field is carried into a following step (``field_carried_on``) also runs finite volumes, since
-    an exact solution cannot start from a non-uniform field.
-    """
-    validate.choice("solver", requested, SOLVERS)
-    lo, hi = min(start_C, *surface.medium_C), max(start_C, *surface.medium_C)
-    grid = np.linspace(lo, hi, 41) if hi > lo else np.array([lo])
-    tf = props.initial_freezing_C
-    freezes = tf is not None and lo < tf
-    k_spread = _spread(props.conductivity(grid))
-    cp_spread = _spread(props.apparent_cp(grid))
-    blockers = []
-    if not uniform_start:
-        blockers.append("the temperature field carried from the previous step is not uniform")
-    elif field_carried_on and requested == "auto":
-        blockers.append("the temperature field is carried into the following steps")
-    if not surface.constant:
-        blockers.append("the medium temperature, h or surface evaporation changes during the step")
-    if freezes:
-        blockers.append(f"the product passes its initial freezing point {tf:.1f} °C (latent heat)")
-    if k_spread > PROPERTY_SPREAD_LIMIT or cp_spread > PROPERTY_SPREAD_LIMIT:
-        blockers.append(f"k varies {k_spread:.0%} and cp {cp_spread:.0%} over {lo:.0f}…{hi:.0f} °C")
-    if requested == "exact":
-        if not uniform_start or not surface.constant or freezes:
-            raise InvalidInputError(
-                "solver",
-                "exact",
-                "auto or finite-volume for this plan",
-                f"{step_label}: " + "; ".join(blockers),
-            )
-        return "exact", "exact solution as requested" + (f" (note: {blockers[0]})" if blockers else "")
-    if requested == "finite-volume":
-        return "finite-volume", "finite-volume solver as requested"
-    if blockers:
-        return "finite-volume", "finite-volume enthalpy solver: " + "; ".join(blockers)
-    return (
-        "exact",
-        f"exact series solution: uniform start, constant medium and h, no phase change, k and cp vary ≤ {PROPERTY_SPREAD_LIMIT:.0%} over {lo:.0f}…{hi:.0f} °C",
-    )
+    frame: pd.DataFrame
+    stop_time_s: float | None
+    energy_balance_error: float
+    details: StepSolverDetails
+    fv: Any  # the finite-volume result (its final field carries on), None for the exact solver
 
 
-def _exact_step(geometry, props: PropertyTable, start_C: float, surface: StepSurface, step: Step):
+def _exact_stop(run, times: np.ndarray, hist, step: Step):
+    """Time [s] the core reaches the step's stop temperature (None when it does not) and the times to report."""
+    target = step.stop_when_core_C
+    core = np.asarray(hist.core_C)
+    sign = np.sign(core - target)
+    crossed = np.nonzero(sign != sign[0])[0] if sign[0] != 0 else np.array([0])
+    if not crossed.size:
+        return None, times
+    j = int(crossed[0])
+    if j == 0:
+        stop_time = 0.0
+    else:
+        f = lambda t: float(run(np.array([t])).core_C[0]) - target  # noqa: E731
+        lo_t, hi_t = times[j - 1], times[j]
+        stop_time = brentq(f, lo_t, hi_t, xtol=1e-9 * step.duration_s + 1e-12)
+        # land on the far side of the target, so the crossing is never missed by round-off
+        while np.sign(f(stop_time)) == np.sign(f(lo_t)) and stop_time < hi_t:
+            stop_time = min(hi_t, stop_time + 1e-9 * step.duration_s + 1e-12)
+    times = np.r_[times[:j], stop_time] if stop_time > 0 else np.array([0.0])
+    times = np.unique(times)
+    if times.size == 1:
+        times = np.array([0.0, max(stop_time, 1e-9)])
+    return stop_time, times
+
+
+def _exact_step(geometry, props: PropertyTable, start_C: float, surface: StepSurface, step: Step) -> _StepRun:
     """Run the product (series) solution for one step with effective constant properties."""
-    from procplan.conduction.product import exact_history
-
     medium = surface.medium_C[0]
     h = surface.h_W_m2K[0]
-    t_mid = 0.5 * (start_C + medium)
-    k = float(props.conductivity(t_mid))
-    rho = props.mass_density_kg_m3
-    if abs(medium - start_C) > 1e-9:
-        cp = float(
-            (props.enthalpy(medium) - props.enthalpy(start_C)) / (medium - start_C)
-        )  # secant cp: exact energy
-    else:
-        cp = float(props.apparent_cp(start_C))
+    k, rho, cp, t_mid = exact_properties(props, start_C, medium)  # secant cp: exact energy
 
     def run(times):
         return exact_history(geometry, k, rho, cp, h, start_C, medium, times)
@@ -158,38 +165,19 @@ def _exact_step(geometry, props: PropertyTable, start_C: float, surface: StepSur
     hist = run(times)
     stop_time = None
     if step.stop_when_core_C is not None:
-        target = step.stop_when_core_C
-        core = np.asarray(hist.core_C)
-        sign = np.sign(core - target)
-        crossed = np.nonzero(sign != sign[0])[0] if sign[0] != 0 else np.array([0])
-        if crossed.size:
-            j = int(crossed[0])
-            if j == 0:
-                stop_time = 0.0
-            else:
-                f = lambda t: float(run(np.array([t])).core_C[0]) - target  # noqa: E731
-                lo_t, hi_t = times[j - 1], times[j]
-                stop_time = brentq(f, lo_t, hi_t, xtol=1e-9 * step.duration_s + 1e-12)
-                # land on the far side of the target, so the crossing is never missed by round-off
-                while np.sign(f(stop_time)) == np.sign(f(lo_t)) and stop_time < hi_t:
-                    stop_time = min(hi_t, stop_time + 1e-9 * step.duration_s + 1e-12)
-            times = np.r_[times[:j], stop_time] if stop_time > 0 else np.array([0.0])
-            times = np.unique(times)
-            if times.size == 1:
-                times = np.array([0.0, max(stop_time, 1e-9)])
-            hist = run(times)
-    details = {
-        "k_W_mK": k,
-        "rho_kg_m3": rho,
-        "cp_J_kgK": cp,
-        "properties_at": f"k at {t_mid:.1f} °C; cp = ΔH/ΔT over the step",
-    }
-    prov = getattr(hist, "provenance", None)
-    if prov is not None:
-        details["series"] = dataclasses.asdict(prov) if dataclasses.is_dataclass(prov) else dict(prov)
+        stop_time, stop_times = _exact_stop(run, times, hist, step)
+        if stop_time is not None:
+            hist = run(stop_times)
+    details = StepSolverDetails(
+        k_W_mK=k,
+        rho_kg_m3=rho,
+        cp_J_kgK=cp,
+        properties_at=f"k at {t_mid:.1f} °C; cp = ΔH/ΔT over the step",
+        series=hist.provenance,
+    )
     frame = pd.DataFrame(
         {
-            "time_s": np.asarray(hist.time_s if hasattr(hist, "time_s") else times, dtype=float),
+            "time_s": np.asarray(hist.time_s, dtype=float),
             "core_C": np.asarray(hist.core_C, dtype=float),
             "surface_C": np.asarray(hist.surface_C, dtype=float),
             "mean_C": np.asarray(hist.mean_C, dtype=float),
@@ -197,10 +185,10 @@ def _exact_step(geometry, props: PropertyTable, start_C: float, surface: StepSur
             "heat_flow_W": -np.asarray(hist.heat_flow_W, dtype=float),
         }
     )
-    return frame, stop_time, 0.0, details, None
+    return _StepRun(frame, stop_time, 0.0, details, None)
 
 
-def _fv_step(geometry, props, initial, surface: StepSurface, step: Step, n_nodes, dt_s):
+def _fv_step(geometry, props, initial, surface: StepSurface, step: Step, n_nodes, dt_s) -> _StepRun:
     res = solve_conduction(
         geometry,
         props,
@@ -220,21 +208,175 @@ def _fv_step(geometry, props, initial, surface: StepSurface, step: Step, n_nodes
             "heat_flow_W": res.heat_flow_W,
         }
     )
-    details = {
-        "grid": res.grid.describe() if hasattr(res.grid, "describe") else str(res.grid.shape),
-        "time_steps": res.n_steps,
-        "rejected_steps": res.n_rejected,
-        "dt_min_s": res.dt_min_s,
-        "dt_max_s": res.dt_max_s,
-        "method": res.method,
-    }
-    return frame, res.stopped_at_s, res.energy_balance_error, details, res
+    details = StepSolverDetails(
+        grid=res.grid.describe() if hasattr(res.grid, "describe") else str(res.grid.shape),
+        time_steps=res.n_steps,
+        rejected_steps=res.n_rejected,
+        dt_min_s=res.dt_min_s,
+        dt_max_s=res.dt_max_s,
+        method=res.method,
+    )
+    return _StepRun(frame, res.stopped_at_s, res.energy_balance_error, details, res)
 
 
-def _run_step(chosen, geometry, props, start_C, field_state, step, n_nodes, dt_s, surface):
+@dataclass(frozen=True)
+class _Context:
+    """What every step of one run shares."""
+
+    plan: Plan
+    library: Any
+    props: PropertyTable
+    requested: str
+    n_nodes: Any
+    dt_s: float | None
+
+
+@dataclass
+class _Carried:
+    """The state carried from one step into the next."""
+
+    start_C: float
+    mean_C: float
+    field: Any
+    uniform: bool = True
+    t_offset_s: float = 0.0
+
+
+def _solve(ctx: _Context, chosen: str, carried: _Carried, step: Step, surface: StepSurface) -> _StepRun:
+    geometry = ctx.plan.product.geometry
     if chosen == "exact":
-        return _exact_step(geometry, props, start_C, surface, step)
-    return _fv_step(geometry, props, field_state, surface, step, n_nodes, dt_s)
+        return _exact_step(geometry, ctx.props, carried.start_C, surface, step)
+    return _fv_step(geometry, ctx.props, carried.field, surface, step, ctx.n_nodes, ctx.dt_s)
+
+
+def _solve_with_surface_pass(ctx: _Context, i: int, step: Step, chosen: str, carried: _Carried, surface):
+    """Solve the step; h depends on the surface temperature (film properties, free convection, radiation), so
+    evaluate it again at the step's time-averaged surface temperature and run once more when it moved by more
+    than :data:`H_SURFACE_TOLERANCE`. Returns the run and the surface it ran with."""
+    run = _solve(ctx, chosen, carried, step, surface)
+    ts = run.frame["time_s"].to_numpy()
+    if not ts[-1] > ts[0]:
+        return run, surface
+    ts_avg = float(np.trapezoid(run.frame["surface_C"].to_numpy(), ts) / (ts[-1] - ts[0]))
+    product = ctx.plan.product
+    again = resolve_step_surface(step, i, product, carried.mean_C, ctx.library, surface_C=ts_avg)
+    change = float(np.max(np.abs(np.array(again.h_W_m2K) / np.array(surface.h_W_m2K) - 1.0)))
+    if change > H_SURFACE_TOLERANCE:
+        surface = again
+        run = _solve(ctx, chosen, carried, step, surface)
+    details = replace(run.details, h_surface_C=ts_avg, h_change_on_second_pass=change)
+    return replace(run, details=details), surface
+
+
+def _step_warnings(step: Step, surface: StepSurface, run: _StepRun) -> tuple[str, ...]:
+    out = list(surface.warnings)
+    if step.stop_when_core_C is not None and run.stop_time_s is None:
+        out.append(
+            f"{step.name}: the core did not reach {step.stop_when_core_C:g} °C within {step.duration_s / 60:g} min"
+        )
+    if run.energy_balance_error > 0.005:
+        out.append(
+            f"{step.name}: energy-balance error {run.energy_balance_error:.2%} exceeds 0.5 %; refine the grid or time step"
+        )
+    return tuple(out)
+
+
+def _place_frame(frame: pd.DataFrame, step: Step, i: int, run: _StepRun, t_offset_s: float, first: bool):
+    """The step's history on the plan's clock, labelled with the step."""
+    frame["time_s"] = frame["time_s"] + t_offset_s
+    if run.stop_time_s is not None and step.stop_when_core_C is not None and len(frame):
+        # both solvers stop within 1e-5 K of the stop temperature; record the crossing as the target itself
+        last = frame.index[-1]
+        if abs(frame.at[last, "core_C"] - step.stop_when_core_C) < 1e-4:
+            frame.at[last, "core_C"] = step.stop_when_core_C
+    frame["step"] = step.name
+    frame["step_index"] = i
+    return frame if first else frame.iloc[1:]  # the first row repeats the previous step's last state
+
+
+def _run_step(
+    ctx: _Context, i: int, step: Step, carried: _Carried
+) -> tuple[pd.DataFrame, StepResult, _StepRun]:
+    """Resolve the surface, choose the solver, solve one step; the history is on the plan's clock."""
+    product = ctx.plan.product
+    surface = resolve_step_surface(step, i, product, carried.mean_C, ctx.library)
+    regime = classify_regime(
+        float(np.mean(surface.h_W_m2K)),
+        product.geometry,
+        float(ctx.props.conductivity(0.5 * (carried.mean_C + np.mean(surface.medium_C)))),
+    )
+    choice = choose_solver(
+        ctx.requested,
+        props=ctx.props,
+        uniform_start=carried.uniform,
+        start_C=carried.start_C,
+        surface=surface,
+        step_label=f"steps[{i}] ({step.name})",
+        field_carried_on=i < len(ctx.plan.steps) - 1,
+    )
+    run, surface = _solve_with_surface_pass(ctx, i, step, choice.solver, carried, surface)
+    details = replace(run.details, regime=regime.regime)
+    frame = _place_frame(run.frame, step, i, run, carried.t_offset_s, first=i == 0)
+    stop = run.stop_time_s
+    result = StepResult(
+        index=i,
+        name=step.name,
+        start_s=carried.t_offset_s,
+        end_s=float(frame["time_s"].iloc[-1]) if len(frame) else carried.t_offset_s,
+        solver=choice.solver,
+        reason=choice.reason,
+        regime=regime,
+        surface=surface,
+        stopped=stop is not None,
+        stop_time_s=None if stop is None else carried.t_offset_s + stop,
+        energy_balance_error=float(run.energy_balance_error),
+        details=details,
+        warnings=_step_warnings(step, surface, run),
+    )
+    return frame, result, run
+
+
+def _range_warnings(history: pd.DataFrame, props: PropertyTable) -> list[str]:
+    """Warnings on temperatures the model carries only roughly: boiling, and outside the property model."""
+    out = []
+    lo, hi = float(props.temperature_C[0]), float(props.temperature_C[-1])
+    t_min = float(history[["core_C", "surface_C"]].min().min())
+    t_max = float(history[["core_C", "surface_C"]].max().max())
+    if t_max > 100.5:
+        out.append(
+            f"product temperatures reach {t_max:.0f} °C: above 100 °C the water in an unsealed product boils and the "
+            "surface dries, which a conduction model does not carry; treat temperatures above 100 °C as indicative only"
+        )
+    if t_min < lo - 0.05 or t_max > hi + 0.05:
+        out.append(
+            f"product temperatures reach {t_min:.1f}…{t_max:.1f} °C, outside the property model's {lo:g}…{hi:g} °C: "
+            "properties are extrapolated there"
+        )
+    return out
+
+
+def _run_steps(ctx: _Context) -> tuple[pd.DataFrame, list[StepResult], list[str]]:
+    """Every step in order, the field carried from one into the next."""
+    start = ctx.plan.start_temperature_C
+    carried = _Carried(start_C=start, mean_C=start, field=start)
+    frames: list[pd.DataFrame] = []
+    steps: list[StepResult] = []
+    warnings: list[str] = []
+    for i, step in enumerate(ctx.plan.steps):
+        frame, result, run = _run_step(ctx, i, step, carried)
+        frames.append(frame)
+        steps.append(result)
+        warnings.extend(result.warnings)
+        last = frame.iloc[-1] if len(frame) else frames[-2].iloc[-1]
+        carried = _Carried(
+            start_C=float(last["core_C"]),
+            mean_C=float(last["mean_C"]),
+            # None only for single-step plans or a forced exact solver
+            field=run.fv.final_field if run.fv is not None else None,
+            uniform=False,
+            t_offset_s=result.end_s,
+        )
+    return pd.concat(frames, ignore_index=True), steps, warnings
 
 
 def run_plan(
@@ -250,150 +392,31 @@ def run_plan(
 
     Parameters
     ----------
-    plan : the plan (see :mod:`procplan.files.plan`)
+    plan : the plan (see :mod:`procplan.model`)
     library : the library that resolves equipment names and rules (default: the demo library when needed)
     solver : "auto" (default: the plan's choice), "exact" or "finite-volume"
     n_nodes, dt_s : finite-volume grid (per axis) and fixed time step [s] (adaptive when None)
     assess : compute outcomes (targets, rules, lethality, freezing, energy, margin)
     """
-
     requested = solver or plan.solver
     validate.choice("solver", requested, SOLVERS)
     if library is None and (any(s.equipment for s in plan.steps) or plan.checks.cooling_rule):
         from procplan.files.library import load_library
 
         library = load_library()
-    product = plan.product
-    geometry = product.geometry
-    props = product.property_table()
+    props = plan.product.property_table()
     props.check_in_range("start.temperature_C", plan.start_temperature_C)
-    piece_mass_kg = props.mass_density_kg_m3 * geometry.volume_m3
-    frames = []
-    steps: list[StepResult] = []
-    field_state: Any = plan.start_temperature_C
-    uniform = True
-    t_offset = 0.0
-    start_C = plan.start_temperature_C
-    mean_C = start_C
-    warnings: list[str] = []
-    for i, step in enumerate(plan.steps):
-        label = f"steps[{i}] ({step.name})"
-        surface = resolve_step_surface(step, i, product, mean_C, library)
-        regime = classify_regime(
-            float(np.mean(surface.h_W_m2K)),
-            geometry,
-            float(props.conductivity(0.5 * (mean_C + np.mean(surface.medium_C)))),
-        )
-        chosen, reason = choose_solver(
-            requested,
-            props=props,
-            uniform_start=uniform,
-            start_C=start_C,
-            surface=surface,
-            step_label=label,
-            field_carried_on=i < len(plan.steps) - 1,
-        )
-
-        args = (chosen, geometry, props, start_C, field_state, step, n_nodes, dt_s)
-        frame, stop_time, ebal, details, fv = _run_step(*args, surface)
-        # h depends on the surface temperature (film properties, free convection, radiation): evaluate it again
-        # at the step's time-averaged surface temperature and run once more when it moved by more than
-        # H_SURFACE_TOLERANCE
-        ts = frame["time_s"].to_numpy()
-        if ts[-1] > ts[0]:
-            ts_avg = float(np.trapezoid(frame["surface_C"].to_numpy(), ts) / (ts[-1] - ts[0]))
-            again = resolve_step_surface(step, i, product, mean_C, library, surface_C=ts_avg)
-            change = float(np.max(np.abs(np.array(again.h_W_m2K) / np.array(surface.h_W_m2K) - 1.0)))
-            details["h_surface_C"] = ts_avg
-            details["h_change_on_second_pass"] = change
-            if change > H_SURFACE_TOLERANCE:
-                surface = again
-                frame, stop_time, ebal, details2, fv = _run_step(*args, surface)
-                details2.update(h_surface_C=ts_avg, h_change_on_second_pass=change)
-                details = details2
-        details["regime"] = regime.regime
-        frame["time_s"] = frame["time_s"] + t_offset
-        if stop_time is not None and step.stop_when_core_C is not None and len(frame):
-            # both solvers stop within 1e-5 K of the stop temperature; record the crossing as the target itself
-            last = frame.index[-1]
-            if abs(frame.at[last, "core_C"] - step.stop_when_core_C) < 1e-4:
-                frame.at[last, "core_C"] = step.stop_when_core_C
-        frame["step"] = step.name
-        frame["step_index"] = i
-        if frames:
-            frame = frame.iloc[1:]  # the first row repeats the previous step's last state
-        frames.append(frame)
-        end_s = float(frame["time_s"].iloc[-1]) if len(frame) else t_offset
-        step_warnings = list(surface.warnings)
-        if step.stop_when_core_C is not None and stop_time is None:
-            step_warnings.append(
-                f"{step.name}: the core did not reach {step.stop_when_core_C:g} °C within {step.duration_s / 60:g} min"
-            )
-        if ebal > 0.005:
-            step_warnings.append(
-                f"{step.name}: energy-balance error {ebal:.2%} exceeds 0.5 %; refine the grid or time step"
-            )
-        steps.append(
-            StepResult(
-                index=i,
-                name=step.name,
-                start_s=t_offset,
-                end_s=end_s,
-                solver=chosen,
-                reason=reason,
-                regime=regime,
-                surface=surface,
-                stopped=stop_time is not None,
-                stop_time_s=None if stop_time is None else t_offset + stop_time,
-                energy_balance_error=float(ebal),
-                details=details,
-                warnings=tuple(step_warnings),
-            )
-        )
-        warnings.extend(step_warnings)
-        last = frame.iloc[-1] if len(frame) else frames[-2].iloc[-1]
-        start_C = float(last["core_C"])
-        mean_C = float(last["mean_C"])
-        if fv is not None:
-            field_state = fv.final_field
-            uniform = False
-        else:
-            field_state = None  # only reached for single-step plans or a forced exact solver
-            uniform = False
-        t_offset = end_s
-    history = pd.concat(frames, ignore_index=True)
-    lo, hi = float(props.temperature_C[0]), float(props.temperature_C[-1])
-    t_min = float(history[["core_C", "surface_C"]].min().min())
-    t_max = float(history[["core_C", "surface_C"]].max().max())
-    if t_max > 100.5:
-        warnings.append(
-            f"product temperatures reach {t_max:.0f} °C: above 100 °C the water in an unsealed product boils and the "
-            "surface dries, which a conduction model does not carry; treat temperatures above 100 °C as indicative only"
-        )
-    if t_min < lo - 0.05 or t_max > hi + 0.05:
-        warnings.append(
-            f"product temperatures reach {t_min:.1f}…{t_max:.1f} °C, outside the property model's {lo:g}…{hi:g} °C: "
-            "properties are extrapolated there"
-        )
-    result = PlanResult(
+    piece_mass_kg = props.mass_density_kg_m3 * plan.product.geometry.volume_m3
+    ctx = _Context(plan, library, props, requested, n_nodes, dt_s)
+    history, steps, warnings = _run_steps(ctx)
+    warnings.extend(_range_warnings(history, props))
+    outcomes = assess_plan(plan, history, tuple(steps), props, piece_mass_kg, library) if assess else None
+    return PlanResult(
         plan=plan,
         history=history,
         steps=tuple(steps),
         properties=props,
         piece_mass_kg=piece_mass_kg,
-        warnings=tuple(warnings),
+        outcomes=outcomes,
+        warnings=tuple(warnings) + (tuple(outcomes.warnings) if outcomes is not None else ()),
     )
-    if assess:
-        from procplan.run.assess import assess_plan
-
-        outcomes = assess_plan(result, library)
-        result = PlanResult(
-            plan=plan,
-            history=history,
-            steps=tuple(steps),
-            properties=props,
-            piece_mass_kg=piece_mass_kg,
-            outcomes=outcomes,
-            warnings=tuple(warnings) + tuple(outcomes.warnings),
-        )
-    return result

@@ -89,6 +89,16 @@ def _apply(plan: Plan, change: Mapping[str, Any], library, where: str) -> Plan:
     if isinstance(i, bool) or not isinstance(i, int) or not 0 <= i < len(plan.steps):
         raise InvalidInputError(f"{where}.step", i, f"a step index 0 … {len(plan.steps) - 1}")
     step = plan.steps[i]
+    sc = {**_surface_changes(step, i, change, library, where), **_timing_changes(change, where)}
+    out = plan.with_step(i, **sc) if sc else plan
+    out = _product_changes(out, change, library, where)
+    out = _check_changes(out, change, where)
+    name = change.get("name") or _describe(change)
+    return replace(out, title=f"{plan.title} [{name}]")
+
+
+def _surface_changes(step, i: int, change: Mapping[str, Any], library, where: str) -> dict[str, Any]:
+    """Step fields for a change of machine, settings, h or medium temperature."""
     sc: dict[str, Any] = {}
     if "equipment" in change:
         eq = change["equipment"]
@@ -125,6 +135,12 @@ def _apply(plan: Plan, change: Mapping[str, Any], library, where: str) -> Plan:
                 "a step with a given h",
                 "set the machine's temperature in 'settings'",
             )
+    return sc
+
+
+def _timing_changes(change: Mapping[str, Any], where: str) -> dict[str, Any]:
+    """Step fields for a change of duration or stop temperature."""
+    sc: dict[str, Any] = {}
     if "duration_min" in change:
         d = validate.number(
             f"{where}.duration_min", change["duration_min"], minimum=0, min_inclusive=False, unit="min"
@@ -135,7 +151,11 @@ def _apply(plan: Plan, change: Mapping[str, Any], library, where: str) -> Plan:
         sc["stop_when_core_C"] = (
             None if v is None else validate.number(f"{where}.stop_when_core_C", v, unit="°C")
         )
-    out = plan.with_step(i, **sc) if sc else plan
+    return sc
+
+
+def _product_changes(out: Plan, change: Mapping[str, Any], library, where: str) -> Plan:
+    """The plan with another product, other dimensions or another start temperature."""
     if "product" in change:
         p = change["product"]
         if isinstance(p, str):
@@ -153,6 +173,11 @@ def _apply(plan: Plan, change: Mapping[str, Any], library, where: str) -> Plan:
         out = replace(
             out, start_temperature_C=validate.number(f"{where}.start_C", change["start_C"], unit="°C")
         )
+    return out
+
+
+def _check_changes(out: Plan, change: Mapping[str, Any], where: str) -> Plan:
+    """The plan with another cooling rule or safety margin."""
     ch = {}
     if "cooling_rule" in change:
         ch["cooling_rule"] = change["cooling_rule"] or None
@@ -160,10 +185,7 @@ def _apply(plan: Plan, change: Mapping[str, Any], library, where: str) -> Plan:
         ch["margin_percent"] = validate.number(
             f"{where}.margin_percent", change["margin_percent"], minimum=0, unit="%"
         )
-    if ch:
-        out = replace(out, checks=replace(out.checks, **ch))
-    name = change.get("name") or _describe(change)
-    return replace(out, title=f"{plan.title} [{name}]")
+    return replace(out, checks=replace(out.checks, **ch)) if ch else out
 
 
 def variants_of(plan: Plan, changes: Sequence[Mapping[str, Any]], *, library=None) -> list[Plan]:

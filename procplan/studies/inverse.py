@@ -388,24 +388,7 @@ def required_setting(
         from procplan.files.library import load_library
 
         library = load_library()
-    default = spec.default_bounds(plan, i, library)
-    if bounds is None:
-        lo, hi = default
-    else:
-        if len(bounds) != 2:
-            raise InvalidInputError("bounds", bounds, "two numbers (low, high)")
-        lo = validate.number("bounds[0]", bounds[0], unit=spec.unit)
-        hi = validate.number("bounds[1]", bounds[1], unit=spec.unit)
-        if parameter in ("medium_C", "speed_m_s") and plan.steps[i].equipment is not None:
-            dlo, dhi = default
-            if lo < dlo or hi > dhi:
-                raise InvalidInputError(
-                    "bounds", (lo, hi), f"within the machine's range [{dlo:g}, {dhi:g}] {spec.unit}"
-                )
-    if not hi > lo:
-        raise InvalidInputError("bounds", (lo, hi), f"low < high [{spec.unit}]")
-    if parameter in ("h_W_m2K", "dimension_mm", "hold_min") and lo <= 0:
-        raise InvalidInputError("bounds[0]", lo, f"> 0 {spec.unit}")
+    lo, hi = _search_bounds(plan, i, parameter, bounds, library)
     n_scan = int(validate.number("n_scan", n_scan, minimum=2, maximum=50))
     tol = (1e-5 * (hi - lo)) if xtol is None else validate.positive("xtol", xtol, spec.unit)
 
@@ -433,6 +416,71 @@ def required_setting(
     xs = np.linspace(lo, hi, n_scan)
     ms = [measure(float(x)) for x in xs]
     current = _current_value(plan, i, parameter, library)
+    value, m_value, passes, achievable, message, notes = _locate(
+        xs, ms, evals, measure, current, tol, parameter, goal
+    )
+    best_value, best_measure = max(evals, key=lambda e: e[1])
+    # The confirming forward run: the whole plan with the answer (or the best value).
+    v_conf = value if value is not None else best_value
+    conf_plan, conf, m_conf, note = _confirm(
+        plan, i, v_conf, parameter, goal, target_min, library, dict(solver=solver, n_nodes=n_nodes, dt_s=dt_s)
+    )
+    notes.extend(note)
+    confirmed = m_conf >= 0
+    if value is not None:
+        m_value = m_conf
+    return RequiredSetting(
+        parameter=parameter,
+        unit=spec.unit,
+        goal=goal,
+        target_min=target_min,
+        step_index=i,
+        bounds=(float(lo), float(hi)),
+        value=value,
+        achievable=achievable,
+        passes=passes,
+        best_value=float(best_value),
+        best_measure=float(best_measure),
+        measure_at_value=m_value,
+        evaluations=tuple(evals),
+        plan=conf_plan,
+        result=conf,
+        confirmed=bool(confirmed),
+        message=message,
+        xtol=float(tol),
+        notes=tuple(notes),
+    )
+
+
+def _search_bounds(plan: Plan, i: int, parameter: str, bounds, library) -> tuple[float, float]:
+    """The search range in the parameter's unit: given (within a machine's range), else the default."""
+    spec = PARAMETERS[parameter]
+    default = spec.default_bounds(plan, i, library)
+    if bounds is None:
+        lo, hi = default
+    else:
+        if len(bounds) != 2:
+            raise InvalidInputError("bounds", bounds, "two numbers (low, high)")
+        lo = validate.number("bounds[0]", bounds[0], unit=spec.unit)
+        hi = validate.number("bounds[1]", bounds[1], unit=spec.unit)
+        if parameter in ("medium_C", "speed_m_s") and plan.steps[i].equipment is not None:
+            dlo, dhi = default
+            if lo < dlo or hi > dhi:
+                raise InvalidInputError(
+                    "bounds", (lo, hi), f"within the machine's range [{dlo:g}, {dhi:g}] {spec.unit}"
+                )
+    if not hi > lo:
+        raise InvalidInputError("bounds", (lo, hi), f"low < high [{spec.unit}]")
+    if parameter in ("h_W_m2K", "dimension_mm", "hold_min") and lo <= 0:
+        raise InvalidInputError("bounds[0]", lo, f"> 0 {spec.unit}")
+    return lo, hi
+
+
+def _locate(xs, ms, evals, measure, current, tol: float, parameter: str, goal: str):
+    """The value where the goal changes verdict (by Brent's method in the scanned bracket nearest the current
+    value), or the least demanding value when met everywhere, or None when met nowhere; with the message."""
+    spec, gspec = PARAMETERS[parameter], GOALS[goal]
+    lo, hi, n_scan = float(xs[0]), float(xs[-1]), len(xs)
     brackets = [(j, j + 1) for j in range(n_scan - 1) if (ms[j] >= 0) != (ms[j + 1] >= 0)]
     notes: list[str] = []
     if brackets:
@@ -466,41 +514,24 @@ def required_setting(
             f"not achievable in this range: no {parameter} in [{lo:g}, {hi:g}] {spec.unit} meets the goal ({goal}); "
             f"best {xs[j]:.6g} {spec.unit} with measure {ms[j]:.4g} {gspec.unit}"
         )
-    best_value, best_measure = max(evals, key=lambda e: e[1])
-    # The confirming forward run: the whole plan with the answer (or the best value).
-    v_conf = value if value is not None else best_value
+    return value, m_value, passes, achievable, message, notes
+
+
+def _confirm(plan: Plan, i: int, v_conf: float, parameter: str, goal: str, target_min, library, run_opts):
+    """The confirming forward run of the whole plan with ``v_conf``: its plan, result, measure and notes."""
+    from procplan.run.engine import run_plan
+
+    spec, gspec = PARAMETERS[parameter], GOALS[goal]
+    notes = []
     conf_plan = spec.apply(plan, i, v_conf, library)
     if goal == "time" and conf_plan.steps[i].duration_s < 60.0 * target_min and parameter != "hold_min":
         conf_plan = conf_plan.with_step(i, duration_s=60.0 * target_min)
         notes.append(
             f"step {i} lengthened to the allowed {target_min:g} min so that the run shows the target"
         )
-    conf = run_plan(conf_plan, library=library, solver=solver, n_nodes=n_nodes, dt_s=dt_s)
+    conf = run_plan(conf_plan, library=library, **run_opts)
     m_conf = float(gspec.measure(conf, conf_plan, i, target_min))
-    confirmed = m_conf >= 0
-    if value is not None:
-        m_value = m_conf
-    return RequiredSetting(
-        parameter=parameter,
-        unit=spec.unit,
-        goal=goal,
-        target_min=target_min,
-        step_index=i,
-        bounds=(float(lo), float(hi)),
-        value=value,
-        achievable=achievable,
-        passes=passes,
-        best_value=float(best_value),
-        best_measure=float(best_measure),
-        measure_at_value=m_value,
-        evaluations=tuple(evals),
-        plan=conf_plan,
-        result=conf,
-        confirmed=bool(confirmed),
-        message=message,
-        xtol=float(tol),
-        notes=tuple(notes),
-    )
+    return conf_plan, conf, m_conf, notes
 
 
 def _current_value(plan: Plan, i: int, parameter: str, library) -> float | None:

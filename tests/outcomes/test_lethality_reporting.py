@@ -8,7 +8,7 @@ from numpy.testing import assert_allclose
 
 from procplan.caution import INDICATIVE
 from procplan.files.library import load_library
-from procplan.files.plan import LethalityCheck
+from procplan.model import LethalityCheck
 from procplan.outcomes import LETHALITY_PRESETS, check_rule
 from procplan.output.report import _plain, format_log_reduction, log_reduction_text
 from procplan.run.assess import _lethality

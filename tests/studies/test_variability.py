@@ -12,7 +12,7 @@ from scipy import stats
 from scipy.optimize import brentq
 
 from procplan.conduction import series
-from procplan.conduction.product import exact_history
+from procplan.conduction.product import eigen_vectorised, exact_history
 from procplan.errors import InvalidInputError
 from procplan.geometry import Geometry
 from procplan.studies.variability import (
@@ -20,7 +20,6 @@ from procplan.studies.variability import (
     VARIABLES,
     bench_variability,
     distribution,
-    eigen_vectorised,
     monte_carlo,
     parse_distribution,
 )
