@@ -86,6 +86,24 @@ def test_bad_arguments_exit_2_naming_the_argument(argv, capsys):
     assert err.startswith("procplan: invalid input:") and "=" in err
 
 
+@pytest.mark.parametrize(
+    ("argv", "option"),
+    [
+        (["sweep", "--every", "0"], "--every"),
+        (["sweep", "--n-nodes", "0"], "--n-nodes"),
+        (["variability", PLAN, "--samples", "0"], "--samples"),
+        (["variability", PLAN, "--workers", "-1"], "--workers"),
+        (["required", PLAN, "--parameter", "medium_C", "--goal", "time", "--xtol", "-1"], "--xtol"),
+        (["required", PLAN, "--parameter", "medium_C", "--goal", "time", "--bounds", "nan", "1"], "--bounds"),
+        (["calibrate", "log.csv", "--preview", "--rows", "0"], "--rows"),
+        (["calibrate", "log.csv", "--preview", "--jump-K", "nan"], "--jump-K"),
+    ],
+)
+def test_bad_numeric_options_are_named_before_any_work(argv, option, capsys):
+    assert main(argv) == EXIT_INVALID
+    assert capsys.readouterr().err.startswith(f"procplan: invalid input: {option} = ")
+
+
 def test_an_internal_error_exits_3_with_one_line_asking_for_a_report(monkeypatch, capsys):
     cli_main = importlib.import_module("procplan.cli.main")
 

@@ -23,6 +23,25 @@ EXIT_OK, EXIT_CHECK_FAILED, EXIT_INVALID, EXIT_INTERNAL = 0, 1, 2, 3
 STDOUT = "-"
 
 
+def check_options(args, **bounds: dict[str, Any]) -> None:
+    """Each numeric option that is given must be a finite number inside its bounds (keyword arguments of
+    :func:`procplan.validate.number`); the problem names the option as typed (``--samples``), before any work.
+
+    >>> import argparse
+    >>> check_options(argparse.Namespace(samples=0), samples={"minimum": 1})
+    Traceback (most recent call last):
+    ...
+    procplan.errors.InvalidInputError: --samples = 0: allowed >= 1
+    """
+    from procplan import validate
+
+    for attr, kw in bounds.items():
+        value = getattr(args, attr, None)
+        for v in value if isinstance(value, list | tuple) else [value]:
+            if v is not None:
+                validate.number("--" + attr.replace("_", "-"), v, **kw)
+
+
 def library_path(args) -> str | None:
     """The library folder: ``--library``, else the ``PROCPLAN_LIBRARY`` environment variable, else None (the
     demo library)."""

@@ -15,6 +15,7 @@ from procplan.caution import CAUTION
 from procplan.cli.common import (
     EXIT_CHECK_FAILED,
     EXIT_OK,
+    check_options,
     info_stream,
     load_library_of,
     load_plan_of,
@@ -23,6 +24,7 @@ from procplan.cli.common import (
     write_output,
 )
 from procplan.errors import InvalidInputError
+from procplan.files.fields import T_HI, T_LO
 
 
 def _dump(obj) -> None:
@@ -101,6 +103,10 @@ def _written(args, what: str, out) -> None:
     print("\n" + CAUTION, file=out)
 
 
+#: Worker processes a study may start.
+_WORKERS = {"minimum": 1, "maximum": 256}
+
+
 # --- compare ---------------------------------------------------------------------------------------------
 def cmd_compare(args) -> int:
     from procplan.studies.compare import compare_plans, variants_of
@@ -152,6 +158,13 @@ def cmd_compare(args) -> int:
 def cmd_required(args) -> int:
     from procplan.studies.inverse import required_setting
 
+    check_options(
+        args,
+        step={"minimum": 0},
+        target_min={"minimum": 0.0, "min_inclusive": False, "unit": "min"},
+        xtol={"minimum": 0.0, "min_inclusive": False},
+        bounds={},
+    )
     lib = load_library_of(args)
     plan = load_plan_of(args.plan, lib)
 
@@ -187,6 +200,7 @@ def cmd_required(args) -> int:
 def cmd_variability(args) -> int:
     from procplan.studies.variability import monte_carlo, parse_distribution
 
+    check_options(args, samples={"minimum": 1, "maximum": 1e6}, workers=_WORKERS)
     lib = load_library_of(args)
     csv = _csv_target(args, [args.plan])
     plan = load_plan_of(args.plan, lib)
@@ -338,6 +352,13 @@ def cmd_calibrate(args) -> int:
     from procplan.studies.calibrate import calibrate, fitted_h_record
     from procplan.studies.logger import clean_logger, read_logger
 
+    check_options(
+        args,
+        rows={"minimum": 1, "maximum": 10_000},
+        jump_K={"minimum": 0.0, "min_inclusive": False, "unit": "K"},
+        time_offset_s={"unit": "s"},
+        start_C={"minimum": T_LO, "maximum": T_HI, "unit": "°C"},
+    )
     if args.preview:
         return _calibrate_preview(args)
     if not args.plan:
@@ -396,6 +417,7 @@ def _names(text: str | None):
 def cmd_sweep(args) -> int:
     from procplan.studies.sweep import sweep_catalogue
 
+    check_options(args, workers=_WORKERS, n_nodes={"minimum": 3, "maximum": 2000}, every={"minimum": 1})
     lib = load_library_of(args)
     csv = _csv_target(args, [])
     ex = _executor(args.workers)
