@@ -85,12 +85,20 @@ def _geometry(c: Collector, data: Mapping[str, Any], prefix: str, base: Product 
     faces = data.get("faces", geometry.faces if geometry else 2)
     with c.catch():
         geometry = geometry_from_mm(shape, faces=faces, **dims)
-        _check_proportions(geometry, prefix)
+        check_proportions(geometry, prefix)
     return geometry
 
 
-def _check_proportions(g: Geometry, prefix: str) -> None:
-    """Refuse pieces smaller than ``MIN_PIECE_MM`` or more elongated than ``MAX_ASPECT_RATIO``."""
+def check_proportions(g: Geometry, prefix: str = "product.") -> None:
+    """Refuse pieces smaller than ``MIN_PIECE_MM`` or more elongated than ``MAX_ASPECT_RATIO``, naming the
+    dimension ``prefix + KEY_mm``; for every path that makes a product (files, forms, variants, samples).
+
+    >>> from procplan.geometry import Geometry
+    >>> check_proportions(Geometry("sphere", diameter_m=0.0005))
+    Traceback (most recent call last):
+    ...
+    procplan.errors.InvalidInputError: product.diameter_mm = 0.5: allowed >= 1 mm (a smaller piece is a droplet or powder grain, outside the conduction model)
+    """
     sizes = {k: getattr(g, k[:-3] + "_m") * 1000.0 for k in _CONDUCTING_KEYS[g.shape]}
     for key, mm in sizes.items():
         if mm < MIN_PIECE_MM:

@@ -111,3 +111,16 @@ def test_a_deeply_nested_library_file_is_listed_and_the_rest_loads(tmp_path):
     assert "nested too deeply" in lib.problems[0].reason
     assert set(lib.equipment) == set(LIB.equipment)
     assert set(lib.plans) == set(LIB.plans)
+
+
+def test_a_measured_freezing_point_leaves_room_for_the_latent_band():
+    # the latent heat is spread over a band below freezing_C that must lie inside the property model's range
+    from procplan.files.fields import T_LO
+
+    fixed = {"k_W_mK": 0.5, "rho_kg_m3": 1000, "cp_J_kgK": 3500, "latent_J_kg": 2e5, "freezing_C": T_LO}
+    d = {k: v for k, v in PRODUCT.items() if k != "composition"} | {"fixed_properties": fixed}
+    with pytest.raises(InvalidInputError) as info:
+        product_from_dict(d, "p.toml", prefix="")  # refused when the file is read, not when the plan runs
+    assert info.value.field == "fixed_properties.freezing_C"
+    fixed["freezing_C"] = -2.0
+    product_from_dict(d, "p.toml", prefix="").property_table()
