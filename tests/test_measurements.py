@@ -7,7 +7,6 @@ import shutil
 import numpy as np
 import pytest
 
-from procplan.errors import InvalidInputError
 from procplan.files.library import DEMO_LIBRARY, load_library, save_measurement
 from procplan.files.plan import plan_from_dict
 from procplan.run.engine import run_plan
@@ -63,10 +62,13 @@ def test_fitted_h_is_saved_and_then_used_by_the_machine_at_those_settings(tmp_pa
     )
     path = save_measurement(root, rec)
     assert path.name == "vaccine-vial-10ml--pharma-cr1--2026-11-30.toml"
-    with pytest.raises(InvalidInputError):
-        save_measurement(root, rec)  # never replaces a saved record
+    first = path.read_text()
+    # a second trial of the same day gets its own file and never replaces the saved record
+    again = save_measurement(root, rec)
+    assert again.name == "vaccine-vial-10ml--pharma-cr1--2026-11-30-2.toml"
+    assert path.read_text() == first
     lib2 = load_library(root)
-    assert lib2.problems == [] and len(lib2.measurements) == 1
+    assert lib2.problems == [] and len(lib2.measurements) == 2
     res = run_plan(_plan(lib2, settings), library=lib2)
     assert res.steps[0].surface.h_W_m2K[0] == pytest.approx(cal.h_W_m2K)
     assert "measured h" in res.steps[0].surface.breakdown.source

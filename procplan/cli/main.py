@@ -1,7 +1,12 @@
 """The ``procplan`` command line.
 
 Exit codes: 0 success; 1 a check failed (a rule, a lethality target or an unmet stop condition, when
-``--strict`` is given); 2 invalid input (bad arguments, plan or library file), with the field named.
+``--strict`` is given); 2 invalid input (bad arguments, plan or library file), with the field named; 3 an
+internal error, with a one-line request to report it.
+
+Building the parser imports neither pandas nor scipy: the study sub-commands are described in full only when
+the command line names them, and every command imports its models inside its function, so ``procplan
+--help``, ``procplan site`` and ``procplan library list`` start quickly.
 """
 
 from __future__ import annotations
@@ -11,20 +16,26 @@ import importlib
 import importlib.util
 import sys
 
+from procplan._version import __version__
 from procplan.caution import CAUTION
 from procplan.cli.common import (
     EXIT_CHECK_FAILED,
+    EXIT_INTERNAL,
     EXIT_INVALID,
     EXIT_OK,
+    STDOUT,
+    info_stream,
     load_library_of,
     load_plan_of,
+    output_target,
     write_json,
+    write_output,
 )
 from procplan.errors import InvalidInputError
 from procplan.model import SOLVERS
 
 #: Modules that add their own sub-commands through ``register(subparsers)``.
-EXTENSION_MODULES = ("procplan.cli.studies", "procplan.cli.sheet")
+EXTENSION_MODULES = ("procplan.cli.study_args", "procplan.cli.sheet")
 
 
 def _failed(result) -> bool:
@@ -42,18 +53,32 @@ def cmd_run(args) -> int:
     from procplan.output.report import history_dict, summary_dict, summary_text
     from procplan.run.engine import run_plan
 
+    if args.json and args.csv == STDOUT:
+        raise InvalidInputError("--csv", STDOUT, "a file name when --json prints to standard output")
     lib = load_library_of(args)
+    plan_path = _plan_file(args.plan, lib)
+    csv = output_target("--csv", args.csv, force=args.force, inputs=[plan_path]) if args.csv else None
     plan = load_plan_of(args.plan, lib)
     result = run_plan(plan, library=lib, solver=args.solver)
-    if args.csv:
-        result.history.to_csv(args.csv, index=False)
+    where = write_output(csv, result.history.to_csv(index=False), force=args.force) if args.csv else None
     if args.json:
         write_json({"history": history_dict(result), "summary": summary_dict(result)})
     else:
-        print(summary_text(result))
-        if args.csv:
-            print(f"history written to {args.csv}")
+        out = info_stream(args.csv)
+        print(summary_text(result), file=out)
+        if where is not None and csv is not None:
+            print(f"history written to {where}", file=out)
     return EXIT_CHECK_FAILED if (args.strict and _failed(result)) else EXIT_OK
+
+
+def _plan_file(name: str, lib):
+    """The file a plan argument reads (a path, or a library plan's file)."""
+    from pathlib import Path
+
+    p = Path(name)
+    if not p.exists() and lib is not None and name in lib.plans:
+        return lib.plans[name]
+    return p
 
 
 def cmd_library(args) -> int:
@@ -77,11 +102,19 @@ def cmd_library(args) -> int:
     return EXIT_OK
 
 
-def build_parser() -> argparse.ArgumentParser:
+def build_parser(full: frozenset[str] | set[str] = frozenset()) -> argparse.ArgumentParser:
+    """The ``procplan`` argument parser. Study sub-commands named in ``full`` get their complete options; the
+    others are listed by name and help only, since describing their options imports the study models."""
     ap = argparse.ArgumentParser(
         prog="procplan", description="Thermal-process planning for food and pharma plants. " + CAUTION
     )
-    ap.add_argument("--library", default=None, help="library folder (default: the demo library)")
+    ap.add_argument(
+        "--library",
+        default=None,
+        help="library folder (default: the folder in the PROCPLAN_LIBRARY environment variable, else the demo "
+        "library); its site.toml gives the site settings",
+    )
+    ap.add_argument("--version", action="version", version=f"procplan {__version__}")
     sub = ap.add_subparsers(dest="command", required=True)
 
     r = sub.add_parser(
@@ -91,7 +124,8 @@ def build_parser() -> argparse.ArgumentParser:
     )
     r.add_argument("plan", help="plan file (TOML), or the name of a library plan")
     r.add_argument("--json", action="store_true", help="print history and summary as JSON")
-    r.add_argument("--csv", metavar="FILE", help="write the history as CSV")
+    r.add_argument("--csv", metavar="FILE", help="write the history as CSV (- for standard output)")
+    r.add_argument("--force", action="store_true", help="replace an existing --csv file")
     r.add_argument(
         "--solver",
         choices=list(SOLVERS),
@@ -112,12 +146,13 @@ def build_parser() -> argparse.ArgumentParser:
     lb.set_defaults(func=cmd_library)
     for module in EXTENSION_MODULES:
         if importlib.util.find_spec(module) is not None:
-            importlib.import_module(module).register(sub)
+            importlib.import_module(module).register(sub, full=frozenset(full))
     return ap
 
 
 def main(argv: list[str] | None = None) -> int:
-    parser = build_parser()
+    argv = list(sys.argv[1:] if argv is None else argv)
+    parser = build_parser(full=set(argv))
     args = parser.parse_args(argv)
     try:
         return args.func(args)
@@ -126,6 +161,14 @@ def main(argv: list[str] | None = None) -> int:
         return EXIT_INVALID
     except BrokenPipeError:
         return EXIT_OK
+    except Exception as exc:  # a fault of procplan, not of the input: say so in one line
+        text = " ".join(str(exc).split())[:200]
+        print(
+            f"procplan: internal error ({type(exc).__name__}: {text}); please report it with the command line "
+            f"and the input files (procplan {__version__})",
+            file=sys.stderr,
+        )
+        return EXIT_INTERNAL
 
 
 if __name__ == "__main__":

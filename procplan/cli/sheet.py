@@ -3,7 +3,7 @@
 - ``procplan sheet PLAN.toml -o sheet.pdf [--paper a4|letter] [--lot ID] [--revision R] [--site FILE]``
 - ``procplan new product NAME --template LIBRARY_PRODUCT`` and
   ``procplan new plan NAME --product P --template PLAN``: a new TOML file from a template, written
-  atomically, never over an existing file
+  atomically, over an existing file only with ``--force``
 - ``procplan site [--site FILE]``: the site settings
 
 Bad arguments raise :class:`procplan.errors.InvalidInputError` naming the option, so ``procplan`` prints
@@ -13,11 +13,18 @@ the problem and exits with code 2.
 from __future__ import annotations
 
 import dataclasses
-import os
 from pathlib import Path
 
 from procplan.caution import CAUTION_SHORT
-from procplan.cli.common import EXIT_OK, load_library_of, load_plan_of, load_site_of
+from procplan.cli.common import (
+    EXIT_OK,
+    info_stream,
+    load_library_of,
+    load_plan_of,
+    load_site_of,
+    output_target,
+    write_output,
+)
 from procplan.errors import InvalidInputError
 
 
@@ -28,35 +35,6 @@ def _text_option(field: str, value: str | None, max_len: int, *, required: bool 
             field, value, f"{'non-empty ' if required else ''}text of at most {max_len} printable characters"
         )
     return v
-
-
-def _output_path(field: str, value: str, suffix: str, force: bool, *, can_force: bool = True) -> Path:
-    p = Path(value)
-    if p.suffix.lower() != suffix:
-        raise InvalidInputError(field, value, f"a file name ending in {suffix}")
-    if not p.parent.exists() or not p.parent.is_dir():
-        raise InvalidInputError(field, value, "a file in an existing folder", f"no folder {p.parent}")
-    if p.exists() and not force:
-        allowed = (
-            "a new file name, or --force to replace it" if can_force else "a file that does not exist yet"
-        )
-        raise InvalidInputError(field, value, allowed, "the file exists; refusing to overwrite")
-    return p
-
-
-def _write_bytes_atomic(path: Path, data: bytes) -> None:
-    import tempfile
-
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(data)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, path)
-    finally:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
 
 
 def cmd_sheet(args) -> int:
@@ -72,7 +50,9 @@ def cmd_sheet(args) -> int:
     lot = _text_option("--lot", args.lot, 40)
     revision = _text_option("--revision", args.revision, 12, required=True)
     prepared = _text_option("--prepared-by", args.prepared_by, 60)
-    out = _output_path("--output", args.output, ".pdf", args.force)
+    out = output_target(
+        "--output", args.output, force=args.force, inputs=[args.plan, args.site], suffix=".pdf"
+    )
     plan = load_plan_of(args.plan, lib)
     result = run_plan(plan, library=lib)
     try:
@@ -89,58 +69,68 @@ def cmd_sheet(args) -> int:
         if exc.field == "date":
             raise InvalidInputError("--date", args.date, exc.allowed) from None
         raise
-    _write_bytes_atomic(out, pdf)
+    where = write_output(out, pdf, force=args.force)
     from procplan.output.sheet_data import document_number, plan_hash
 
+    info = info_stream(args.output)
     print(
         f"batch-plan sheet {document_number(site.document_prefix, plan_hash(plan))} rev {revision} "
-        f"written to {out} ({paper})"
+        f"written to {where} ({paper})",
+        file=info,
     )
-    print(CAUTION_SHORT)
+    print(CAUTION_SHORT, file=info)
     return EXIT_OK
 
 
-def _destination(args, lib, kind: str) -> Path:
+def _destination(args, lib, kind: str, inputs=()) -> Path | None:
+    """Where ``procplan new`` writes: ``--output`` (None for ``-``, standard output), else the library's
+    ``KIND/NAME.toml``; an existing file only with ``--force``, an input never."""
     from procplan.files.tomlfile import check_name
 
     check_name("NAME", args.name)
     if args.output:
-        return _output_path("--output", args.output, ".toml", force=False, can_force=False)
-    return Path(lib.root) / kind / f"{args.name}.toml"
+        return output_target("--output", args.output, force=args.force, inputs=inputs, suffix=".toml")
+    dest = Path(lib.root) / kind / f"{args.name}.toml"
+    if dest.exists() and not args.force:
+        raise InvalidInputError(
+            "NAME",
+            args.name,
+            f"a name not used in {dest.parent}, or --force to replace it",
+            "refusing to overwrite",
+        )
+    return dest
 
 
-def _refuse_existing(field: str, path: Path) -> None:
-    if path.exists():
-        raise InvalidInputError(field, str(path), "a file that does not exist yet", "refusing to overwrite")
+def _written_to(dest: Path | None) -> str:
+    return "standard output" if dest is None else str(dest)
 
 
 def cmd_new_product(args) -> int:
     from procplan.files.product import product_from_dict, product_to_dict
-    from procplan.files.tomlfile import dump_toml, write_atomic
+    from procplan.files.tomlfile import dump_toml
 
     lib = load_library_of(args)
     if args.template not in lib.products:
         raise InvalidInputError("--template", args.template, "one of " + ", ".join(sorted(lib.products)))
     dest = _destination(args, lib, "products")
-    _refuse_existing("NAME" if not args.output else "--output", dest)
-    if args.name in lib.products and not args.output:
-        raise InvalidInputError("NAME", args.name, "a name not used by another product")
     tpl = lib.products[args.template]
     desc = f"from template {args.template}" + (f": {tpl.description}" if tpl.description else "")
     product = dataclasses.replace(tpl, name=args.name, description=desc, library=None)
     data = product_to_dict(product)
     data.pop("library", None)
-    product_from_dict(data, str(dest), prefix="")  # what is written must load again
-    write_atomic(dest, dump_toml(data), overwrite=False)
+    product_from_dict(data, _written_to(dest), prefix="")  # what is written must load again
+    write_output(dest, dump_toml(data), force=args.force)
     print(
-        f"product {args.name} written to {dest} (from template {args.template}); edit it, then `procplan library check`"
+        f"product {args.name} written to {_written_to(dest)} (from template {args.template}); edit it, then "
+        "`procplan library check`",
+        file=info_stream(args.output),
     )
     return EXIT_OK
 
 
 def cmd_new_plan(args) -> int:
     from procplan.files.plan import plan_from_dict
-    from procplan.files.tomlfile import dump_toml, read_toml, write_atomic
+    from procplan.files.tomlfile import dump_toml, read_toml
 
     lib = load_library_of(args)
     if args.product not in lib.products:
@@ -152,8 +142,7 @@ def cmd_new_plan(args) -> int:
                 "--template", args.template, "a plan file or one of " + ", ".join(sorted(lib.plans))
             )
         tpl_path = lib.plans[args.template]
-    dest = _destination(args, lib, "plans")
-    _refuse_existing("NAME" if not args.output else "--output", dest)
+    dest = _destination(args, lib, "plans", inputs=[tpl_path, args.site])
     data = read_toml(tpl_path)
     site = load_site_of(args, lib)
     template_name = tpl_path.stem
@@ -172,10 +161,13 @@ def cmd_new_plan(args) -> int:
             checks[key] = int(value) if float(value).is_integer() else value
             from_site.append(key)
     data["checks"] = checks
-    plan_from_dict(data, source=str(dest), library=lib)  # what is written must load again
-    write_atomic(dest, dump_toml(data), overwrite=False)
+    plan_from_dict(data, source=_written_to(dest), library=lib)  # what is written must load again
+    write_output(dest, dump_toml(data), force=args.force)
     extra = f"; {' and '.join(from_site)} from the site settings" if from_site else ""
-    print(f"plan {args.name} written to {dest} (template {template_name}, product {args.product}{extra})")
+    print(
+        f"plan {args.name} written to {_written_to(dest)} (template {template_name}, product {args.product}{extra})",
+        file=info_stream(args.output),
+    )
     return EXIT_OK
 
 
@@ -187,7 +179,7 @@ def cmd_site(args) -> int:
     return EXIT_OK
 
 
-def register(subparsers) -> None:
+def register(subparsers, full: frozenset[str] = frozenset()) -> None:
     """Add ``sheet``, ``new`` and ``site`` to the ``procplan`` command."""
     s = subparsers.add_parser(
         "sheet",
@@ -196,7 +188,9 @@ def register(subparsers) -> None:
         "times, chart, checkpoints, rule compliance, lethality, freezing, energy, provenance, signatures.",
     )
     s.add_argument("plan", help="plan file (TOML), or the name of a library plan")
-    s.add_argument("-o", "--output", required=True, metavar="FILE", help="PDF file to write")
+    s.add_argument(
+        "-o", "--output", required=True, metavar="FILE", help="PDF file to write (- for standard output)"
+    )
     s.add_argument("--paper", default=None, help="a4 or letter (default: the site's)")
     s.add_argument("--lot", default="", metavar="ID", help="lot id printed in the header")
     s.add_argument("--revision", default="A", metavar="R", help="document revision (default A)")
@@ -210,7 +204,7 @@ def register(subparsers) -> None:
         "new",
         help="make a new product or plan file from a template",
         description="Write a new product or plan TOML file from a template, atomically; an existing file is "
-        "never replaced.",
+        "replaced only with --force.",
     )
     nsub = n.add_subparsers(dest="kind", required=True)
     np_ = nsub.add_parser(
@@ -220,7 +214,10 @@ def register(subparsers) -> None:
     )
     np_.add_argument("name", metavar="NAME", help="new product name (a-z 0-9 . _ -)")
     np_.add_argument("--template", required=True, metavar="LIBRARY_PRODUCT", help="library product to copy")
-    np_.add_argument("-o", "--output", default=None, metavar="FILE", help="write here instead of the library")
+    np_.add_argument(
+        "-o", "--output", default=None, metavar="FILE", help="write here instead of the library (- prints it)"
+    )
+    np_.add_argument("--force", action="store_true", help="replace an existing file")
     np_.set_defaults(func=cmd_new_product)
     nl = nsub.add_parser(
         "plan",
@@ -232,7 +229,10 @@ def register(subparsers) -> None:
     nl.add_argument("--product", required=True, metavar="P", help="library product of the new plan")
     nl.add_argument("--template", required=True, metavar="PLAN", help="library plan name or plan file")
     nl.add_argument("--title", default=None, help="title of the new plan")
-    nl.add_argument("-o", "--output", default=None, metavar="FILE", help="write here instead of the library")
+    nl.add_argument(
+        "-o", "--output", default=None, metavar="FILE", help="write here instead of the library (- prints it)"
+    )
+    nl.add_argument("--force", action="store_true", help="replace an existing file")
     nl.add_argument("--site", default=None, metavar="FILE", help="site settings (default: the demo plant's)")
     nl.set_defaults(func=cmd_new_plan)
 

@@ -1,18 +1,30 @@
 """Sub-commands of ``procplan`` for the planning studies: compare, required, variability, calibrate, sweep.
 
-``procplan.cli`` imports this module and calls :func:`register`; each command returns an exit code and
+Their parsers are in :mod:`procplan.cli.study_args`; each command returns an exit code and
 raises InvalidInputError for bad input (printed by ``procplan.cli.main``, exit 2).
 """
 
 from __future__ import annotations
 
+import contextlib
 import math
 import sys
 from typing import Any
 
 from procplan.caution import CAUTION
-from procplan.cli.common import EXIT_CHECK_FAILED, EXIT_OK, load_library_of, load_plan_of, write_json
+from procplan.cli.common import (
+    EXIT_CHECK_FAILED,
+    EXIT_OK,
+    check_options,
+    info_stream,
+    load_library_of,
+    load_plan_of,
+    output_target,
+    write_json,
+    write_output,
+)
 from procplan.errors import InvalidInputError
+from procplan.files.fields import T_HI, T_LO
 
 
 def _dump(obj) -> None:
@@ -75,11 +87,32 @@ def _executor(workers: int | None):
     return ProcessPoolExecutor(max_workers=workers)
 
 
+def _csv_target(args, inputs):
+    """The ``--csv`` file, checked before the work starts (None when not given or ``-``)."""
+    if not args.csv:
+        return None
+    if getattr(args, "json", False) and args.csv == "-":
+        raise InvalidInputError("--csv", "-", "a file name when --json prints to standard output")
+    return output_target("--csv", args.csv, force=args.force, inputs=inputs)
+
+
+def _written(args, what: str, out) -> None:
+    """The closing lines: where the CSV went and the caution."""
+    if args.csv and args.csv != "-":
+        print(f"{what} written to {args.csv}", file=out)
+    print("\n" + CAUTION, file=out)
+
+
+#: Worker processes a study may start.
+_WORKERS = {"minimum": 1, "maximum": 256}
+
+
 # --- compare ---------------------------------------------------------------------------------------------
 def cmd_compare(args) -> int:
     from procplan.studies.compare import compare_plans, variants_of
 
     lib = load_library_of(args)
+    csv = _csv_target(args, args.plans)
     plans = [load_plan_of(p, lib) for p in args.plans]
     if args.vary:
         plans += variants_of(plans[0], [parse_variant(v) for v in args.vary], library=lib)
@@ -88,7 +121,7 @@ def cmd_compare(args) -> int:
     )
     tab = cmp_.table
     if args.csv:
-        tab.to_csv(args.csv)
+        write_output(csv, tab.to_csv(), force=args.force)
     if args.json:
         _dump(
             {
@@ -99,7 +132,8 @@ def cmd_compare(args) -> int:
             }
         )
         return EXIT_OK
-    print(f"{len(tab)} scenarios ranked by {cmp_.criterion}:")
+    out = info_stream(args.csv)
+    print(f"{len(tab)} scenarios ranked by {cmp_.criterion}:", file=out)
     for name in cmp_.ranking:
         r = tab.loc[name]
         rule = "" if r["rule_passed"] is None else (" rule PASS" if r["rule_passed"] else " rule FAIL")
@@ -113,11 +147,10 @@ def cmd_compare(args) -> int:
             f"  {int(r['rank'])}. {name}\n"
             f"     to {r['target_C']:g} °C: {_fmt(r['time_to_target_min'])}, plan {_fmt(r['plan_time_min'])}"
             f"{';' if rule or leth else ''}{rule}{leth}\n"
-            f"     energy: {r['energy_removed_kWh']:.2f} kWh removed, {r['energy_added_kWh']:.2f} kWh added, peak {r['peak_duty_kW']:.1f} kW, electricity {r['electricity_kWh']:.2f} kWh"
+            f"     energy: {r['energy_removed_kWh']:.2f} kWh removed, {r['energy_added_kWh']:.2f} kWh added, peak {r['peak_duty_kW']:.1f} kW, electricity {r['electricity_kWh']:.2f} kWh",
+            file=out,
         )
-    if args.csv:
-        print(f"table written to {args.csv}")
-    print("\n" + CAUTION)
+    _written(args, "table", out)
     return EXIT_OK
 
 
@@ -125,6 +158,13 @@ def cmd_compare(args) -> int:
 def cmd_required(args) -> int:
     from procplan.studies.inverse import required_setting
 
+    check_options(
+        args,
+        step={"minimum": 0},
+        target_min={"minimum": 0.0, "min_inclusive": False, "unit": "min"},
+        xtol={"minimum": 0.0, "min_inclusive": False},
+        bounds={},
+    )
     lib = load_library_of(args)
     plan = load_plan_of(args.plan, lib)
 
@@ -160,7 +200,9 @@ def cmd_required(args) -> int:
 def cmd_variability(args) -> int:
     from procplan.studies.variability import monte_carlo, parse_distribution
 
+    check_options(args, samples={"minimum": 1, "maximum": 1e6}, workers=_WORKERS)
     lib = load_library_of(args)
+    csv = _csv_target(args, [args.plan])
     plan = load_plan_of(args.plan, lib)
     dists = {}
     for spec in args.vary or []:
@@ -185,10 +227,18 @@ def cmd_variability(args) -> int:
         if ex is not None:
             ex.shutdown()
     if args.csv:
-        res.samples.to_csv(args.csv, index=False)
+        write_output(csv, res.samples.to_csv(index=False), force=args.force)
     if args.json:
         _dump({**res.to_dict(), "caution": CAUTION})
         return EXIT_OK
+    with contextlib.redirect_stdout(info_stream(args.csv)):
+        _print_variability(res)
+        _written(args, "samples", sys.stdout)
+    return EXIT_OK
+
+
+def _print_variability(res) -> None:
+    """The Monte Carlo summary as readable lines."""
     print(f"{res.n_samples} samples (seed {res.seed}, {res.method} path, {res.seconds:.2f} s)")
     for key, label, unit in (
         ("time_to_target_min", "time to target", " min"),
@@ -211,10 +261,6 @@ def cmd_variability(args) -> int:
         print(f"  worst corner ({inputs}): time to target {_fmt(w['metrics'].get('time_to_target_min'))}")
     for n in res.notes:
         print(f"  note: {n}")
-    if args.csv:
-        print(f"samples written to {args.csv}")
-    print("\n" + CAUTION)
-    return EXIT_OK
 
 
 # --- calibrate ----------------------------------------------------------------------------------------------
@@ -306,11 +352,19 @@ def cmd_calibrate(args) -> int:
     from procplan.studies.calibrate import calibrate, fitted_h_record
     from procplan.studies.logger import clean_logger, read_logger
 
+    check_options(
+        args,
+        rows={"minimum": 1, "maximum": 10_000},
+        jump_K={"minimum": 0.0, "min_inclusive": False, "unit": "K"},
+        time_offset_s={"unit": "s"},
+        start_C={"minimum": T_LO, "maximum": T_HI, "unit": "°C"},
+    )
     if args.preview:
         return _calibrate_preview(args)
     if not args.plan:
         raise InvalidInputError("--plan", None, "a plan file for the recorded process (or --preview)")
     lib = load_library_of(args)
+    csv = _csv_target(args, [args.plan, args.logfile])
     plan = load_plan_of(args.plan, lib)
     log = clean_logger(read_logger(args.logfile, **_logger_options(args)), jump_K=args.jump_K)
     cal = calibrate(
@@ -323,7 +377,7 @@ def cmd_calibrate(args) -> int:
         time_offset_s=args.time_offset_s,
     )
     if args.csv:
-        cal.residuals.to_csv(args.csv, index=False)
+        write_output(csv, cal.residuals.to_csv(index=False), force=args.force)
     out = cal.to_dict()
     out["flags"] = list(log.flags)
     out["logger_decisions"] = list(log.decisions)
@@ -348,7 +402,10 @@ def cmd_calibrate(args) -> int:
     if args.json:
         _dump({**out, "caution": CAUTION})
         return EXIT_OK
-    _print_calibration(plan, cal, log, out)
+    with contextlib.redirect_stdout(info_stream(args.csv)):
+        _print_calibration(plan, cal, log, out)
+        if args.csv and args.csv != "-":
+            print(f"curves written to {args.csv}")
     return EXIT_OK
 
 
@@ -360,7 +417,9 @@ def _names(text: str | None):
 def cmd_sweep(args) -> int:
     from procplan.studies.sweep import sweep_catalogue
 
+    check_options(args, workers=_WORKERS, n_nodes={"minimum": 3, "maximum": 2000}, every={"minimum": 1})
     lib = load_library_of(args)
+    csv = _csv_target(args, [])
     ex = _executor(args.workers)
     try:
         res = sweep_catalogue(
@@ -377,10 +436,19 @@ def cmd_sweep(args) -> int:
             ex.shutdown()
     tab = res.table
     if args.csv:
-        res.to_csv(args.csv)
+        write_output(csv, res.table.to_csv(index=False), force=args.force)
     if args.json:
         _dump({"table": tab.to_dict("records"), "skipped": list(res.skipped), "caution": CAUTION})
         return EXIT_OK
+    with contextlib.redirect_stdout(info_stream(args.csv)):
+        _print_sweep(res)
+        _written(args, "table", sys.stdout)
+    return EXIT_OK
+
+
+def _print_sweep(res) -> None:
+    """The sweep's table as readable lines."""
+    tab = res.table
     print(f"{len(tab)} product × machine pairs")
     for _, r in tab.iterrows():
         if r["error"]:
@@ -393,182 +461,3 @@ def cmd_sweep(args) -> int:
         )
     if res.skipped:
         print("  skipped machines: " + ", ".join(res.skipped))
-    if args.csv:
-        print(f"table written to {args.csv}")
-    print("\n" + CAUTION)
-    return EXIT_OK
-
-
-def _add_compare(subparsers) -> None:
-    """``procplan compare``."""
-    from procplan.studies.metrics import CRITERIA
-
-    c = subparsers.add_parser(
-        "compare",
-        help="run plans (and variants) side by side and rank them",
-        description="Run several plans, or variants of the first, and rank them. " + CAUTION,
-    )
-    c.add_argument("plans", nargs="+", help="plan files (TOML) or library plan names")
-    c.add_argument(
-        "--vary",
-        action="append",
-        metavar="KEY=VALUE,...",
-        help="a variant of the first plan, e.g. 'name=colder,step=0,air_C=-10' or 'diameter_mm=70'; keys that are not "
-        "variant keys are machine settings (repeatable)",
-    )
-    c.add_argument(
-        "--criterion",
-        choices=sorted(CRITERIA),
-        default="time",
-        help="ranking: " + "; ".join(f"{k}: {v[1]}" for k, v in CRITERIA.items()),
-    )
-    c.add_argument("--json", action="store_true", help="print the table as JSON")
-    c.add_argument("--csv", metavar="FILE", help="write the table as CSV")
-    c.add_argument("--quiet", action="store_true", help="no progress on stderr")
-    c.set_defaults(func=cmd_compare)
-
-
-def _add_required(subparsers) -> None:
-    """``procplan required``."""
-    from procplan.studies.inverse import GOALS, PARAMETERS
-
-    r = subparsers.add_parser(
-        "required",
-        help="find the setting at which a plan just meets a goal",
-        description="Required setting by bracketed root-finding within the machine's range, confirmed by a forward run. "
-        "Exit 1 when not achievable. " + CAUTION,
-    )
-    r.add_argument("plan", help="plan file (TOML) or library plan name")
-    r.add_argument(
-        "--parameter",
-        required=True,
-        choices=sorted(PARAMETERS),
-        help="; ".join(f"{k}: {v.description}" for k, v in PARAMETERS.items()),
-    )
-    r.add_argument(
-        "--goal",
-        required=True,
-        choices=sorted(GOALS),
-        help="; ".join(f"{k}: {v.description}" for k, v in GOALS.items()),
-    )
-    r.add_argument("--step", type=int, default=0, help="step index (default 0)")
-    r.add_argument("--target-min", type=float, help="allowed time X [min] for --goal time")
-    r.add_argument(
-        "--bounds", type=float, nargs=2, metavar=("LOW", "HIGH"), help="search range in the parameter's unit"
-    )
-    r.add_argument("--xtol", type=float, help="tolerance of the answer (default 1e-5 of the range)")
-    r.add_argument("--json", action="store_true", help="print the answer as JSON")
-    r.add_argument("--quiet", action="store_true", help="no progress on stderr")
-    r.set_defaults(func=cmd_required)
-
-
-def _add_variability(subparsers) -> None:
-    """``procplan variability``."""
-    from procplan.studies.variability import VARIABLES
-
-    v = subparsers.add_parser(
-        "variability",
-        help="Monte Carlo percentiles of time to target and lethality",
-        description="Monte Carlo over uncertain inputs (seeded, reproducible). " + CAUTION,
-    )
-    v.add_argument("plan", help="plan file (TOML) or library plan name")
-    v.add_argument(
-        "--vary",
-        action="append",
-        metavar="VAR=KIND:P1,P2[@LOW,HIGH]",
-        help="e.g. start_C=normal:74,2@68,80, h_factor=lognormal:1,0.15, size_factor=triangular:0.9,1,1.1; variables: "
-        + ", ".join(VARIABLES),
-    )
-    v.add_argument("--samples", type=int, default=1000, help="number of samples (default 1000)")
-    v.add_argument("--seed", type=int, default=0, help="random seed (default 0)")
-    v.add_argument(
-        "--method",
-        choices=["auto", "exact", "run"],
-        default="auto",
-        help="fast exact path, run_plan per sample, or automatic",
-    )
-    v.add_argument("--workers", type=int, default=None, help="processes for the run_plan path")
-    v.add_argument("--no-corners", action="store_true", help="skip the worst-case corner runs")
-    v.add_argument("--json", action="store_true", help="print the summary as JSON")
-    v.add_argument("--csv", metavar="FILE", help="write every sample as CSV")
-    v.add_argument("--quiet", action="store_true", help="no progress on stderr")
-    v.set_defaults(func=cmd_variability)
-
-
-def _add_calibrate(subparsers) -> None:
-    """``procplan calibrate``."""
-    k = subparsers.add_parser(
-        "calibrate",
-        help="fit the effective h to a temperature-logger file",
-        description="Read a logger CSV, overlay it on the plan's prediction and fit h (optionally alpha_factor, offset_mm). "
-        + CAUTION,
-    )
-    k.add_argument("logfile", help="logger CSV (',', ';' or tab; s, min, h or timestamps; °C or °F)")
-    k.add_argument("--plan", help="plan file of the recorded process (one step)")
-    k.add_argument(
-        "--preview", action="store_true", help="show the first rows and the guessed column mapping only"
-    )
-    k.add_argument("--rows", type=int, default=10, help="rows to preview")
-    from procplan.studies.logger import OPTION_HELP
-
-    g = k.add_argument_group("logger format (each overrides what is detected from the file)")
-    for name, text in OPTION_HELP.items():
-        g.add_argument("--" + name.replace("_", "-"), help=text)
-    k.add_argument("--channel", help="probe column (default: the first)")
-    k.add_argument(
-        "--fit", default="h", help="parameters to fit, comma-separated: h, alpha_factor, offset_mm"
-    )
-    k.add_argument(
-        "--start-C", dest="start_C", type=float, help="start temperature [°C] (default: the first reading)"
-    )
-    k.add_argument(
-        "--time-offset-s", type=float, default=0.0, help="logger time at which the step started [s]"
-    )
-    k.add_argument(
-        "--jump-K", type=float, default=5.0, help="flag jumps larger than this between samples [K]"
-    )
-    k.add_argument(
-        "--record", metavar="PRODUCT", help="add a measured-value record of h for PRODUCT to the JSON"
-    )
-    k.add_argument(
-        "--save",
-        action="store_true",
-        help="save the --record into the library's measurements/ (steps in that machine at those settings then use it)",
-    )
-    k.add_argument("--json", action="store_true", help="print the fit as JSON")
-    k.add_argument(
-        "--csv", metavar="FILE", help="write measured, fitted and predicted curves and residuals as CSV"
-    )
-    k.set_defaults(func=cmd_calibrate)
-
-
-def _add_sweep(subparsers) -> None:
-    """``procplan sweep``."""
-    from procplan.studies.sweep import KIND_TASKS
-
-    s = subparsers.add_parser(
-        "sweep",
-        help="every product in every suitable machine",
-        description="Catalogue sweep; tasks per machine kind: "
-        + "; ".join(f"{kk}: {t.start_C:g}→{t.target_C:g} °C" for kk, t in KIND_TASKS.items())
-        + ". "
-        + CAUTION,
-    )
-    s.add_argument("--products", help="comma-separated product names (default: all)")
-    s.add_argument("--equipment", help="comma-separated machine ids (default: all)")
-    s.add_argument("--kinds", help="comma-separated machine kinds (default: all)")
-    s.add_argument("--workers", type=int, default=None, help="processes (default: sequential)")
-    s.add_argument(
-        "--n-nodes", type=int, default=None, help="finite-volume nodes per axis (coarser is faster)"
-    )
-    s.add_argument("--every", type=int, default=10, help="progress line every N pairs")
-    s.add_argument("--json", action="store_true", help="print the table as JSON")
-    s.add_argument("--csv", metavar="FILE", help="write the table as CSV")
-    s.add_argument("--quiet", action="store_true", help="no progress on stderr")
-    s.set_defaults(func=cmd_sweep)
-
-
-def register(subparsers) -> None:
-    """Add the study sub-commands to ``procplan``'s argument parser."""
-    for add in (_add_compare, _add_required, _add_variability, _add_calibrate, _add_sweep):
-        add(subparsers)

@@ -19,6 +19,10 @@ from procplan.files.tomlfile import check_name, dump_toml, read_toml, write_atom
 
 #: The demo library shipped with procplan (an invented plant).
 DEMO_LIBRARY = demo_library_path()
+#: Environment variable naming the library folder the app and the command line open (default: the demo).
+LIBRARY_ENV = "PROCPLAN_LIBRARY"
+#: Saved measurements of one product in one machine on one day, each under its own numbered name.
+MAX_MEASUREMENTS_PER_DAY = 999
 
 
 @dataclass(frozen=True)
@@ -156,10 +160,14 @@ def measurement_from_dict(
             "value", data.get("value"), minimum=0.0, min_inclusive=False, maximum=1e5, unit="W/m²K"
         )
     product = data.get("product")
-    if library is not None and product not in library.products:
+    if library is not None and (not isinstance(product, str) or product not in library.products):
         c.add(InvalidInputError("product", product, "a product of the library"))
     equipment = data.get("equipment")
-    if library is not None and equipment is not None and equipment not in library.equipment:
+    if (
+        library is not None
+        and equipment is not None
+        and (not isinstance(equipment, str) or equipment not in library.equipment)
+    ):
         c.add(InvalidInputError("equipment", equipment, "a machine of the library"))
     try:
         _dt.date.fromisoformat(str(data.get("date")))
@@ -175,9 +183,30 @@ def measurement_from_dict(
 
 
 def save_measurement(root: str | os.PathLike, record: dict[str, Any], *, overwrite: bool = False) -> Path:
-    """Save a measured-h record as ``measurements/PRODUCT--MACHINE--DATE.toml`` atomically (never replacing
-    another record unless ``overwrite``). A plan step in that machine at those settings then uses it."""
+    """Save a measured-h record as ``measurements/PRODUCT--MACHINE--DATE[-N].toml`` atomically. A plan step in
+    that machine at those settings then uses it.
+
+    Several trials of one product in one machine on one day each keep their own file: the first is
+    ``…--DATE.toml``, the next ``…--DATE-2.toml`` and so on. With ``overwrite`` the first name is replaced.
+    The product and machine parts are shortened so that the name stays a valid library name.
+    """
     lib = load_library(root)
     rec = measurement_from_dict(record, "measurement", lib)
-    name = f"{rec['product']}--{rec.get('equipment') or 'any'}--{rec['date']}"
-    return _save(root, "measurements", name, {k: v for k, v in rec.items() if v is not None}, overwrite)
+    data = {k: v for k, v in rec.items() if v is not None}
+    base = f"{rec['product'][:24]}--{(rec.get('equipment') or 'any')[:20]}--{rec['date']}"
+    if overwrite:
+        return _save(root, "measurements", base, data, overwrite=True)
+    for n in range(1, MAX_MEASUREMENTS_PER_DAY + 1):
+        name = base if n == 1 else f"{base}-{n}"
+        if (Path(root) / "measurements" / f"{name}.toml").exists():
+            continue
+        try:
+            return _save(root, "measurements", name, data, overwrite=False)
+        except InvalidInputError as exc:  # another save took this name meanwhile
+            if exc.value != "exists":
+                raise
+    raise InvalidInputError(
+        "measurement",
+        base,
+        f"at most {MAX_MEASUREMENTS_PER_DAY} measurements of one product and machine a day",
+    )

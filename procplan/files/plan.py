@@ -15,7 +15,7 @@ from typing import Any
 from procplan import validate
 from procplan.errors import Collector, InvalidInputError
 from procplan.files.fields import T_HI, T_LO, check_keys, file_number, optional, product_temperature
-from procplan.files.product import product_from_dict, product_to_dict
+from procplan.files.product import product_freezing_C, product_from_dict, product_to_dict
 from procplan.files.steps import step_from_dict, step_to_dict
 from procplan.files.tomlfile import dump_toml, parse_toml, read_toml, write_atomic
 from procplan.model import MAX_STEP_MIN, POINTS, SOLVERS, Checks, LethalityCheck, Plan, Product, Step
@@ -142,7 +142,7 @@ def _product(c: Collector, data: Mapping[str, Any], source: str, library) -> Pro
     if ref is not None:
         if library is None:
             c.add(InvalidInputError("product.library", ref, "a product name, with a library loaded"))
-        elif ref not in library.products:
+        elif not isinstance(ref, str) or ref not in library.products:
             c.add(InvalidInputError("product.library", ref, "one of " + ", ".join(sorted(library.products))))
         else:
             base = library.products[ref]
@@ -191,7 +191,8 @@ def _plan_checks(c: Collector, data: Mapping[str, Any], source: str, library) ->
     if "checks" in data:
         with c.catch():
             checks = checks_from_dict(data["checks"], source)
-    if library is not None and checks.cooling_rule is not None and checks.cooling_rule not in library.rules:
+    rule = checks.cooling_rule
+    if library is not None and isinstance(rule, str) and rule not in library.rules:
         c.add(
             InvalidInputError(
                 "checks.cooling_rule", checks.cooling_rule, "one of " + ", ".join(sorted(library.rules))
@@ -227,6 +228,10 @@ def plan_from_dict(data: Mapping[str, Any], source: str = "plan", library=None) 
     steps = _steps(c, data, source, library)
     checks = _plan_checks(c, data, source, library)
     notes = str(data.get("notes", ""))
+    if product is not None:
+        _check_frozen_storage(c, product, checks, data.get("checks"))
+    if t0 is not None and steps:
+        _check_first_stop(c, steps[0], t0, library)
     c.raise_if_any()
     return Plan(
         title=title,
@@ -237,6 +242,63 @@ def plan_from_dict(data: Mapping[str, Any], source: str = "plan", library=None) 
         solver=solver,
         notes=notes,
     )
+
+
+def _check_frozen_storage(c: Collector, product: Product, checks: Checks, raw_checks: Any) -> None:
+    """The frozen-storage temperature (end of freezing) must lie below the product's freezing point."""
+    tf = product_freezing_C(product)
+    if tf is None or checks.frozen_storage_C < tf:
+        return
+    given = isinstance(raw_checks, Mapping) and "frozen_storage_C" in raw_checks
+    c.add(
+        InvalidInputError(
+            "checks.frozen_storage_C",
+            checks.frozen_storage_C,
+            f"< {tf:.2f} °C, the product's initial freezing point",
+            None if given else "this is the default; give a lower checks.frozen_storage_C",
+        )
+    )
+
+
+def _first_medium_C(step: Step, library) -> float | None:
+    """The medium temperature [°C] at the start of ``step``, or None when it is not known before a run."""
+    if step.medium_C is not None:
+        return step.medium_C
+    if step.medium_profile:
+        return step.medium_profile[0][1]
+    if library is None or step.equipment not in library.equipment:
+        return None
+    from procplan.surface.machines import resolve_settings
+
+    eq = library.equipment[step.equipment]
+    try:
+        return resolve_settings(eq, step.settings_dict).get(eq.temperature_key)
+    except InvalidInputError:
+        return None
+
+
+def _check_first_stop(c: Collector, step: Step, start_C: float, library) -> None:
+    """A first step that ends on a core temperature (no duration) must not be there at the start: the step
+    would end at once and its cycle time would be zero."""
+    if step.duration_given:
+        return
+    medium = _first_medium_C(step, library)
+    if medium is None:
+        return
+    cooling = medium < start_C
+    wanted = [("steps[0].stop_when_core_C", step.stop_when_core_C)]
+    wanted += [(f"steps[0].targets[{j}].temperature_C", t.temperature_C) for j, t in enumerate(step.targets)]
+    for name, temp in wanted:
+        if temp is not None and (temp >= start_C if cooling else temp <= start_C):
+            c.add(
+                InvalidInputError(
+                    name,
+                    temp,
+                    f"{'below' if cooling else 'above'} the start temperature {start_C:g} °C "
+                    f"(the medium is at {medium:g} °C)",
+                    "reached at the start: the step would end at once with a cycle of 0 min",
+                )
+            )
 
 
 def _check_equipment(c: Collector, step: Step, i: int, library) -> None:

@@ -37,6 +37,22 @@ PRODUCT_KEYS = (
     "porosity",
     "overrun_percent",
 )
+#: Smallest piece dimension [mm] (thickness, diameter, or any side of a brick or finite cylinder): below about
+#: 1 mm a food piece is a droplet or a powder grain, whose heating is not what the plant processes, and the
+#: continuum conduction model with a surface heat-transfer coefficient stops describing it.
+MIN_PIECE_MM = 1.0
+#: Largest ratio of the longest to the shortest side of a brick or finite cylinder: beyond about 100 the far
+#: faces no longer change the centre's history, and the piece is a slab or an infinite cylinder, which the
+#: solvers treat in one dimension instead of on a needlessly extreme 3-D grid.
+MAX_ASPECT_RATIO = 100.0
+#: Shapes whose every dimension carries heat (the others' optional lengths only give the mass).
+_CONDUCTING_KEYS = {
+    "slab": ("thickness_mm",),
+    "cylinder": ("diameter_mm",),
+    "sphere": ("diameter_mm",),
+    "finite-cylinder": ("diameter_mm", "length_mm"),
+    "brick": ("length_mm", "width_mm", "height_mm"),
+}
 FIXED_PROPERTY_KEYS = (
     "k_W_mK",
     "rho_kg_m3",
@@ -54,7 +70,7 @@ def _geometry(c: Collector, data: Mapping[str, Any], prefix: str, base: Product 
     if not ("shape" in data or any(k in data for k in DIMENSION_KEYS) or geometry is None):
         return geometry
     shape = data.get("shape", geometry.shape if geometry else None)
-    if shape not in SHAPES:
+    if not isinstance(shape, str) or shape not in SHAPES:
         c.add(InvalidInputError(f"{prefix}shape", shape, "one of " + ", ".join(SHAPES)))
         return geometry
     dims: dict[str, Any] = {}
@@ -69,7 +85,40 @@ def _geometry(c: Collector, data: Mapping[str, Any], prefix: str, base: Product 
     faces = data.get("faces", geometry.faces if geometry else 2)
     with c.catch():
         geometry = geometry_from_mm(shape, faces=faces, **dims)
+        check_proportions(geometry, prefix)
     return geometry
+
+
+def check_proportions(g: Geometry, prefix: str = "product.") -> None:
+    """Refuse pieces smaller than ``MIN_PIECE_MM`` or more elongated than ``MAX_ASPECT_RATIO``, naming the
+    dimension ``prefix + KEY_mm``; for every path that makes a product (files, forms, variants, samples).
+
+    >>> from procplan.geometry import Geometry
+    >>> check_proportions(Geometry("sphere", diameter_m=0.0005))
+    Traceback (most recent call last):
+    ...
+    procplan.errors.InvalidInputError: product.diameter_mm = 0.5: allowed >= 1 mm (a smaller piece is a droplet or powder grain, outside the conduction model)
+    """
+    sizes = {k: getattr(g, k[:-3] + "_m") * 1000.0 for k in _CONDUCTING_KEYS[g.shape]}
+    for key, mm in sizes.items():
+        if mm < MIN_PIECE_MM:
+            raise InvalidInputError(
+                f"{prefix}{key}",
+                file_number(mm),
+                f">= {MIN_PIECE_MM:g} mm",
+                "a smaller piece is a droplet or powder grain, outside the conduction model",
+            )
+    if len(sizes) > 1:
+        longest = max(sizes, key=sizes.get)
+        ratio = sizes[longest] / min(sizes.values())
+        if ratio > MAX_ASPECT_RATIO:
+            flat = "a slab" if g.shape == "brick" else "an infinite cylinder"
+            raise InvalidInputError(
+                f"{prefix}{longest}",
+                file_number(sizes[longest]),
+                f"at most {MAX_ASPECT_RATIO:g} times the shortest side ({min(sizes.values()):g} mm)",
+                f"a longer piece conducts as {flat}: describe it as one",
+            )
 
 
 def _composition(c: Collector, raw: Any, prefix: str) -> tuple[tuple[str, float], ...] | None:
@@ -103,6 +152,13 @@ def _fixed_properties(c: Collector, fp: Any, prefix: str) -> FixedProperties | N
     vals["freezing_C"] = optional(c, fp, "freezing_C", fpp, product_temperature)
     vals["frozen_k_W_mK"] = optional(c, fp, "frozen_k_W_mK", fpp, validate.positive, "W/mK")
     vals["frozen_cp_J_kgK"] = optional(c, fp, "frozen_cp_J_kgK", fpp, validate.positive, "J/kgK")
+    if vals["latent_J_kg"] and vals["freezing_C"] is not None:
+        # the latent heat is released over a band below freezing_C that must fit inside the model's range
+        # (procplan.properties.table.PropertyTable.constant: 0.5 K band, 1 K clearance at either end)
+        with c.catch():
+            validate.number(
+                fpp + "freezing_C", vals["freezing_C"], minimum=T_LO + 1.5, maximum=T_HI - 1.0, unit="°C"
+            )
     if vals["latent_J_kg"] and vals["freezing_C"] is None:
         c.add(
             InvalidInputError(
@@ -166,12 +222,25 @@ def _model_choices(
                 "for category 'other' give freezing_C",
             )
         )
+    if comp and freezing_C is None and isinstance(category, str) and category != "other":
+        _check_estimated_freezing(c, comp, category, prefix)
     cond_model = data.get("conductivity_model", base.conductivity_model if base else "parallel")
     with c.catch():
         from procplan.properties import CONDUCTIVITY_MODELS
 
         validate.choice(f"{prefix}conductivity_model", cond_model, CONDUCTIVITY_MODELS)
     return freezing_C, category, cond_model
+
+
+def _check_estimated_freezing(c: Collector, comp: tuple, category: str, prefix: str) -> None:
+    """The freezing point the property model will estimate from the water content must be in its range
+    (a low-water product gives none), so that a product that validates also runs."""
+    from procplan.properties import Composition, initial_freezing_point_C
+
+    try:
+        initial_freezing_point_C(Composition.from_mapping(dict(comp)), category)
+    except InvalidInputError as exc:
+        c.add(InvalidInputError(f"{prefix}freezing_C", None, exc.allowed, exc.detail))
 
 
 def _wrapping(
@@ -256,6 +325,22 @@ def product_from_dict(
         library=library,
         porosity=porosity,
     )
+
+
+def product_freezing_C(p: Product) -> float | None:
+    """The initial freezing point [°C] the property model will use for ``p``, or None when it does not freeze
+    (measured properties without latent heat, or no estimate for its water content)."""
+    if p.fixed_properties is not None:
+        fp = p.fixed_properties
+        return fp.freezing_C if fp.latent_J_kg else None
+    if p.freezing_C is not None:
+        return p.freezing_C
+    from procplan.properties import Composition, initial_freezing_point_C
+
+    try:
+        return initial_freezing_point_C(Composition.from_mapping(p.composition_dict), p.category)
+    except InvalidInputError:
+        return None
 
 
 def product_to_dict(p: Product) -> dict[str, Any]:

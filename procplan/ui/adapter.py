@@ -23,9 +23,8 @@ import pandas as pd
 import streamlit as st
 
 from procplan.errors import InvalidInputError, ValidationErrors
+from procplan.files.library import LIBRARY_ENV  # the library folder the app opens (default: the demo)
 
-#: Environment variable naming the library folder the app opens (default: the demo library).
-LIBRARY_ENV = "PROCPLAN_LIBRARY"
 DEMO_PLAN = "roulade-blast-chill"
 
 
