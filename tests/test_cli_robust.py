@@ -184,3 +184,17 @@ def test_light_commands_import_neither_pandas_nor_scipy(argv):
     env.pop(LIBRARY_ENV, None)
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, env=env, check=True)
     assert out.stderr.strip().splitlines()[-1] == "[]"
+
+
+def test_studies_refuse_a_piece_below_the_size_limit_by_name():
+    # A variant or a size sample builds a geometry outside the file readers; the same limit applies there.
+    import pytest
+
+    from procplan.errors import InvalidInputError
+    from procplan.files.library import load_library
+    from procplan.studies.compare import variants_of
+
+    lib = load_library()
+    plan = lib.plan("roulade-blast-chill")
+    with pytest.raises(InvalidInputError, match=r"diameter_mm.*>= 1 mm"):
+        variants_of(plan, [{"diameter_mm": 0.01}], library=lib)

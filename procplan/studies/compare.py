@@ -17,6 +17,7 @@ import pandas as pd
 
 from procplan import validate
 from procplan.errors import InvalidInputError
+from procplan.files.product import check_proportions
 from procplan.model import DIMENSION_KEYS, Plan
 from procplan.studies.metrics import CRITERIA, METRIC_COLUMNS, result_metrics
 
@@ -168,7 +169,9 @@ def _product_changes(out: Plan, change: Mapping[str, Any], library, where: str) 
     if dims:
         for k in dims:
             dims[k] = validate.positive(f"{where}.{k[:-2]}_mm", dims[k], "mm") / 1000.0
-        out = replace(out, product=replace(out.product, geometry=replace(out.product.geometry, **dims)))
+        geometry = replace(out.product.geometry, **dims)
+        check_proportions(geometry, prefix=f"{where}.")
+        out = replace(out, product=replace(out.product, geometry=geometry))
     if "start_C" in change:
         out = replace(
             out, start_temperature_C=validate.number(f"{where}.start_C", change["start_C"], unit="°C")

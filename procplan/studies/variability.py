@@ -37,6 +37,7 @@ import pandas as pd
 from procplan import validate
 from procplan.conduction.product import CentreSeries, centre_series
 from procplan.errors import InvalidInputError
+from procplan.files.product import check_proportions
 from procplan.model import Plan
 from procplan.outcomes.rules import RULE_KINDS, check_rule
 from procplan.run.solver import SolverChoice, choose_solver, exact_properties
@@ -68,7 +69,9 @@ def _apply_size(plan: Plan, v: float, i: int, ctx) -> Plan:
         for k in ("thickness_m", "diameter_m", "length_m", "width_m", "height_m")
         if getattr(g, k) is not None
     }
-    return replace(plan, product=replace(plan.product, geometry=replace(g, **dims)))
+    geometry = replace(g, **dims)
+    check_proportions(geometry, prefix=f"sample {i}: size_factor {float(v):g} gives product.")
+    return replace(plan, product=replace(plan.product, geometry=geometry))
 
 
 def _given_h(plan: Plan, i: int, h: float, ctx) -> Plan:
