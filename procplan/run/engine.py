@@ -30,6 +30,7 @@ from procplan.run.step_surface import StepSurface, resolve_step_surface
 __all__ = [
     "EXACT_POINTS",
     "H_SURFACE_TOLERANCE",
+    "SINK_TOLERANCE_K",
     "PROPERTY_SPREAD_LIMIT",
     "PlanResult",
     "StepResult",
@@ -40,6 +41,11 @@ __all__ = [
 
 #: Relative change of h, re-evaluated at the step's mean surface temperature, above which the step runs again.
 H_SURFACE_TOLERANCE = 0.03
+#: Move of the sink temperature [K] (radiation to walls at another temperature than the air) on the second
+#: evaluation beyond which the step runs again; it cannot move without such walls.
+SINK_TOLERANCE_K = 0.05
+#: Further evaluations of h and the sink temperature at most, with radiation to walls at another temperature.
+MAX_SINK_PASSES = 4
 #: Points in an exact-solution history.
 EXACT_POINTS = 601
 
@@ -249,22 +255,38 @@ def _solve(ctx: _Context, chosen: str, carried: _Carried, step: Step, surface: S
     return _fv_step(geometry, ctx.props, carried.field, surface, step, ctx.n_nodes, ctx.dt_s)
 
 
+def _mean_surface_C(run: _StepRun) -> float | None:
+    """The step's time-averaged surface temperature [°C] (None for a step of no duration)."""
+    ts = run.frame["time_s"].to_numpy()
+    if not ts[-1] > ts[0]:
+        return None
+    return float(np.trapezoid(run.frame["surface_C"].to_numpy(), ts) / (ts[-1] - ts[0]))
+
+
 def _solve_with_surface_pass(ctx: _Context, i: int, step: Step, chosen: str, carried: _Carried, surface):
     """Solve the step; h depends on the surface temperature (film properties, free convection, radiation), so
     evaluate it again at the step's time-averaged surface temperature and run once more when it moved by more
-    than :data:`H_SURFACE_TOLERANCE`. Returns the run and the surface it ran with."""
+    than :data:`H_SURFACE_TOLERANCE`. With radiation to walls at another temperature than the air, the sink
+    temperature follows h_rad: evaluate again after each run, up to :data:`MAX_SINK_PASSES` times, until it
+    moves by less than :data:`SINK_TOLERANCE_K`. Returns the run and the surface it ran with."""
     run = _solve(ctx, chosen, carried, step, surface)
-    ts = run.frame["time_s"].to_numpy()
-    if not ts[-1] > ts[0]:
-        return run, surface
-    ts_avg = float(np.trapezoid(run.frame["surface_C"].to_numpy(), ts) / (ts[-1] - ts[0]))
-    product = ctx.plan.product
-    again = resolve_step_surface(step, i, product, carried.mean_C, ctx.library, surface_C=ts_avg)
-    change = float(np.max(np.abs(np.array(again.h_W_m2K) / np.array(surface.h_W_m2K) - 1.0)))
-    if change > H_SURFACE_TOLERANCE:
-        surface = again
+    h_surface_C, first_change = None, None
+    for n in range(1 + MAX_SINK_PASSES):
+        ts_avg = _mean_surface_C(run)
+        if ts_avg is None or (n > 0 and not surface.radiates_to_other_walls):
+            break
+        again = resolve_step_surface(step, i, ctx.plan.product, carried.mean_C, ctx.library, surface_C=ts_avg)
+        change = float(np.max(np.abs(np.array(again.h_W_m2K) / np.array(surface.h_W_m2K) - 1.0)))
+        sink_moved_K = float(np.max(np.abs(np.array(again.medium_C) - np.array(surface.medium_C))))
+        if n == 0:
+            h_surface_C, first_change = ts_avg, change
+        if not (sink_moved_K > SINK_TOLERANCE_K or (n == 0 and change > H_SURFACE_TOLERANCE)):
+            break
+        surface, h_surface_C = again, ts_avg
         run = _solve(ctx, chosen, carried, step, surface)
-    details = replace(run.details, h_surface_C=ts_avg, h_change_on_second_pass=change)
+    if first_change is None:
+        return run, surface
+    details = replace(run.details, h_surface_C=h_surface_C, h_change_on_second_pass=first_change)
     return replace(run, details=details), surface
 
 

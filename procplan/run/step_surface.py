@@ -4,6 +4,12 @@ A step gives either ``h_W_m2K`` with ``medium_C`` (or a ``medium_profile``), or 
 equipment library with its settings (constant, or a ``settings_profile``). Packaging layers of the
 product add their resistance in series (:func:`procplan.surface.layers.h_effective`). The
 correlations themselves live in :mod:`procplan.surface`; this module only wires a step to them.
+
+Radiation to walls at another temperature than the air (``surroundings_C``): the surface balance
+h_c (T_air − T_s) + h_r (T_sur − T_s) is carried as h = h_c + h_r towards the sink temperature
+(h_c T_air + h_r T_sur)/(h_c + h_r) (Incropera 7th ed., eq. 1.10 and §1.2.3), packaging in series; so every
+solver (series, lumped, finite volume) runs with ``medium_C`` = the sink temperature, and the air temperature is
+kept in ``fluid_C`` for display.
 """
 
 from __future__ import annotations
@@ -96,6 +102,10 @@ class SurfaceBreakdown:
     machine : the machine and its settings (None when the plan gives h)
     measured : the measured coefficients that replaced the correlation, in the order of the setting points
     evaporation : description of the surface evaporation modelled (None without it)
+    fluid_C : air temperature the product convects to [°C], set only with radiation to walls at another
+        temperature (then the three temperatures below differ)
+    surroundings_C : temperature of the walls the product radiates to [°C] (None: the air's)
+    sink_C : temperature the product exchanges heat with through h_conv + h_rad [°C] (None: the air's)
     """
 
     source: str
@@ -107,6 +117,20 @@ class SurfaceBreakdown:
     machine: MachineUsed | None = None
     measured: tuple[MeasuredH, ...] = ()
     evaporation: str | None = None
+    fluid_C: float | None = None
+    surroundings_C: float | None = None
+    sink_C: float | None = None
+
+    @property
+    def sink_note(self) -> str | None:
+        """One line saying which temperature is which when the walls are at another temperature than the air."""
+        if self.sink_C is None:
+            return None
+        return (
+            f"convection h_conv {self.h_conv_W_m2K:.1f} W/m²K to air at {self.fluid_C:g} °C and radiation "
+            f"h_rad {self.h_rad_W_m2K:.1f} W/m²K to walls at {self.surroundings_C:g} °C: the product exchanges "
+            f"heat with the sink temperature {self.sink_C:.1f} °C"
+        )
 
     def to_dict(self) -> dict[str, Any]:
         """Plain data for the JSON summary (the machine's settings under ``settings``, no machine record)."""
@@ -122,12 +146,20 @@ class SurfaceBreakdown:
         )
         if self.evaporation is not None:
             out["evaporation"] = self.evaporation
+        if self.sink_C is not None:
+            out.update(fluid_C=self.fluid_C, surroundings_C=self.surroundings_C, sink_C=self.sink_C)
+            out["sink"] = self.sink_note
         return out
 
 
 @dataclass(frozen=True)
 class StepSurface:
-    """What a step's surface condition resolved to."""
+    """What a step's surface condition resolved to.
+
+    ``medium_C`` is the temperature the product exchanges heat with through ``h_W_m2K``: the air (water, brine,
+    steam) temperature, or the sink temperature when the product also radiates to walls at another temperature.
+    ``fluid_C`` keeps the air (fluid) temperature at the same times for display (empty: the same as medium_C).
+    """
 
     medium_time_s: tuple[float, ...]
     medium_C: tuple[float, ...]
@@ -136,6 +168,17 @@ class StepSurface:
     breakdown: SurfaceBreakdown
     warnings: tuple[str, ...] = ()
     evaporation: Any = None  # callable q(t, T_s) [W/m²] and mass-flux function, for unwrapped products in air
+    fluid_C: tuple[float, ...] = ()
+
+    @property
+    def radiates_to_other_walls(self) -> bool:
+        """True when the product exchanges heat with a sink temperature other than the fluid's."""
+        return bool(self.fluid_C) and self.fluid_C != self.medium_C
+
+    @property
+    def fluid_temperature_C(self) -> tuple[float, ...]:
+        """Air (fluid) temperature at ``medium_time_s`` [°C], for display."""
+        return self.fluid_C or self.medium_C
 
     @property
     def constant(self) -> bool:
@@ -152,6 +195,30 @@ class StepSurface:
         return SurfaceBoundary(med, h, q)
 
 
+def _at_surface(evaluate, surface_C: float | None, start_mean_C: float, fluid_C: float):
+    """``evaluate(T_s)`` at the given surface temperature, or at the first guess: halfway between the product's
+    mean temperature at the start of the step and the temperature it exchanges heat with (the sink, when the
+    walls are at another temperature than the fluid)."""
+    if surface_C is not None:
+        return evaluate(surface_C)
+    res = evaluate(0.5 * (start_mean_C + fluid_C))
+    if res.radiates_to_other_walls:
+        res = evaluate(0.5 * (start_mean_C + res.sink_C))
+    return res
+
+
+def _sinks(fluid_C, res) -> tuple[float, ...]:
+    """The temperatures the product exchanges heat with, for fluid temperatures ``fluid_C`` and the radiation of
+    ``res`` (unchanged without walls at another temperature)."""
+    from procplan.surface.layers import sink_temperature_C
+
+    if not res.radiates_to_other_walls:
+        return tuple(fluid_C)
+    return tuple(
+        sink_temperature_C(t, res.surroundings_C, res.h_conv_W_m2K, res.h_rad_W_m2K) for t in fluid_C
+    )
+
+
 def _given_h(step, product, surface_C: float | None, start_mean_C: float) -> StepSurface:
     from procplan.surface.coefficient import surface_coefficient
 
@@ -163,21 +230,28 @@ def _given_h(step, product, surface_C: float | None, start_mean_C: float) -> Ste
         temps = tuple(v for _, v in pts)
     else:
         times, temps = (0.0,), (step.medium_C,)
-    res = surface_coefficient(
-        None,
-        product.geometry,
-        medium_C=float(np.mean(temps)),
-        surface_C=0.5 * (start_mean_C + float(np.mean(temps))) if surface_C is None else surface_C,
-        h_W_m2K=step.h_W_m2K,
-        packaging=product.packaging,
-        emissivity=step.emissivity,
-        surroundings_C=step.surroundings_C,
-    )
+
+    def evaluate(t_s: float):
+        return surface_coefficient(
+            None,
+            product.geometry,
+            medium_C=float(np.mean(temps)),
+            surface_C=t_s,
+            h_W_m2K=step.h_W_m2K,
+            packaging=product.packaging,
+            emissivity=step.emissivity,
+            surroundings_C=step.surroundings_C,
+        )
+
+    res = _at_surface(evaluate, surface_C, start_mean_C, float(np.mean(temps)))
     breakdown = _breakdown(res, "h given in the plan")
-    return StepSurface(times, temps, (0.0,), (res.h_eff_W_m2K,), breakdown, tuple(res.warnings))
+    return StepSurface(
+        times, _sinks(temps, res), (0.0,), (res.h_eff_W_m2K,), breakdown, tuple(res.warnings), fluid_C=temps
+    )
 
 
 def _breakdown(res, source: str, **more: Any) -> SurfaceBreakdown:
+    walls = res.radiates_to_other_walls
     return SurfaceBreakdown(
         source=source,
         correlation=res.correlation,
@@ -185,19 +259,17 @@ def _breakdown(res, source: str, **more: Any) -> SurfaceBreakdown:
         h_rad_W_m2K=res.h_rad_W_m2K,
         packaging_resistance_m2K_W=res.packaging_resistance_m2K_W,
         h_eff_W_m2K=res.h_eff_W_m2K,
+        fluid_C=res.medium_C if walls else None,
+        surroundings_C=res.surroundings_C if walls else None,
+        sink_C=res.sink_C if walls else None,
         **more,
     )
 
 
-def _equipment(
-    step, index: int, product, surface_C: float | None, start_mean_C: float, library
-) -> StepSurface:
-    from procplan.surface.machines import equipment_h, medium_temperature_C, resolve_settings
+def _setting_rows(step, index: int, eq) -> list[tuple[float, dict]]:
+    """The machine's settings at the start of the step and at each change of the settings profile."""
+    from procplan.surface.machines import resolve_settings
 
-    if library is None or step.equipment not in library.equipment:
-        names = ", ".join(sorted(library.equipment)) if library is not None else "(no library loaded)"
-        raise InvalidInputError(f"steps[{index}].equipment", step.equipment, f"one of {names}")
-    eq = library.equipment[step.equipment]
     base = resolve_settings(eq, step.settings_dict, field_prefix=f"steps[{index}].settings.")
     rows = [(0.0, base)]
     for j, (t, s) in enumerate(step.settings_profile):
@@ -208,28 +280,49 @@ def _equipment(
             rows[0] = (0.0, merged)
         else:
             rows.append((t, merged))
-    times, temps, hs, warnings = [], [], [], []
+    return rows
+
+
+def _equipment(
+    step, index: int, product, surface_C: float | None, start_mean_C: float, library
+) -> StepSurface:
+    from procplan.surface.machines import equipment_h, medium_temperature_C
+
+    if library is None or step.equipment not in library.equipment:
+        names = ", ".join(sorted(library.equipment)) if library is not None else "(no library loaded)"
+        raise InvalidInputError(f"steps[{index}].equipment", step.equipment, f"one of {names}")
+    eq = library.equipment[step.equipment]
+    rows = _setting_rows(step, index, eq)
+    times, fluids, temps, hs, warnings = [], [], [], [], []
     measured_used: list[MeasuredH] = []
     first = None
     for t, s in rows:
         medium = medium_temperature_C(eq, s)
-        res = equipment_h(
-            eq,
-            s,
-            product.geometry,
-            surface_C=0.5 * (start_mean_C + medium) if surface_C is None else surface_C,
-            packaging=product.packaging,
-        )
+
+        def evaluate(t_s: float, s=s):
+            return equipment_h(
+                eq,
+                s,
+                product.geometry,
+                surface_C=t_s,
+                packaging=product.packaging,
+                surroundings_C=step.surroundings_C,
+            )
+
+        res = _at_surface(evaluate, surface_C, start_mean_C, medium)
         first = first or res
         times.append(t)
-        temps.append(medium)
+        fluids.append(medium)
         measured = library.measured_h(product.name, eq.id, s)
         if measured is None:
             hs.append(res.h_eff_W_m2K)
+            temps.append(_sinks((medium,), res)[0])
         else:
-            # a measured effective h, fitted to logger data of this product in this machine, wins
+            # a measured effective h, fitted to logger data of this product in this machine against the air
+            # temperature, wins (it already carries the radiation the machine's walls gave in the trial)
             m = MeasuredH.of(measured)
             hs.append(m.h_W_m2K)
+            temps.append(medium)
             if m.note not in [u.note for u in measured_used]:
                 measured_used.append(m)
         warnings.extend(w for w in res.warnings if w not in warnings)
@@ -240,6 +333,11 @@ def _equipment(
             + f" in machine {eq.name} (the correlation gives {first.h_eff_W_m2K:.1f} W/m²K)"
         )
         h_eff = hs[0]
+        if step.surroundings_C is not None:
+            warnings.append(
+                f"surroundings_C of {step.surroundings_C:g} °C is not applied on top of the measured h, "
+                "which already carries the radiation of the trial"
+            )
     evaporation = None
     if product.unwrapped and eq.medium == "air" and "relative_humidity" in eq.settings:
         from procplan.surface.moisture import SurfaceEvaporation
@@ -252,6 +350,7 @@ def _equipment(
         )
     if len(times) > 1 and times[-1] < step.duration_s:  # the last setting holds to the end of the step
         times.append(step.duration_s)
+        fluids.append(fluids[-1])
         temps.append(temps[-1])
         hs.append(hs[-1])
     breakdown = replace(
@@ -259,8 +358,17 @@ def _equipment(
         h_eff_W_m2K=h_eff,
         evaporation=None if evaporation is None else evaporation.describe(),
     )
+    if temps[0] == fluids[0]:  # a measured h at the first point: no sink to report
+        breakdown = replace(breakdown, fluid_C=None, surroundings_C=None, sink_C=None)
     return StepSurface(
-        tuple(times), tuple(temps), tuple(times), tuple(hs), breakdown, tuple(warnings), evaporation
+        tuple(times),
+        tuple(temps),
+        tuple(times),
+        tuple(hs),
+        breakdown,
+        tuple(warnings),
+        evaporation,
+        tuple(fluids),
     )
 
 

@@ -7,6 +7,9 @@ only) and packaging layers in series:
 
     1/h_eff = 1/(h_conv + h_rad) + Σ t_i/k_i
 
+When the walls are at another temperature than the air, the product exchanges heat through h_conv + h_rad with
+the sink temperature (h_conv T_air + h_rad T_sur)/(h_conv + h_rad), reported as ``SurfaceResult.sink_C``.
+
 One model per medium, in the registry :data:`SURFACE_MODELS`: air (forced, free and mixed convection with
 radiation, :mod:`procplan.surface.convection`), liquid immersion in water or brine (the same module), condensing
 steam (:mod:`procplan.surface.condensation`) and a user-entered h. The correlations live in
@@ -44,6 +47,7 @@ from procplan.surface.layers import (
     packaging_from_dicts,
     packaging_resistance_m2K_W,
     packaging_to_dicts,
+    sink_temperature_C,
 )
 from procplan.surface.media import AIR_RANGE_C, air_properties
 from procplan.surface.moisture import Evaporation, evaporation_flux_kg_m2s, weight_loss_percent
@@ -69,6 +73,7 @@ __all__ = [
     "evaporation_flux_kg_m2s",
     "h_effective",
     "h_radiation_linearised",
+    "sink_temperature_C",
     "nusselt_by_name",
     "packaging_from_dicts",
     "packaging_to_dicts",
@@ -103,6 +108,10 @@ class SurfaceResult:
     validity : validity range(s) of the correlation(s)
     typical_range : typical convection coefficient of this kind and its source (None without a kind)
     warnings : every caveat found (outside a validity range, outside the typical range, ...)
+    medium_C : the fluid temperature the coefficient was evaluated with [°C]
+    surroundings_C : the wall temperature of the radiative exchange [°C] (the fluid's when not given)
+    sink_C : temperature the surface exchanges heat with through h_conv + h_rad [°C], the fluid's unless the
+        walls are at another temperature (:func:`procplan.surface.layers.sink_temperature_C`)
     """
 
     h_conv_W_m2K: float
@@ -121,6 +130,14 @@ class SurfaceResult:
     validity: str
     typical_range: TypicalRange | None
     warnings: tuple[str, ...] = field(default_factory=tuple)
+    medium_C: float | None = None
+    surroundings_C: float | None = None
+    sink_C: float | None = None
+
+    @property
+    def radiates_to_other_walls(self) -> bool:
+        """True when the walls are at another temperature than the fluid and radiation is modelled."""
+        return self.sink_C is not None and self.medium_C is not None and self.sink_C != self.medium_C
 
 
 # --- the models, one per medium ------------------------------------------------------------------------------
@@ -284,7 +301,8 @@ def surface_coefficient(
     liquid_speed_m_s : liquid speed past the product [m/s], 0–5 (water, brine)
     emissivity : emissivity of the radiative exchange, 0–1 (air media); None: 0.9 with correlations (moist food
         surfaces, common practice), no radiation with a user-entered h
-    surroundings_C : wall temperature for radiation [°C]; default the air temperature
+    surroundings_C : wall temperature for radiation [°C]; default the air temperature. The result's ``sink_C``
+        is the temperature the product then exchanges heat with (h_conv T_air + h_rad T_sur)/(h_conv + h_rad)
     packaging : PackagingLayer objects or (name, thickness_m, k_W_mK) tuples, k None for a still-air gap
     h_W_m2K : a user-entered convection coefficient [W/m²K] that replaces the correlations; radiation is added
         only when ``emissivity`` is given; checked against the kind's typical range
@@ -356,4 +374,7 @@ def surface_coefficient(
         validity=terms.validity,
         typical_range=None if c.kind is None else TYPICAL_H_RANGES_W_M2K[c.kind],
         warnings=tuple(warnings),
+        medium_C=c.medium_C,
+        surroundings_C=c.surroundings_C,
+        sink_C=sink_temperature_C(c.medium_C, c.surroundings_C, terms.h_conv_W_m2K, terms.h_rad_W_m2K),
     )

@@ -2,10 +2,14 @@
 
 1/h_eff = 1/(h_conv + h_rad) + Σ t_i/k_i
 
+With walls at another temperature than the fluid, the parallel pair exchanges heat with the sink temperature
+(h_conv T_∞ + h_rad T_sur)/(h_conv + h_rad) (:func:`sink_temperature_C`); the packaging stays in series.
+
 References
 ----------
 Incropera, DeWitt, Bergman & Lavine, Fundamentals of Heat and Mass Transfer, 7th ed., eq. 1.9 (radiation
-coefficient), §3.1.3 and eq. 3.19 (thermal resistances in series), Table A.3 (conductivity of common materials).
+coefficient), eq. 1.10 and §1.2.3 (surface energy balance), §3.1.3 and eq. 3.19 (thermal resistances in
+series), Table A.3 (conductivity of common materials).
 """
 
 from __future__ import annotations
@@ -56,6 +60,27 @@ def h_radiation_linearised(emissivity: Any, surface_C: Any, surroundings_C: Any)
     tsur = np.asarray(surroundings_C, dtype=float) + ZERO_CELSIUS_K
     h = eps * STEFAN_BOLTZMANN_W_M2K4 * (ts + tsur) * (ts**2 + tsur**2)
     return float(h) if np.ndim(h) == 0 else h
+
+
+def sink_temperature_C(
+    medium_C: float, surroundings_C: float, h_conv_W_m2K: float, h_rad_W_m2K: float
+) -> float:
+    """Temperature the surface exchanges heat with when it convects to a fluid and radiates to walls.
+
+    The surface balance h_c (T_∞ − T_s) + h_r (T_sur − T_s) equals (h_c + h_r)(T_sink − T_s) with
+    T_sink = (h_c T_∞ + h_r T_sur)/(h_c + h_r), written as T_∞ + h_r/(h_c + h_r) (T_sur − T_∞) so that equal
+    fluid and wall temperatures give the fluid temperature exactly (Incropera 7th ed., eq. 1.10 and §1.2.3,
+    with the radiation term linearised by eq. 1.9).
+
+    >>> sink_temperature_C(20.0, 200.0, 5.0, 15.0)
+    155.0
+    >>> sink_temperature_C(20.0, 20.0, 5.0, 15.0)
+    20.0
+    """
+    if h_rad_W_m2K == 0.0 or surroundings_C == medium_C:
+        return float(medium_C)
+    share = h_rad_W_m2K / (h_conv_W_m2K + h_rad_W_m2K)
+    return float(medium_C + share * (surroundings_C - medium_C))
 
 
 @dataclass(frozen=True)

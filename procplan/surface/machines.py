@@ -185,8 +185,12 @@ def equipment_h(
     geometry: Geometry,
     surface_C: float,
     packaging: Iterable[Any] = (),
+    surroundings_C: float | None = None,
 ) -> SurfaceResult:
     """Surface coefficient of a product in this machine at the given (or default) settings.
+
+    ``surroundings_C`` is the temperature of the walls the product radiates to in an air machine (default the
+    air temperature); the result's ``sink_C`` is then the temperature the product exchanges heat with.
 
     >>> from procplan.geometry import Geometry
     >>> e = Equipment("c1", "C1", "cold-room", "air", {"air_C": SettingRange(0.0, 6.0, 2.0, "°C"),
@@ -205,6 +209,7 @@ def equipment_h(
         kw["air_speed_m_s"] = s["air_speed_m_s"]
         kw["relative_humidity"] = s.get("relative_humidity")
         kw["emissivity"] = s.get("emissivity")
+        kw["surroundings_C"] = surroundings_C
     elif equipment.medium in ("water", "brine"):
         kw["liquid_speed_m_s"] = s[f"{equipment.medium}_speed_m_s"]
         if equipment.brine_nacl_fraction is not None:
