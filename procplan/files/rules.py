@@ -13,11 +13,24 @@ from typing import Any
 from procplan import validate
 from procplan.errors import Collector, InvalidInputError
 from procplan.files.fields import check_keys
-from procplan.outcomes.rules import RULE_KINDS, RULE_POINTS, STAGE_CLOCKS, Band, Rule, Stage
+from procplan.outcomes.rules import (
+    RULE_KINDS,
+    RULE_POINTS,
+    STAGE_CLOCKS,
+    Band,
+    Published,
+    Rule,
+    Stage,
+    stricter_C,
+)
+from procplan.units import c_to_f, f_to_c
 
 RULE_KEYS = ("bands", "confirmed", "kind", "name", "notes", "point", "source", "stages", "title")
-STAGE_KEYS = ("clock", "from_C", "to_C", "within_min")
-BAND_KEYS = ("at_least_min", "at_most_min", "high_C", "low_C", "max_outside_min", "name")
+STAGE_KEYS = ("clock", "from_C", "from_F", "to_C", "to_F", "within_min")
+BAND_KEYS = ("at_least_min", "at_most_min", "high_C", "high_F", "low_C", "low_F", "max_outside_min", "name")
+#: Largest difference [K] between a limit's °C figure and the exact conversion of its °F figure: a figure
+#: rounded to a whole degree Celsius is within 0.5 K of the exact value (1 °F is 0.56 K).
+AGREE_WITHIN_K = 0.6
 BAND_LIMITS = ("at_least_min", "at_most_min", "max_outside_min")
 
 
@@ -27,6 +40,32 @@ def _opt_number(c: Collector, fieldname: str, value: Any, **kw) -> float | None:
     with c.catch():
         return validate.number(fieldname, value, **kw)
     return None
+
+
+def _limit(
+    c: Collector, w: str, data: Mapping[str, Any], key: str, keep: str | None
+) -> tuple[float | None, Published | None]:
+    """A limit given as ``key_C`` and/or ``key_F``: the °C value to compute with and the published figures
+    (None when only °C is given: the value is the figure). Both given: they must agree within
+    ``AGREE_WITHIN_K``; the stricter is kept (``keep`` "low" or "high"; None: the °C figure)."""
+    value_C = _opt_number(c, w + key + "_C", data.get(key + "_C"), unit="°C")
+    value_F = _opt_number(c, w + key + "_F", data.get(key + "_F"), unit="°F")
+    if value_F is None:
+        return value_C, None
+    published = Published(value_C, value_F)
+    if value_C is None:
+        return float(f_to_c(value_F)), published
+    if abs(value_C - float(f_to_c(value_F))) > AGREE_WITHIN_K:
+        c.add(
+            InvalidInputError(
+                w + key + "_F",
+                value_F,
+                f"within {AGREE_WITHIN_K:g} K of {key}_C = {value_C:g} °C ({float(c_to_f(value_C)):.1f} °F)",
+                "the °C and °F figures of one limit must agree within the source's rounding",
+            )
+        )
+        return value_C, published
+    return (value_C if keep is None else stricter_C(published, keep)), published
 
 
 def _text(c: Collector, data: Mapping[str, Any], key: str, required: bool) -> str:
@@ -89,10 +128,13 @@ def _stage(
     """One ``[[stages]]`` table, checked against the stages before it; None when incomplete."""
     w = f"stages[{i}]."
     check_keys(c, s, STAGE_KEYS, w)
-    frm = _opt_number(c, w + "from_C", s.get("from_C"), unit="°C")
-    if "to_C" not in s:
-        c.add(InvalidInputError(w + "to_C", None, "a temperature in °C", "required"))
-    to = _opt_number(c, w + "to_C", s.get("to_C"), unit="°C")
+    # Stricter: a later end and an earlier start of the clock (cooling: a lower to, a higher from).
+    to_keep = {"down": "low", "up": "high"}.get(direction or "")
+    from_keep = {"down": "high", "up": "low"}.get(direction or "")
+    frm, frm_pub = _limit(c, w, s, "from", from_keep)
+    if "to_C" not in s and "to_F" not in s:
+        c.add(InvalidInputError(w + "to_C", None, "a temperature in °C (to_C) or °F (to_F)", "required"))
+    to, to_pub = _limit(c, w, s, "to", to_keep)
     if "within_min" not in s:
         c.add(InvalidInputError(w + "within_min", None, "> 0 min", "required"))
     within = _opt_number(
@@ -105,7 +147,7 @@ def _stage(
         clock = "stage"  # the first stage's clock is the rule's clock
     _check_stage_order(c, w, kind, direction, frm, to, clock, within, stages)
     if to is not None and within is not None:
-        return Stage(frm, to, within, clock)
+        return Stage(frm, to, within, clock, frm_pub, to_pub)
     return None
 
 
@@ -131,10 +173,20 @@ def _band(c: Collector, i: int, b: dict) -> Band:
     """One ``[[bands]]`` table: a range with at least one end and at least one time limit."""
     w = f"bands[{i}]."
     check_keys(c, b, BAND_KEYS, w)
-    lo = _opt_number(c, w + "low_C", b.get("low_C"), unit="°C")
-    hi = _opt_number(c, w + "high_C", b.get("high_C"), unit="°C")
+    # Stricter: the narrower range, except for a band that only limits the time inside (at_most_min).
+    widest = (
+        b.get("at_most_min") is not None
+        and b.get("at_least_min") is None
+        and b.get("max_outside_min") is None
+    )
+    lo, lo_pub = _limit(c, w, b, "low", "low" if widest else "high")
+    hi, hi_pub = _limit(c, w, b, "high", "high" if widest else "low")
     if lo is None and hi is None:
-        c.add(InvalidInputError(w + "low_C", None, "low_C and/or high_C", "a band needs at least one end"))
+        c.add(
+            InvalidInputError(
+                w + "low_C", None, "low_C/low_F and/or high_C/high_F", "a band needs at least one end"
+            )
+        )
     if lo is not None and hi is not None and not lo < hi:
         c.add(InvalidInputError(w + "high_C", hi, f"> low_C ({lo:g} °C)"))
     limits = {k: _opt_number(c, w + k, b.get(k), minimum=0.0, unit="min") for k in BAND_LIMITS}
@@ -148,7 +200,16 @@ def _band(c: Collector, i: int, b: dict) -> Band:
     if not isinstance(bname, str):
         c.add(InvalidInputError(w + "name", bname, "a text"))
         bname = ""
-    return Band(lo, hi, limits["at_least_min"], limits["at_most_min"], limits["max_outside_min"], bname)
+    return Band(
+        lo,
+        hi,
+        limits["at_least_min"],
+        limits["at_most_min"],
+        limits["max_outside_min"],
+        bname,
+        lo_pub,
+        hi_pub,
+    )
 
 
 def _list(c: Collector, data: dict, key: str, what: str) -> list:
@@ -166,7 +227,8 @@ def rule_from_dict(data: dict, source: str = "rule") -> Rule:
     ----------
     data : mapping with keys name, source, kind, point, title, notes, stages (list of mappings with
         from_C, to_C, within_min, clock) and bands (list of mappings with low_C, high_C, at_least_min,
-        at_most_min, max_outside_min, name)
+        at_most_min, max_outside_min, name). Each temperature may be given in °F as well or instead
+        (from_F, to_F, low_F, high_F: the figure the source publishes); see :func:`_limit`.
     source : where the mapping came from (a file name), used in error messages
 
     Raises
@@ -176,7 +238,7 @@ def rule_from_dict(data: dict, source: str = "rule") -> Rule:
     >>> r = rule_from_dict({"name": "x", "source": "s", "kind": "cooling",
     ...                     "stages": [{"from_C": 57, "to_C": 21, "within_min": 120}]})
     >>> r.stages[0]
-    Stage(from_C=57.0, to_C=21.0, within_min=120.0, clock='stage')
+    Stage(from_C=57.0, to_C=21.0, within_min=120.0, clock='stage', from_published=None, to_published=None)
     >>> rule_from_dict({"name": "x", "source": "s", "kind": "cooling",
     ...                 "stages": [{"from_C": 21, "to_C": 57, "within_min": 120}]})
     Traceback (most recent call last):
@@ -214,6 +276,18 @@ def rule_from_dict(data: dict, source: str = "rule") -> Rule:
     return Rule(name, citation, kind, tuple(stages), tuple(bands), point, title, notes, confirmed)
 
 
+def _limit_to_dict(key: str, value_C: float, published: Published | None) -> dict[str, float]:
+    """``{key_C: …, key_F: …}`` with the published figures (the °C value when only it is given)."""
+    if published is None:
+        return {key + "_C": value_C}
+    out = {}
+    if published.value_C is not None:
+        out[key + "_C"] = published.value_C
+    if published.value_F is not None:
+        out[key + "_F"] = published.value_F
+    return out
+
+
 def rule_to_dict(rule: Rule) -> dict:
     """The mapping :func:`rule_from_dict` reads, omitting defaults and empty values (TOML-ready).
 
@@ -238,8 +312,8 @@ def rule_to_dict(rule: Rule) -> dict:
         for s in rule.stages:
             sd: dict[str, Any] = {}
             if s.from_C is not None:
-                sd["from_C"] = s.from_C
-            sd["to_C"] = s.to_C
+                sd.update(_limit_to_dict("from", s.from_C, s.from_published))
+            sd.update(_limit_to_dict("to", s.to_C, s.to_published))
             sd["within_min"] = s.within_min
             if s.clock != "stage":
                 sd["clock"] = s.clock
@@ -250,7 +324,11 @@ def rule_to_dict(rule: Rule) -> dict:
             bd: dict[str, Any] = {}
             if b.name:
                 bd["name"] = b.name
-            for k in ("low_C", "high_C", "at_least_min", "at_most_min", "max_outside_min"):
+            if b.low_C is not None:
+                bd.update(_limit_to_dict("low", b.low_C, b.low_published))
+            if b.high_C is not None:
+                bd.update(_limit_to_dict("high", b.high_C, b.high_published))
+            for k in BAND_LIMITS:
                 v = getattr(b, k)
                 if v is not None:
                     bd[k] = v

@@ -12,6 +12,13 @@ with ``clock = "rule"``, ``within_min`` counts from the start of the first stage
 US FDA Food Code's "within a total of 6 hours").
 
 Histories are taken as piecewise linear in time: crossing times and time-in-band are exact for them.
+
+Published figures. A limit may be published in °C, in °F or in both (the US FDA Food Code prints
+"57 °C (135 °F)"). A :class:`Published` keeps the figures as printed so that a sheet in either unit shows
+the regulation's own number (70 °F, not 69.8 °F); :func:`limit_text` formats a stage's or band's limits in a
+display unit. The checks compute with one °C value per limit (``from_C``, ``to_C``, ``low_C``, ``high_C``):
+the °C figure when only it is published, the exact conversion when only °F is, and the stricter of the two
+when both are (see :func:`stricter_C`), so that a history that passes here passes either reading.
 """
 
 from __future__ import annotations
@@ -23,6 +30,7 @@ import numpy as np
 from procplan.caution import INDICATIVE
 from procplan.errors import InvalidInputError
 from procplan.outcomes.targets import TargetResult, history_arrays, time_to_temperature
+from procplan.units import c_to_f, f_to_c
 
 #: Kinds of rule, with the direction their stages go ("down": each stage cools, "up": each heats).
 RULE_KINDS: dict[str, str | None] = {"cooling": "down", "heating": "up", "holding": None, "storage": None}
@@ -30,16 +38,101 @@ RULE_KINDS: dict[str, str | None] = {"cooling": "down", "heating": "up", "holdin
 RULE_POINTS: dict[str, str] = {"core": "core_C", "surface": "surface_C", "mean": "mean_C"}
 #: Stage clocks (see the module notes).
 STAGE_CLOCKS: tuple[str, ...] = ("stage", "rule")
+#: Display units of a limit, with their symbols.
+LIMIT_UNITS: dict[str, str] = {"C": "°C", "F": "°F"}
+
+
+@dataclass(frozen=True)
+class Published:
+    """A limit temperature as its source prints it: in °C, in °F or both (None: not printed in that unit).
+
+    >>> Published(21.0, 70.0).text("F"), Published(None, 80.0).text("C"), Published(3.0).text("F")
+    ('70 °F', '26.7 °C', '37.4 °F')
+    """
+
+    value_C: float | None = None
+    value_F: float | None = None
+
+    def text(self, unit: str = "C") -> str:
+        """The figure in ``unit`` ("C" or "F"): the published one, else the conversion to 0.1 degree."""
+        if unit not in LIMIT_UNITS:
+            raise InvalidInputError("unit", unit, "one of 'C', 'F'")
+        own = self.value_C if unit == "C" else self.value_F
+        if own is not None:
+            return f"{own:g} {LIMIT_UNITS[unit]}"
+        if unit == "C":
+            converted = float(f_to_c(self.value_F))
+        else:
+            converted = float(c_to_f(self.value_C))
+        return f"{round(converted, 1):g} {LIMIT_UNITS[unit]}"
+
+
+def figure_text(value_C: float, published: Published | None, unit: str = "C") -> str:
+    """A limit in ``unit``: its published figure when there is one, else ``value_C`` (°C) converted.
+
+    >>> figure_text(21.0, Published(21.0, 70.0), "F"), figure_text(21.0, None, "F")
+    ('70 °F', '69.8 °F')
+    """
+    return (published or Published(value_C)).text(unit)
+
+
+def _figures(value_C: float, published: Published | None) -> str:
+    """A limit in check reasons: its °C figure, and the °F one beside it when the source prints one."""
+    if published is None or published.value_F is None:
+        return figure_text(value_C, published, "C")
+    return f"{published.text('C')} ({published.text('F')})"
+
+
+def stricter_C(published: Published, keep: str) -> float:
+    """The °C value to compute with for a limit published as ``published``.
+
+    Only one figure: that figure (°F converted exactly). Both: the stricter of the °C figure and the exact
+    conversion of the °F one, ``keep`` = "low" or "high" saying which way is stricter for this limit (a
+    cooling stage's end: the lower; its start: the higher, which starts the clock earlier).
+
+    >>> round(stricter_C(Published(57.0, 135.0), "high"), 3), stricter_C(Published(21.0, 70.0), "low")
+    (57.222, 21.0)
+    """
+    values = [
+        v
+        for v in (published.value_C, None if published.value_F is None else f_to_c(published.value_F))
+        if v is not None
+    ]
+    if not values:
+        raise InvalidInputError("published", published, "a °C or °F figure")
+    if keep not in ("low", "high"):
+        raise InvalidInputError("keep", keep, "one of 'low', 'high'")
+    return float(min(values) if keep == "low" else max(values))
 
 
 @dataclass(frozen=True)
 class Stage:
-    """Go from ``from_C`` to ``to_C`` within ``within_min`` minutes (``from_C`` None: from the start of the history)."""
+    """Go from ``from_C`` to ``to_C`` within ``within_min`` minutes (``from_C`` None: from the start of the history).
+
+    from_published, to_published : the figures the source prints for the two limits, when it prints a °F
+        figure (None: the °C value is the published figure)
+    """
 
     from_C: float | None
     to_C: float
     within_min: float
     clock: str = "stage"
+    from_published: Published | None = None
+    to_published: Published | None = None
+
+    def from_text(self, unit: str = "C") -> str:
+        """The start limit in ``unit`` as published ("start" when the stage starts with the history)."""
+        if self.from_C is None:
+            return "start"
+        return figure_text(self.from_C, self.from_published, unit)
+
+    def to_text(self, unit: str = "C") -> str:
+        """The end limit in ``unit`` as published."""
+        return figure_text(self.to_C, self.to_published, unit)
+
+    def limit_text(self, unit: str = "C") -> str:
+        """``"57 °C → 21 °C"`` (or the °F figures), as published."""
+        return f"{self.from_text(unit)} → {self.to_text(unit)}"
 
 
 @dataclass(frozen=True)
@@ -58,23 +151,53 @@ class Band:
     at_most_min: float | None = None
     max_outside_min: float | None = None
     name: str = ""
+    low_published: Published | None = None
+    high_published: Published | None = None
 
-    def range_text(self) -> str:
-        """The band's limits in words, with either end open.
+    def low_text(self, unit: str = "C") -> str:
+        """The low end in ``unit`` as published ("" when open)."""
+        return "" if self.low_C is None else figure_text(self.low_C, self.low_published, unit)
+
+    def high_text(self, unit: str = "C") -> str:
+        """The high end in ``unit`` as published ("" when open)."""
+        return "" if self.high_C is None else figure_text(self.high_C, self.high_published, unit)
+
+    def range_text(self, unit: str = "C") -> str:
+        """The band's limits in words, with either end open, in ``unit`` as published.
 
         >>> Band(0.0, 3.0).range_text(), Band(0.0, None).range_text(), Band(None, 8.0).range_text()
         ('0…3 °C', '≥ 0 °C', '≤ 8 °C')
+        >>> Band(2.0, 8.0).range_text("F")
+        '35.6…46.4 °F'
         """
-        if self.low_C is not None and self.high_C is not None:
-            return f"{self.low_C:g}…{self.high_C:g} °C"
-        if self.low_C is not None:
-            return f"≥ {self.low_C:g} °C"
-        if self.high_C is not None:
-            return f"≤ {self.high_C:g} °C"
+        lo, hi = self.low_text(unit), self.high_text(unit)
+        if lo and hi:
+            return f"{lo.rsplit(' ', 1)[0]}…{hi}"
+        if lo:
+            return f"≥ {lo}"
+        if hi:
+            return f"≤ {hi}"
         return "any temperature"
 
-    def label(self) -> str:
-        return self.name or self.range_text()
+    def label(self, unit: str = "C") -> str:
+        """The band's name, or its range in ``unit`` when it has none."""
+        return self.name or self.range_text(unit)
+
+
+def limit_text(item: Stage | Band, unit: str = "C") -> str:
+    """The temperature limits of a rule stage or band in the display unit ``unit`` ("C" or "F"), with the
+    figures the source publishes (70 °F, not the 69.8 °F of 21 °C): ``"57 °C → 21 °C"``, ``"≤ 8 °C"``.
+
+    >>> limit_text(Stage(57.0, 21.0, 120.0, to_published=Published(21.0, 70.0)), "F")
+    '134.6 °F → 70 °F'
+    >>> limit_text(Band(None, 8.0), "C")
+    '≤ 8 °C'
+    """
+    if isinstance(item, Stage):
+        return item.limit_text(unit)
+    if isinstance(item, Band):
+        return item.range_text(unit)
+    raise InvalidInputError("item", type(item).__name__, "a rule Stage or Band")
 
 
 @dataclass(frozen=True)
@@ -173,16 +296,18 @@ class RuleCheck:
 
 
 def _start_of_stage(
-    t: np.ndarray, temp: np.ndarray, frm: float | None, direction: str, after_s: float
+    t: np.ndarray, temp: np.ndarray, stage: Stage, direction: str, after_s: float
 ) -> tuple[float | None, str]:
+    frm = stage.from_C
     if frm is None:
         return after_s, "from the start of the history"
+    shown = _figures(frm, stage.from_published)
     r: TargetResult = time_to_temperature(t, temp, frm, direction=direction, start_s=after_s)
     if not r.reached:
-        return None, f"never reached {frm:g} °C (closest {r.closest_C:.2f} °C)"
+        return None, f"never reached {shown} (closest {r.closest_C:.2f} °C)"
     if r.at_start:
-        return r.time_s, f"already past {frm:g} °C at {r.time_s / 60:.1f} min; clock started then"
-    return r.time_s, f"reached {frm:g} °C at {r.time_s / 60:.1f} min"
+        return r.time_s, f"already past {shown} at {r.time_s / 60:.1f} min; clock started then"
+    return r.time_s, f"reached {shown} at {r.time_s / 60:.1f} min"
 
 
 def _time_in_band(t: np.ndarray, temp: np.ndarray, lo: float | None, hi: float | None) -> tuple[float, float]:
@@ -258,7 +383,7 @@ def _check_stages(rule: Rule, t: np.ndarray, temp: np.ndarray) -> list[StageChec
         if prev_start is None:
             stage_checks.append(_not_started(i, s, "not started: an earlier stage never started"))
             continue
-        start, why = _start_of_stage(t, temp, s.from_C, direction, prev_start)
+        start, why = _start_of_stage(t, temp, s, direction, prev_start)
         if start is None:
             stage_checks.append(_not_started(i, s, f"not started: the {rule.point} {why}"))
             prev_start = None
@@ -277,24 +402,27 @@ def _check_started_stage(
     """A stage that started at ``start`` [s], its clock at ``clock0`` [s]: reached in time, late, not reached
     (failed once the allowed time is over) or undecided (the history ends first; counted as a failure)."""
     allowed = s.within_min
+    to = _figures(s.to_C, s.to_published)
     r = time_to_temperature(t, temp, s.to_C, direction=RULE_KINDS[rule.kind], start_s=start)
     if r.reached:
         used = (r.time_s - clock0) / 60.0
         margin = allowed - used
         ok = margin >= 0
         verdict = "within" if ok else "over"
-        reason = f"{rule.point} {why}; reached {s.to_C:g} °C after {used:.1f} min, {verdict} the {allowed:g} min allowed"
+        reason = (
+            f"{rule.point} {why}; reached {to} after {used:.1f} min, {verdict} the {allowed:g} min allowed"
+        )
         return StageCheck(
             i, s, ok, True, start, r.time_s, used, allowed, margin, 100.0 * margin / allowed, reason
         )
     used = (float(t[-1]) - clock0) / 60.0
     if used > allowed:
         margin = allowed - used
-        reason = f"not reached: {rule.point} did not reach {s.to_C:g} °C within {allowed:g} min (closest {r.closest_C:.2f} °C by the end of the history)"
+        reason = f"not reached: {rule.point} did not reach {to} within {allowed:g} min (closest {r.closest_C:.2f} °C by the end of the history)"
         return StageCheck(
             i, s, False, False, start, None, used, allowed, margin, 100.0 * margin / allowed, reason
         )
-    reason = f"not reached: the history ends {used:.1f} min into the {allowed:g} min allowed with the {rule.point} at {temp[-1]:.2f} °C, above {s.to_C:g} °C; undecided, counted as a failure"
+    reason = f"not reached: the history ends {used:.1f} min into the {allowed:g} min allowed with the {rule.point} at {temp[-1]:.2f} °C, above {to}; undecided, counted as a failure"
     return StageCheck(i, s, False, False, start, None, used, allowed, None, None, reason)
 
 

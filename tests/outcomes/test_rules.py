@@ -15,6 +15,7 @@ from numpy.testing import assert_allclose
 from procplan.errors import InvalidInputError
 from procplan.files.rules import rule_from_dict, rule_to_dict
 from procplan.outcomes import check_rule, check_rule_on_history
+from procplan.units import f_to_c
 
 RULES_DIR = Path(__file__).resolve().parents[2] / "product_library" / "rules"
 
@@ -25,9 +26,10 @@ def load(name):
 
 
 def fda_history(stage1_min, total_min, pre_min=10.0):
-    """74 °C → 57 °C in pre_min, → 21 °C after stage1_min more, → 5 °C at total_min after the 57 °C crossing."""
+    """74 °C → 135 °F (57.2 °C, the stricter start) in pre_min, → 21 °C after stage1_min more, → 5 °C at
+    total_min after the 135 °F crossing."""
     t = np.array([0.0, pre_min, pre_min + stage1_min, pre_min + total_min, pre_min + total_min + 60.0]) * 60.0
-    T = np.array([74.0, 57.0, 21.0, 5.0, 3.0])
+    T = np.array([74.0, f_to_c(135.0), 21.0, 5.0, 3.0])
     return t, T
 
 
@@ -48,11 +50,21 @@ def test_rule_files_load_and_round_trip():
 def test_fda_limits_encoded_as_published():
     # Source: US FDA Food Code §3-501.14(A): 57 → 21 °C within 2 h; to 5 °C within a total of 6 h
     # (as summarised in the project's references; the Code's wording recalled from memory).
+    # Source: US FDA Food Code 2022 §3-501.14(A) prints both units: 57 °C (135 °F), 21 °C (70 °F),
+    # 5 °C (41 °F) (figures as quoted in the rule file's source notes).
     r = load("us-food-code-two-stage")
-    assert [(s.from_C, s.to_C, s.within_min, s.clock) for s in r.stages] == [
-        (57.0, 21.0, 120.0, "stage"),
-        (21.0, 5.0, 360.0, "rule"),
+    published = [
+        (s.from_published.value_C, s.from_published.value_F, s.to_published.value_C, s.to_published.value_F)
+        for s in r.stages
     ]
+    assert published == [(57.0, 135.0, 21.0, 70.0), (21.0, 70.0, 5.0, 41.0)]
+    assert [(s.within_min, s.clock) for s in r.stages] == [(120.0, "stage"), (360.0, "rule")]
+    # The check uses the stricter figure of each pair: cooling ends at the colder one (21 °C < 70 °F =
+    # 21.1 °C; 41 °F = 5 °C exactly) and its clock starts at the warmer one (135 °F = 57.2 °C > 57 °C).
+    assert_allclose([s.to_C for s in r.stages], [21.0, 5.0], rtol=0)
+    assert_allclose([s.from_C for s in r.stages], [(135.0 - 32.0) * 5 / 9, (70.0 - 32.0) * 5 / 9], rtol=1e-12)
+    assert [s.limit_text("F") for s in r.stages] == ["135 °F → 70 °F", "70 °F → 41 °F"]
+    assert [s.limit_text("C") for s in r.stages] == ["57 °C → 21 °C", "21 °C → 5 °C"]
 
 
 @pytest.mark.parametrize(
@@ -98,11 +110,17 @@ def test_fda_not_reached_fails_with_a_reason():
 
 
 def test_fsis_appendix_b_second_stage_clock_starts_at_26_7():
-    # Source: USDA FSIS Appendix B: 54.4 → 26.7 °C within 1.5 h, then 26.7 → 4.4 °C within 5 h
-    # (from memory: limits as summarised in the project's references, not confirmed against the guideline).
+    # Source: USDA FSIS Appendix B: 130 → 80 °F (54.4 → 26.7 °C) within 1.5 h, then 80 → 40 °F (→ 4.4 °C)
+    # within 5 h (from memory: limits as summarised in the project's references, not confirmed against the
+    # guideline). Published in °F only: the check uses the exact conversions.
     r = load("usda-fsis-appendix-b-stabilization")
+    assert [(s.from_published.value_F, s.to_published.value_F) for s in r.stages] == [
+        (130.0, 80.0),
+        (80.0, 40.0),
+    ]
+    assert [s.limit_text("C") for s in r.stages] == ["54.4 °C → 26.7 °C", "26.7 °C → 4.4 °C"]
     t = np.array([0.0, 30.0, 30.0 + 90.0, 30.0 + 90.0 + 300.0]) * 60.0
-    T = np.array([60.0, 54.4, 26.7, 4.4])
+    T = f_to_c(np.array([140.0, 130.0, 80.0, 40.0]))
     chk = check_rule(r, t, T)
     assert chk.passed
     assert_allclose([s.margin_min for s in chk.stages], [0.0, 0.0], atol=1e-9)
