@@ -57,7 +57,7 @@ def test_sheet_numbers_equal_the_api_result(tmp_path, capsys):
     for tg in result.outcomes.targets:
         assert tg.target.reached
         assert f"{tg.point} {site.format_temperature(tg.target.target_C)}" in text
-        assert site.format_time(tg.target.elapsed_s / 60.0) in text
+        assert site.format_time_hm(tg.target.elapsed_s / 60.0) in text
     end = result.history.iloc[-1]
     assert " / ".join(site.format_temperature(end[k]) for k in ("core_C", "surface_C", "mean_C")) in text
     assert len(PdfReader(str(out)).pages) <= 2

@@ -81,13 +81,13 @@ def test_sheet_states_the_result_it_was_made_from(results, sheets, site):
         for tg in oc.targets:
             if tg.target.reached:
                 sr = next(s for s in r.steps if s.name == tg.step)
-                assert site.format_time((tg.target.time_s - sr.start_s) / 60.0) in text, name
-                assert site.format_time(tg.margin.plan_min) in text, name
+                assert site.format_time_hm((tg.target.time_s - sr.start_s) / 60.0) in text, name
+                assert site.format_time_hm(tg.margin.plan_min) in text, name
         if oc.rule_check is not None:
             verdict = "PASS" if oc.rule_check.passed else "FAIL"
             assert f"{oc.rule_check.rule_name}: {verdict}" in text, name
             for s in oc.rule_check.stages:
-                assert site.format_time(s.used_min) in text, name
+                assert site.format_time_hm(s.used_min) in text, name
         if oc.lethality is not None:
             assert f"{format_f(oc.lethality.total_F_min)} min" in text, name
             assert ("PASS" if oc.lethality.passed else "FAIL") in text, name

@@ -22,6 +22,7 @@ from procplan.errors import Collector, InvalidInputError
 from procplan.files.demo import demo_library_path
 from procplan.files.fields import check_keys
 from procplan.files.tomlfile import NAME_PATTERN, read_toml
+from procplan.outcomes.rules import Band, Stage, limit_text
 from procplan.units import c_to_f
 
 #: The demo plant's settings.
@@ -134,6 +135,34 @@ class SiteSettings:
         if self.time_unit == "h":
             return f"{time_min / 60.0:.2f} h"
         return f"{time_min:.1f} min"
+
+    def format_time_hm(self, time_min: float | None) -> str:
+        """A process time on the sheet: an hour or more as hours and minutes (``"1:35 h"``), shorter as
+        minutes (``"45.2 min"``); with the time unit "h", always hours and minutes; an em dash for None.
+
+        >>> s = SiteSettings("p")
+        >>> s.format_time_hm(95.2), s.format_time_hm(45.24), s.format_time_hm(-75.0), s.format_time_hm(59.96)
+        ('1:35 h', '45.2 min', '-1:15 h', '1:00 h')
+        >>> SiteSettings("p", time_unit="h").format_time_hm(45.24)
+        '0:45 h'
+        """
+        if time_min is None:
+            return "—"
+        whole = round(abs(time_min))
+        if self.time_unit == "min" and whole < 60:
+            return f"{time_min:.1f} min"
+        sign = "-" if time_min < 0 and whole > 0 else ""
+        return f"{sign}{whole // 60}:{whole % 60:02d} h"
+
+    def format_limit(self, item: Stage | Band) -> str:
+        """A rule stage's or band's temperature limits in the site's unit, with the figures the rule's
+        source publishes (:func:`procplan.outcomes.rules.limit_text`).
+
+        >>> from procplan.outcomes.rules import Published
+        >>> SiteSettings("p", temperature_unit="F").format_limit(Stage(None, 21.0, 120.0, to_published=Published(21.0, 70.0)))
+        'start → 70 °F'
+        """
+        return limit_text(item, self.temperature_unit)
 
     def line_for(self, equipment_ids: Any) -> str:
         """The line that holds most of the given machines (the first such line on a tie), or "".
@@ -380,6 +409,14 @@ def load_site(path: str | os.PathLike | None = None, *, library=None) -> SiteSet
     """
     p = Path(path) if path is not None else DEFAULT_SITE_FILE
     return site_from_dict(read_toml(p), source=str(p), library=library)
+
+
+def site_of_library(root: str | os.PathLike, *, library=None) -> SiteSettings:
+    """The settings of a library folder: its ``site.toml``, or the defaults (°C, minutes) when it has none."""
+    p = Path(root) / "site.toml"
+    if p.is_file():
+        return load_site(p, library=library)
+    return SiteSettings(plant="", source="defaults")
 
 
 def site_to_text(site: SiteSettings) -> str:

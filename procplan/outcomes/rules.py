@@ -180,8 +180,14 @@ class Band:
         return "any temperature"
 
     def label(self, unit: str = "C") -> str:
-        """The band's name, or its range in ``unit`` when it has none."""
-        return self.name or self.range_text(unit)
+        """The band's name (with its range in °F for a °F display), or its range in ``unit`` when it has none.
+
+        >>> Band(2.0, 8.0, name="2–8 °C storage").label("F")
+        '2–8 °C storage (35.6…46.4 °F)'
+        """
+        if not self.name:
+            return self.range_text(unit)
+        return self.name if unit == "C" else f"{self.name} ({self.range_text(unit)})"
 
 
 def limit_text(item: Stage | Band, unit: str = "C") -> str:

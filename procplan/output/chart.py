@@ -38,6 +38,11 @@ class RefLine:
     value: float  # display units
     label: str
     kind: str  # "target" or "rule"
+    figure: str = ""  # the value as printed when it is a rule's published figure ("70 °F"); "": from value
+
+    def text(self, symbol: str) -> str:
+        """The label and the value, e.g. ``"rule stage 1 70 °F"``."""
+        return f"{self.label} {self.figure or f'{self.value:.1f} {symbol}'}"
 
 
 def nice_ticks(lo: float, hi: float, n: int = 6) -> np.ndarray:
@@ -105,18 +110,23 @@ def reference_lines(result, site) -> list[RefLine]:
     oc = result.outcomes
     if oc is not None and oc.rule_check is not None:
         for st in oc.rule_check.stages:
-            refs.append(RefLine(site.temperature_value(st.stage.to_C), f"rule stage {st.index + 1}", "rule"))
+            figure = st.stage.to_text(site.temperature_unit)
+            refs.append(
+                RefLine(site.temperature_value(st.stage.to_C), f"rule stage {st.index + 1}", "rule", figure)
+            )
         for b in oc.rule_check.bands:
-            for v, end in ((b.band.low_C, "low"), (b.band.high_C, "high")):
+            ends = ((b.band.low_C, "low", b.band.low_text), (b.band.high_C, "high", b.band.high_text))
+            for v, end, text in ends:
                 if v is not None:
-                    refs.append(RefLine(site.temperature_value(v), f"rule band {end}", "rule"))
+                    figure = text(site.temperature_unit)
+                    refs.append(RefLine(site.temperature_value(v), f"rule band {end}", "rule", figure))
     merged: dict[float, RefLine] = {}
     for r in refs:
         key = round(r.value, 6)
         if key in merged:
             old = merged[key]
             kind = "rule" if "rule" in (old.kind, r.kind) else "target"
-            merged[key] = RefLine(r.value, f"{old.label}; {r.label}", kind)
+            merged[key] = RefLine(r.value, f"{old.label}; {r.label}", kind, old.figure or r.figure)
         else:
             merged[key] = r
     return sorted(merged.values(), key=lambda r: r.value)
@@ -184,10 +194,7 @@ def history_chart(
     yt = nice_ticks(y_lo - pad, y_hi + pad, 8)
     xt = nice_ticks(0.0, x_hi, 8)
 
-    label_w = max(
-        [stringWidth(f"{r.label} {r.value:.1f} {site.temperature_symbol}", font, size - 0.5) for r in refs]
-        + [0.0]
-    )
+    label_w = max([stringWidth(r.text(site.temperature_symbol), font, size - 0.5) for r in refs] + [0.0])
     left, right = 38.0, min(max(label_w + 16.0, 40.0), 0.34 * width)
     legend_h, bottom_axis = 12.0, 24.0
     row_a = size + 4.0  # step names, just above the plot
@@ -226,7 +233,7 @@ def _split_deadlines(result, site, to_t, t_end: float) -> tuple[list, list[str]]
         if x <= DEADLINE_STRETCH * t_end:
             drawn_deadlines.append((x, dl))
         else:
-            far.append(f"stage {dl.index + 1} limit at {site.format_time(dl.deadline_s / 60.0)}")
+            far.append(f"stage {dl.index + 1} limit at {site.format_time_hm(dl.deadline_s / 60.0)}")
     return drawn_deadlines, far
 
 
@@ -291,7 +298,7 @@ def _draw_references(g: Group, pl: _Plot, refs: list[RefLine], site) -> None:
             _string(
                 px1 + 8.0,
                 yp - size / 3.0,
-                f"{r.label} {r.value:.1f} {site.temperature_symbol}",
+                r.text(site.temperature_symbol),
                 pl.font,
                 size - 0.5,
             )

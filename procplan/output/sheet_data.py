@@ -20,6 +20,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from procplan.outcomes.rules import Stage
+
 #: Instruction printed with the checkpoint table.
 ACTION_IF_MISSED = (
     "extend the step and re-probe; if the rule stage limit is missed, hold and refer to the QA manager"
@@ -45,6 +47,8 @@ class Checkpoint:
     basis : why this checkpoint and limit
     action : what to do if missed
     rule : True when the limit is a rule's stage or band limit
+    limit_label : the action limit as printed, when it is a rule's published figure ("≤ 70 °F"); "" to
+        print ``low_C``/``high_C`` in the display unit
     """
 
     time_min: float
@@ -56,16 +60,19 @@ class Checkpoint:
     basis: str
     action: str
     rule: bool = False
+    limit_label: str = ""
 
 
 @dataclass(frozen=True)
 class StageDeadline:
-    """A rule stage's limit on the plan's clock: reach ``to_C`` by ``deadline_s`` (from the plan's start)."""
+    """A rule stage's limit on the plan's clock: reach ``to_C`` by ``deadline_s`` (from the plan's start).
+    ``stage`` is the rule's stage, for its published figures."""
 
     index: int
     to_C: float
     deadline_s: float
     kind: str
+    stage: Stage | None = None
 
 
 def plan_hash(plan) -> str:
@@ -112,7 +119,7 @@ def stage_deadlines(result) -> tuple[StageDeadline, ...]:
         clock0 = first if st.stage.clock == "rule" else st.start_s
         deadline = oc.rule_applied_from_s + clock0 + st.allowed_min * 60.0
         kind = "cooling" if st.stage.from_C is None or st.stage.from_C > st.stage.to_C else "heating"
-        out.append(StageDeadline(st.index, st.stage.to_C, deadline, kind))
+        out.append(StageDeadline(st.index, st.stage.to_C, deadline, kind, st.stage))
     return tuple(out)
 
 
@@ -161,11 +168,12 @@ def checkpoints(result, tolerance_K: float = 1.0, site=None) -> tuple[Checkpoint
     ``site`` (SiteSettings, optional) sets the units of the texts.
     """
     fmt_T = site.format_temperature if site is not None else _celsius
-    fmt_t = site.format_time if site is not None else _minutes
+    fmt_t = site.format_time_hm if site is not None else _minutes
     oc = result.outcomes
     t_end = float(result.history["time_s"].iloc[-1])
     cps = _step_checkpoints(result, oc, t_end, tolerance_K, fmt_T)
-    cps += _rule_checkpoints(result, oc, t_end, fmt_T, fmt_t)
+    unit = site.temperature_unit if site is not None else "C"
+    cps += _rule_checkpoints(result, oc, t_end, unit, fmt_t)
     cps += _lethality_checkpoints(result, oc, t_end, tolerance_K)
     return _merge(cps)
 
@@ -199,8 +207,9 @@ def _step_checkpoints(result, oc, t_end: float, tolerance_K: float, fmt_T) -> li
     return cps
 
 
-def _rule_checkpoints(result, oc, t_end: float, fmt_T, fmt_t) -> list[Checkpoint]:
-    """At each cooling-rule stage deadline, and at each step's end for every band of the rule."""
+def _rule_checkpoints(result, oc, t_end: float, unit: str, fmt_t) -> list[Checkpoint]:
+    """At each cooling-rule stage deadline, and at each step's end for every band of the rule; limits as
+    the rule's source publishes them in the display ``unit``."""
     cps: list[Checkpoint] = []
     rc = oc.rule_check if oc is not None else None
     if rc is not None:
@@ -211,11 +220,26 @@ def _rule_checkpoints(result, oc, t_end: float, fmt_T, fmt_t) -> list[Checkpoint
             later = d.deadline_s > t_end + 1.0
             step = _step_at(result, t_min * 60.0)
             exp = _interp(result, rule.point, t_min * 60.0)
-            why = f"rule stage {d.index + 1}: {fmt_T(d.to_C)} by {fmt_t(d.deadline_s / 60.0)}"
+            to = d.stage.to_text(unit) if d.stage is not None else f"{d.to_C:g} °C"
+            why = f"rule stage {d.index + 1}: {to} by {fmt_t(d.deadline_s / 60.0)}"
             if later:
                 why += " (after the plan ends: probe at the end)"
             lo, hi = (None, d.to_C) if d.kind == "cooling" else (d.to_C, None)
-            cps.append(Checkpoint(float(t_min), step, rule.point, exp, lo, hi, why, ACTION_HOLD, rule=True))
+            label = f"≤ {to}" if d.kind == "cooling" else f"≥ {to}"
+            cps.append(
+                Checkpoint(
+                    float(t_min),
+                    step,
+                    rule.point,
+                    exp,
+                    lo,
+                    hi,
+                    why,
+                    ACTION_HOLD,
+                    rule=True,
+                    limit_label=label,
+                )
+            )
         for b in rc.bands:
             for sr in result.steps:
                 t_min = math.floor(sr.end_s / 60.0 + 1e-9)
@@ -228,9 +252,10 @@ def _rule_checkpoints(result, oc, t_end: float, fmt_T, fmt_t) -> list[Checkpoint
                         exp,
                         b.band.low_C,
                         b.band.high_C,
-                        f"rule band {b.band.label()} at the end of the step",
+                        f"rule band {b.band.label(unit)} at the end of the step",
                         ACTION_HOLD,
                         rule=True,
+                        limit_label=b.band.range_text(unit),
                     )
                 )
     return cps

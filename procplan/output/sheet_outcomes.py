@@ -31,17 +31,16 @@ def rules_section(result, site, st, W):
     if rc.stages:
         rows = [["Stage", "Limit", "Used", "Allowed", "Margin", "Margin %", "Result"]]
         for s in rc.stages:
-            frm = site.format_temperature(s.stage.from_C) if s.stage.from_C is not None else "start"
-            lim = f"{frm} to {site.format_temperature(s.stage.to_C)} within {s.stage.within_min:g} min" + (
+            lim = f"{site.format_limit(s.stage)} within {site.format_time_hm(s.stage.within_min)}" + (
                 " (from the rule's start)" if s.stage.clock == "rule" else ""
             )
             rows.append(
                 [
                     str(s.index + 1),
                     lim,
-                    site.format_time(s.used_min),
-                    site.format_time(s.allowed_min),
-                    site.format_time(s.margin_min),
+                    site.format_time_hm(s.used_min),
+                    site.format_time_hm(s.allowed_min),
+                    site.format_time_hm(s.margin_min),
                     f"{s.margin_percent:.0f} %" if s.margin_percent is not None else "—",
                     "pass" if s.passed else f"FAIL: {s.reason}",
                 ]
@@ -52,11 +51,11 @@ def rules_section(result, site, st, W):
         for b in rc.bands:
             rows.append(
                 [
-                    b.band.label(),
-                    site.format_time(b.inside_min),
-                    site.format_time(b.outside_min),
-                    site.format_time(b.longest_outside_min),
-                    site.format_time(b.margin_min),
+                    b.band.label(site.temperature_unit),
+                    site.format_time_hm(b.inside_min),
+                    site.format_time_hm(b.outside_min),
+                    site.format_time_hm(b.longest_outside_min),
+                    site.format_time_hm(b.margin_min),
                     "pass" if b.passed else f"FAIL: {b.reason}",
                 ]
             )
@@ -85,7 +84,7 @@ def lethality_section(result, site, st, W):
         else:
             res, req = "information only", "—"
         reached = (
-            site.format_time(leth.reached.time_s / 60.0)
+            site.format_time_hm(leth.reached.time_s / 60.0)
             if (leth.reached is not None and leth.reached.reached)
             else ("not reached" if leth.required_F_min else "—")
         )
@@ -114,15 +113,15 @@ def freezing_section(result, site, st, W):
     if fz is None:
         return []
     fh = fz.from_history
-    onset = site.format_time(fh.onset.time_s / 60.0) if fh.onset.reached else "not reached"
-    end = site.format_time(fh.end.time_s / 60.0) if fh.end.reached else "not reached"
+    onset = site.format_time_hm(fh.onset.time_s / 60.0) if fh.onset.reached else "not reached"
+    end = site.format_time_hm(fh.end.time_s / 60.0) if fh.end.reached else "not reached"
     rows = [
         ["Onset (core at initial freezing point)", "End (core at storage temperature)", "Plank", "Pham"],
         [
             f"{onset} (core {site.format_temperature(fz.initial_freezing_C, 2)})",
             f"{end} (core {site.format_temperature(fh.end.target_C)})",
-            site.format_time(fz.plank_s / 60.0) if fz.plank_s else "—",
-            site.format_time(fz.pham.time_s / 60.0) if fz.pham else "—",
+            site.format_time_hm(fz.plank_s / 60.0) if fz.plank_s else "—",
+            site.format_time_hm(fz.pham.time_s / 60.0) if fz.pham else "—",
         ],
     ]
     return [

@@ -174,15 +174,15 @@ def _target_cells(tg, sr, step, site: SiteSettings, st: Styles) -> tuple:
     """Predicted time, plan time, cycle and check of one target of a step, as printed in the steps table."""
     tr, m = tg.target, tg.margin
     if not tr.reached:
-        cyc = site.format_time(step.duration_s / 60.0)
+        cyc = site.format_time_hm(step.duration_s / 60.0)
         return "NOT REACHED", "—", cyc, st.b(f"NOT REACHED: closest {site.format_temperature(tr.closest_C)}")
-    pred = site.format_time((tr.time_s - sr.start_s) / 60.0)
-    plan_t = site.format_time(m.plan_min) if m is not None else "—"
-    cyc = site.format_time(m.cycle_min) if (m is not None and step.duration_given) else "—"
+    pred = site.format_time_hm((tr.time_s - sr.start_s) / 60.0)
+    plan_t = site.format_time_hm(m.plan_min) if m is not None else "—"
+    cyc = site.format_time_hm(m.cycle_min) if (m is not None and step.duration_given) else "—"
     if m is not None and step.duration_given and m.cycle_too_short:
-        check = st.b(f"CYCLE SHORTER THAN PLAN TIME by {site.format_time(-m.spare_min)}")
+        check = st.b(f"CYCLE SHORTER THAN PLAN TIME by {site.format_time_hm(-m.spare_min)}")
     elif m is not None and step.duration_given:
-        check = f"OK, {site.format_time(m.spare_min)} spare"
+        check = f"OK, {site.format_time_hm(m.spare_min)} spare"
     else:
         check = "OK (no cycle given)"
     return pred, plan_t, cyc, check
@@ -209,7 +209,7 @@ def steps_section(result, site, st, W):
         seg = hist[hist["step_index"] == sr.index]
         end = seg.iloc[-1] if len(seg) else hist.iloc[-1]
         ends = " / ".join(site.format_temperature(end[k]) for k in ("core_C", "surface_C", "mean_C"))
-        run = site.format_time(sr.duration_s / 60.0)
+        run = site.format_time_hm(sr.duration_s / 60.0)
         if step.stop_when_core_C is not None:
             run += f", stop at core {site.format_temperature(step.stop_when_core_C)}"
         tgs = [t for t in (oc.targets if oc is not None else ()) if t.step == sr.name]
@@ -219,9 +219,9 @@ def steps_section(result, site, st, W):
                     f"{sr.index + 1} {sr.name}",
                     run,
                     "—",
-                    site.format_time(sr.duration_s / 60.0),
+                    site.format_time_hm(sr.duration_s / 60.0),
                     "—",
-                    site.format_time(step.duration_s / 60.0) if step.duration_given else "—",
+                    site.format_time_hm(step.duration_s / 60.0) if step.duration_given else "—",
                     "no target",
                     ends,
                 ]
@@ -275,11 +275,11 @@ def checkpoints_section(result, site, st, W):
         rows.append(
             [
                 str(i),
-                site.format_time(c.time_min),
+                site.format_time_hm(c.time_min),
                 c.step,
                 c.point,
                 expected_cell(st, site, c),
-                limit_text(site, c.low_C, c.high_C),
+                c.limit_label or limit_text(site, c.low_C, c.high_C),
                 c.basis,
                 st.b(c.action) if c.rule else c.action,
                 "",
