@@ -119,6 +119,39 @@ def test_time_display_units():
     assert SiteSettings("p").format_time(None) == "—"
 
 
+@pytest.mark.parametrize(
+    "unit,t_min,text",
+    [
+        ("min", 95.0, "1:35 h"),
+        ("min", 60.0, "1:00 h"),
+        ("min", 59.4, "59.4 min"),
+        ("min", 59.6, "1:00 h"),  # rounds to a whole minute first: never "0:60"
+        ("min", 119.5, "2:00 h"),
+        ("min", 1439.0, "23:59 h"),
+        ("min", -75.0, "-1:15 h"),
+        ("min", -5.0, "-5.0 min"),
+        ("h", 45.24, "0:45 h"),
+        ("h", 0.2, "0:00 h"),
+        ("h", 600.0, "10:00 h"),
+    ],
+)
+def test_sheet_times_read_hours_and_minutes(unit, t_min, text):
+    assert SiteSettings("p", time_unit=unit).format_time_hm(t_min) == text
+    assert SiteSettings("p", time_unit=unit).format_time_hm(None) == "—"
+
+
+@given(st.floats(min_value=-5000.0, max_value=5000.0, allow_nan=False))
+def test_sheet_time_reads_back_to_the_minute(t_min):
+    # Independent method: parse the h:mm text back and compare with the value rounded to a minute.
+    text = SiteSettings("p").format_time_hm(t_min)
+    if text.endswith(" min"):
+        assert abs(float(text[:-4]) - t_min) <= 0.05 + 1e-9 and round(abs(t_min)) < 60
+    else:
+        h, m = text[:-2].lstrip("-").split(":")
+        assert 0 <= int(m) < 60
+        assert int(h) * 60 + int(m) == round(abs(t_min))
+
+
 def test_paper_sizes_agree_with_reportlab():
     # Source: ISO 216 A4 = 210 × 297 mm; ANSI US Letter = 8.5 × 11 in; reportlab.lib.pagesizes holds both in
     # points. Tolerance 0.01 pt (reportlab rounds nothing; 1e-2 allows for float mm → pt conversion).

@@ -64,8 +64,10 @@ def cmd_run(args) -> int:
     if args.json:
         write_json({"history": history_dict(result), "summary": summary_dict(result)})
     else:
+        from procplan.files.site import site_of_library
+
         out = info_stream(args.csv)
-        print(summary_text(result), file=out)
+        print(summary_text(result, site_of_library(lib.root, library=lib)), file=out)
         if where is not None and csv is not None:
             print(f"history written to {where}", file=out)
     return EXIT_CHECK_FAILED if (args.strict and _failed(result)) else EXIT_OK

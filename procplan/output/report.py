@@ -7,6 +7,7 @@ from typing import Any
 from procplan._version import __version__
 from procplan.caution import CAUTION
 from procplan.outcomes import DEFAULT_MAX_LOG_REDUCTION, INDICATIVE
+from procplan.outcomes.rules import limit_text
 from procplan.output.json_safe import json_safe
 
 
@@ -112,19 +113,33 @@ def _fmt_min(t_min: float | None) -> str:
     return f"{t_min:.1f} min"
 
 
-def summary_text(result) -> str:
-    """A readable summary for the terminal."""
+def _temp(site, value_C: float, digits: int | None = None) -> str:
+    """A temperature in the site's unit (``site`` None: °C, ``digits`` None: as short as exact)."""
+    if site is None:
+        return f"{value_C:g} °C" if digits is None else f"{value_C:.{digits}f} °C"
+    return site.format_temperature(value_C, 1 if digits is None else digits)
+
+
+def _time(site, t_min: float | None) -> str:
+    """A process time in the site's unit (``site`` None: minutes, with hours beside from 2 h)."""
+    return _fmt_min(t_min) if site is None else site.format_time(t_min)
+
+
+def summary_text(result, site=None) -> str:
+    """A readable summary for the terminal; ``site`` (SiteSettings, optional) sets the display units of
+    temperatures, process times and rule limits (default °C and minutes)."""
     plan = result.plan
     lines = [
         f"{plan.title}",
         f"  product: {plan.product.name}, {plan.product.geometry.describe()}, {result.piece_mass_kg:.3f} kg per piece",
     ]
     lines.append(f"  properties: {result.properties.source}")
-    lines.append(f"  start {plan.start_temperature_C:g} °C")
-    lines += _step_lines(result)
+    lines.append(f"  start {_temp(site, plan.start_temperature_C)}")
+    lines += _step_lines(result, site)
     oc = result.outcomes
     if oc is not None:
-        for part in (_target_lines, _rule_lines, _lethality_lines, _freezing_lines, _energy_lines):
+        lines += _target_lines(oc, site) + _rule_lines(oc, site)
+        for part in (_lethality_lines, _freezing_lines, _energy_lines):
             lines += part(oc)
     for w in result.warnings:
         lines.append(f"  warning: {w}")
@@ -133,15 +148,15 @@ def summary_text(result) -> str:
     return "\n".join(lines)
 
 
-def _step_lines(result) -> list[str]:
+def _step_lines(result, site=None) -> list[str]:
     """Medium, h, solver, regime and end temperatures of each step."""
     lines: list[str] = []
     hist = result.history
     for sr in result.steps:
-        med = "…".join(f"{m:g}" for m in sorted(set(sr.surface.medium_C)))
+        med = "…".join(_temp(site, m) for m in sorted(set(sr.surface.medium_C)))
         hh = "…".join(f"{h:.1f}" for h in sorted(set(sr.surface.h_W_m2K)))
         lines.append(
-            f"  step {sr.index + 1} '{sr.name}': medium {med} °C, h {hh} W/m²K, {_fmt_min(sr.duration_s / 60)}"
+            f"  step {sr.index + 1} '{sr.name}': medium {med}, h {hh} W/m²K, {_time(site, sr.duration_s / 60)}"
         )
         lines.append(f"    solver: {sr.solver} — {sr.reason}")
         lines.append(f"    regime: {sr.regime.reason}")
@@ -149,43 +164,44 @@ def _step_lines(result) -> list[str]:
         if len(seg):
             e = seg.iloc[-1]
             lines.append(
-                f"    end: core {e.core_C:.1f} °C, surface {e.surface_C:.1f} °C, mean {e.mean_C:.1f} °C; energy-balance error {sr.energy_balance_error:.2%}"
+                f"    end: core {_temp(site, e.core_C, 1)}, surface {_temp(site, e.surface_C, 1)}, mean {_temp(site, e.mean_C, 1)}; energy-balance error {sr.energy_balance_error:.2%}"
             )
     return lines
 
 
-def _target_lines(oc) -> list[str]:
+def _target_lines(oc, site=None) -> list[str]:
     """When each target is reached, with plan time and cycle."""
     lines: list[str] = []
     for tg in oc.targets:
         tr = tg.target
         if tr.reached:
             t_rel = (tr.time_s - (tr.start_s or 0.0)) / 60.0
-            line = f"  {tg.step}: {tg.point} reaches {tr.target_C:g} °C after {_fmt_min(t_rel)}"
+            line = f"  {tg.step}: {tg.point} reaches {_temp(site, tr.target_C)} after {_time(site, t_rel)}"
             if tg.margin is not None:
-                line += f"; plan time with margin {_fmt_min(tg.margin.plan_min)}; cycle {_fmt_min(tg.margin.cycle_min)}"
+                line += f"; plan time with margin {_time(site, tg.margin.plan_min)}; cycle {_time(site, tg.margin.cycle_min)}"
                 if tg.margin.cycle_too_short:
                     line += "  ** CYCLE SHORTER THAN PLAN TIME **"
         else:
-            line = f"  {tg.step}: {tg.point} does NOT reach {tr.target_C:g} °C within the step (closest {tr.closest_C:.1f} °C)"
+            line = f"  {tg.step}: {tg.point} does NOT reach {_temp(site, tr.target_C)} within the step (closest {_temp(site, tr.closest_C, 1)})"
         lines.append(line)
     return lines
 
 
-def _rule_lines(oc) -> list[str]:
-    """The cooling rule's verdict, stage by stage and band by band."""
+def _rule_lines(oc, site=None) -> list[str]:
+    """The cooling rule's verdict, stage by stage and band by band, limits as the rule's source publishes them."""
     lines: list[str] = []
     rc = oc.rule_check
+    unit = site.temperature_unit if site is not None else "C"
     if rc is not None:
         lines.append(f"  rule {rc.rule_name}: {'PASS' if rc.passed else 'FAIL'} ({rc.source})")
         for st in rc.stages:
             lines.append(
-                f"    stage {st.index + 1} {st.stage.from_C if st.stage.from_C is not None else 'start'} → {st.stage.to_C:g} °C within {st.stage.within_min:g} min: {'pass' if st.passed else 'FAIL'}; used {_fmt_min(st.used_min)}, margin {_fmt_min(st.margin_min)}"
+                f"    stage {st.index + 1} {limit_text(st.stage, unit)} within {_time(site, st.stage.within_min)}: {'pass' if st.passed else 'FAIL'}; used {_time(site, st.used_min)}, margin {_time(site, st.margin_min)}"
                 + (f" ({st.margin_percent:.0f} %)" if st.margin_percent is not None else "")
                 + ("" if st.passed else f" — {st.reason}")
             )
         for b in rc.bands:
-            lines.append(f"    band {b.band.range_text()}: {'pass' if b.passed else 'FAIL'} — {b.reason}")
+            lines.append(f"    band {b.band.range_text(unit)}: {'pass' if b.passed else 'FAIL'} — {b.reason}")
     return lines
 
 
