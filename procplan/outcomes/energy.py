@@ -78,12 +78,22 @@ def heat_by_direction_J(time_s, heat_flow_W) -> tuple[float, float]:
     return abs(float(neg.sum())), float(pos.sum())
 
 
+def _cumulative_at(t: np.ndarray, q: np.ndarray, cum: np.ndarray, x: np.ndarray) -> np.ndarray:
+    """∫ q dt from t[0] to x for q linear between samples (exact: quadratic inside an interval)."""
+    i = np.clip(np.searchsorted(t, x, side="right") - 1, 0, t.size - 2)
+    dt = t[i + 1] - t[i]
+    s = x - t[i]
+    return cum[i] + q[i] * s + 0.5 * (q[i + 1] - q[i]) / dt * s * s
+
+
 def peak_duty_W(time_s, heat_flow_W, window_s: float = PEAK_WINDOW_S) -> tuple[float, float]:
     """Peak duty: the largest mean |heat flow| over any window of ``window_s`` (the whole history if shorter)
-    [W], and the start of that window [s].
+    [W], and the start of that window [s]. Windows start or end at a sample; |q| is linear between samples.
 
     >>> peak_duty_W(np.array([0.0, 60.0, 120.0]), np.array([-100.0, -100.0, -40.0]))
     (100.0, 0.0)
+    >>> peak_duty_W(np.array([0.0, 120.0]), np.array([-300.0, -180.0]))  # (300 + 240) / 2 over the first minute
+    (270.0, 0.0)
     """
     t = np.asarray(time_s, dtype=float)
     q = np.abs(np.asarray(heat_flow_W, dtype=float))
@@ -93,8 +103,8 @@ def peak_duty_W(time_s, heat_flow_W, window_s: float = PEAK_WINDOW_S) -> tuple[f
     w = min(window_s, t[-1] - t[0])
     if w <= 0:
         return float(q.max()), float(t[0])
-    starts = t[t <= t[-1] - w]
-    means = (np.interp(starts + w, t, cum) - np.interp(starts, t, cum)) / w
+    starts = np.union1d(t[t <= t[-1] - w], t[t >= t[0] + w] - w)
+    means = (_cumulative_at(t, q, cum, starts + w) - _cumulative_at(t, q, cum, starts)) / w
     i = int(np.argmax(means))
     return float(means[i]), float(starts[i])
 
