@@ -54,7 +54,7 @@ def cmd_sheet(args) -> int:
         "--output", args.output, force=args.force, inputs=[args.plan, args.site], suffix=".pdf"
     )
     plan = load_plan_of(args.plan, lib)
-    result = run_plan(plan, library=lib)
+    result = run_plan(plan, library=lib, site=site)
     try:
         pdf = batch_sheet_pdf(
             result,

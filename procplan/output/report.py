@@ -7,6 +7,7 @@ from typing import Any
 from procplan._version import __version__
 from procplan.caution import CAUTION
 from procplan.outcomes import DEFAULT_MAX_LOG_REDUCTION, INDICATIVE
+from procplan.outcomes.energy import PEAK_DUTY_LABEL
 from procplan.outcomes.rules import limit_text
 from procplan.output.json_safe import json_safe
 
@@ -241,22 +242,45 @@ def _freezing_lines(oc) -> list[str]:
     return lines
 
 
+def format_cost(cost: float | None, price) -> str:
+    """A cost with its currency as every output shows it ("—" without a price).
+
+    >>> from types import SimpleNamespace
+    >>> format_cost(1.5432, SimpleNamespace(currency="GBP")), format_cost(None, None)
+    ('1.54 GBP', '—')
+    """
+    if cost is None or price is None:
+        return "—"
+    return f"{cost:.2f} {price.currency}".strip()
+
+
+def price_text(price) -> str:
+    """The electricity price and where it comes from, or that there is none."""
+    if price is None:
+        return "no electricity price in the plan or the site settings: no cost"
+    return f"price {price.price_per_kWh:g} {price.currency}/kWh ({price.source})".replace(" /kWh", "/kWh")
+
+
 def _energy_lines(oc) -> list[str]:
-    """Weight loss, the batch's energy and each step's refrigeration duty."""
+    """Weight loss, the batch's energy (removed and added, gross) and each step's refrigeration duty."""
     lines: list[str] = []
     for step_name, pct in oc.weight_loss_percent:
         lines.append(f"  {step_name}: weight loss by surface evaporation {pct:.2f} % of the piece's mass")
     en = oc.energy
     lines.append(
-        f"  energy (batch of {en.pieces:g}): net {en.heat_removed_J_per_batch / 3.6e6:.2f} kWh removed; balance against the enthalpy change {oc.energy_balance:.2%}"
+        f"  energy (batch of {en.pieces:g}): heat removed {en.heat_removed_J_per_batch / 3.6e6:.2f} kWh, heat added "
+        f"{en.heat_added_J_per_batch / 3.6e6:.2f} kWh; {PEAK_DUTY_LABEL} {en.peak_duty_kW_per_batch:.1f} kW; "
+        f"cost {format_cost(oc.cost_per_batch, oc.price)} ({price_text(oc.price)}); "
+        f"balance against the enthalpy change {oc.energy_balance:.2%}"
     )
     for se in oc.refrigeration:
-        kwh = se.heat_removed_J_per_batch / 3.6e6
-        verb = "removed" if kwh >= 0 else "added"
-        line = f"    {se.step}: {abs(kwh):.2f} kWh {verb}, peak {se.peak_duty_kW:.1f} kW, mean {se.mean_duty_kW:.1f} kW"
+        line = (
+            f"    {se.step}: heat removed {se.heat_removed_J_per_batch / 3.6e6:.2f} kWh, heat added "
+            f"{se.heat_added_J_per_batch / 3.6e6:.2f} kWh, {PEAK_DUTY_LABEL} {se.peak_duty_kW:.1f} kW, "
+            f"mean {se.mean_duty_kW:.1f} kW"
+        )
         if se.refrigeration is not None:
             r = se.refrigeration
-            cost = f", cost {r.cost:.2f}" if r.cost is not None else ""
-            line += f"; COP {r.cop:.2f} (Carnot {r.cop_carnot:.2f}), electricity {r.electricity_kWh:.2f} kWh{cost} — {se.basis}"
+            line += f"; COP {r.cop:.2f} (Carnot {r.cop_carnot:.2f}), electricity {r.electricity_kWh:.2f} kWh, cost {format_cost(r.cost, oc.price)} — {se.basis}"
         lines.append(line)
     return lines

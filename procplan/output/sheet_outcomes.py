@@ -5,7 +5,8 @@ the box for measured values and signatures. Each returns a list of platypus flow
 from __future__ import annotations
 
 from procplan._version import __version__
-from procplan.output.report import format_f, indicative_text, log_reduction_text
+from procplan.outcomes.energy import PEAK_DUTY_LABEL
+from procplan.output.report import format_cost, format_f, indicative_text, log_reduction_text, price_text
 from procplan.output.sheet_layout import (
     cols,
     esc,
@@ -136,14 +137,12 @@ def energy_section(result, site, st, W):
     if oc is None:
         return []
     ch = result.plan.checks
-    price, cur, price_src = ch.energy_price_per_kWh, site.currency, "plan"
-    if price is None and site.energy_price_per_kWh is not None:
-        price, price_src = site.energy_price_per_kWh, "site tariff"
+    cur = oc.price.currency if oc.price is not None else ""
     rows = [
         [
             "Step",
-            "Heat per batch",
-            "Peak duty",
+            "Heat removed / added per batch",
+            "Peak duty (largest 1-min mean)",
             "Mean duty",
             "COP (Carnot)",
             "Electricity",
@@ -152,30 +151,26 @@ def energy_section(result, site, st, W):
         ]
     ]
     for se in oc.refrigeration:
-        kwh = se.heat_removed_J_per_batch / 3.6e6
         r = se.refrigeration
-        cost = "—"
-        if r is not None and price is not None:
-            cost = f"{r.electricity_kWh * price:.2f} {cur}".strip()
         rows.append(
             [
                 se.step,
-                f"{abs(kwh):.2f} kWh {'removed' if kwh >= 0 else 'added'}",
+                f"{se.heat_removed_J_per_batch / 3.6e6:.2f} / {se.heat_added_J_per_batch / 3.6e6:.2f} kWh",
                 f"{se.peak_duty_kW:.1f} kW",
                 f"{se.mean_duty_kW:.1f} kW",
                 f"{r.cop:.2f} ({r.cop_carnot:.2f})" if r is not None else "—",
                 f"{r.electricity_kWh:.2f} kWh" if r is not None else "—",
-                cost,
+                format_cost(r.cost, oc.price) if r is not None else "—",
                 se.basis,
             ]
         )
     en = oc.energy
     note = (
-        f"Batch of {en.pieces:g}: net {fixed(en.heat_removed_J_per_batch / 3.6e6, 2)} kWh removed; heat through the surface "
-        f"against the enthalpy change: {oc.energy_balance:.2%}. COP = {ch.cop_fraction:g} × Carnot."
+        f"Batch of {en.pieces:g}: heat removed {fixed(en.heat_removed_J_per_batch / 3.6e6, 2)} kWh, heat added "
+        f"{fixed(en.heat_added_J_per_batch / 3.6e6, 2)} kWh (gross, each direction); {PEAK_DUTY_LABEL} "
+        f"{en.peak_duty_kW_per_batch:.1f} kW; cost {format_cost(oc.cost_per_batch, oc.price)} ({price_text(oc.price)}). "
+        f"Heat through the surface against the enthalpy change: {oc.energy_balance:.2%}. COP = {ch.cop_fraction:g} × Carnot."
     )
-    if price is not None:
-        note += f" Price {price:g} {cur}/kWh ({price_src})."
     return [
         *st.h("Energy"),
         table(rows, cols(W, [0.12, 0.13, 0.08, 0.08, 0.09, 0.09, 0.09, 0.32]), st),

@@ -6,7 +6,9 @@ every model lives there.
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass, field
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -14,6 +16,8 @@ import pandas as pd
 from procplan import outcomes as oc
 from procplan.errors import InvalidInputError
 from procplan.model import LethalityCheck, Plan
+from procplan.outcomes.energy import heat_by_direction_J, peak_duty_W
+from procplan.outcomes.freezing_time import ehtd_of_dimensions
 from procplan.properties.table import PropertyTable
 
 #: Evaporating temperature below the medium and condensing temperature assumed when a step names no
@@ -114,16 +118,17 @@ class FreezingOutcome:
 
 @dataclass(frozen=True)
 class StepEnergy:
-    """Heat exchanged in one step for the whole batch (negative removed = heat added).
+    """Heat exchanged in one step for the whole batch, gross in each direction (never netted).
 
     Attributes
     ----------
     step : the step's name
-    heat_removed_J_per_batch : heat removed from the batch in the step [J] (negative: heat added)
-    refrigeration : compressor energy and cost (None when no refrigeration plant takes the heat)
+    heat_removed_J_per_batch : gross heat removed from the batch in the step [J], ≥ 0
+    refrigeration : compressor energy and cost of the heat removed (None when no refrigeration plant takes it)
     basis : the evaporating and condensing temperatures used, or why there is no refrigeration, in words
-    peak_duty_kW : largest 1-minute mean duty of the step for the batch [kW]
+    peak_duty_kW : peak duty (largest 1-min mean) of the step for the batch [kW]
     mean_duty_kW : mean duty over the step for the batch [kW]
+    heat_added_J_per_batch : gross heat added to the batch in the step [J], ≥ 0
     """
 
     step: str
@@ -132,6 +137,23 @@ class StepEnergy:
     basis: str
     peak_duty_kW: float = 0.0
     mean_duty_kW: float = 0.0
+    heat_added_J_per_batch: float = 0.0
+
+
+@dataclass(frozen=True)
+class EnergyPrice:
+    """The electricity price the cost uses: from the plan's checks, else the site tariff.
+
+    Attributes
+    ----------
+    price_per_kWh : price [currency/kWh]
+    currency : the site's currency code ("" when unknown)
+    source : "plan" or "site tariff"
+    """
+
+    price_per_kWh: float
+    currency: str
+    source: str
 
 
 @dataclass(frozen=True)
@@ -151,6 +173,8 @@ class Outcomes:
     energy_balance : |surface heat − enthalpy change| as a fraction of the heat exchanged [-]
     weight_loss_percent : (step, moisture loss [% of the piece's mass]) for unwrapped products
     warnings : what the assessment found worth a warning
+    price : the electricity price of the cost (None: no price in the plan or the site, no cost)
+    cost_per_batch : electricity cost of the batch over all steps, in the price's currency (None without a price)
     """
 
     targets: tuple[StepTarget, ...]
@@ -164,28 +188,8 @@ class Outcomes:
     energy_balance: float = 0.0
     weight_loss_percent: tuple[tuple[str, float], ...] = ()
     warnings: tuple[str, ...] = ()
-
-
-#: Window over which the peak duty is averaged [s]: the instantaneous flux at the moment a hot product meets
-#: the medium is unbounded in the model and never reaches a refrigeration plant, which sees minute averages.
-PEAK_WINDOW_S = 60.0
-
-
-def peak_duty_W(time_s: np.ndarray, heat_flow_W: np.ndarray, window_s: float = PEAK_WINDOW_S) -> float:
-    """Largest mean |heat flow| over any window of ``window_s`` (the whole history if shorter) [W].
-
-    >>> peak_duty_W(np.array([0.0, 60.0, 120.0]), np.array([-100.0, -100.0, -40.0]))
-    100.0
-    """
-    t = np.asarray(time_s, dtype=float)
-    q = np.abs(np.asarray(heat_flow_W, dtype=float))
-    if t.size < 2:
-        return float(q.max()) if q.size else 0.0
-    cum = np.concatenate([[0.0], np.cumsum(0.5 * (q[1:] + q[:-1]) * np.diff(t))])
-    span = t[-1] - t[0]
-    w = min(window_s, span)
-    starts = t[t <= t[-1] - w]
-    return float(np.max((np.interp(starts + w, t, cum) - np.interp(starts, t, cum)) / w))
+    price: EnergyPrice | None = None
+    cost_per_batch: float | None = None
 
 
 def _direction(start_C: float, medium_C: float) -> str:
@@ -342,18 +346,43 @@ def _energy(run: _Run, warnings: list[str]) -> tuple[oc.EnergySummary, float]:
     hist, props, ch = run.history, run.properties, run.plan.checks
     t = hist["time_s"].to_numpy()
     dh = float(props.enthalpy(float(hist["mean_C"].iloc[-1])) - props.enthalpy(run.plan.start_temperature_C))
-    q_all = hist["heat_flow_W"].to_numpy()
     energy = oc.energy_summary(
-        t, q_all, piece_mass_kg=run.piece_mass_kg, pieces=ch.pieces_per_batch, enthalpy_change_J_kg=dh
+        t,
+        hist["heat_flow_W"].to_numpy(),
+        piece_mass_kg=run.piece_mass_kg,
+        pieces=ch.pieces_per_batch,
+        enthalpy_change_J_kg=dh,
     )
-    gross_J = float(np.sum(0.5 * (np.abs(q_all[1:]) + np.abs(q_all[:-1])) * np.diff(t)))
-    net_J = float(oc.heat_transferred_J(t, q_all)[-1])
-    balance = abs(net_J - run.piece_mass_kg * dh) / max(abs(run.piece_mass_kg * dh), gross_J, 1e-12)
+    balance = abs(energy.balance_error)
     if balance > 0.01:
         warnings.append(
             f"energy: heat through the surface and enthalpy change differ by {balance:.1%} of the heat exchanged"
         )
     return energy, balance
+
+
+@functools.lru_cache(maxsize=8)
+def _site_file(path: str, mtime_ns: int):
+    from procplan.files.site import load_site
+
+    return load_site(path)
+
+
+def _price(run: _Run, site, library, warnings: list[str]) -> EnergyPrice | None:
+    """The plan's electricity price, else the site tariff (the site given, else the library folder's)."""
+    if site is None and library is not None and getattr(library, "root", None) is not None:
+        path = Path(library.root) / "site.toml"
+        if path.is_file():
+            try:
+                site = _site_file(str(path), path.stat().st_mtime_ns)
+            except InvalidInputError as exc:
+                warnings.append(f"site settings {path.name}: {exc}; no site tariff used for the cost")
+    currency = (getattr(site, "currency", "") or "") if site is not None else ""
+    if run.plan.checks.energy_price_per_kWh is not None:
+        return EnergyPrice(run.plan.checks.energy_price_per_kWh, currency, "plan")
+    if site is not None and site.energy_price_per_kWh is not None:
+        return EnergyPrice(site.energy_price_per_kWh, currency, "site tariff")
+    return None
 
 
 def _refrigeration_basis(sr) -> tuple[float, float, str] | str:
@@ -376,29 +405,33 @@ def _refrigeration_basis(sr) -> tuple[float, float, str] | str:
     return evap, cond, basis
 
 
-def _step_energy(run: _Run, sr) -> StepEnergy:
-    """Heat removed in one step for the batch, its duty and the refrigeration it takes."""
+def _step_energy(run: _Run, sr, price: EnergyPrice | None) -> StepEnergy:
+    """Heat removed and heat added in one step for the batch, its duty and the refrigeration it takes."""
     hist, ch = run.history, run.plan.checks
-    seg = hist[hist["step_index"] == sr.index]
-    if sr.index > 0:
-        seg = hist[(hist["time_s"] >= sr.start_s) & (hist["time_s"] <= sr.end_s)]
+    seg = hist[(hist["time_s"] >= sr.start_s) & (hist["time_s"] <= sr.end_s)]
+    if sr.index == 0:
+        seg = hist[hist["step_index"] == 0]
     q = seg["heat_flow_W"].to_numpy()
     ts = seg["time_s"].to_numpy()
-    removed = -float(oc.heat_transferred_J(ts, q)[-1]) * ch.pieces_per_batch
-    peak_kW = peak_duty_W(ts, q) * ch.pieces_per_batch / 1000.0
-    mean_kW = abs(removed) / max(ts[-1] - ts[0], 1e-9) / 1000.0 if q.size > 1 else 0.0
-    if removed <= 0:
-        return StepEnergy(
-            sr.name, removed, None, "heating step: heat added, no refrigeration", peak_kW, mean_kW
-        )
+    n = ch.pieces_per_batch
+    removed, added = (x * n for x in heat_by_direction_J(ts, q))
+    peak_kW = peak_duty_W(ts, q)[0] * n / 1000.0
+    mean_kW = (removed + added) / max(ts[-1] - ts[0], 1e-9) / 1000.0 if q.size > 1 else 0.0
+    parts = (peak_kW, mean_kW, added)
+    if removed <= added:
+        return StepEnergy(sr.name, removed, None, "heating step: heat added, no refrigeration", *parts)
     basis = _refrigeration_basis(sr)
     if isinstance(basis, str):
-        return StepEnergy(sr.name, removed, None, basis, peak_kW, mean_kW)
+        return StepEnergy(sr.name, removed, None, basis, *parts)
     evap, cond, why = basis
     ref = oc.refrigeration_energy(
-        removed, evap, cond, carnot_fraction=ch.cop_fraction, price_per_kWh=ch.energy_price_per_kWh
+        removed,
+        evap,
+        cond,
+        carnot_fraction=ch.cop_fraction,
+        price_per_kWh=price.price_per_kWh if price is not None else None,
     )
-    return StepEnergy(sr.name, removed, ref, why, peak_kW, mean_kW)
+    return StepEnergy(sr.name, removed, ref, why, *parts)
 
 
 def _weight_loss(run: _Run) -> tuple[tuple[str, float], ...]:
@@ -425,6 +458,7 @@ def assess_plan(
     properties: PropertyTable,
     piece_mass_kg: float,
     library,
+    site=None,
 ) -> Outcomes:
     """Compute every outcome of a run (see :class:`Outcomes`).
 
@@ -436,7 +470,9 @@ def assess_plan(
     steps : the per-step results (:class:`procplan.run.engine.StepResult`)
     properties : the product's property table
     piece_mass_kg : mass of one piece [kg]
-    library : resolves the cooling rule
+    library : resolves the cooling rule; its folder's ``site.toml`` gives the tariff when ``site`` is None
+    site : site settings (:class:`procplan.files.site.SiteSettings`) whose tariff prices the energy when the
+        plan gives no price
     """
     run = _Run(plan, history, tuple(steps), properties, piece_mass_kg)
     warnings: list[str] = []
@@ -445,6 +481,12 @@ def assess_plan(
     lethality, quality = _lethalities(run)
     freezing = _freezing_times(run)
     energy, balance = _energy(run, warnings)
+    warnings += surface_freezing_warnings(
+        history, run.steps, properties.initial_freezing_C, plan.checks.frozen_storage_C
+    )
+    price = _price(run, site, library, warnings)
+    refrigeration = tuple(_step_energy(run, sr, price) for sr in run.steps)
+    costs = [se.refrigeration.cost for se in refrigeration if se.refrigeration is not None]
     return Outcomes(
         weight_loss_percent=_weight_loss(run),
         targets=targets,
@@ -454,9 +496,46 @@ def assess_plan(
         quality=quality,
         freezing=freezing,
         energy=energy,
-        refrigeration=tuple(_step_energy(run, sr) for sr in run.steps),
+        refrigeration=refrigeration,
         energy_balance=balance,
         warnings=tuple(warnings),
+        price=price,
+        cost_per_batch=None if price is None else float(sum(c for c in costs if c is not None)),
+    )
+
+
+#: What each freezing time is, in the words every output shows.
+FREEZING_TIMES_TEXT = (
+    "the onset and end times are the numerical prediction (this run's history); "
+    "Plank's equation counts the latent heat only and underestimates; Pham's method includes the sensible heat"
+)
+
+
+def _freezing_shape(g, h: float, k_f: float) -> tuple[str, float, float | None, str]:
+    """(shape, length [m], E or None, basis) of the Plank and Pham estimates for a geometry.
+
+    Bricks and finite cylinders: a slab of the smallest dimension D with the equivalent heat-transfer
+    dimensionality E (Cleland, Cleland & Earle 1987), t_shape = t_slab(D) / E.
+    """
+    if g.shape in ("finite-cylinder", "brick"):
+        dims = (
+            (g.diameter_m, g.diameter_m, g.length_m)
+            if g.shape == "finite-cylinder"
+            else (g.length_m, g.width_m, g.height_m)
+        )
+        e, d = ehtd_of_dimensions(dims, h, k_f)
+        basis = (
+            f"Plank and Pham for the {g.shape}: a slab of the smallest dimension ({d * 1000:.0f} mm) divided by the "
+            f"equivalent heat-transfer dimensionality E = {e:.2f} (Cleland, Cleland & Earle 1987)"
+        )
+        return "slab", d, e, basis
+    axis = min(g.axes, key=lambda a: a.length_m)
+    length = 2 * axis.length_m if not (g.shape == "slab" and g.faces == 1) else 2 * g.thickness_m
+    return (
+        axis.kind,
+        length,
+        None,
+        f"Plank and Pham for the {axis.kind}, characteristic dimension {length * 1000:.0f} mm",
     )
 
 
@@ -465,14 +544,6 @@ def _freezing(result: _Run, tf: float, storage_C: float) -> FreezingOutcome:
     props = result.properties
     fh = oc.freezing_from_history(hist["time_s"].to_numpy(), hist["core_C"].to_numpy(), tf, storage_C)
     sr = next((s for s in result.steps if min(s.surface.medium_C) < tf), result.steps[0])
-    g = result.plan.product.geometry
-    axis = min(g.axes, key=lambda a: a.length_m)
-    shape = axis.kind
-    length = 2 * axis.length_m if not (g.shape == "slab" and g.faces == 1) else 2 * g.thickness_m
-    if g.shape in ("finite-cylinder", "brick"):
-        basis = f"Plank and Pham for the {shape} of the shortest dimension ({length * 1000:.0f} mm): the finite shape freezes faster, so these are upper estimates"
-    else:
-        basis = f"Plank and Pham for the {shape}, characteristic dimension {length * 1000:.0f} mm"
     seg = hist[hist["step_index"] == sr.index]
     t_init = float(seg["mean_C"].iloc[0]) if sr.index else result.plan.start_temperature_C
     medium = float(np.mean(sr.surface.medium_C))
@@ -483,13 +554,39 @@ def _freezing(result: _Run, tf: float, storage_C: float) -> FreezingOutcome:
     cp_u = float(props.apparent_cp(tf + 1.0))
     latent = float(props.enthalpy(tf) - props.enthalpy(end_C)) - cp_f * (tf - end_C)
     k_f = float(props.conductivity(0.5 * (end_C + medium)))
+    shape, length, e, basis = _freezing_shape(result.plan.product.geometry, h, k_f)
+    basis = f"{FREEZING_TIMES_TEXT}. {basis}"
     plank = pham = None
     if medium < end_C and latent > 0:
         try:
-            plank = oc.freezing_time_plank(shape, length, rho, latent, tf, medium, h, k_f)
+            plank = oc.freezing_time_plank(shape, length, rho, latent, tf, medium, h, k_f) / (e or 1.0)
             pham = oc.freezing_time_pham(
-                shape, length, rho, cp_u, cp_f, latent, max(t_init, tf + 0.1), end_C, medium, h, k_f
+                shape, length, rho, cp_u, cp_f, latent, max(t_init, tf + 0.1), end_C, medium, h, k_f, E=e
             )
         except InvalidInputError as exc:
             basis += f"; estimates not available: {exc}"
     return FreezingOutcome(tf, fh, plank, pham, basis)
+
+
+def surface_freezing_warnings(
+    history: pd.DataFrame, steps, initial_freezing_C: float | None, frozen_storage_C: float
+) -> list[str]:
+    """A warning for every chill step whose surface falls below the product's initial freezing point.
+
+    A step whose medium is at or below the frozen-storage temperature is a freezing step and is not warned.
+    """
+    if initial_freezing_C is None:
+        return []
+    out = []
+    for sr in steps:
+        medium = float(np.min(sr.surface.medium_C))
+        seg = history[history["step_index"] == sr.index]
+        if not len(seg) or medium <= frozen_storage_C or medium >= float(seg["core_C"].iloc[0]):
+            continue
+        low = float(seg["surface_C"].min())
+        if low < initial_freezing_C - 0.05:
+            out.append(
+                f"{sr.name}: the surface falls to {low:.1f} °C, below the product's initial freezing point "
+                f"{initial_freezing_C:.1f} °C: the surface freezes in this chill step"
+            )
+    return out

@@ -322,11 +322,6 @@ def _run_step(
     """Resolve the surface, choose the solver, solve one step; the history is on the plan's clock."""
     product = ctx.plan.product
     surface = resolve_step_surface(step, i, product, carried.mean_C, ctx.library)
-    regime = classify_regime(
-        float(np.mean(surface.h_W_m2K)),
-        product.geometry,
-        float(ctx.props.conductivity(0.5 * (carried.mean_C + np.mean(surface.medium_C)))),
-    )
     choice = choose_solver(
         ctx.requested,
         props=ctx.props,
@@ -337,6 +332,12 @@ def _run_step(
         field_carried_on=i < len(ctx.plan.steps) - 1,
     )
     run, surface = _solve_with_surface_pass(ctx, i, step, choice.solver, carried, surface)
+    # the regime and Biot number of the h the step ran with (after the surface pass)
+    regime = classify_regime(
+        float(np.mean(surface.h_W_m2K)),
+        product.geometry,
+        float(ctx.props.conductivity(0.5 * (carried.mean_C + np.mean(surface.medium_C)))),
+    )
     details = replace(run.details, regime=regime.regime)
     frame = _place_frame(run.frame, step, i, run, carried.t_offset_s, first=i == 0)
     stop = run.stop_time_s
@@ -409,6 +410,7 @@ def run_plan(
     n_nodes=None,
     dt_s: float | None = None,
     assess: bool = True,
+    site=None,
 ) -> PlanResult:
     """Run every step of ``plan`` in order and return the PlanResult.
 
@@ -419,6 +421,8 @@ def run_plan(
     solver : "auto" (default: the plan's choice), "exact" or "finite-volume"
     n_nodes, dt_s : finite-volume grid (per axis) and fixed time step [s] (adaptive when None)
     assess : compute outcomes (targets, rules, lethality, freezing, energy, margin)
+    site : site settings whose tariff prices the energy when the plan gives no price (default: the library
+        folder's ``site.toml``, if any)
     """
     requested = solver or plan.solver
     validate.choice("solver", requested, SOLVERS)
@@ -432,7 +436,9 @@ def run_plan(
     ctx = _Context(plan, library, props, requested, n_nodes, dt_s)
     history, steps, warnings = _run_steps(ctx)
     warnings.extend(_range_warnings(history, props))
-    outcomes = assess_plan(plan, history, tuple(steps), props, piece_mass_kg, library) if assess else None
+    outcomes = (
+        assess_plan(plan, history, tuple(steps), props, piece_mass_kg, library, site) if assess else None
+    )
     return PlanResult(
         plan=plan,
         history=history,

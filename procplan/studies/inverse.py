@@ -426,6 +426,7 @@ def required_setting(
         plan, i, v_conf, parameter, goal, target_min, library, dict(solver=solver, n_nodes=n_nodes, dt_s=dt_s)
     )
     notes.extend(note)
+    notes.extend(_surface_freezing_notes(conf, i, v_conf, parameter))
     confirmed = m_conf >= 0
     if value is not None:
         m_value = m_conf
@@ -532,6 +533,20 @@ def _confirm(plan: Plan, i: int, v_conf: float, parameter: str, goal: str, targe
     conf = run_plan(conf_plan, library=library, **run_opts)
     m_conf = float(gspec.measure(conf, conf_plan, i, target_min))
     return conf_plan, conf, m_conf, notes
+
+
+def _surface_freezing_notes(conf, i: int, value: float, parameter: str) -> list[str]:
+    """That the answer would freeze the surface of a chill step, from its confirming run."""
+    from procplan.run.assess import surface_freezing_warnings
+
+    found = surface_freezing_warnings(
+        conf.history,
+        conf.steps[i : i + 1],
+        conf.properties.initial_freezing_C,
+        conf.plan.checks.frozen_storage_C,
+    )
+    unit = PARAMETERS[parameter].unit
+    return [f"{parameter} = {value:.6g} {unit} would freeze the surface: {w}" for w in found]
 
 
 def _current_value(plan: Plan, i: int, parameter: str, library) -> float | None:

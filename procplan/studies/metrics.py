@@ -30,7 +30,7 @@ METRIC_COLUMNS: dict[str, str] = {
     "lethality_passed": "F ≥ required F (None when no requirement)",
     "energy_removed_kWh": "heat removed per batch over the cooling steps [kWh]",
     "energy_added_kWh": "heat added per batch over the heating steps [kWh]",
-    "peak_duty_kW": "largest heat-exchange rate of the batch over all steps [kW]",
+    "peak_duty_kW": "peak duty (largest 1-min mean) of the batch over the run [kW]",
     "electricity_kWh": "refrigeration electricity per batch [kWh] (0 when no refrigerated step)",
     "energy_cost": "electricity cost per batch (NaN without a price)",
     "solvers": "solver of each step",
@@ -113,15 +113,14 @@ def result_metrics(result) -> dict[str, Any]:
     row["lethality"] = le.name if le is not None else ""
     row["lethality_F_min"] = le.total_F_min if le is not None else math.nan
     row["lethality_passed"] = None if le is None else le.passed
-    removed = sum(max(s.heat_removed_J_per_batch, 0.0) for s in oc.refrigeration) / 3.6e6
-    added = sum(max(-s.heat_removed_J_per_batch, 0.0) for s in oc.refrigeration) / 3.6e6
+    removed = oc.energy.heat_removed_J_per_batch / 3.6e6
+    added = oc.energy.heat_added_J_per_batch / 3.6e6
     row["energy_removed_kWh"] = removed
     row["energy_added_kWh"] = added
-    row["peak_duty_kW"] = max((s.peak_duty_kW for s in oc.refrigeration), default=0.0)
+    row["peak_duty_kW"] = oc.energy.peak_duty_kW_per_batch
     refr = [s.refrigeration for s in oc.refrigeration if s.refrigeration is not None]
     row["electricity_kWh"] = sum(r.electricity_kWh for r in refr)
-    costs = [r.cost for r in refr if r.cost is not None]
-    row["energy_cost"] = sum(costs) if costs else math.nan
+    row["energy_cost"] = oc.cost_per_batch if oc.cost_per_batch is not None else math.nan
     row["solvers"] = ", ".join(s.solver for s in result.steps)
     row["warnings"] = len(result.warnings)
     return row

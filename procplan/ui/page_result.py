@@ -6,7 +6,15 @@ from __future__ import annotations
 import pandas as pd
 import streamlit as st
 
-from procplan.output.report import format_f, indicative_text, lethality_basis_text, log_reduction_text
+from procplan.outcomes.energy import PEAK_DUTY_LABEL
+from procplan.output.report import (
+    format_cost,
+    format_f,
+    indicative_text,
+    lethality_basis_text,
+    log_reduction_text,
+    price_text,
+)
 from procplan.ui import charts, state, widgets
 from procplan.ui.fmt import Units, yes_no
 
@@ -194,15 +202,21 @@ def _freezing(result, u: Units) -> None:
 def _energy(result, u: Units) -> None:
     oc = result.outcomes
     en = oc.energy
-    c = st.columns(4)
+    c = st.columns(5)
     c[0].metric(f"Heat removed, batch of {en.pieces:g}", f"{en.heat_removed_J_per_batch / 3.6e6:.2f} kWh")
-    c[1].metric(
-        "Peak duty (batch)", f"{en.peak_duty_kW_per_batch:.1f} kW", help=f"at {u.duration(en.peak_time_s)}"
+    c[1].metric(f"Heat added, batch of {en.pieces:g}", f"{en.heat_added_J_per_batch / 3.6e6:.2f} kWh")
+    c[2].metric(
+        PEAK_DUTY_LABEL.capitalize(),
+        f"{en.peak_duty_kW_per_batch:.1f} kW",
+        help=f"minute from {u.duration(en.peak_time_s)}; a plant's capacity is judged against this sustained load",
     )
-    c[2].metric("Piece mass", f"{result.piece_mass_kg:.3f} kg")
     c[3].metric(
+        "Electricity cost, batch", format_cost(oc.cost_per_batch, oc.price), help=price_text(oc.price)
+    )
+    c[4].metric(
         "Energy balance", f"{oc.energy_balance:.2%}", help="history heat flow against the enthalpy change"
     )
+    st.caption(f"Piece mass {result.piece_mass_kg:.3f} kg.")
     rows = []
     for se in oc.refrigeration:
         r = se.refrigeration
@@ -210,11 +224,12 @@ def _energy(result, u: Units) -> None:
             {
                 "step": se.step,
                 "heat removed [kWh]": round(se.heat_removed_J_per_batch / 3.6e6, 3),
-                "peak duty [kW]": round(se.peak_duty_kW, 2),
+                "heat added [kWh]": round(se.heat_added_J_per_batch / 3.6e6, 3),
+                f"{PEAK_DUTY_LABEL} [kW]": round(se.peak_duty_kW, 1),
                 "mean duty [kW]": round(float(se.mean_duty_kW), 2),
                 "COP": "—" if r is None else f"{r.cop:.2f} (Carnot {r.cop_carnot:.2f})",
                 "electricity [kWh]": "—" if r is None else round(r.electricity_kWh, 3),
-                "cost": "—" if r is None or r.cost is None else f"{r.cost:.2f}",
+                "cost": "—" if r is None else format_cost(r.cost, oc.price),
                 "basis": se.basis,
             }
         )

@@ -6,6 +6,7 @@ from __future__ import annotations
 import pandas as pd
 import streamlit as st
 
+from procplan.outcomes.energy import PEAK_DUTY_LABEL
 from procplan.output.report import format_f
 from procplan.ui import adapter, charts, state, widgets
 from procplan.ui.fmt import Units
@@ -25,10 +26,9 @@ def scenario_row(label: str, result, u: Units) -> dict:
     row["core at end"] = u.temp(float(result.history["core_C"].iloc[-1]))
     row["rule"] = "—" if oc.rule_check is None else ("PASS" if oc.rule_check.passed else "FAIL")
     row["lethality F [min]"] = "—" if oc.lethality is None else format_f(oc.lethality.total_F_min)
-    per_step = [se.heat_removed_J_per_batch / 3.6e6 for se in oc.refrigeration]
-    row["heat removed [kWh/batch]"] = round(sum(x for x in per_step if x > 0), 2)
-    row["heat added [kWh/batch]"] = round(-sum(x for x in per_step if x < 0), 2)
-    row["peak duty [kW]"] = round(oc.energy.peak_duty_kW_per_batch, 1)
+    row["heat removed [kWh/batch]"] = round(oc.energy.heat_removed_J_per_batch / 3.6e6, 2)
+    row["heat added [kWh/batch]"] = round(oc.energy.heat_added_J_per_batch / 3.6e6, 2)
+    row[f"{PEAK_DUTY_LABEL} [kW]"] = round(oc.energy.peak_duty_kW_per_batch, 1)
     return row
 
 

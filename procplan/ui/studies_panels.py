@@ -68,7 +68,7 @@ def required_setting(text: str, u: Units) -> None:
     k[2].metric("Confirmed by a forward run", "yes" if r.confirmed else "no")
     (st.success if r.achievable else st.warning)(r.message)
     for note in r.notes:
-        st.caption(note)
+        (st.warning if "would freeze the surface" in note else st.caption)(note)
     ev = pd.DataFrame(r.evaluations, columns=[f"{r.parameter} [{unit}]", "goal measure (≥ 0 meets)"])
     with st.expander(f"{len(ev)} forward runs"):
         st.dataframe(ev, hide_index=True)
