@@ -19,7 +19,11 @@ from procplan.caution import CAUTION
 
 
 def go(at, page: str):
-    at.sidebar.radio(key="page").set_value(page).run()
+    """Open a page by its title, as a click in the sidebar navigation does."""
+    from procplan.ui.main import PAGES
+
+    script = next(script for title, script, *_ in PAGES if title == page)
+    at.switch_page(f"procplan/ui/pages/{script}").run()
     assert not at.exception, at.exception
     return at
 
