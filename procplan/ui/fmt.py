@@ -97,13 +97,14 @@ def correlation_text(names: str) -> str:
     if not names or names == "user-entered":
         return "entered by the user" if names == "user-entered" else "—"
     parts = []
+    names, paren, note = names.partition(" (")
     for name in names.split(" + "):
         words = name.strip().split("-")
         plain = [w for w in words if w in _PLAIN_WORDS]
         authors = [w.capitalize() for w in words if w not in _PLAIN_WORDS]
         text = " ".join(plain) or "correlation"
         parts.append(text + (f" ({' and '.join(authors)})" if authors else ""))
-    return "; ".join(parts)
+    return "; ".join(parts) + (f"; {note.removesuffix(')')}" if paren else "")
 
 
 def round_to(value: float, step: float, direction: str = "nearest") -> float:

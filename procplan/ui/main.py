@@ -38,7 +38,6 @@ def _navigation():
 
 def _sidebar() -> None:
     with st.sidebar:
-        st.divider()
         st.caption("Thermal-process planning: chill, freeze, cook, pasteurise")
         st.radio("Temperatures in", TEMPERATURE_UNITS, horizontal=True, key="temperature_unit")
         st.radio("Times in", TIME_UNITS, horizontal=True, key="time_unit")

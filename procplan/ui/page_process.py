@@ -221,7 +221,7 @@ def _checks(plan: dict, lib) -> None:
 
     st.subheader("Checks and batch")
     ch = plan.setdefault("checks", {})
-    c1, c2 = st.columns(2)
+    c1, c2 = st.columns([3, 2])
     rules = [NO_RULE, *sorted(lib.rules)]
     rule = c1.selectbox(
         "Cooling / holding rule",

@@ -239,7 +239,10 @@ def _energy(result, u: Units) -> None:
             }
         )
     if rows:
-        st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")
+        # the basis is a sentence: read in full under the table rather than cut off in a cell
+        st.dataframe(pd.DataFrame(rows).drop(columns="basis"), hide_index=True, width="stretch")
+        for row in rows:
+            st.caption(f"{row['step']}: {row['basis']}")
 
 
 def render_result(result, u: Units, *, stale: bool = False) -> None:

@@ -26,9 +26,9 @@ PARAMETER_LABELS = {
 }
 PARAMETER_STEPS = {"°C": 0.5, "m/s": 0.1, "W/m²K": 1.0, "mm": 1.0, "min": 1.0}
 GOAL_LABELS = {
-    "time": "Reach the stop temperature within an allowed time",
-    "rule": "Pass the cooling rule",
-    "lethality": "Meet the lethality requirement",
+    "time": "Stop temperature in time",
+    "rule": "Cooling rule passes",
+    "lethality": "Lethality met",
 }
 
 

@@ -165,7 +165,7 @@ def test_steps_can_be_added_reordered_and_removed(app):
 
 def test_composition_that_does_not_add_up_is_named_with_its_sum(app):
     go(app, "Product")
-    number_input(app, "water").set_value(0.58).run()  # 0.58 + 0.21 + 0.08 + 0.01 + 0 + 0.02 = 0.90
+    number_input(app, "Water").set_value(0.58).run()  # 0.58 + 0.21 + 0.08 + 0.01 + 0 + 0.02 = 0.90
     assert not app.exception
     text = errors(app)
     assert "Composition" in text and "0.900" in text and "0.100 below 1" in text
