@@ -121,6 +121,52 @@ class PlanResult:
     outcomes: Outcomes | None = None
     warnings: tuple[str, ...] = ()
 
+    def _overview(self) -> tuple[str, list[tuple[str, str, str, str]], str]:
+        """Title, one row per step (name, solver, minutes, core and surface at its end) and the verdict."""
+        h = self.history
+        rows = []
+        for sr in self.steps:
+            end = h[h["time_s"] <= sr.end_s + 1e-9].iloc[-1]
+            rows.append(
+                (
+                    sr.name,
+                    sr.solver,
+                    f"{sr.duration_s / 60.0:.1f} min",
+                    f"core {end['core_C']:.1f} °C, surface {end['surface_C']:.1f} °C",
+                )
+            )
+        oc = self.outcomes
+        verdicts = []
+        if oc is not None and oc.rule_check is not None:
+            verdicts.append(f"rule {'PASS' if oc.rule_check.passed else 'FAIL'}")
+        if oc is not None and oc.lethality is not None and oc.lethality.passed is not None:
+            verdicts.append(f"lethality {'PASS' if oc.lethality.passed else 'FAIL'}")
+        if oc is not None:
+            reached = [t.target.reached for t in oc.targets]
+            if reached:
+                verdicts.append("targets reached" if all(reached) else "target NOT reached")
+        return self.plan.title, rows, ", ".join(verdicts) or "no checks"
+
+    def __repr__(self) -> str:
+        title, rows, verdict = self._overview()
+        lines = [f"PlanResult({title!r}: {len(rows)} step(s), {verdict})"]
+        lines += [f"  {i + 1}. {n} [{s}] {d} -> {t}" for i, (n, s, d, t) in enumerate(rows)]
+        return "\n".join(lines)
+
+    def _repr_html_(self) -> str:
+        from html import escape
+
+        title, rows, verdict = self._overview()
+        body = "".join(
+            "<tr>" + "".join(f"<td>{escape(str(c))}</td>" for c in (i + 1, *r)) + "</tr>"
+            for i, r in enumerate(rows)
+        )
+        head = "".join(f"<th>{c}</th>" for c in ("#", "step", "solver", "duration", "at the end"))
+        return (
+            f"<b>{escape(title)}</b> ({escape(verdict)})"
+            f"<table><thead><tr>{head}</tr></thead><tbody>{body}</tbody></table>"
+        )
+
 
 @dataclass(frozen=True)
 class _StepRun:

@@ -83,3 +83,39 @@ def yes_no(flag: bool | None, yes: str = "pass", no: str = "FAIL") -> str:
     if flag is None:
         return "—"
     return yes if flag else no
+
+
+#: Words of correlation names that describe the geometry or flow (the rest are authors' names).
+_PLAIN_WORDS = {
+    "flat", "plate", "laminar", "mixed", "turbulent", "cylinder", "sphere", "vertical", "horizontal",
+    "unstable", "stable", "condensation",
+}  # fmt: skip
+
+
+def correlation_text(names: str) -> str:
+    """'cylinder-churchill-bernstein + horizontal-cylinder-churchill-chu' → readable words with authors."""
+    if not names or names == "user-entered":
+        return "entered by the user" if names == "user-entered" else "—"
+    parts = []
+    names, paren, note = names.partition(" (")
+    for name in names.split(" + "):
+        words = name.strip().split("-")
+        plain = [w for w in words if w in _PLAIN_WORDS]
+        authors = [w.capitalize() for w in words if w not in _PLAIN_WORDS]
+        text = " ".join(plain) or "correlation"
+        parts.append(text + (f" ({' and '.join(authors)})" if authors else ""))
+    return "; ".join(parts) + (f"; {note.removesuffix(')')}" if paren else "")
+
+
+def round_to(value: float, step: float, direction: str = "nearest") -> float:
+    """A value rounded to a step a machine can be set to; 'up' or 'down' rounds toward the safe side."""
+    q = value / step
+    n = (
+        math.ceil(q - 1e-9)
+        if direction == "up"
+        else math.floor(q + 1e-9)
+        if direction == "down"
+        else round(q)
+    )
+    digits = max(0, -math.floor(math.log10(step))) if step < 1 else 0
+    return round(n * step, digits)

@@ -30,7 +30,12 @@ def _downloads(text: str, ok: bool) -> None:
             rev = st.text_input("Revision", value="A", key="sheet_rev", max_chars=12)
             who = st.text_input("Prepared by", value="", key="sheet_by", max_chars=60)
             paper = st.radio(
-                "Paper", papers, index=papers.index(default_paper), horizontal=True, key="sheet_paper"
+                "Paper",
+                papers,
+                index=papers.index(default_paper),
+                horizontal=True,
+                key="sheet_paper",
+                format_func={"a4": "A4", "letter": "US Letter"}.get,
             )
             out = adapter.sheet_pdf(
                 text, state.generation(), lot_id=lot, revision=rev, paper=paper, prepared_by=who
@@ -85,7 +90,7 @@ def load_text(text: str, source: str) -> bool:
 def _open() -> None:
     st.subheader("Continue work on a plan")
     lib = adapter.library(state.generation())
-    c1, c2 = st.columns([3, 1])
+    c1, c2 = st.columns([3, 1], vertical_alignment="bottom")
     names = sorted(lib.plans)
     pick = c1.selectbox("Plan from the library", names, key="open_lib_plan")
     if c2.button("Open this plan", key="open_lib_btn"):

@@ -7,7 +7,7 @@ import pandas as pd
 import streamlit as st
 
 from procplan.ui import adapter, state, widgets
-from procplan.ui.fmt import Units
+from procplan.ui.fmt import Units, correlation_text
 
 MODES = ("machine and settings", "given h and medium temperature")
 NO_RULE = "(no cooling rule)"
@@ -15,12 +15,30 @@ NO_LETHALITY = "(no lethality check)"
 CUSTOM_LETHALITY = "custom (from the plan file)"
 
 
+#: Short labels of machine settings (the library's description stays in the help text).
+SETTING_LABELS = {
+    "air_C": "Air temperature",
+    "air_speed_m_s": "Air speed",
+    "relative_humidity": "Relative humidity",
+    "emissivity": "Wall emissivity",
+    "water_C": "Water temperature",
+    "water_speed_m_s": "Water speed",
+    "brine_C": "Brine temperature",
+    "brine_speed_m_s": "Brine speed",
+    "steam_C": "Steam temperature",
+}
+#: Fractions shown in percent (relative humidity): the plan keeps the fraction.
+PERCENT_SETTINGS = {"relative_humidity"}
+
+
 def _setting_input(key: str, rng, value: float, wkey: str) -> float:
+    """One machine setting in the steps a machine can be set to: 0.5 K, 0.1 m/s, 1 % humidity."""
     from procplan.surface.machines import SETTINGS
 
     spec = SETTINGS.get(key)
-    label = spec.description.capitalize() if spec else key
+    label = SETTING_LABELS.get(key) or (spec.description.capitalize() if spec else key.replace("_", " "))
     unit = rng.unit or (spec.unit if spec else "")
+    described = f"{spec.description.capitalize()}. " if spec else ""
     if unit == "°C":
         return widgets.temperature(
             label,
@@ -29,9 +47,21 @@ def _setting_input(key: str, rng, value: float, wkey: str) -> float:
             minimum_C=rng.minimum,
             maximum_C=rng.maximum,
             step=0.5,
-            help=f"Machine range {rng.describe()}",
+            help=f"{described}Machine range {rng.describe()}",
         )
-    step = 0.05 if rng.maximum - rng.minimum <= 1.0 else 0.1 if rng.maximum - rng.minimum <= 10 else 1.0
+    if key in PERCENT_SETTINGS:
+        shown = widgets.number(
+            f"{label} [%]",
+            round(value * 100.0),
+            wkey,
+            minimum=rng.minimum * 100.0,
+            maximum=rng.maximum * 100.0,
+            step=1.0,
+            fmt="%.0f",
+            help=f"{described}Machine range {rng.minimum * 100:g} to {rng.maximum * 100:g} %",
+        )
+        return round(shown / 100.0, 4)
+    step = 0.1 if unit == "m/s" else 0.05 if rng.maximum - rng.minimum <= 1.0 else 0.1
     return widgets.number(
         f"{label}" + (f" [{unit}]" if unit else ""),
         value,
@@ -39,8 +69,8 @@ def _setting_input(key: str, rng, value: float, wkey: str) -> float:
         minimum=rng.minimum,
         maximum=rng.maximum,
         step=step,
-        fmt="%.2f",
-        help=f"Machine range {rng.describe()}",
+        fmt="%.1f" if step >= 0.1 else "%.2f",
+        help=f"{described}Machine range {rng.describe()}",
     )
 
 
@@ -153,7 +183,11 @@ def _step(step: dict, i: int, n: int, lib) -> str | None:
         c1, c2, c3 = st.columns(3)
         with c1:
             step["duration_min"] = widgets.duration(
-                "Duration (longest)", step.get("duration_min", 60.0), f"s.dur.{i}", minimum_min=0.5
+                "Step time at most",
+                step.get("duration_min", 60.0),
+                f"s.dur.{i}",
+                minimum_min=0.5,
+                help="The step ends after this time, or earlier when the core reaches its stop temperature.",
             )
         with c2:
             stop_on = st.checkbox(
@@ -187,7 +221,7 @@ def _checks(plan: dict, lib) -> None:
 
     st.subheader("Checks and batch")
     ch = plan.setdefault("checks", {})
-    c1, c2 = st.columns(2)
+    c1, c2 = st.columns([3, 2])
     rules = [NO_RULE, *sorted(lib.rules)]
     rule = c1.selectbox(
         "Cooling / holding rule",
@@ -287,11 +321,11 @@ def _provenance(result, u: Units) -> None:
             c[3].metric("Solver", sr.solver)
             rows = [
                 ("source", bd.source),
-                ("correlation", bd.correlation),
-                ("convection h_conv", f"{bd.h_conv_W_m2K:.2f} W/m²K"),
-                ("radiation h_rad", f"{bd.h_rad_W_m2K:.2f} W/m²K"),
-                ("packaging resistance", f"{bd.packaging_resistance_m2K_W:.5f} m²K/W"),
-                ("effective h_eff", f"{bd.h_eff_W_m2K:.2f} W/m²K"),
+                ("correlation", correlation_text(bd.correlation)),
+                ("convection h_conv", f"{bd.h_conv_W_m2K:.1f} W/m²K"),
+                ("radiation h_rad", f"{bd.h_rad_W_m2K:.1f} W/m²K"),
+                ("packaging resistance", f"{bd.packaging_resistance_m2K_W * 1000:.2f} m²K/kW"),
+                ("effective h_eff", f"{bd.h_eff_W_m2K:.1f} W/m²K"),
                 ("medium", " → ".join(u.temp(m) for m in dict.fromkeys(sr.surface.medium_C))),
                 ("Biot number", f"Bi = {sr.regime.bi:.3g} (lumped Bi = {sr.regime.bi_lumped:.3g})"),
                 ("regime", sr.regime.reason),

@@ -153,7 +153,7 @@ def _composition(prod: dict) -> None:
         for col, name in zip(cols, COMPONENT_NAMES, strict=True):
             with col:
                 comp[name] = widgets.number(
-                    name,
+                    name.capitalize(),
                     comp.get(name, 0.0),
                     f"p.comp.{name}",
                     minimum=0.0,
@@ -243,14 +243,14 @@ def _packaging(prod: dict) -> None:
         st.caption("No packaging: the product surface meets the medium directly.")
     remove = None
     for i, layer in enumerate(layers):
-        c = st.columns([3, 2, 2, 2, 1])
+        c = st.columns([3, 2, 2, 2, 1], vertical_alignment="bottom")
         layer["name"] = c[0].text_input(
             f"Layer {i + 1}", value=layer.get("name", ""), key=state.key("p.pk.name", i)
         )
-        air = c[3].checkbox("air gap", value=bool(layer.get("air_gap")), key=state.key("p.pk.air", i))
+        air = c[3].checkbox("Air gap", value=bool(layer.get("air_gap")), key=state.key("p.pk.air", i))
         with c[1]:
             layer["thickness_mm"] = widgets.number(
-                "thickness [mm]",
+                "Thickness [mm]",
                 layer.get("thickness_mm", 0.1),
                 f"p.pk.t.{i}",
                 minimum=0.001,
@@ -260,7 +260,7 @@ def _packaging(prod: dict) -> None:
             )
         with c[2]:
             if air:
-                st.caption("still air")
+                st.caption("Still air")
                 layer.pop("k_W_mK", None)
                 layer["air_gap"] = True
             else:

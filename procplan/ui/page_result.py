@@ -99,13 +99,21 @@ def _targets(result, u: Units) -> None:
         st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")
 
 
+def rule_title(name: str) -> str:
+    """The rule's readable title from the library (its file name when it has none)."""
+    from procplan.ui import adapter
+
+    rule = adapter.library(state.generation()).rules.get(name)
+    return (getattr(rule, "title", "") or f"Rule {name}") if rule is not None else f"Rule {name}"
+
+
 def _rule(result, u: Units) -> None:
     rc = result.outcomes.rule_check
     if rc is None:
         st.caption("No cooling or holding rule chosen (Process page, Checks).")
         return
     (st.success if rc.passed else st.error)(
-        f"Rule {rc.rule_name} at the {rc.point}: {'PASS' if rc.passed else 'FAIL'} — {rc.source}"
+        f"{rule_title(rc.rule_name)} at the {rc.point}: {'PASS' if rc.passed else 'FAIL'} — {rc.source}"
     )
     rows = []
     for s in rc.stages:
@@ -119,7 +127,6 @@ def _rule(result, u: Units) -> None:
                 "margin": u.duration_min(s.margin_min),
                 "margin %": "—" if s.margin_percent is None else f"{s.margin_percent:.0f} %",
                 "verdict": yes_no(s.passed),
-                "reason": s.reason,
             }
         )
     for b in rc.bands:
@@ -132,47 +139,60 @@ def _rule(result, u: Units) -> None:
                 "margin": u.duration_min(b.margin_min),
                 "margin %": "",
                 "verdict": yes_no(b.passed),
-                "reason": b.reason,
             }
         )
     st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")
-    for r in rc.reasons:
+    # the reasons are sentences: as lines under the table they are read in full, not cut off in a cell
+    lines = [f"Stage {s.index + 1}: {s.reason}" for s in rc.stages if s.reason]
+    lines += [f"Band {b.index + 1}: {b.reason}" for b in rc.bands if b.reason]
+    for r in (*lines, *rc.reasons):
         st.caption(r)
 
 
-def _lethality(result, u: Units) -> None:
-    oc = result.outcomes
-    shown = False
-    for leth in (oc.lethality, oc.quality):
-        if leth is None:
-            continue
-        shown = True
-        c = st.columns(4)
-        c[0].metric(
-            f"F at the {leth.point}",
-            f"{format_f(leth.total_F_min)} min",
-            help=lethality_basis_text(leth)
-            if leth.z_C is None
-            else f"T_ref {u.temp(leth.reference_C)}, z {u.dt(leth.z_C):g} {u.temperature}",
-        )
-        c[1].metric("Required F", "—" if leth.required_F_min is None else f"{leth.required_F_min:g} min")
+def _heats(result) -> bool:
+    """The plan heats the product (its surface ends warmer than it started): a cook value is of interest."""
+    surface = result.history["surface_C"]
+    return float(surface.max()) > float(surface.iloc[0]) + 1.0
+
+
+def _lethality_block(leth, u: Units) -> None:
+    """One lethality: F, and the requirement's numbers only when there is a requirement."""
+    basis = (
+        lethality_basis_text(leth)
+        if leth.z_C is None
+        else f"reference {u.temp(leth.reference_C)}, z {u.dt(leth.z_C):g} {u.temperature}"
+    )
+    required = leth.required_F_min is not None
+    c = st.columns(4 if required else 2)
+    c[0].metric(f"F at the {leth.point}", f"{format_f(leth.total_F_min)} min", help=basis)
+    if required:
+        c[1].metric("Required F", f"{leth.required_F_min:g} min")
         c[2].metric("Log reduction", log_reduction_text(leth))
         reached = leth.reached
         c[3].metric(
             "Requirement reached after",
-            u.duration(reached.time_s)
-            if reached is not None and reached.reached
-            else ("—" if leth.required_F_min is None else "not reached"),
+            u.duration(reached.time_s) if reached is not None and reached.reached else "not reached",
         )
-        if not leth.confirmed:
-            st.warning(f"{leth.name}{indicative_text(leth)}")
-        if leth.process_fraction is not None:
-            st.caption(f"{leth.process_fraction:.3g} of the required process (passes at 1).")
-        st.caption(f"{leth.name}: {leth.target}. Source: {leth.source}")
-        if leth.time_s is not None and leth.f_cumulative_min is not None:
-            st.plotly_chart(charts.lethality_figure(leth, u), width="stretch", key=f"leth_{leth.name}")
+    if not leth.confirmed:
+        st.warning(f"{leth.name}{indicative_text(leth)}")
+    if leth.process_fraction is not None:
+        st.caption(f"{leth.process_fraction:.3g} of the required process (passes at 1).")
+    st.caption(f"{leth.name}: {leth.target}. Source: {leth.source}")
+    if leth.time_s is not None and leth.f_cumulative_min is not None:
+        st.plotly_chart(charts.lethality_figure(leth, u), width="stretch", key=f"leth_{leth.name}")
+
+
+def _lethality(result, u: Units) -> None:
+    """The plan's lethality requirement; the surface cook value only when one is asked or the plan heats."""
+    oc = result.outcomes
+    shown = [oc.lethality] if oc.lethality is not None else []
+    if oc.quality is not None and (oc.lethality is not None or _heats(result)):
+        shown.append(oc.quality)
     if not shown:
-        st.caption("No lethality requirement chosen (Process page, Checks).")
+        return
+    st.subheader("Lethality")
+    for leth in shown:
+        _lethality_block(leth, u)
 
 
 def _freezing(result, u: Units) -> None:
@@ -234,7 +254,10 @@ def _energy(result, u: Units) -> None:
             }
         )
     if rows:
-        st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")
+        # the basis is a sentence: read in full under the table rather than cut off in a cell
+        st.dataframe(pd.DataFrame(rows).drop(columns="basis"), hide_index=True, width="stretch")
+        for row in rows:
+            st.caption(f"{row['step']}: {row['basis']}")
 
 
 def render_result(result, u: Units, *, stale: bool = False) -> None:
@@ -251,7 +274,6 @@ def render_result(result, u: Units, *, stale: bool = False) -> None:
     _targets(result, u)
     st.subheader("Rule check")
     _rule(result, u)
-    st.subheader("Lethality")
     _lethality(result, u)
     st.subheader("Freezing")
     _freezing(result, u)

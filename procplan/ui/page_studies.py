@@ -35,9 +35,9 @@ def scenario_row(label: str, result, u: Units) -> dict:
 def _scenarios(text: str, ok: bool, u: Units) -> None:
     st.subheader("Scenarios")
     scen: list[tuple[str, str]] = st.session_state[state.SCENARIOS]
-    c1, c2 = st.columns([3, 1])
+    c1, c2 = st.columns([3, 1], vertical_alignment="bottom")
     label = c1.text_input("Scenario name", value=f"scenario {len(scen) + 1}", key=f"scen_name_{len(scen)}")
-    if c2.button("Keep the current plan as a scenario", key="scen_add", disabled=not ok):
+    if c2.button("Keep as a scenario", key="scen_add", disabled=not ok):
         scen.append((label.strip() or f"scenario {len(scen) + 1}", text))
         st.rerun()
     if not scen:

@@ -7,7 +7,10 @@ the widgets re-read the plan instead of keeping stale values.
 
 from __future__ import annotations
 
+import base64
+import binascii
 import copy
+import zlib
 from typing import Any
 
 import streamlit as st
@@ -24,6 +27,48 @@ NOTICE = "notice"
 #: The title the app last put in the plan (demo, upload, library pick); a title still equal to it, or
 #: empty, or the default for the current product, was not written by the user and follows the product.
 AUTO_TITLE = "auto_title"
+#: The query parameter that carries the plan in progress: its TOML text, deflated and base64url-encoded
+#: (text only, never pickled; validated like an uploaded plan file when it is read back).
+PLAN_PARAM = "plan"
+MAX_PLAN_BYTES = 200_000
+
+
+def encode_plan(text: str) -> str:
+    """Plan TOML text → a compact, URL-safe string."""
+    return base64.urlsafe_b64encode(zlib.compress(text.encode("utf-8"), 9)).decode("ascii").rstrip("=")
+
+
+def decode_plan(token: str) -> str | None:
+    """The TOML text of :func:`encode_plan`, or None when the token is not one (or inflates too far)."""
+    try:
+        raw = base64.urlsafe_b64decode(token + "=" * (-len(token) % 4))
+        inflater = zlib.decompressobj()
+        data = inflater.decompress(raw, MAX_PLAN_BYTES)
+        if inflater.unconsumed_tail:
+            return None
+        return data.decode("utf-8")
+    except (binascii.Error, zlib.error, UnicodeDecodeError, ValueError):
+        return None
+
+
+def _plan_from_address(generation: int) -> dict | None:
+    """The plan carried in the page address (a reload keeps the work), or None."""
+    token = st.query_params.get(PLAN_PARAM)
+    if not token:
+        return None
+    text = decode_plan(str(token))
+    out = None if text is None else adapter.read_uploaded_plan(text, "the page address", generation)
+    if out is None or not out.ok:
+        st.session_state[NOTICE] = "The plan in the page address could not be read; the demo plan is shown."
+        return None
+    return out.value
+
+
+def remember() -> None:
+    """Write the plan in progress into the page address (only when it changed)."""
+    token = encode_plan(adapter.plan_toml(plan()))
+    if st.query_params.get(PLAN_PARAM) != token:
+        st.query_params[PLAN_PARAM] = token
 
 
 def init() -> None:
@@ -35,7 +80,7 @@ def init() -> None:
     ss.setdefault("temperature_unit", "°C")
     ss.setdefault("time_unit", "min")
     if PLAN not in ss:
-        ss[PLAN] = adapter.demo_plan_dict(ss[LIBGEN])
+        ss[PLAN] = _plan_from_address(ss[LIBGEN]) or adapter.demo_plan_dict(ss[LIBGEN])
         ss[AUTO_TITLE] = ss[PLAN].get("title", "")
         ss[GOOD] = adapter.canonical_toml(adapter.parse_plan(adapter.plan_toml(ss[PLAN]), ss[LIBGEN]).value)
 

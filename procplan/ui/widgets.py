@@ -74,7 +74,13 @@ def temperature(
 
 
 def duration(
-    label: str, minutes: float, key: str, *, minimum_min: float = 0.1, maximum_min: float = 10080.0
+    label: str,
+    minutes: float,
+    key: str,
+    *,
+    minimum_min: float = 0.1,
+    maximum_min: float = 10080.0,
+    help: str | None = None,
 ) -> float:
     """A duration in minutes or hours (display); returns minutes."""
     u = state.units()
@@ -87,6 +93,7 @@ def duration(
         maximum=round(u.minutes_to_shown(maximum_min), 6),
         step=step,
         fmt="%.2f" if u.time == "h" else "%.1f",
+        help=help,
     )
     return _clamp(u.shown_to_minutes(shown), minimum_min, maximum_min)
 

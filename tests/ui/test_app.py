@@ -19,7 +19,11 @@ from procplan.caution import CAUTION
 
 
 def go(at, page: str):
-    at.sidebar.radio(key="page").set_value(page).run()
+    """Open a page by its title, as a click in the sidebar navigation does."""
+    from procplan.ui.main import PAGES
+
+    script = next(script for title, script, *_ in PAGES if title == page)
+    at.switch_page(f"procplan/ui/pages/{script}").run()
     assert not at.exception, at.exception
     return at
 
@@ -161,7 +165,7 @@ def test_steps_can_be_added_reordered_and_removed(app):
 
 def test_composition_that_does_not_add_up_is_named_with_its_sum(app):
     go(app, "Product")
-    number_input(app, "water").set_value(0.58).run()  # 0.58 + 0.21 + 0.08 + 0.01 + 0 + 0.02 = 0.90
+    number_input(app, "Water").set_value(0.58).run()  # 0.58 + 0.21 + 0.08 + 0.01 + 0 + 0.02 = 0.90
     assert not app.exception
     text = errors(app)
     assert "Composition" in text and "0.900" in text and "0.100 below 1" in text
@@ -336,7 +340,7 @@ def test_required_setting_is_found_and_confirmed(app):
     app.button(key="rs_go").click().run()
     assert not app.exception, app.exception
     assert metric(app, "Confirmed by a forward run") == "yes"
-    value = number_of(metric(app, "Required medium_C"))
+    value = number_of(metric(app, "Required medium temperature"))
     # the vial reaches 8 °C at the surface in 27 min with 5 °C air: 30 min allows warmer air, below 8 °C
     assert 5.0 < value < 8.0
 
@@ -349,7 +353,7 @@ def test_variability_shows_percentiles_and_histogram(app):
     app.button(key="mc_go").click().run()
     assert not app.exception, app.exception
     frame = app.dataframe[-1].value
-    row = frame[frame["quantity"] == "time_to_target_min"].iloc[0]
+    row = frame[frame["quantity"] == "Time to target"].iloc[0]
     p50, p95 = number_of(row["P50"]), number_of(row["P95"])
     assert p50 <= p95
 
@@ -433,7 +437,11 @@ def test_catalogue_sweep_table_equals_the_library_sweep(app, library_copy):
     app.multiselect(key="sw_machines").set_value(["chiller-b1"])
     app.button(key="sw_go").click().run()
     assert not app.exception, app.exception
+    from procplan.ui.fmt import Units
+    from procplan.ui.studies_panels import sweep_columns
+
     shown = app.dataframe[-1].value
+    label = sweep_columns(Units())  # the library's column names as the page labels them (°C, min)
     direct = sweep_catalogue(
         load_library(library_copy), products=["soup-pouch"], equipment=["chiller-b1"]
     ).table
@@ -441,5 +449,8 @@ def test_catalogue_sweep_table_equals_the_library_sweep(app, library_copy):
     for col in direct.columns:
         if direct[col].dtype.kind == "f":
             assert_allclose(
-                shown[col].to_numpy(dtype=float), direct[col].to_numpy(dtype=float), rtol=1e-9, equal_nan=True
+                shown[label[col]].to_numpy(dtype=float),
+                direct[col].to_numpy(dtype=float),
+                rtol=1e-9,
+                equal_nan=True,
             )
