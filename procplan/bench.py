@@ -1,18 +1,24 @@
 """Timing benchmarks of the finite-volume conduction solver: ``python -m procplan.bench``.
 
-(a) 1-D slab freezing, 100 nodes, 24 h, against a method-of-lines baseline (``scipy.integrate.solve_ivp``,
-    BDF, apparent-specific-heat formulation, tridiagonal Jacobian sparsity) run at the same accuracy;
-(b) a brick history at 500 times from the exact series (``procplan.conduction.product.exact_history``, if
-    present) and from the finite-volume solver;
-(c) 2-D finite-cylinder chilling (25 × 25 nodes).
+(a) 1-D slab freezing, 100 nodes, 24 h: accuracy-time pairs of the finite volume at several step targets and
+    of a method-of-lines baseline (``scipy.integrate.solve_ivp``, BDF, apparent-specific-heat formulation,
+    tridiagonal Jacobian sparsity) at several rtol, and the time ratio at equal error, interpolated in
+    log(error)-log(time) between measured pairs (never extrapolated);
+(b) the 2-D demo plan (roulade blast chill, in-process ``run_plan``) and (c) a 3-D brick at 15³ nodes, each
+    with the sparse LU kept across Newton iterations and steps and with a new LU at every Newton iteration
+    (the earlier solver), with the number of factorisations;
+(d) a brick history at 500 times from the exact series, (e) 2-D finite-cylinder chilling, (f) variability.
 
-Accuracy of (a) is measured against a reference run of the same finite-volume discretisation with a very
-small step (0.02 K per step): the error is the largest core-temperature difference at 97 times over 24 h.
-Times are medians of several repeats. This module prints; it is not imported by the library.
+Error of (a): the largest core-temperature difference at 97 times over 24 h from a reference run of the same
+finite-volume discretisation with a very small step (0.02 K per step). The baseline discretises the latent
+heat differently (apparent c_p on the same grid), so its error includes that difference and has a floor.
+Times are medians of several repeats on whatever machine runs this (noisy under load). This module prints;
+it is not imported by the library.
 """
 
 from __future__ import annotations
 
+import contextlib
 import importlib
 import statistics
 import time
@@ -21,8 +27,10 @@ import numpy as np
 from scipy.integrate import solve_ivp
 from scipy.sparse import diags
 
+import procplan.conduction.fv_linear as fv_linear
 from procplan.conduction.finite_volume import SurfaceBoundary, solve_conduction
 from procplan.conduction.fv_grid import build_grid
+from procplan.conduction.fv_model import FVModel
 from procplan.geometry import Geometry
 from procplan.properties.table import PropertyTable
 
@@ -31,6 +39,9 @@ from procplan.properties.table import PropertyTable
 FOOD = PropertyTable.constant(
     0.5, 1050.0, 3600.0, latent_J_kg=250e3, freezing_C=-1.0, frozen_k_W_mK=1.6, frozen_cp_J_kgK=1900.0
 )
+#: Step targets [K] of the finite volume and rtol of the baseline for the accuracy-time pairs of (a).
+FV_TARGETS_K = (2.0, 1.0, 0.5, 0.25, 0.1)
+IVP_RTOLS = (1e-3, 1e-4, 1e-5, 1e-6, 1e-7)
 
 
 def _median_time(fn, repeats: int) -> tuple[float, object]:
@@ -85,43 +96,135 @@ def mol_apparent_cp(
     return sol.y[0], sol.nfev
 
 
-def bench_freezing(repeats: int = 7) -> list[tuple[str, float, str]]:
+def time_at_error(pairs: list[tuple[float, float]], error: float) -> float:
+    """Time [s] at ``error`` [K] interpolated in log-log between measured (error, time) pairs; NaN outside
+    their range (no extrapolation)."""
+    pts = sorted((e, t) for e, t in pairs if e > 0)
+    es = np.log([e for e, _ in pts])
+    if not pts or not (es[0] <= np.log(error) <= es[-1]):
+        return float("nan")
+    return float(np.exp(np.interp(np.log(error), es, np.log([t for _, t in pts]))))
+
+
+def bench_freezing(repeats: int = 5) -> list[tuple[str, float, str]]:
     g = Geometry("slab", thickness_m=0.05)
     bc = SurfaceBoundary.constant(-30.0, 20.0)
     end = 24 * 3600.0
     t_eval = np.linspace(0.0, end, 97)
     ref = solve_conduction(g, FOOD, 10.0, bc, end, n_nodes=100, max_step_change_K=0.02, output_time_s=t_eval)
-    t_fv, fv = _median_time(lambda: solve_conduction(g, FOOD, 10.0, bc, end, n_nodes=100), repeats)
-    err_fv = float(np.max(np.abs(np.interp(t_eval, fv.time_s, fv.core_C) - ref.core_C)))
-    rows = [
-        (
-            "1-D freezing, finite volume (default)",
-            t_fv,
-            f"core error {err_fv:.3f} K, {fv.n_steps} steps, energy balance {fv.energy_balance_error:.1e}",
+    rows, fv_pairs, ivp_pairs = [], [], []
+    for target in FV_TARGETS_K:
+        t_fv, fv = _median_time(
+            lambda k=target: solve_conduction(g, FOOD, 10.0, bc, end, n_nodes=100, max_step_change_K=k),
+            repeats,
         )
-    ]
-    chosen = None
-    for rtol in (1e-3, 1e-4, 1e-5, 1e-6):
+        err = float(np.max(np.abs(np.interp(t_eval, fv.time_s, fv.core_C) - ref.core_C)))
+        fv_pairs.append((err, t_fv))
+        rows.append(
+            (
+                f"1-D freezing, finite volume, target {target:g} K",
+                t_fv,
+                f"core error {err:.2e} K, {fv.n_steps} steps",
+            )
+        )
+    for rtol in IVP_RTOLS:
         t_ivp, (core, nfev) = _median_time(
-            lambda r=rtol: mol_apparent_cp(g, FOOD, 10.0, -30.0, 20.0, end, 100, r, t_eval), 1
+            lambda r=rtol: mol_apparent_cp(g, FOOD, 10.0, -30.0, 20.0, end, 100, r, t_eval),
+            max(1, repeats // 2),
         )
         err = float(np.max(np.abs(core - ref.core_C)))
-        chosen = (rtol, t_ivp, err, nfev)
-        if err <= err_fv:
-            break
-    rtol, _, err, nfev = chosen
-    t_ivp, _ = _median_time(
-        lambda: mol_apparent_cp(g, FOOD, 10.0, -30.0, 20.0, end, 100, rtol, t_eval), max(1, repeats // 2)
-    )
-    rows.append(
-        (
-            f"1-D freezing, solve_ivp BDF apparent cp (rtol {rtol:g})",
-            t_ivp,
-            f"core error {err:.3f} K, {nfev} rhs calls",
+        ivp_pairs.append((err, t_ivp))
+        rows.append(
+            (
+                f"1-D freezing, solve_ivp BDF apparent cp, rtol {rtol:g}",
+                t_ivp,
+                f"core error {err:.2e} K, {nfev} rhs calls",
+            )
         )
-    )
-    rows.append(("  ratio solve_ivp / finite volume", t_ivp / t_fv, "(times faster)"))
+    for err, t_fv in fv_pairs:
+        t_ivp = time_at_error(ivp_pairs, err)
+        note = (
+            f"solve_ivp time interpolated at the finite volume's error {err:.2e} K"
+            if t_ivp == t_ivp
+            else f"no solve_ivp run brackets error {err:.2e} K (not compared)"
+        )
+        rows.append((f"  ratio solve_ivp / finite volume at equal error {err:.1e} K", t_ivp / t_fv, note))
     return rows
+
+
+@contextlib.contextmanager
+def _factorisations(reuse: bool):
+    """Collect the Factorisation of every finite-volume model built inside; without ``reuse``, every Newton
+    iteration factorises anew (the solver before the kept LU)."""
+    kept = dict(fv_linear.REUSE_SCALE_CHANGE)
+    made: list = []
+    init = FVModel.__init__
+
+    def recording_init(self, *args, **kwargs):
+        init(self, *args, **kwargs)
+        made.append(self.factors)
+
+    FVModel.__init__ = recording_init
+    if not reuse:
+        fv_linear.REUSE_SCALE_CHANGE.update({d: -1.0 for d in kept})
+    try:
+        yield made
+    finally:
+        FVModel.__init__ = init
+        fv_linear.REUSE_SCALE_CHANGE.update(kept)
+
+
+def _with_and_without_reuse(name: str, fn, repeats: int) -> list[tuple[str, float, str]]:
+    rows, times = [], {}
+    for reuse in (False, True):
+        with _factorisations(reuse) as made:
+            t, _ = _median_time(fn, repeats)
+        last = made[-1]
+        label = "LU kept across steps" if reuse else "new LU every Newton iteration"
+        times[reuse] = t
+        rows.append(
+            (
+                f"{name}, {label}",
+                t,
+                f"{last.n_factorisations} factorisations, {last.n_reused} reused-LU solves "
+                f"({last.n_gmres_iterations} GMRES iterations), {last.n_iterative} BiCGSTAB solves per run",
+            )
+        )
+    rows.append(
+        (f"  ratio {name}: new LU / kept LU", times[False] / times[True], "(times faster, in-process)")
+    )
+    return rows
+
+
+def bench_roulade(repeats: int = 5) -> list[tuple[str, float, str]]:
+    """The 2-D demo plan, run in-process by the engine."""
+    from procplan.files.library import load_library
+    from procplan.run.engine import run_plan
+
+    lib = load_library()
+    plan = lib.plan("roulade-blast-chill")
+    return _with_and_without_reuse(
+        "2-D plan roulade-blast-chill", lambda: run_plan(plan, library=lib), repeats
+    )
+
+
+def bench_brick_15(repeats: int = 3) -> list[tuple[str, float, str]]:
+    """3-D brick, 15³ nodes, 4 h chilling with 500 output times."""
+    g = Geometry("brick", length_m=0.04, width_m=0.05, height_m=0.06)
+    times = np.linspace(0.0, 4 * 3600.0, 500)
+
+    def run():
+        return solve_conduction(
+            g,
+            PropertyTable.constant(0.5, 1050.0, 3600.0),
+            60.0,
+            SurfaceBoundary.constant(2.0, 25.0),
+            times[-1],
+            n_nodes=15,
+            output_time_s=times,
+        )
+
+    return _with_and_without_reuse("3-D brick 15^3", run, repeats)
 
 
 def bench_brick(repeats: int = 3) -> list[tuple[str, float, str]]:
@@ -191,7 +294,14 @@ def bench_studies() -> list[tuple[str, float, str]]:
 
 
 def main() -> None:
-    rows = bench_freezing() + bench_brick() + bench_finite_cylinder() + bench_studies()
+    rows = (
+        bench_freezing()
+        + bench_roulade()
+        + bench_brick_15()
+        + bench_brick()
+        + bench_finite_cylinder()
+        + bench_studies()
+    )
     width = max(len(r[0]) for r in rows)
     print(f"{'case':<{width}}  {'value':>10}  notes")
     for name, value, note in rows:

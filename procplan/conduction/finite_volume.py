@@ -195,6 +195,8 @@ def solve_conduction(
         energy_balance_error=stepper.energy_balance_error(),
         stopped_at_s=stepper.stopped_at,
         method=_method_text(grid, scheme, dt_s, target, dt_cap),
+        n_factorisations=model.factors.n_factorisations,
+        n_reused_factorisations=model.factors.n_reused,
     )
 
 
@@ -266,6 +268,7 @@ def _method_text(grid: FVGrid, scheme: str, dt_s: float | None, target: float, d
     )
     return (
         f"finite volume, {grid.describe()}; enthalpy unknown, harmonic-mean face conductivity; "
-        f"{SCHEMES[scheme]}, {step_text}; Newton on H with dT/dH from the table (secant fallback); "
+        f"{SCHEMES[scheme]}, {step_text}; Newton on H with dT/dH from the table (secant fallback)"
+        f"{'' if len(grid.shape) == 1 else '; sparse LU kept across steps as GMRES preconditioner'}; "
         f"surface temperature = surface node"
     )

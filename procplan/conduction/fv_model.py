@@ -10,7 +10,7 @@ import numpy as np
 
 from procplan.conduction.fv_boundary import SurfaceBoundary
 from procplan.conduction.fv_grid import FVGrid
-from procplan.conduction.fv_linear import sparse_pattern
+from procplan.conduction.fv_linear import Factorisation, sparse_pattern
 from procplan.conduction.fv_newton import solve_step
 from procplan.properties.table import PropertyTable
 
@@ -53,6 +53,9 @@ class FVModel:
         if self.dim > 1:
             self._perm, self._indices, self._indptr = sparse_pattern(self.fi, self.fj, self.n)
         self.has_q = boundary.q_extra_W_m2 is not None
+        self.factors = Factorisation(
+            self.dim
+        )  # the Newton matrix's LU kept across iterations and steps (2-D, 3-D)
 
     # -- pieces --------------------------------------------------------------------------
     def temperature(self, H):

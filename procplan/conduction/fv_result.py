@@ -41,6 +41,9 @@ class ConductionResult:
     energy_balance_error : |∫Q dt − Δ(Σ m H)| / |Δ(Σ m H)| (0 when nothing changed)
     stopped_at_s : time the core crossed ``stop_when_core_C`` [s], or None
     method : description of the discretisation
+    n_factorisations : sparse LU factorisations of the Newton matrix (2-D and 3-D; 0 in 1-D, whose
+        tridiagonal systems are solved directly)
+    n_reused_factorisations : Newton systems solved with a kept LU as GMRES preconditioner instead of a new one
     """
 
     time_s: np.ndarray
@@ -62,6 +65,8 @@ class ConductionResult:
     energy_balance_error: float
     stopped_at_s: float | None
     method: str
+    n_factorisations: int = 0
+    n_reused_factorisations: int = 0
 
     def to_frame(self) -> pd.DataFrame:
         """The history as a DataFrame with unit-suffixed columns."""
@@ -112,6 +117,8 @@ class HistoryRecorder:
         energy_balance_error: float,
         stopped_at_s: float | None,
         method: str,
+        n_factorisations: int = 0,
+        n_reused_factorisations: int = 0,
     ) -> ConductionResult:
         """The ConductionResult of the recorded history with the final enthalpy field H [J/kg]."""
         grid = self.grid
@@ -140,4 +147,6 @@ class HistoryRecorder:
             energy_balance_error=float(energy_balance_error),
             stopped_at_s=stopped_at_s,
             method=method,
+            n_factorisations=n_factorisations,
+            n_reused_factorisations=n_reused_factorisations,
         )
