@@ -154,11 +154,13 @@ def _step_lines(result, site=None) -> list[str]:
     lines: list[str] = []
     hist = result.history
     for sr in result.steps:
-        med = "…".join(_temp(site, m) for m in sorted(set(sr.surface.medium_C)))
+        med = "…".join(_temp(site, m) for m in sorted(set(sr.surface.fluid_temperature_C)))
         hh = "…".join(f"{h:.1f}" for h in sorted(set(sr.surface.h_W_m2K)))
         lines.append(
             f"  step {sr.index + 1} '{sr.name}': medium {med}, h {hh} W/m²K, {_time(site, sr.duration_s / 60)}"
         )
+        if sr.surface.radiates_to_other_walls:
+            lines.append(f"    {sr.surface.breakdown.sink_note}")
         lines.append(f"    solver: {sr.solver} — {sr.reason}")
         lines.append(f"    regime: {sr.regime.reason}")
         seg = hist[hist["step_index"] == sr.index]

@@ -162,7 +162,7 @@ def product_section(result, site, st, W):
                 f"{sr.index + 1} {sr.name}",
                 machine_text(sr, step),
                 settings_text(sr, step, site),
-                value_range(sr.surface.medium_C, site.format_temperature),
+                value_range(sr.surface.fluid_temperature_C, site.format_temperature),
                 value_range(sr.surface.h_W_m2K, lambda v: f"{v:.1f}"),
             ]
         )

@@ -21,7 +21,7 @@ def temperature_figure(result, u: Units, title: str = "Product temperatures") ->
     # medium temperature of each step (step function)
     for sr in result.steps:
         mt = np.asarray(sr.surface.medium_time_s, dtype=float) + sr.start_s
-        mv = np.asarray(sr.surface.medium_C, dtype=float)
+        mv = np.asarray(sr.surface.fluid_temperature_C, dtype=float)
         xs = np.r_[mt, sr.end_s]
         ys = np.r_[mv, mv[-1]]
         fig.add_trace(

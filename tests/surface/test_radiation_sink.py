@@ -106,3 +106,14 @@ def test_a_machine_step_radiates_to_the_given_surroundings():
     assert s.fluid_C == (air_C,)
     assert air_C < s.medium_C[0] < air_C + 60.0
     assert hot.history["mean_C"].iloc[-1] > plain.history["mean_C"].iloc[-1]
+
+
+def test_the_summary_shows_the_air_and_says_where_the_radiation_goes():
+    # What a technologist sets is the air temperature: the step line shows it, and a second line says that
+    # the product also radiates to walls at another temperature (the sink the solver uses).
+    from procplan.output.report import summary_text
+
+    res = run_plan(plan_from_dict(slab_plan(1.0, emissivity=EPS, surroundings_C=T_SURR)), solver="exact")
+    text = summary_text(res)
+    assert f"medium {T_AIR:g} °C" in text
+    assert res.steps[0].surface.breakdown.sink_note in text
