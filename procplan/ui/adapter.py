@@ -274,13 +274,21 @@ def save_product(product_dict: dict, name: str, overwrite: bool) -> Outcome:
 
 
 @st.cache_data(max_entries=32, show_spinner=False)
-def history_csv(text: str, generation: int = 0) -> bytes:
-    """The history of a plan's run as CSV (SI columns: time_s, core_C, … and time_min)."""
+def history_csv(text: str, generation: int = 0, temperature_unit: str = "C", time_unit: str = "min") -> bytes:
+    """The history of a plan's run as CSV in the display units the user chose, the unit in every header
+    (time_s is kept beside the chosen time column; heat flow stays in W)."""
+    from procplan.units import c_to_f
+
     out = run(text, generation)
     if not out.ok:
         return b""
     h = out.value.history.copy()
-    h.insert(1, "time_min", h["time_s"] / 60.0)
+    h.insert(1, f"time_{time_unit}", h["time_s"] / (3600.0 if time_unit == "h" else 60.0))
+    if temperature_unit == "F":
+        renamed = {c: c[:-2] + "_F" for c in h.columns if c.endswith("_C")}
+        for c in renamed:
+            h[c] = c_to_f(h[c].to_numpy())
+        h = h.rename(columns=renamed)
     return h.to_csv(index=False).encode("utf-8")
 
 
@@ -306,8 +314,13 @@ def sheet_pdf(
     revision: str = "A",
     paper: str | None = None,
     prepared_by: str = "",
+    temperature_unit: str | None = None,
+    time_unit: str | None = None,
 ) -> Outcome:
-    """The batch-plan sheet (PDF bytes) of a plan given as TOML text, with the site settings."""
+    """The batch-plan sheet (PDF bytes) of a plan given as TOML text, with the site settings and, when given,
+    the display units the user chose in the app ("C"/"F", "min"/"h") instead of the site's."""
+    import dataclasses
+
     import procplan.output.sheet as mod
 
     out = run(text, generation)
@@ -320,7 +333,13 @@ def sheet_pdf(
     if paper:
         kwargs["paper"] = paper
     try:
-        return Outcome(bytes(mod.batch_sheet_pdf(out.value, site=site.value, **kwargs)))
+        chosen = {
+            k: v
+            for k, v in (("temperature_unit", temperature_unit), ("time_unit", time_unit))
+            if v is not None
+        }
+        settings = dataclasses.replace(site.value, **chosen)
+        return Outcome(bytes(mod.batch_sheet_pdf(out.value, site=settings, **kwargs)))
     except InvalidInputError as exc:
         return Outcome(problems=problems_of(exc))
 

@@ -37,8 +37,16 @@ def _downloads(text: str, ok: bool) -> None:
                 key="sheet_paper",
                 format_func={"a4": "A4", "letter": "US Letter"}.get,
             )
+            u = state.units()
             out = adapter.sheet_pdf(
-                text, state.generation(), lot_id=lot, revision=rev, paper=paper, prepared_by=who
+                text,
+                state.generation(),
+                lot_id=lot,
+                revision=rev,
+                paper=paper,
+                prepared_by=who,
+                temperature_unit="F" if u.fahrenheit else "C",
+                time_unit=u.time,
             )
             if out.ok:
                 st.download_button(
@@ -68,7 +76,9 @@ def _downloads(text: str, ok: bool) -> None:
         if ok:
             st.download_button(
                 "Download the history",
-                adapter.history_csv(text, state.generation()),
+                adapter.history_csv(
+                    text, state.generation(), "F" if state.units().fahrenheit else "C", state.units().time
+                ),
                 file_name=f"{name}-history.csv",
                 mime="text/csv",
                 key="dl_csv",
