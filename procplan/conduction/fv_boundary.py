@@ -90,10 +90,6 @@ class TimeProfile:
         return TimeProfile(self.time_s, self.value, self.interpolation, self.hold_last, name)
 
     @property
-    def is_constant(self) -> bool:
-        return bool(np.all(self.value == self.value[0]))
-
-    @property
     def end_s(self) -> float:
         """Last time the profile defines (infinite when it holds its last value)."""
         return float("inf") if self.hold_last else float(self.time_s[-1])
@@ -195,13 +191,6 @@ class SurfaceBoundary:
         )
 
     @property
-    def medium_profile(self) -> TimeProfile:
-        return self._m
-
-    @property
-    def h_profile(self) -> TimeProfile:
-        return self._h
-
     def medium(self, time_s):
         """Medium temperature [°C] at ``time_s``."""
         return self._m(time_s)

@@ -96,15 +96,6 @@ def _interp(result, point: str, t_s: float) -> float:
     return float(np.interp(t_s, h["time_s"].to_numpy(), h[f"{point}_C"].to_numpy()))
 
 
-def step_cools(result, index: int) -> bool:
-    """True when step ``index`` cools the product (its medium below the core at the step's start)."""
-    sr = result.steps[index]
-    h = result.history
-    t0 = sr.start_s
-    core0 = float(np.interp(t0, h["time_s"].to_numpy(), h["core_C"].to_numpy()))
-    return float(np.mean(sr.surface.medium_C)) < core0
-
-
 def stage_deadlines(result) -> tuple[StageDeadline, ...]:
     """The cooling rule's stage limits on the plan's clock (stages that started)."""
     oc = result.outcomes
