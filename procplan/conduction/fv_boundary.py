@@ -190,7 +190,6 @@ class SurfaceBoundary:
             q_extra_W_m2,
         )
 
-    @property
     def medium(self, time_s):
         """Medium temperature [°C] at ``time_s``."""
         return self._m(time_s)
