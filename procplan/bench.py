@@ -305,7 +305,8 @@ def main() -> None:
     width = max(len(r[0]) for r in rows)
     print(f"{'case':<{width}}  {'value':>10}  notes")
     for name, value, note in rows:
-        unit = "" if "ratio" in name or "difference" in name else " s"
+        # ratios and differences are indented lines that start with their kind ("iteration" contains "ratio")
+        unit = "" if name.lstrip().startswith(("ratio", "FV vs series")) else " s"
         text = "n/a" if value != value else (f"{value:.4f}{unit}" if unit else f"{value:.3f}")
         print(f"{name:<{width}}  {text:>10}  {note}")
 
