@@ -119,6 +119,7 @@ def solve_conduction(
     max_step_change_K: float = 0.5,
     max_dt_s: float | None = None,
     surface_refinement: float = 0.5,
+    max_steps: int | None = None,
 ) -> ConductionResult:
     """Transient conduction with phase change in one piece of product, by implicit finite volumes on enthalpy.
 
@@ -144,6 +145,8 @@ def solve_conduction(
     max_dt_s : largest adaptive step [s] (default end_time_s / 20)
     surface_refinement : node packing toward the surface, 0 (uniform) to 0.9; the default 0.5 makes the
         surface spacing about 0.4 of the centre spacing (see ``fv_grid.AxisGrid.graded``)
+    max_steps : most time steps (accepted and rejected) before the run gives up with an InvalidInputError
+        on ``max_steps`` (None: no limit)
 
     Returns
     -------
@@ -182,6 +185,7 @@ def solve_conduction(
         outs=outs,
         stop=stop,
         stop_direction=stop_direction,
+        max_steps=max_steps,
     )
     recorder = HistoryRecorder(grid, model.temperature)
     stepper = TimeStepper(model, control, H, recorder)

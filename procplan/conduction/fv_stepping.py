@@ -17,6 +17,7 @@ import numpy as np
 
 from procplan.conduction.fv_model import FVModel
 from procplan.conduction.fv_result import ConductionSolverError, HistoryRecorder
+from procplan.errors import InvalidInputError
 
 __all__ = ["FLUX_CHANGE_PER_STEP", "SCHEMES", "STOP_DIRECTIONS", "StepControl", "TimeStepper"]
 
@@ -44,7 +45,8 @@ class StepControl:
     None (adaptive); dt_cap : largest adaptive step [s]; use_bdf2 : BDF2 (else backward Euler);
     landings : times steps land on [s]; jumps : times of step changes of the surface condition [s];
     outs : output times [s] or None (every step); stop : core stop temperature [°C] or None;
-    stop_direction : "falling" or "rising" (with ``stop``).
+    stop_direction : "falling" or "rising" (with ``stop``); max_steps : most time steps, accepted and
+    rejected, before the run is given up (None: no limit).
     """
 
     end: float
@@ -57,6 +59,7 @@ class StepControl:
     outs: np.ndarray | None
     stop: float | None
     stop_direction: str | None
+    max_steps: int | None = None
 
     @property
     def eps_t(self) -> float:
@@ -212,6 +215,13 @@ class TimeStepper:
         """Advance to the end time or the stop on the core temperature."""
         c, model = self.c, self.model
         while self.t < c.end - c.eps_t and self.stopped_at is None:
+            if c.max_steps is not None and self.n_steps + self.n_rej >= c.max_steps:
+                raise InvalidInputError(
+                    "max_steps",
+                    c.max_steps,
+                    f"enough time steps to reach {c.end:g} s",
+                    f"stopped at t = {self.t:g} s of {c.end:g} s after {c.max_steps} time steps",
+                )
             step = self._next_step()
             H1, it = self.attempt(step)
             self.n_it += it

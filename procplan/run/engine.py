@@ -21,9 +21,18 @@ from procplan import validate
 from procplan.conduction.finite_volume import solve_conduction
 from procplan.conduction.product import ExactProvenance, exact_history
 from procplan.conduction.regime import Regime, classify_regime
+from procplan.errors import InvalidInputError
 from procplan.model import SOLVERS, Plan, Step
 from procplan.properties.table import PropertyTable
 from procplan.run.assess import Outcomes, assess_plan
+from procplan.run.budget import (
+    ENERGY_BALANCE_LIMIT,
+    MAX_TIME_STEPS_PER_STEP,
+    check_work_budget,
+    refined_time_settings,
+    step_limit_error,
+    unreliable_reason,
+)
 from procplan.run.solver import PROPERTY_SPREAD_LIMIT, choose_solver, exact_properties
 from procplan.run.step_surface import StepSurface, resolve_step_surface
 
@@ -103,6 +112,8 @@ class StepResult:
     energy_balance_error: float
     details: StepSolverDetails = StepSolverDetails()
     warnings: tuple[str, ...] = ()
+    #: why the step cannot be relied on (its energy balance), None when it can
+    unreliable_reason: str | None = None
 
     @property
     def duration_s(self) -> float:
@@ -120,6 +131,8 @@ class PlanResult:
     piece_mass_kg: float
     outcomes: Outcomes | None = None
     warnings: tuple[str, ...] = ()
+    #: why the run cannot be relied on (a step's energy balance off by more than 1 % after a finer rerun)
+    unreliable_reasons: tuple[str, ...] = ()
 
     def _overview(self) -> tuple[str, list[tuple[str, str, str, str]], str]:
         """Title, one row per step (name, solver, minutes, core and surface at its end) and the verdict."""
@@ -240,7 +253,9 @@ def _exact_step(geometry, props: PropertyTable, start_C: float, surface: StepSur
     return _StepRun(frame, stop_time, 0.0, details, None)
 
 
-def _fv_step(geometry, props, initial, surface: StepSurface, step: Step, n_nodes, dt_s) -> _StepRun:
+def _fv_step(geometry, props, initial, surface: StepSurface, step: Step, n_nodes, time_settings) -> _StepRun:
+    """Run the finite-volume solver for one step; ``time_settings`` holds dt_s (and, for a refined rerun,
+    the adaptive step's aim and cap)."""
     res = solve_conduction(
         geometry,
         props,
@@ -248,8 +263,9 @@ def _fv_step(geometry, props, initial, surface: StepSurface, step: Step, n_nodes
         surface.boundary(),
         step.duration_s,
         n_nodes=n_nodes,
-        dt_s=dt_s,
         stop_when_core_C=step.stop_when_core_C,
+        max_steps=MAX_TIME_STEPS_PER_STEP,
+        **time_settings,
     )
     frame = pd.DataFrame(
         {
@@ -281,6 +297,7 @@ class _Context:
     requested: str
     n_nodes: Any
     dt_s: float | None
+    refined: dict | None = None  # the finer time settings of an energy-balance rerun (None: as asked)
 
 
 @dataclass
@@ -298,7 +315,13 @@ def _solve(ctx: _Context, chosen: str, carried: _Carried, step: Step, surface: S
     geometry = ctx.plan.product.geometry
     if chosen == "exact":
         return _exact_step(geometry, ctx.props, carried.start_C, surface, step)
-    return _fv_step(geometry, ctx.props, carried.field, surface, step, ctx.n_nodes, ctx.dt_s)
+    time_settings = ctx.refined if ctx.refined is not None else {"dt_s": ctx.dt_s}
+    try:
+        return _fv_step(geometry, ctx.props, carried.field, surface, step, ctx.n_nodes, time_settings)
+    except InvalidInputError as exc:
+        if exc.field == "max_steps":
+            raise step_limit_error(f"{step.name}", exc) from exc
+        raise
 
 
 def _mean_surface_C(run: _StepRun) -> float | None:
@@ -336,13 +359,36 @@ def _solve_with_surface_pass(ctx: _Context, i: int, step: Step, chosen: str, car
     return replace(run, details=details), surface
 
 
-def _step_warnings(step: Step, surface: StepSurface, run: _StepRun) -> tuple[str, ...]:
+def _check_balance(ctx: _Context, step: Step, chosen: str, carried: _Carried, surface, run: _StepRun):
+    """Run a step whose energy balance is off by more than :data:`ENERGY_BALANCE_LIMIT` once more with a
+    finer time step (the grid stays, since the field carries on); return the run and why it cannot be
+    relied on (None when it can)."""
+    if chosen == "exact" or run.energy_balance_error <= ENERGY_BALANCE_LIMIT:
+        return run, None
+    finer = refined_time_settings(step.duration_s, ctx.dt_s)
+    if finer:
+        again = _solve(replace(ctx, refined=finer), chosen, carried, step, surface)
+        kept = {
+            "h_surface_C": run.details.h_surface_C,
+            "h_change_on_second_pass": run.details.h_change_on_second_pass,
+        }
+        run = replace(again, details=replace(again.details, **kept))
+        if run.energy_balance_error <= ENERGY_BALANCE_LIMIT:
+            return run, None
+    return run, unreliable_reason(step.name, run.energy_balance_error, refined=bool(finer))
+
+
+def _step_warnings(
+    step: Step, surface: StepSurface, run: _StepRun, unreliable: str | None
+) -> tuple[str, ...]:
     out = list(surface.warnings)
     if step.stop_when_core_C is not None and run.stop_time_s is None:
         out.append(
             f"{step.name}: the core did not reach {step.stop_when_core_C:g} °C within {step.duration_s / 60:g} min"
         )
-    if run.energy_balance_error > 0.005:
+    if unreliable is not None:
+        out.append(unreliable)
+    elif run.energy_balance_error > 0.005:
         out.append(
             f"{step.name}: energy-balance error {run.energy_balance_error:.2%} exceeds 0.5 %; refine the grid or time step"
         )
@@ -378,6 +424,7 @@ def _run_step(
         field_carried_on=i < len(ctx.plan.steps) - 1,
     )
     run, surface = _solve_with_surface_pass(ctx, i, step, choice.solver, carried, surface)
+    run, unreliable = _check_balance(ctx, step, choice.solver, carried, surface, run)
     # the regime and Biot number of the h the step ran with (after the surface pass)
     regime = classify_regime(
         float(np.mean(surface.h_W_m2K)),
@@ -400,7 +447,8 @@ def _run_step(
         stop_time_s=None if stop is None else carried.t_offset_s + stop,
         energy_balance_error=float(run.energy_balance_error),
         details=details,
-        warnings=_step_warnings(step, surface, run),
+        warnings=_step_warnings(step, surface, run, unreliable),
+        unreliable_reason=unreliable,
     )
     return frame, result, run
 
@@ -479,6 +527,7 @@ def run_plan(
     props = plan.product.property_table()
     props.check_in_range("start.temperature_C", plan.start_temperature_C)
     piece_mass_kg = props.mass_density_kg_m3 * plan.product.geometry.volume_m3
+    check_work_budget(plan, requested, n_nodes, dt_s)
     ctx = _Context(plan, library, props, requested, n_nodes, dt_s)
     history, steps, warnings = _run_steps(ctx)
     warnings.extend(_range_warnings(history, props))
@@ -493,4 +542,5 @@ def run_plan(
         piece_mass_kg=piece_mass_kg,
         outcomes=outcomes,
         warnings=tuple(warnings) + (tuple(outcomes.warnings) if outcomes is not None else ()),
+        unreliable_reasons=tuple(sr.unreliable_reason for sr in steps if sr.unreliable_reason is not None),
     )
