@@ -1,7 +1,7 @@
 """The ``procplan`` command line.
 
-Exit codes: 0 success; 1 a check failed (a rule, a lethality target or an unmet stop condition, when
-``--strict`` is given); 2 invalid input (bad arguments, plan or library file), with the field named; 3 an
+Exit codes: 0 success; 1 a check failed (a rule, a lethality target or an unmet stop condition, or the run
+is unreliable, when ``--strict`` is given); 2 invalid input (bad arguments, plan or library file), with the field named; 3 an
 internal error, with a one-line request to report it.
 
 Building the parser imports neither pandas nor scipy: the study sub-commands are described in full only when
@@ -39,6 +39,8 @@ EXTENSION_MODULES = ("procplan.cli.study_args", "procplan.cli.sheet")
 
 
 def _failed(result) -> bool:
+    if result.unreliable_reasons:
+        return True
     oc = result.outcomes
     if oc is None:
         return False
@@ -137,7 +139,7 @@ def build_parser(full: frozenset[str] | set[str] = frozenset()) -> argparse.Argu
     r.add_argument(
         "--strict",
         action="store_true",
-        help="exit 1 when a rule, lethality target or stop condition is not met",
+        help="exit 1 when a rule, lethality target or stop condition is not met, or the run is unreliable",
     )
     r.set_defaults(func=cmd_run)
 

@@ -36,6 +36,7 @@ def summary_dict(result) -> dict[str, Any]:
         "initial_freezing_C": result.properties.initial_freezing_C,
         "steps": [],
         "warnings": list(result.warnings),
+        "unreliable_reasons": list(getattr(result, "unreliable_reasons", ())),
         "procplan_version": __version__,
         "caution": CAUTION,
     }
@@ -56,6 +57,7 @@ def summary_dict(result) -> dict[str, Any]:
                 "energy_balance_error": sr.energy_balance_error,
                 "details": {k: v for k, v in _plain(sr.details).items() if v is not None},
                 "warnings": list(sr.warnings),
+                "unreliable_reason": getattr(sr, "unreliable_reason", None),
             }
         )
     if result.outcomes is not None:
@@ -134,6 +136,8 @@ def summary_text(result, site=None) -> str:
         f"{plan.title}",
         f"  product: {plan.product.name}, {plan.product.geometry.describe()}, {result.piece_mass_kg:.3f} kg per piece",
     ]
+    for reason in getattr(result, "unreliable_reasons", ()):
+        lines.append(f"  UNRELIABLE: {reason}")
     lines.append(f"  properties: {result.properties.source}")
     lines.append(f"  start {_temp(site, plan.start_temperature_C)}")
     lines += _step_lines(result, site)

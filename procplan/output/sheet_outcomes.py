@@ -202,6 +202,9 @@ def provenance_section(result, site, st, W, sha):
         ),
         table(rows, cols(W, [0.12, 0.38, 0.25, 0.18, 0.07]), st, small=True),
     ]
+    unreliable = getattr(result, "unreliable_reasons", ())
+    if unreliable:
+        out.append(st.p("Unreliable run: " + " | ".join(unreliable), st.bold))
     if result.warnings:
         out.append(st.p("Warnings: " + " | ".join(result.warnings), st.small))
     return out
