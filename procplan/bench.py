@@ -293,6 +293,54 @@ def bench_studies() -> list[tuple[str, float, str]]:
     ]
 
 
+def bench_generated_plans(n: int = 24, seed: int = 7) -> list[tuple[str, float, str]]:
+    """The slowest of a generated set of valid plans: the demo plans with their pieces scaled (0.3–3×) and
+    their steps lengthened or shortened (0.5–2×), each validated as a file would be and run in full."""
+    import copy
+
+    from procplan.errors import InvalidInputError
+    from procplan.files.library import load_library
+    from procplan.files.plan import plan_from_dict, plan_to_dict
+    from procplan.model import DIMENSION_KEYS
+    from procplan.run.engine import run_plan
+
+    lib = load_library()
+    rng = np.random.default_rng(seed)
+    names = sorted(lib.plans)
+    timings, refused = [], 0
+    for i in range(n):
+        name = names[i % len(names)]
+        data = copy.deepcopy(plan_to_dict(lib.plan(name)))
+        size, span = float(rng.uniform(0.3, 3.0)), float(rng.uniform(0.5, 2.0))
+        product = lib.plan(name).product
+        for key in DIMENSION_KEYS:
+            value = getattr(product.geometry, key[:-3] + "_m")
+            if value is not None:
+                data["product"][key] = round(value * 1000.0 * size, 3)
+        for step in data["steps"]:
+            step["duration_min"] = round(step["duration_min"] * span, 3)
+        try:
+            plan = plan_from_dict(data, library=lib)
+            t0 = time.perf_counter()
+            run_plan(plan, library=lib)
+            timings.append((time.perf_counter() - t0, f"{name}, size ×{size:.2f}, steps ×{span:.2f}"))
+        except InvalidInputError:
+            refused += 1
+    slowest = max(timings) if timings else (float("nan"), "none ran")
+    return [
+        (
+            f"generated plans: slowest of {len(timings)} run",
+            slowest[0],
+            f"{slowest[1]} ({refused} refused by name)",
+        ),
+        (
+            "generated plans: median",
+            statistics.median(t for t, _ in timings) if timings else float("nan"),
+            "",
+        ),
+    ]
+
+
 def main() -> None:
     rows = (
         bench_freezing()
@@ -301,6 +349,7 @@ def main() -> None:
         + bench_brick()
         + bench_finite_cylinder()
         + bench_studies()
+        + bench_generated_plans()
     )
     width = max(len(r[0]) for r in rows)
     print(f"{'case':<{width}}  {'value':>10}  notes")
