@@ -41,6 +41,7 @@ from scipy.optimize import least_squares
 from procplan import validate
 from procplan.errors import InvalidInputError
 from procplan.model import Plan
+from procplan.output.json_safe import json_safe
 from procplan.studies.logger import LoggerData
 
 #: Parameters that can be fitted.
@@ -121,20 +122,10 @@ class Calibration:
             "rmse_K": self.rmse_K,
             "n_points": self.n_points,
             "plan_h_W_m2K": self.plan_h_W_m2K,
-            "measured": _plain(self.measured),
+            "measured": json_safe(self.measured),
             "source": self.source,
             "notes": list(self.notes),
         }
-
-
-def _plain(x):
-    if isinstance(x, dict):
-        return {k: _plain(v) for k, v in x.items()}
-    if isinstance(x, float) and not math.isfinite(x):
-        return None
-    if isinstance(x, np.floating):
-        return float(x)
-    return x
 
 
 def measured_outcomes(time_s, temperature_C, plan: Plan, library=None) -> dict[str, Any]:

@@ -36,6 +36,7 @@ from procplan import validate
 from procplan.errors import InvalidInputError
 from procplan.model import MAX_STEP_MIN, Plan
 from procplan.outcomes import plan_time_min
+from procplan.output.json_safe import json_safe
 from procplan.properties.table import MODEL_RANGE_C
 
 #: Default range of a given surface coefficient [W/m²K]: still air to condensing steam (Incropera Table 1.1).
@@ -313,12 +314,8 @@ class RequiredSetting:
             "evaluations": [list(e) for e in self.evaluations],
             "confirmed": self.confirmed,
             "message": self.message,
-            "confirming_run": _json_row(result_metrics(self.result)),
+            "confirming_run": json_safe(result_metrics(self.result)),
         }
-
-
-def _json_row(row: dict[str, Any]) -> dict[str, Any]:
-    return {k: (None if isinstance(v, float) and not math.isfinite(v) else v) for k, v in row.items()}
 
 
 def required_setting(

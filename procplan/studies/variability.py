@@ -40,6 +40,7 @@ from procplan.errors import InvalidInputError
 from procplan.files.product import check_proportions
 from procplan.model import Plan
 from procplan.outcomes.rules import RULE_KINDS, check_rule
+from procplan.output.json_safe import json_safe
 from procplan.run.solver import SolverChoice, choose_solver, exact_properties
 from procplan.studies.distributions import DISTRIBUTIONS, Distribution, distribution, parse_distribution
 
@@ -152,14 +153,7 @@ class VariabilityResult:
     notes: tuple[str, ...] = field(default=())
 
     def to_dict(self) -> dict[str, Any]:
-        def clean(x):
-            if isinstance(x, dict):
-                return {k: clean(v) for k, v in x.items()}
-            if isinstance(x, float) and not math.isfinite(x):
-                return None
-            return x
-
-        return clean(
+        return json_safe(
             {
                 "method": self.method,
                 "n_samples": self.n_samples,
