@@ -145,6 +145,29 @@ class Checks:
 
 
 @dataclass(frozen=True)
+class Packing:
+    """How the pieces are packed: a tray, case, stack of cases or pallet, run as one brick of effective
+    properties (:mod:`procplan.run.packing`). Lengths in metres; ``None`` means "from the other values"."""
+
+    arrangement: str  # one of PACKING_ARRANGEMENTS
+    case_length_m: float  # inner dimensions of one case (or tray)
+    case_width_m: float
+    case_height_m: float
+    pieces_per_case: int
+    wall: str | None = None  # a key of properties.packing.WALL_MATERIALS, or None with wall_k_W_mK
+    wall_thickness_m: float = 0.0
+    wall_k_W_mK: float | None = None
+    cases_layout: tuple[int, int, int] = (1, 1, 1)  # cases along length, width, height (stack, pallet)
+    piece_layout: tuple[int, int, int] | None = None  # pieces along length, width, height in one case
+    void_fraction: float | None = None  # override of the air fraction computed from the piece count
+    air_flow_factor: float = 1.0  # air (or liquid) speed at the load / the machine's setting
+    conductivity_model: str = "emt"
+
+
+PACKING_ARRANGEMENTS = ("tray", "case", "stack", "pallet")
+
+
+@dataclass(frozen=True)
 class Plan:
     """A whole plan: the unit every engine run, study and sheet starts from."""
 
@@ -155,6 +178,7 @@ class Plan:
     checks: Checks = field(default_factory=Checks)
     solver: str = "auto"
     notes: str = ""
+    packing: Packing | None = None
 
     def with_step(self, index: int, **changes: Any) -> Plan:
         """A copy with one step changed (used by studies)."""

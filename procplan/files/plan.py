@@ -15,6 +15,7 @@ from typing import Any
 from procplan import validate
 from procplan.errors import Collector, InvalidInputError
 from procplan.files.fields import T_HI, T_LO, check_keys, file_number, optional, product_temperature
+from procplan.files.packing import packing_from_dict, packing_to_dict
 from procplan.files.product import product_freezing_C, product_from_dict, product_to_dict
 from procplan.files.steps import step_from_dict, step_to_dict
 from procplan.files.tomlfile import dump_toml, parse_toml, read_toml, write_atomic
@@ -31,7 +32,7 @@ CHECK_KEYS = (
     "frozen_storage_C",
 )
 LETHALITY_KEYS = ("preset", "reference_C", "z_C", "required_F_min", "d_value_min", "point")
-PLAN_KEYS = ("title", "notes", "solver", "product", "start", "steps", "checks")
+PLAN_KEYS = ("title", "notes", "solver", "product", "start", "steps", "checks", "packing")
 
 
 def _lethality_table(c: Collector, raw: Mapping[str, Any], lp: str) -> LethalityCheck:
@@ -228,6 +229,10 @@ def plan_from_dict(data: Mapping[str, Any], source: str = "plan", library=None) 
     steps = _steps(c, data, source, library)
     checks = _plan_checks(c, data, source, library)
     notes = str(data.get("notes", ""))
+    packing = None
+    if "packing" in data:
+        with c.catch():
+            packing = packing_from_dict(data["packing"], source)
     if product is not None:
         _check_frozen_storage(c, product, checks, data.get("checks"))
     if t0 is not None and steps:
@@ -241,6 +246,7 @@ def plan_from_dict(data: Mapping[str, Any], source: str = "plan", library=None) 
         checks=checks,
         solver=solver,
         notes=notes,
+        packing=packing,
     )
 
 
@@ -362,6 +368,8 @@ def plan_to_dict(plan: Plan) -> dict[str, Any]:
     ch = checks_to_dict(plan.checks)
     if ch:
         d["checks"] = ch
+    if plan.packing is not None:
+        d["packing"] = packing_to_dict(plan.packing)
     return d
 
 

@@ -133,6 +133,8 @@ class PlanResult:
     warnings: tuple[str, ...] = ()
     #: why the run cannot be relied on (a step's energy balance off by more than 1 % after a finer rerun)
     unreliable_reasons: tuple[str, ...] = ()
+    #: a packed load (plan.packing): its slowest and fastest positions beside the single free piece
+    packing: Any = None
 
     def _overview(self) -> tuple[str, list[tuple[str, str, str, str]], str]:
         """Title, one row per step (name, solver, minutes, core and surface at its end) and the verdict."""
@@ -496,6 +498,17 @@ def _run_steps(ctx: _Context) -> tuple[pd.DataFrame, list[StepResult], list[str]
     return pd.concat(frames, ignore_index=True), steps, warnings
 
 
+def _run_packed(plan: Plan, **kw) -> PlanResult:
+    """The packed load as one brick (:mod:`procplan.run.packing`), with the single free piece run beside it."""
+    from procplan.run.packing import packed_plan, packed_result
+
+    load_plan, load = packed_plan(plan, kw["library"])
+    single = run_plan(replace(plan, packing=None), **kw)
+    result = run_plan(load_plan, **kw)
+    packed = packed_result(plan, load, result.history, single)
+    return replace(result, packing=packed, warnings=load.warnings + result.warnings)
+
+
 def run_plan(
     plan: Plan,
     *,
@@ -524,6 +537,10 @@ def run_plan(
         from procplan.files.library import load_library
 
         library = load_library()
+    if plan.packing is not None:
+        return _run_packed(
+            plan, library=library, solver=solver, n_nodes=n_nodes, dt_s=dt_s, assess=assess, site=site
+        )
     props = plan.product.property_table()
     props.check_in_range("start.temperature_C", plan.start_temperature_C)
     piece_mass_kg = props.mass_density_kg_m3 * plan.product.geometry.volume_m3
