@@ -62,7 +62,25 @@ def summary_dict(result) -> dict[str, Any]:
         )
     if result.outcomes is not None:
         out["outcomes"] = _plain(result.outcomes)
+    if getattr(result, "packing", None) is not None:
+        out["packing"] = packing_dict(result.packing)
     return out
+
+
+def packing_dict(packed) -> dict[str, Any]:
+    """A packed load (``PlanResult.packing``) as plain data: what the load is, and its positions beside the
+    single free piece (times in minutes to the plan's first stop temperature or target)."""
+    load = packed.load
+    return {
+        "load": {k: v for k, v in _plain(load).items() if k not in ("warnings", "geometry")}
+        | {"geometry": load.geometry.describe(), "pieces": load.pieces},
+        "target_C": packed.target_C,
+        "positions": [
+            {"name": p.name, "end_C": p.end_C, "time_to_target_min": _minutes(p.time_to_target_s)}
+            for p in packed.positions
+        ],
+        "single_piece_mass_kg": packed.single.piece_mass_kg,
+    }
 
 
 def history_dict(result) -> dict[str, list]:
@@ -132,10 +150,16 @@ def summary_text(result, site=None) -> str:
     """A readable summary for the terminal; ``site`` (SiteSettings, optional) sets the display units of
     temperatures, process times and rule limits (default °C and minutes)."""
     plan = result.plan
+    packed = getattr(result, "packing", None)
     lines = [
         f"{plan.title}",
-        f"  product: {plan.product.name}, {plan.product.geometry.describe()}, {result.piece_mass_kg:.3f} kg per piece",
+        f"  product: {plan.product.name}, {plan.product.geometry.describe()}, {result.piece_mass_kg:.3f} kg per "
+        + ("piece" if packed is None else "load"),
     ]
+    if packed is not None:
+        from procplan.run.packing import packed_lines
+
+        lines += packed_lines(packed)
     for reason in getattr(result, "unreliable_reasons", ()):
         lines.append(f"  UNRELIABLE: {reason}")
     lines.append(f"  properties: {result.properties.source}")

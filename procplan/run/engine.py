@@ -505,7 +505,7 @@ def _run_packed(plan: Plan, **kw) -> PlanResult:
     load_plan, load = packed_plan(plan, kw["library"])
     single = run_plan(replace(plan, packing=None), **kw)
     result = run_plan(load_plan, **kw)
-    packed = packed_result(plan, load, result.history, single)
+    packed = packed_result(plan, load, result, single)
     return replace(result, packing=packed, warnings=load.warnings + result.warnings)
 
 

@@ -25,6 +25,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from procplan.conduction.product import exact_temperature_at_C
 from procplan.errors import InvalidInputError
 from procplan.geometry import Geometry
 from procplan.model import Packing, Plan, Product, Step
@@ -294,8 +295,61 @@ def time_to_reach_s(time_s, temperature_C, target_C: float, start_C: float) -> f
     return float(t[j - 1] + (t[j] - t[j - 1]) * (y0 - target_C) / (y0 - y1))
 
 
-def packed_result(plan: Plan, load: PackedLoad, load_history: pd.DataFrame, single) -> PackedResult:
-    """The slowest (centre) and fastest (corner) positions of the load, beside the single free piece."""
+def corner_piece_position(plan: Plan, load: PackedLoad) -> tuple[float, float, float]:
+    """Dimensionless coordinates (x*, y*, z*; 0 centre, 1 face) of the centre of the corner piece of the load.
+
+    A piece's cell along an axis is the case's inner length over the pieces along it (``piece_layout``), or
+    the cube root of the case volume per piece; the corner piece's centre lies half a cell (and, in a stack,
+    one case wall) inside each outer face.
+
+    >>> from procplan.model import Packing
+    >>> pk = Packing("case", 0.2, 0.2, 0.1, 8, piece_layout=(2, 2, 2))
+    >>> g = Geometry("brick", length_m=0.2, width_m=0.2, height_m=0.1)
+    >>> corner_piece_position(Plan("p", Product("x", g), 5.0, (), packing=pk), None)
+    (0.5, 0.5, 0.5)
+    """
+    pk = plan.packing
+    inner = (pk.case_length_m, pk.case_width_m, pk.case_height_m)
+    if pk.piece_layout is not None:
+        cells = [d / n for d, n in zip(inner, pk.piece_layout, strict=True)]
+    else:
+        cells = [float(np.prod(inner) / pk.pieces_per_case) ** (1.0 / 3.0)] * 3
+        cells = [min(c, d) for c, d in zip(cells, inner, strict=True)]
+    stacked = int(np.prod(pk.cases_layout)) > 1
+    wall = pk.wall_thickness_m if stacked else 0.0
+    outer = (
+        inner if not stacked else [n * (d + 2 * wall) for n, d in zip(pk.cases_layout, inner, strict=True)]
+    )
+    return tuple(float(max(0.0, 1.0 - (wall + c / 2) / (d / 2))) for c, d in zip(cells, outer, strict=True))
+
+
+def _corner_history(plan: Plan, load: PackedLoad, load_result) -> pd.DataFrame | None:
+    """The corner piece's temperature over the load's history, when the load ran as one exact step."""
+    if len(load_result.steps) != 1 or load_result.steps[0].solver != "exact":
+        return None
+    sr = load_result.steps[0]
+    d = sr.details
+    times = load_result.history["time_s"].to_numpy()
+    temps = exact_temperature_at_C(
+        load.geometry,
+        d.k_W_mK,
+        d.rho_kg_m3,
+        d.cp_J_kgK,
+        sr.surface.h_W_m2K[0],
+        plan.start_temperature_C,
+        sr.surface.medium_C[0],
+        times,
+        corner_piece_position(plan, load),
+    )
+    return pd.DataFrame({"time_s": times, "corner_C": temps})
+
+
+def packed_result(plan: Plan, load: PackedLoad, load_result, single) -> PackedResult:
+    """The slowest (centre) and fastest (corner piece) positions of the load, beside the single free piece.
+
+    The corner piece is evaluated on the exact solution of a one-step load; a load solved by finite volumes
+    reports the corner of its outer surface instead (a bound: no piece cools faster than that point).
+    """
     target = _target_C(plan)
     t0 = plan.start_temperature_C
     unit = load.arrangement
@@ -304,9 +358,14 @@ def packed_result(plan: Plan, load: PackedLoad, load_history: pd.DataFrame, sing
         when = None if target is None else time_to_reach_s(hist["time_s"], hist[col], target, t0)
         return LoadPosition(name, float(hist[col].iloc[-1]), when)
 
+    corner = _corner_history(plan, load, load_result)
     positions = (
-        position(f"centre of the {unit} (slowest)", load_history, "core_C"),
-        position(f"corner of the {unit} (fastest)", load_history, "surface_C"),
+        position(f"centre of the {unit} (slowest)", load_result.history, "core_C"),
+        position(f"corner piece of the {unit} (fastest)", corner, "corner_C")
+        if corner is not None
+        else position(
+            f"corner of the {unit}, outer surface (fastest bound)", load_result.history, "surface_C"
+        ),
         position("single free piece, centre", single.history, "core_C"),
     )
     return PackedResult(load, single, target, positions)
