@@ -75,7 +75,7 @@ def _count(c: Collector, data: Mapping[str, Any], p: str, layout: tuple[int, int
     n = data.get("pieces_per_case")
     from_layout = None if layout is None else layout[0] * layout[1] * layout[2]
     if n is None:
-        if from_layout is None:
+        if from_layout is None and "piece_layout" not in data:
             c.add(InvalidInputError(p + "pieces_per_case", None, f"1…{MAX_COUNT}", "or give piece_layout"))
         return from_layout
     if isinstance(n, bool) or not isinstance(n, int) or not 1 <= n <= MAX_COUNT:
