@@ -135,6 +135,14 @@ PACKED_CONDUCTIVITY_MODELS: dict[str, Callable] = {
     "series": conductivity_series_bound,
     "parallel": conductivity_parallel_bound,
 }
+#: The models in the planner's words (screens, sheets, warnings).
+PACKED_MODEL_LABELS: dict[str, str] = {
+    "emt": "effective-medium theory",
+    "maxwell-eucken-air-continuous": "Maxwell–Eucken, air continuous",
+    "maxwell-eucken-product-continuous": "Maxwell–Eucken, product continuous",
+    "series": "series bound",
+    "parallel": "parallel bound",
+}
 #: The model used when a plan names none, and the one reported as the safe lower value beside it.
 DEFAULT_PACKED_MODEL = "emt"
 SAFE_PACKED_MODEL = "maxwell-eucken-air-continuous"
@@ -255,6 +263,6 @@ def packed_property_table(
         rho,
         piece.initial_freezing_C,
         piece.reference_C,
-        f"packed load: {piece.source}; {model} with void fraction {eps:.3f}{note}",
+        f"packed load: {piece.source}; {PACKED_MODEL_LABELS[model]} with air fraction {eps:.3f}{note}",
         extra={"void_fraction": eps, "product_fraction": phi, "packed_model": model},
     )

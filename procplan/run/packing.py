@@ -37,6 +37,7 @@ from procplan.errors import InvalidInputError
 from procplan.geometry import Geometry
 from procplan.model import Packing, Plan, Product, Step
 from procplan.properties.packing import (
+    PACKED_MODEL_LABELS,
     SAFE_PACKED_MODEL,
     WALL_MATERIALS,
     packed_property_table,
@@ -135,7 +136,8 @@ def _wall(pk: Packing) -> PackagingLayer | None:
     if pk.wall_thickness_m <= 0.0:
         return None
     k = pk.wall_k_W_mK if pk.wall_k_W_mK is not None else WALL_MATERIALS[pk.wall][0]
-    return PackagingLayer(pk.wall or "case wall", pk.wall_thickness_m, k)
+    name = pk.wall.replace("-", " ") if pk.wall else "case wall"
+    return PackagingLayer(name, pk.wall_thickness_m, k)
 
 
 def _void_fraction(product: Product, pk: Packing, inner_m3: float) -> tuple[float, str, float]:
@@ -245,7 +247,8 @@ def _slow_step(step: Step, i: int, factor: float, library) -> Step:
 def _load_warnings(plan: Plan, load: PackedLoad) -> tuple[str, ...]:
     pk = plan.packing
     out = [
-        f"packed {load.arrangement}: effective conductivity {load.k_W_mK:.3f} W/mK ({load.conductivity_model}, "
+        f"packed {load.arrangement}: effective conductivity {load.k_W_mK:.3f} W/mK "
+        f"({PACKED_MODEL_LABELS[load.conductivity_model]}, "
         f"void fraction {load.void_fraction:.2f}); with pieces that touch less it may be as low as "
         f"{load.k_low_W_mK:.3f} W/mK (Maxwell–Eucken, air continuous), which would lengthen the time at the centre",
         f"packed {load.arrangement}: heat carried across the air voids by radiation and natural convection is not "
@@ -385,7 +388,8 @@ def packed_lines(packed: PackedResult) -> list[str]:
         f"  packed load: {load.description}, {load.pieces} pieces, {load.load_mass_kg:.1f} kg, "
         f"{load.geometry.describe()}",
         f"    void fraction {load.void_fraction:.2f} ({load.void_fraction_from}); effective k "
-        f"{load.k_W_mK:.3f} W/mK ({load.conductivity_model}; safe lower value {load.k_low_W_mK:.3f}), "
+        f"{load.k_W_mK:.3f} W/mK ({PACKED_MODEL_LABELS[load.conductivity_model]}; safe lower value "
+        f"{load.k_low_W_mK:.3f}), "
         f"density {load.rho_kg_m3:.0f} kg/m³; air speed at the load × {load.air_flow_factor:g}",
     ]
     if load.wall is not None:
