@@ -182,7 +182,8 @@ def void_fraction_from_count(
             field,
             pieces,
             f"{least}…{most} pieces",
-            f"{pieces} pieces of {piece_volume_m3 * 1e6:.4g} ml in {space_volume_m3 * 1e3:.4g} l leave a void "
+            f"{pieces} piece{'s' if pieces != 1 else ''} of {piece_volume_m3 * 1e6:.4g} ml in "
+            f"{space_volume_m3 * 1e3:.4g} l leave a void "
             f"fraction of {eps:.3f}, outside {lo:g}…{hi:g}",
         )
     return float(eps)

@@ -146,7 +146,7 @@ def _void_fraction(product: Product, pk: Packing, inner_m3: float) -> tuple[floa
     eps_count = void_fraction_from_count(env, pk.pieces_per_case, inner_m3)
     phi = pk.pieces_per_case * product.geometry.volume_m3 / inner_m3
     if pk.void_fraction is None:
-        return eps_count, f"{pk.pieces_per_case} pieces in the case", phi
+        return eps_count, f"from {pk.pieces_per_case} pieces in the case", phi
     if pk.void_fraction > eps_count + 1e-9:
         # more air than the pieces leave: the product fraction follows the given void fraction
         phi = min(phi, 1.0 - pk.void_fraction)
