@@ -138,3 +138,19 @@ def test_time_to_reach_interpolates_and_handles_heating():
     assert time_to_reach_s([0, 10, 20], [20.0, 10.0, 4.0], 7.0, 20.0) == 15.0
     assert time_to_reach_s([0, 10, 20], [5.0, 50.0, 80.0], 72.0, 5.0) == pytest.approx(10 + 10 * 22 / 30)
     assert time_to_reach_s([0, 10], [20.0, 15.0], 7.0, 20.0) is None
+
+
+def test_the_batch_sheet_shows_the_load_and_its_positions(pallet):
+    import io
+
+    from pypdf import PdfReader
+
+    from procplan.files.site import load_site
+    from procplan.output.sheet import batch_sheet_pdf
+
+    pdf = batch_sheet_pdf(pallet, site=load_site(), date="2026-01-02")
+    text = " ".join(" ".join(p.extract_text().split()) for p in PdfReader(io.BytesIO(pdf)).pages)
+    assert "Packed load" in text and "1200 pieces" in text
+    for p in pallet.packing.positions:
+        assert p.name in text
+    assert "emt" not in text  # planner's words, not model keys
