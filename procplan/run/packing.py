@@ -119,6 +119,9 @@ class PackedResult:
     single: Any
     target_C: float | None
     positions: tuple[LoadPosition, ...]
+    #: the corner piece's temperature over the load's history (``time_s``, ``corner_C``), for a chart; None
+    #: when the load ran on finite volumes
+    corner_history: pd.DataFrame | None = None
 
 
 def piece_envelope_m3(product: Product) -> float:
@@ -378,7 +381,7 @@ def packed_result(plan: Plan, load: PackedLoad, load_result, single) -> PackedRe
         ),
         position("single free piece, centre", single.history, "core_C"),
     )
-    return PackedResult(load, single, target, positions)
+    return PackedResult(load, single, target, positions, corner)
 
 
 def packed_lines(packed: PackedResult) -> list[str]:
