@@ -196,6 +196,27 @@ def cmd_required(args) -> int:
     return EXIT_OK if r.achievable else EXIT_CHECK_FAILED
 
 
+def cmd_brining_time(args) -> int:
+    """``procplan brining-time``: how long a brining step must run for a core (or mean) salt target."""
+    from procplan.studies.brining import required_brining_time_s
+
+    lib = load_library_of(args)
+    plan = load_plan_of(args.plan, lib)
+    t = required_brining_time_s(
+        plan, args.step, core_percent=args.core_percent, mean_percent=args.mean_percent, library=lib
+    )
+    where, pct = ("core", args.core_percent) if args.core_percent is not None else ("mean", args.mean_percent)
+    if args.json:
+        _dump(
+            {"step": args.step, "point": where, "salt_percent": pct, "time_min": t / 60.0, "caution": CAUTION}
+        )
+        return EXIT_OK
+    name = plan.steps[args.step].name
+    print(f"'{name}': the {where} reaches {pct:g} % salt after {t / 60.0:.0f} min ({t / 3600.0:.1f} h)")
+    print("\n" + CAUTION)
+    return EXIT_OK
+
+
 # --- variability --------------------------------------------------------------------------------------------
 def cmd_variability(args) -> int:
     from procplan.studies.variability import monte_carlo, parse_distribution

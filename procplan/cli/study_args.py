@@ -6,7 +6,14 @@
 from __future__ import annotations
 
 from procplan.caution import CAUTION
-from procplan.cli.studies import cmd_calibrate, cmd_compare, cmd_required, cmd_sweep, cmd_variability
+from procplan.cli.studies import (
+    cmd_brining_time,
+    cmd_calibrate,
+    cmd_compare,
+    cmd_required,
+    cmd_sweep,
+    cmd_variability,
+)
 
 _FORCE_HELP = "replace an existing --csv file"
 
@@ -73,6 +80,23 @@ def _add_required(subparsers) -> None:
     r.add_argument("--json", action="store_true", help="print the answer as JSON")
     r.add_argument("--quiet", action="store_true", help="no progress on stderr")
     r.set_defaults(func=cmd_required)
+
+
+def _add_brining_time(subparsers) -> None:
+    """``procplan brining-time``."""
+    b = subparsers.add_parser(
+        "brining-time",
+        help="time a brining step needs for a core or mean salt target",
+        description="Required brining time: the plan runs up to the brining step with the target as its salt stop "
+        "(the step's duration is the search bound). " + CAUTION,
+    )
+    b.add_argument("plan", help="plan file (TOML) or library plan name")
+    b.add_argument("--step", type=int, default=0, help="index of the brining step (default 0)")
+    g = b.add_mutually_exclusive_group(required=True)
+    g.add_argument("--core-percent", type=float, help="salt at the core [%% of the product's mass]")
+    g.add_argument("--mean-percent", type=float, help="mean salt [%% of the product's mass]")
+    b.add_argument("--json", action="store_true", help="print the answer as JSON")
+    b.set_defaults(func=cmd_brining_time)
 
 
 def _add_variability(subparsers) -> None:
@@ -193,6 +217,7 @@ COMMANDS = {
     "variability": (_add_variability, "Monte Carlo percentiles of time to target and lethality"),
     "calibrate": (_add_calibrate, "fit the effective h to a temperature-logger file"),
     "sweep": (_add_sweep, "every product in every suitable machine"),
+    "brining-time": (_add_brining_time, "time a brining step needs for a core or mean salt target"),
 }
 
 
