@@ -65,6 +65,7 @@ def study_dict(study) -> dict[str, Any]:
             "runs": [_run_dict(r) for r in study.runs],
             "probes": study.table().to_dict("records"),
             "notes": list(study.notes),
+            "calibration": None if study.calibration is None else study.calibration.to_dict(),
         }
     )
 

@@ -125,6 +125,7 @@ class TrialStudy:
     verdict: str
     passed: bool | None
     notes: tuple[str, ...] = field(default=())
+    calibration: Any = None
 
     @property
     def probes(self) -> tuple[ProbeResult, ...]:
@@ -410,6 +411,7 @@ def trial_study(
     tolerance_log10: float = FACTOR_TOLERANCE_LOG10,
     min_difference_K: float = FACTOR_MIN_DIFFERENCE_K,
     predict: bool = True,
+    fit: tuple[str, ...] = (),
 ) -> TrialStudy:
     """Analyse a heat-penetration trial against its plan.
 
@@ -424,6 +426,8 @@ def trial_study(
     tolerance_log10, min_difference_K : the straight part of the semi-log curves (see
         :func:`procplan.studies.formula_method.curve_factors`)
     predict : overlay the plan's prediction on every probe (one run of the plan per distinct start)
+    fit : parameters to fit to every product probe at once over the first step, e.g. ("h",) or
+        ("h", "alpha_factor") (:func:`procplan.studies.calibrate_probes.calibrate_probes`); () fits nothing
 
     Returns
     -------
@@ -461,7 +465,19 @@ def trial_study(
     }
     cache: dict = {}
     results = tuple(_run(r, pmap, ctx, opts, cache) for r in runs)
-    return _summarise(plan, results, ctx, p, g, model)
+    study = _summarise(plan, results, ctx, p, g, model)
+    if fit:
+        from procplan.studies.calibrate_probes import ProbeCurve, calibrate_probes
+
+        curves = [
+            ProbeCurve(f"{r.name} {x.channel}", x.curve["time_s"], x.curve["measured_C"], x.position)
+            for r in results
+            for x in r.probes
+        ]
+        study = replace(
+            study, calibration=calibrate_probes(plan, curves, fit=tuple(fit), library=library, solver=solver)
+        )
+    return study
 
 
 def _summarise(plan, results, ctx, p, g, model) -> TrialStudy:

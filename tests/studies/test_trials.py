@@ -73,7 +73,7 @@ def study():
         ]
         csv = synthetic_trial_csv(plan, probes, noise_K=0.1, seed=seed, lead_s=120.0 + 60 * i)
         runs.append(TrialRun(f"run-{i + 1}", read_logger(csv)))
-    return plan, runs, trial_study(plan, runs, MAP, predict=True)
+    return plan, runs, trial_study(plan, runs, MAP, predict=True, fit=("h",))
 
 
 def test_measured_lethality_per_probe_is_the_general_method_integral(study):
@@ -237,3 +237,13 @@ def test_formula_g_against_balls_table():
     mine = np.array([math.log10(g_from_fh_over_u(x, 18.0)) for x in d["fh_over_u"]])
     diff = d["log10_g_F"].to_numpy() - mine
     assert np.all(diff > 0.0) and np.all(diff < 0.08), diff
+
+
+def test_h_fitted_to_every_probe_of_the_trial(study):
+    # Invariant: the synthetic probes come from the plan's own h (400 W/m²K) with 0.1 K noise; the pieces
+    # differ in size by up to 6 %, which the shared fit absorbs, so h lies within 25 % of the plan's.
+    _, _, s = study
+    cal = s.calibration
+    assert cal is not None and len(cal.rmse_by_probe_K) == 9
+    assert 300.0 < cal.h_W_m2K < 500.0, cal
+    assert s.to_dict()["calibration"]["plan_h_W_m2K"] == pytest.approx(400.0)
