@@ -58,6 +58,29 @@ def _time(site: SiteSettings, seconds) -> str:
     return "—" if seconds is None else site.format_time(seconds / 60.0)
 
 
+def _axes(d: Drawing, site: SiteSettings, xt, yt, X, Y, box) -> None:
+    """Grid lines, tick labels and axis titles of a run chart."""
+    left, bottom, right, top = box
+    grey = colors.Color(0.8, 0.8, 0.8)
+    for v in yt:
+        d.add(Line(left, float(Y(v)), right, float(Y(v)), strokeColor=grey, strokeWidth=0.3))
+        d.add(String(left - 3, float(Y(v)) - 2.5, f"{v:g}", fontName=FONT, fontSize=6.5, textAnchor="end"))
+    for v in xt:
+        d.add(Line(float(X(v)), bottom, float(X(v)), top, strokeColor=grey, strokeWidth=0.3))
+        d.add(String(float(X(v)), bottom - 9, f"{v:g}", fontName=FONT, fontSize=6.5, textAnchor="middle"))
+    d.add(
+        String(
+            (left + right) / 2,
+            2,
+            f"time from the step start [{site.time_symbol}]",
+            fontName=FONT,
+            fontSize=6.5,
+            textAnchor="middle",
+        )
+    )
+    d.add(String(2, top - 2, site.temperature_symbol, fontName=FONT, fontSize=6.5))
+
+
 def run_chart(run, site: SiteSettings, width: float, height: float) -> Drawing:
     """Every product probe of a run (measured, solid or patterned) and the plan's prediction at each probe's
     position (thin grey), against time from the step start."""
@@ -81,24 +104,7 @@ def run_chart(run, site: SiteSettings, width: float, height: float) -> Drawing:
     def Y(v):
         return bottom + (top - bottom) * (np.asarray(v) - yt[0]) / (yt[-1] - yt[0])
 
-    grey = colors.Color(0.8, 0.8, 0.8)
-    for v in yt:
-        d.add(Line(left, float(Y(v)), right, float(Y(v)), strokeColor=grey, strokeWidth=0.3))
-        d.add(String(left - 3, float(Y(v)) - 2.5, f"{v:g}", fontName=FONT, fontSize=6.5, textAnchor="end"))
-    for v in xt:
-        d.add(Line(float(X(v)), bottom, float(X(v)), top, strokeColor=grey, strokeWidth=0.3))
-        d.add(String(float(X(v)), bottom - 9, f"{v:g}", fontName=FONT, fontSize=6.5, textAnchor="middle"))
-    d.add(
-        String(
-            (left + right) / 2,
-            2,
-            f"time from the step start [{site.time_symbol}]",
-            fontName=FONT,
-            fontSize=6.5,
-            textAnchor="middle",
-        )
-    )
-    d.add(String(2, top - 2, site.temperature_symbol, fontName=FONT, fontSize=6.5))
+    _axes(d, site, xt, yt, X, Y, (left, bottom, right, top))
     y_legend = top - 4
     for i, p in enumerate(run.probes):
         color, dash = PROBE_STYLES[i % len(PROBE_STYLES)]
