@@ -75,8 +75,14 @@ def probe_map_from_dict(data: dict[str, Any], source: str = "probe map") -> Prob
         raise InvalidInputError(source, type(data).__name__, "a table with [probes] and optional [runs]")
     for k in set(data) - {"probes", "runs"}:
         col.add(InvalidInputError(k, data[k], "only the tables probes and runs"))
+    tables = {}
+    for k in ("probes", "runs"):
+        tables[k] = data.get(k) or {}
+        if not isinstance(tables[k], dict):
+            col.add(InvalidInputError(k, tables[k], f"a table [{k}]"))
+            tables[k] = {}
     probes: list[ProbeSpec] = []
-    for ch, spec in (data.get("probes") or {}).items():
+    for ch, spec in tables["probes"].items():
         with col.catch():
             if not isinstance(spec, dict):
                 raise InvalidInputError(f"probes.{ch}", spec, "a table { piece = ..., position = ... }")
@@ -86,7 +92,7 @@ def probe_map_from_dict(data: dict[str, Any], source: str = "probe map") -> Prob
             pos = validate.choice(f"probes.{ch}.position", spec.get("position", "core"), PROBE_POSITIONS)
             probes.append(ProbeSpec(str(ch), piece, pos))
     starts: dict[str, float] = {}
-    for run, spec in (data.get("runs") or {}).items():
+    for run, spec in tables["runs"].items():
         with col.catch():
             if not isinstance(spec, dict) or set(spec) - _RUN_KEYS:
                 raise InvalidInputError(f"runs.{run}", spec, "a table { step_start_min = ... }")

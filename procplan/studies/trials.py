@@ -107,6 +107,7 @@ class RunResult:
     slowest: str
     medium: pd.DataFrame | None
     prediction: Any
+    notes: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True, eq=False)
@@ -329,6 +330,8 @@ def _predict(plan: Plan, start_C: float, library, solver, cache: dict):
 
 def _run(run: TrialRun, pmap: ProbeMap, ctx, opts, cache) -> RunResult:
     specs = pmap.for_channels(run.log.channels)
+    absent = [p.channel for p in pmap.probes if p.channel not in run.log.channels]
+    notes = (f"{run.name}: probe(s) of the map not in this file: {', '.join(absent)}",) if absent else ()
     medium = next((p.channel for p in specs if p.position == "medium"), None)
     product = [p for p in specs if p.position in PRODUCT_POSITIONS]
     if not product:
@@ -366,6 +369,7 @@ def _run(run: TrialRun, pmap: ProbeMap, ctx, opts, cache) -> RunResult:
         _slowest(probes, ctx),
         medium_frame,
         prediction,
+        notes,
     )
 
 
@@ -481,7 +485,7 @@ def trial_study(
 
 
 def _summarise(plan, results, ctx, p, g, model) -> TrialStudy:
-    notes = []
+    notes = [n for r in results for n in r.notes]
     slow = [next(x for x in r.probes if x.channel == r.slowest) for r in results]
     req, basis = ctx["required"], ctx["basis"]
     if basis is not None:

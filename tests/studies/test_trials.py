@@ -9,6 +9,8 @@ import math
 import numpy as np
 import pandas as pd
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as hs
 from numpy.testing import assert_allclose
 
 from procplan.errors import InvalidInputError
@@ -247,3 +249,35 @@ def test_h_fitted_to_every_probe_of_the_trial(study):
     assert cal is not None and len(cal.rmse_by_probe_K) == 9
     assert 300.0 < cal.h_W_m2K < 500.0, cal
     assert s.to_dict()["calibration"]["plan_h_W_m2K"] == pytest.approx(400.0)
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(
+    hs.dictionaries(
+        hs.sampled_from(["probes", "runs", "other"]),
+        hs.one_of(
+            hs.dictionaries(
+                hs.text(min_size=1, max_size=5),
+                hs.one_of(
+                    hs.dictionaries(
+                        hs.sampled_from(["piece", "position", "step_start_min", "x"]),
+                        hs.one_of(hs.text(max_size=8), hs.floats(allow_nan=True), hs.integers(-5, 5)),
+                        max_size=3,
+                    ),
+                    hs.integers(),
+                ),
+                max_size=3,
+            ),
+            hs.integers(),
+        ),
+        max_size=3,
+    )
+)
+def test_probe_map_bad_input_is_always_named(data):
+    # Invariant: any parsed TOML gives a ProbeMap or an InvalidInputError, never another exception.
+    try:
+        m = probe_map_from_dict(data)
+    except InvalidInputError:
+        return
+    assert all(p.position in ("core", "surface", "mean", "medium") for p in m.probes)
+    assert all(v >= 0 for v in m.step_start_s.values())
