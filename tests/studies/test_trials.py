@@ -281,3 +281,28 @@ def test_probe_map_bad_input_is_always_named(data):
         return
     assert all(p.position in ("core", "surface", "mean", "medium") for p in m.probes)
     assert all(v >= 0 for v in m.step_start_s.values())
+
+
+def test_come_up_time_and_corrected_zero_from_the_medium_probe():
+    # Source: Ball (1923); Ball & Olson (1957): 42 % of the come-up time counts at the medium temperature, so
+    # the corrected zero lies 0.58 of the come-up time after the step start. Here the medium probe rises from
+    # 20 °C at 2 min to 121 °C at 12 min (readings every minute): the step starts at the first reading that
+    # moved (3 min) and the medium is within 1 K of 121 °C at 12 min, a come-up time of 9 min. The product
+    # follows 121 − 80·10^(−τ/20 min) from the step start (τ), a straight semi-log line: f_h = 20 min and
+    # j_h = 80·10^(−0.58·9/20)/(121 − 41) by hand.
+    t = np.arange(0.0, 150.0) * 60.0
+    medium = np.clip(20.0 + 101.0 * (t - 120.0) / 600.0, 20.0, 121.0)
+    tau = np.clip(t - 180.0, 0.0, None)
+    product = 121.0 - 80.0 * 10 ** (-tau / 1200.0)
+    frame = pd.DataFrame({"time_s": t, "retort": medium, "can": product})
+    log = read_logger(frame.to_csv(index=False))
+    pm = probe_map_from_dict({"probes": {"can": {"piece": "can 1"}, "retort": {"position": "medium"}}})
+    s = trial_study(
+        _series_plan(3 * 3600.0, 1.0), [TrialRun("r", log)], pm, predict=False, tolerance_log10=0.002
+    )
+    (r,) = s.runs
+    assert r.step_start_s == 180.0 and r.come_up_s == 540.0
+    h = r.probes[0].heating
+    assert_allclose(h.zero_s, 0.58 * 540.0, rtol=1e-12)
+    assert_allclose(h.f_s, 1200.0, rtol=1e-6)
+    assert_allclose(h.j, 80.0 * 10 ** (-0.58 * 540.0 / 1200.0) / 80.0, rtol=1e-6)
