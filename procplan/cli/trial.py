@@ -89,6 +89,23 @@ def print_study(study) -> None:
     print("\n" + CAUTION)
 
 
+def _lethality(args):
+    """A LethalityCheck from --lethality/--reference-C/--z-C/--required-F-min, or None (the plan's own)."""
+    given = (args.lethality, args.reference_C, args.z_C, args.required_F_min)
+    if all(v is None for v in given):
+        return None
+    from procplan.model import LethalityCheck
+    from procplan.outcomes.lethality import LETHALITY_PRESETS
+
+    if args.lethality is not None and args.lethality not in LETHALITY_PRESETS:
+        raise InvalidInputError(
+            "--lethality", args.lethality, "one of " + ", ".join(sorted(LETHALITY_PRESETS))
+        )
+    if args.lethality is None and (args.reference_C is None or args.z_C is None):
+        raise InvalidInputError("--z-C", args.z_C, "--reference-C and --z-C together (or --lethality PRESET)")
+    return LethalityCheck(args.lethality, args.reference_C, args.z_C, args.required_F_min)
+
+
 def cmd_trial(args) -> int:
     from procplan.studies.logger import clean_logger, read_logger
     from procplan.studies.trial_map import ProbeMap, load_probe_map
@@ -99,6 +116,9 @@ def cmd_trial(args) -> int:
         proportion={"minimum": 0.5, "maximum": 0.9999},
         confidence={"minimum": 0.5, "maximum": 0.9999},
         jump_K={"minimum": 0.0, "min_inclusive": False, "unit": "K"},
+        reference_C={"unit": "°C"},
+        z_C={"minimum": 0.0, "min_inclusive": False, "unit": "°C"},
+        required_F_min={"minimum": 0.0, "min_inclusive": False, "unit": "min"},
     )
     lib = load_library_of(args)
     csv, pdf = _targets(args, [args.plan, args.probe_map, *args.logfiles])
@@ -109,6 +129,7 @@ def cmd_trial(args) -> int:
         plan,
         runs,
         pmap,
+        lethality=_lethality(args),
         library=lib,
         proportion=args.proportion,
         confidence=args.confidence,
@@ -160,6 +181,10 @@ def register(subparsers, full: frozenset[str] = frozenset()) -> None:
     t.add_argument(
         "--fit", default="", help="fit to every probe at once: h or h,alpha_factor (default: none)"
     )
+    t.add_argument("--lethality", metavar="PRESET", help="judge the probes by this lethality preset instead")
+    t.add_argument("--reference-C", dest="reference_C", type=float, help="reference temperature [°C] of F")
+    t.add_argument("--z-C", dest="z_C", type=float, help="z-value [°C] (the formula method needs one)")
+    t.add_argument("--required-F-min", dest="required_F_min", type=float, help="required F [min]")
     t.add_argument("--proportion", type=float, default=DEFAULT_PROPORTION, help="units covered by the bound")
     t.add_argument("--confidence", type=float, default=DEFAULT_CONFIDENCE, help="confidence of the bound")
     t.add_argument("--model", choices=list(TOLERANCE_MODELS), default="normal", help="distribution of F")

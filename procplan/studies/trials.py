@@ -34,7 +34,7 @@ import pandas as pd
 
 from procplan import validate
 from procplan.errors import InvalidInputError
-from procplan.model import Plan
+from procplan.model import LethalityCheck, Plan
 from procplan.studies.logger import LoggerData
 from procplan.studies.tolerance import (
     DEFAULT_CONFIDENCE,
@@ -284,6 +284,11 @@ def _formula(heating, t, temp, ctx, notes):
     s0 = ctx["steps"][0]
     sel = t <= s0.end_s + 1e-9
     general = time_to_lethality(t[sel], temp[sel], basis.reference_C, basis.z_C, req)
+    if heating.j < 1.0:
+        notes.append(
+            f"j_h {heating.j:.2f} below 1 (not a slowest point): the straight line runs ahead of the measured "
+            "curve at first, so the formula method's time can be shorter than the general method's"
+        )
     try:
         return formula_process_time(
             heating,
@@ -298,7 +303,7 @@ def _formula(heating, t, temp, ctx, notes):
 
 
 # --- the study ------------------------------------------------------------------------------------------------
-def _context(plan: Plan, library, solver):
+def _context(plan: Plan, library, solver, lethality=None):
     from procplan.outcomes.lethality import lethality_basis
     from procplan.run.engine import run_plan
 
@@ -306,7 +311,7 @@ def _context(plan: Plan, library, solver):
     steps = [
         _Step(float(sr.start_s), float(sr.end_s), float(np.mean(sr.surface.medium_C))) for sr in nominal.steps
     ]
-    le = plan.checks.lethality
+    le = lethality if lethality is not None else plan.checks.lethality
     basis = None if le is None else lethality_basis(le.preset, le.reference_C, le.z_C, le.required_F_min)
     return {
         "nominal": nominal,
@@ -416,6 +421,7 @@ def trial_study(
     min_difference_K: float = FACTOR_MIN_DIFFERENCE_K,
     predict: bool = True,
     fit: tuple[str, ...] = (),
+    lethality=None,
 ) -> TrialStudy:
     """Analyse a heat-penetration trial against its plan.
 
@@ -432,6 +438,8 @@ def trial_study(
     predict : overlay the plan's prediction on every probe (one run of the plan per distinct start)
     fit : parameters to fit to every product probe at once over the first step, e.g. ("h",) or
         ("h", "alpha_factor") (:func:`procplan.studies.calibrate_probes.calibrate_probes`); () fits nothing
+    lethality : a LethalityCheck that judges the probes instead of the plan's own (e.g. a z-value
+        requirement, which the formula method needs, where the plan checks a table)
 
     Returns
     -------
@@ -455,7 +463,9 @@ def trial_study(
         from procplan.files.library import load_library
 
         library = load_library()
-    ctx = _context(plan, library, solver)
+    if lethality is not None and not isinstance(lethality, LethalityCheck):
+        raise InvalidInputError("lethality", type(lethality).__name__, "a LethalityCheck (procplan.model)")
+    ctx = _context(plan, library, solver, lethality)
     ctx["fit"] = {
         "tolerance_log10": validate.positive("tolerance_log10", tolerance_log10),
         "min_difference_C": validate.positive("min_difference_K", min_difference_K, "K"),

@@ -134,3 +134,18 @@ def test_run_chart_stays_inside_its_drawing(trial, unit):
         xs, ys = s.points[0::2], s.points[1::2]
         assert min(xs) >= 0 and max(xs) <= w and min(ys) >= 0 and max(ys) <= h
     assert any(isinstance(s, String) and s.text == f"°{unit}" for s in chart.contents)
+
+
+def test_lethality_given_on_the_command_line(trial, capsys):
+    # The probes are judged by the requirement given (a z-value, which the formula method needs); a z-value
+    # without its reference temperature, or an unknown preset, is refused by name.
+    args = _args(
+        trial, "--json", "--no-prediction", "--reference-C", "121.1", "--z-C", "10", "--required-F-min", "0.5"
+    )
+    assert main(args) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert out["required_F_min"] == 0.5 and out["runs"][0]["probes"][0]["formula_method"] is not None
+    assert main(_args(trial, "--z-C", "10")) == 2
+    assert main(_args(trial, "--lethality", "no-such-preset")) == 2
+    err = capsys.readouterr().err
+    assert "--z-C" in err and "--lethality" in err
