@@ -146,7 +146,7 @@ def test_factors_of_every_probe_and_cooling(study):
     assert json["slowest_unit"]["n_runs"] == 3 and len(json["probes"]) == 9
 
 
-CASES = {"slab-5": ("slab", 5.0), "cyl-50": ("cylinder", 50.0), "sph-inf": ("sphere", math.inf)}
+CASES = {f"{k}-{bi:g}": (k, bi) for k in ("slab", "cylinder", "sphere") for bi in (0.5, 5.0, 50.0, math.inf)}
 
 
 def _series_runs(medium=121.0, initial=21.0):
