@@ -306,3 +306,21 @@ def test_come_up_time_and_corrected_zero_from_the_medium_probe():
     assert_allclose(h.zero_s, 0.58 * 540.0, rtol=1e-12)
     assert_allclose(h.f_s, 1200.0, rtol=1e-6)
     assert_allclose(h.j, 80.0 * 10 ** (-0.58 * 540.0 / 1200.0) / 80.0, rtol=1e-6)
+
+
+def test_without_a_lethality_check_the_slowest_lags_the_medium_most():
+    # Invariant: a thicker piece (size 1.1) lags the medium more than the nominal one; without a requirement
+    # there is no verdict and no tolerance bound.
+    from dataclasses import replace as dc_replace
+
+    from procplan.model import Checks as C
+
+    plan = dc_replace(_two_step_plan(), checks=C())
+    csv = synthetic_trial_csv(
+        plan, [SyntheticProbe("A"), SyntheticProbe("B", size_factor=1.1)], medium_channel=None, noise_K=0.0
+    )
+    s = trial_study(plan, [TrialRun("r", read_logger(csv))], predict=False)
+    (r,) = s.runs
+    lags = {p.channel: p.lag_K_min for p in r.probes}
+    assert r.slowest == "B" and lags["B"] > lags["A"]
+    assert s.passed is None and s.bound is None and all(p.F_min is None for p in r.probes)
