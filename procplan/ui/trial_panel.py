@@ -33,11 +33,20 @@ def _demo_files() -> tuple[tuple[tuple[str, str], ...], str]:
 
 @st.cache_resource(max_entries=4, show_spinner="Analysing the trial…")
 def _study(
-    plan_text: str, runs: tuple, map_text: str, proportion: float, confidence: float, fit: bool, root, gen
+    plan_text: str,
+    runs: tuple,
+    map_text: str,
+    proportion: float,
+    confidence: float,
+    fit: bool,
+    lethality: tuple | None,
+    root,
+    gen,
 ):
     """The panel's one call into the library (cached on the texts): an Outcome holding the study."""
     import tomllib
 
+    from procplan.model import LethalityCheck
     from procplan.studies.logger import clean_logger, read_logger
     from procplan.studies.trial_map import ProbeMap, probe_map_from_dict
     from procplan.studies.trials import TrialRun, trial_study
@@ -61,6 +70,7 @@ def _study(
             proportion=proportion,
             confidence=confidence,
             fit=("h",) if fit else (),
+            lethality=None if lethality is None else LethalityCheck(None, *lethality),
         )
         return adapter.Outcome(study)
     except InvalidInputError as exc:
@@ -179,6 +189,26 @@ def _show(study, u: Units) -> None:
         st.caption(n)
 
 
+def _lethality_input(u: Units) -> tuple | None:
+    """(reference °C, z °C, required F min) when the planner judges the probes by a z-value requirement of
+    their own (the formula method needs one z-value), else None (the plan's own check)."""
+    own = st.checkbox(
+        "Judge the probes by a z-value requirement instead of the plan's",
+        key="trial_own_lethality",
+        help="Ball's formula method needs one z-value; a plan that checks a table shows no formula-method time.",
+    )
+    if not own:
+        return None
+    c = st.columns(3)
+    with c[0]:
+        ref = widgets.temperature("Reference temperature", 90.0, "trial_ref", minimum_C=40.0, maximum_C=140.0)
+    z = c[1].number_input("z-value [K]", min_value=1.0, max_value=100.0, value=10.0, step=0.5, key="trial_z")
+    need = c[2].number_input(
+        "Required F [min]", min_value=0.01, max_value=1000.0, value=10.0, step=0.5, key="trial_need"
+    )
+    return (float(ref), float(z), float(need))
+
+
 def render(text: str, u: Units) -> None:
     """The heat-penetration trial panel of the studies page."""
     st.subheader("Heat-penetration trial")
@@ -217,20 +247,29 @@ def render(text: str, u: Units) -> None:
         "Confidence", [0.9, 0.95, 0.99], index=1, format_func=lambda x: f"{x:.0%}", key="trial_g"
     )
     fit = c[2].checkbox("Fit the surface coefficient to every probe", key="trial_fit")
+    lethality = _lethality_input(u)
     if not runs:
         st.info("Load at least one logger file, or use the demo trial.")
         return
     if st.button("Analyse the trial", key="trial_go"):
-        st.session_state["trial_request"] = (plan_text, runs, map_text, proportion, confidence, fit)
+        st.session_state["trial_request"] = (
+            plan_text,
+            runs,
+            map_text,
+            proportion,
+            confidence,
+            fit,
+            lethality,
+        )
     req = st.session_state.get("trial_request")
-    if not req or req != (plan_text, runs, map_text, proportion, confidence, fit):
+    if not req or req != (plan_text, runs, map_text, proportion, confidence, fit, lethality):
         return
     out = _study(*req, adapter.library_root(), state.generation())
     if not out.ok:
         widgets.problems(out.problems, "The trial could not be analysed:")
         return
     _show(out.value, u)
-    pdf = _sheet(out.value, (req[0], req[1], req[2], req[3], req[4], req[5]), state.generation())
+    pdf = _sheet(out.value, req, state.generation())
     if pdf.ok:
         st.download_button(
             "Download the study sheet (PDF)",

@@ -18,3 +18,15 @@ def test_demo_trial_in_the_app(app):
     probes = next(d.value for d in app.dataframe if "Probe" in d.value.columns)
     assert len(probes) == 12 and probes["Probe"].str.contains("slowest").sum() == 3
     _check(app, "trial panel")
+
+
+def test_demo_trial_judged_by_a_z_value_shows_balls_time(app):
+    go(app, "Compare & studies")
+    app.checkbox(key="trial_demo").check().run()
+    app.checkbox(key="trial_own_lethality").check().run()
+    assert not app.exception, app.exception
+    app.button(key="trial_go").click().run()
+    assert not app.exception, app.exception
+    probes = next(d.value for d in app.dataframe if "Probe" in d.value.columns)
+    assert (probes["Formula-method time"] != "—").all() and (probes["General-method time"] != "—").all()
+    _check(app, "trial panel with a z-value requirement")
