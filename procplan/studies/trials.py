@@ -54,6 +54,8 @@ COME_UP_TOLERANCE_K = 1.0
 #: most 0.009 log cycles).
 FACTOR_TOLERANCE_LOG10 = 0.02
 FACTOR_MIN_DIFFERENCE_K = 5.0
+#: A straight part shorter than this [log cycles] makes f and j uncertain: the study says so.
+MIN_STRAIGHT_CYCLES = 0.3
 
 
 @dataclass(frozen=True)
@@ -212,13 +214,20 @@ def _factors(t, temp, steps, come_up_s, notes, fit):
             heating = heating_factors(t[sel], temp[sel], s0.medium_C, come_up_s=come_up_s or 0.0, **fit)
         except InvalidInputError as exc:
             notes.append(f"f_h, j_h not found: {exc}")
-    cool = next((s for s in steps[1:] if s.medium_C < float(np.interp(s.start_s, t, temp)) - 1.0), None)
+    cool = next((s for s in steps if s.medium_C < float(np.interp(s.start_s, t, temp)) - 1.0), None)
     if cool is not None:
         sel = (t >= cool.start_s - 1e-9) & (t <= cool.end_s + 1e-9)
         try:
             cooling = cooling_factors(t[sel] - cool.start_s, temp[sel], cool.medium_C, **fit)
         except InvalidInputError as exc:
             notes.append(f"f_c, j_c not found: {exc}")
+    for cf in (heating, cooling):
+        if cf is not None and (cf.window_s[1] - cf.window_s[0]) / cf.f_s < MIN_STRAIGHT_CYCLES:
+            cycles = (cf.window_s[1] - cf.window_s[0]) / cf.f_s
+            notes.append(
+                f"the straight part of the {cf.kind} curve spans only {cycles:.2f} log cycles: f and j are "
+                "uncertain (noise or a short record)"
+            )
     return heating, cooling
 
 
