@@ -84,7 +84,7 @@ def print_study(study) -> None:
             f"{cal.h_ci95[1]:.4g}); the plan's {cal.plan_h_W_m2K:.4g} W/m²K"
         )
     print(f"  verdict: {study.verdict}")
-    for n in list(study.notes) + sorted({n for p in study.probes for n in p.notes}):
+    for n in study.all_notes():
         print(f"  note: {n}")
     print("\n" + CAUTION)
 

@@ -285,7 +285,7 @@ def _build(study, site, st, paper, date, prepared_by) -> bytes:
     ]
     story += _summary(study, site, st, W) + _runs(study, site, st, W) + _probes(study, site, st, W)
     story += _fit(study, site, st, W) + _charts(study, site, st, W)
-    notes = list(study.notes) + sorted({n for p in study.probes for n in p.notes})
+    notes = study.all_notes()
     if notes:
         story += st.h("Notes") + [st.p("• " + n, st.small) for n in notes]
     buf = io.BytesIO()

@@ -134,6 +134,10 @@ class TrialStudy:
     def probes(self) -> tuple[ProbeResult, ...]:
         return tuple(p for r in self.runs for p in r.probes)
 
+    def all_notes(self) -> list[str]:
+        """The study's notes, then each probe's, named by run and probe (what every front end lists)."""
+        return list(self.notes) + [f"{p.run}, {p.channel}: {n}" for p in self.probes for n in p.notes]
+
     def slowest_per_run(self) -> list[ProbeResult]:
         return [next(p for p in r.probes if p.channel == r.slowest) for r in self.runs]
 

@@ -185,7 +185,7 @@ def _show(study, u: Units) -> None:
         )
     for r in study.runs:
         st.plotly_chart(_run_figure(r, u), width="stretch", key=f"trial_chart_{r.name}")
-    for n in list(study.notes) + sorted({n for p in study.probes for n in p.notes}):
+    for n in study.all_notes():
         st.caption(n)
 
 
