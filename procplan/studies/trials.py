@@ -251,7 +251,8 @@ def _probe(run_name, spec: ProbeSpec, t, temp, ctx, come_up_s, prediction) -> Pr
     passed = None if (F is None or req is None) else bool(F >= req)
     s0 = steps[0]
     sel = t <= s0.end_s
-    lag = float(np.trapezoid(np.abs(s0.medium_C - temp[sel]), t[sel]) / 60.0) if sel.sum() > 1 else 0.0
+    gap, ts = np.abs(s0.medium_C - temp[sel]), t[sel]
+    lag = float(np.sum(0.5 * (gap[1:] + gap[:-1]) * np.diff(ts)) / 60.0)  # trapezoid rule [K·min]
     heating, cooling = _factors(t, temp, steps, come_up_s, notes, ctx["fit"])
     formula = _formula(heating, t, temp, ctx, notes)
     curve = pd.DataFrame({"time_s": t, "measured_C": temp})
