@@ -60,6 +60,8 @@ def print_study(study) -> None:
         for p in r.probes:
             h, c, fm = p.heating, p.cooling, p.formula
             parts = [f"F {_fmt(p.F_min, '.3g', ' min')}"]
+            if len(p.F_by_step_min) > 1:
+                parts[0] += " (" + " + ".join(f"{f:.3g}" for f in p.F_by_step_min) + " by step)"
             if h:
                 parts.append(f"f_h {h.f_min:.2f} min, j_h {h.j:.3f}")
             if c:

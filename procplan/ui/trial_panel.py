@@ -106,6 +106,7 @@ def _probe_rows(study, u: Units) -> pd.DataFrame:
                     "Piece": p.piece,
                     "Position": POSITION_WORDS.get(p.position, p.position),
                     "Lethality F [min]": _num(p.F_min),
+                    "F by step [min]": " + ".join(_num(f) for f in p.F_by_step_min) or "—",
                     "Meets the requirement": "—" if p.passed is None else ("yes" if p.passed else "NO"),
                     f"Heating f [{u.time}]": u.duration(h.f_s) if h else "—",
                     "Heating j": _num(h.j if h else None, 3),
