@@ -33,6 +33,7 @@ from procplan.run.budget import (
     step_limit_error,
     unreliable_reason,
 )
+from procplan.run.machine_load import MachineLoadResult, coupled_solver_choice, load_result, step_load
 from procplan.run.mass_step import brine_first, brine_until, salt_columns, salted_properties
 from procplan.run.solver import PROPERTY_SPREAD_LIMIT, choose_solver, exact_properties
 from procplan.run.step_surface import StepSurface, resolve_step_surface
@@ -117,6 +118,10 @@ class StepResult:
     unreliable_reason: str | None = None
     #: solute taken up during the step (procplan.run.mass_step.MassStepResult), None without a brine record
     mass: Any = None
+    #: how the machine carried the batch (None: the medium was held at its set point)
+    machine_load: MachineLoadResult | None = None
+    #: why a step in a machine ran with the medium at its set point (an empty-machine run), None otherwise
+    load_note: str | None = None
 
     @property
     def duration_s(self) -> float:
@@ -195,6 +200,7 @@ class _StepRun:
     energy_balance_error: float
     details: StepSolverDetails
     fv: Any  # the finite-volume result (its final field carries on), None for the exact solver
+    machine: MachineLoadResult | None = None  # a loaded step: how the machine carried the batch
 
 
 def _exact_stop(run, times: np.ndarray, hist, step: Step):
@@ -258,14 +264,21 @@ def _exact_step(geometry, props: PropertyTable, start_C: float, surface: StepSur
     return _StepRun(frame, stop_time, 0.0, details, None)
 
 
-def _fv_step(geometry, props, initial, surface: StepSurface, step: Step, n_nodes, time_settings) -> _StepRun:
+def _fv_step(
+    geometry, props, initial, surface: StepSurface, step: Step, n_nodes, time_settings, load=None
+) -> _StepRun:
     """Run the finite-volume solver for one step; ``time_settings`` holds dt_s (and, for a refined rerun,
-    the adaptive step's aim and cap)."""
+    the adaptive step's aim and cap); ``load`` (a machine_load.StepLoad) solves the medium with the batch."""
+    boundary = surface.boundary()
+    node = None
+    if load is not None:
+        node = load.node()
+        boundary = replace(boundary, medium_node=node)
     res = solve_conduction(
         geometry,
         props,
         initial,
-        surface.boundary(),
+        boundary,
         step.duration_s,
         n_nodes=n_nodes,
         stop_when_core_C=step.stop_when_core_C,
@@ -281,6 +294,12 @@ def _fv_step(geometry, props, initial, surface: StepSurface, step: Step, n_nodes
             "heat_flow_W": res.heat_flow_W,
         }
     )
+    machine, balance = None, res.energy_balance_error
+    if node is not None:
+        node.finish(res.final_enthalpy_J_kg)
+        machine, medium_C, plant_W = load_result(load, node, res.time_s, res.heat_flow_W, boundary.medium)
+        frame["medium_C"], frame["plant_W"] = medium_C, plant_W
+        balance = max(balance, machine.energy_balance_error)
     details = StepSolverDetails(
         grid=res.grid.describe() if hasattr(res.grid, "describe") else str(res.grid.shape),
         time_steps=res.n_steps,
@@ -289,7 +308,7 @@ def _fv_step(geometry, props, initial, surface: StepSurface, step: Step, n_nodes
         dt_max_s=res.dt_max_s,
         method=res.method,
     )
-    return _StepRun(frame, res.stopped_at_s, res.energy_balance_error, details, res)
+    return _StepRun(frame, res.stopped_at_s, balance, details, res, machine)
 
 
 @dataclass(frozen=True)
@@ -303,6 +322,7 @@ class _Context:
     n_nodes: Any
     dt_s: float | None
     refined: dict | None = None  # the finer time settings of an energy-balance rerun (None: as asked)
+    load: Any = None  # the step's machine load (machine_load.StepLoad), None: the medium at its set point
 
 
 @dataclass
@@ -323,7 +343,9 @@ def _solve(ctx: _Context, chosen: str, carried: _Carried, step: Step, surface: S
         return _exact_step(geometry, ctx.props, carried.start_C, surface, step)
     time_settings = ctx.refined if ctx.refined is not None else {"dt_s": ctx.dt_s}
     try:
-        return _fv_step(geometry, ctx.props, carried.field, surface, step, ctx.n_nodes, time_settings)
+        return _fv_step(
+            geometry, ctx.props, carried.field, surface, step, ctx.n_nodes, time_settings, ctx.load
+        )
     except InvalidInputError as exc:
         if exc.field == "max_steps":
             raise step_limit_error(f"{step.name}", exc) from exc
@@ -392,6 +414,8 @@ def _step_warnings(
         out.append(
             f"{step.name}: the core did not reach {step.stop_when_core_C:g} °C within {step.duration_s / 60:g} min"
         )
+    if run.machine is not None and run.machine.warning(step.name):
+        out.append(run.machine.warning(step.name))
     if unreliable is not None:
         out.append(unreliable)
     elif run.energy_balance_error > 0.005:
@@ -401,8 +425,20 @@ def _step_warnings(
     return tuple(out)
 
 
-def _place_frame(frame: pd.DataFrame, step: Step, i: int, run: _StepRun, t_offset_s: float, first: bool):
+def _place_frame(
+    frame: pd.DataFrame,
+    step: Step,
+    i: int,
+    run: _StepRun,
+    t_offset_s: float,
+    first: bool,
+    surface: StepSurface,
+):
     """The step's history on the plan's clock, labelled with the step."""
+    if "medium_C" not in frame:  # the medium at its set point (the fluid, for walls at another temperature)
+        medium = np.asarray(surface.fluid_temperature_C, dtype=float)
+        frame["medium_C"] = np.interp(frame["time_s"], np.asarray(surface.medium_time_s), medium)
+        frame["plant_W"] = np.nan
     frame["time_s"] = frame["time_s"] + t_offset_s
     if run.stop_time_s is not None and step.stop_when_core_C is not None and len(frame):
         # both solvers stop within 1e-5 K of the stop temperature; record the crossing as the target itself
@@ -423,6 +459,8 @@ def _run_step(
     mass = None
     if step.brine is not None:
         mass, step = brine_first(step, i, product, ctx.props, surface, carried.salt)
+    load, load_note = step_load(ctx.plan, step, i, ctx.library, surface.medium_C[0])
+    ctx = replace(ctx, load=load)
     choice = choose_solver(
         ctx.requested,
         props=ctx.props,
@@ -432,6 +470,8 @@ def _run_step(
         step_label=f"steps[{i}] ({step.name})",
         field_carried_on=i < len(ctx.plan.steps) - 1,
     )
+    if load is not None:
+        choice = coupled_solver_choice(choice, load)
     run, surface = _solve_with_surface_pass(ctx, i, step, choice.solver, carried, surface)
     run, unreliable = _check_balance(ctx, step, choice.solver, carried, surface, run)
     # the regime and Biot number of the h the step ran with (after the surface pass)
@@ -441,7 +481,7 @@ def _run_step(
         float(ctx.props.conductivity(0.5 * (carried.mean_C + np.mean(surface.medium_C)))),
     )
     details = replace(run.details, regime=regime.regime)
-    frame = _place_frame(run.frame, step, i, run, carried.t_offset_s, first=i == 0)
+    frame = _place_frame(run.frame, step, i, run, carried.t_offset_s, i == 0, surface)
     if mass is not None:
         end = float(run.frame["time_s"].iloc[-1]) - carried.t_offset_s
         mass = brine_until(mass, step, i, product, ctx.props, surface, carried.salt, end)
@@ -462,6 +502,8 @@ def _run_step(
         warnings=_step_warnings(step, surface, run, unreliable) + (() if mass is None else mass.warnings),
         unreliable_reason=unreliable,
         mass=mass,
+        machine_load=run.machine,
+        load_note=load_note,
     )
     return frame, result, run
 
