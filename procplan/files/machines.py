@@ -149,7 +149,6 @@ def equipment_from_dict(data: Mapping[str, Any], source: str = "equipment") -> E
     evap, cond = _refrigerant(c, data, kind)
     nacl = _brine_fraction(c, data, medium)
     settings = _settings_from_dict(c, data.get("settings"), medium)
-    thermal = _thermal_from_dict(c, data.get("thermal"), evap)
     if (
         kind in EQUIPMENT_KINDS
         and medium in MEDIA
@@ -165,6 +164,7 @@ def equipment_from_dict(data: Mapping[str, Any], source: str = "equipment") -> E
                     f"below the lowest {tkey} = {settings[tkey].minimum:g} °C (heat flows from the medium to the refrigerant)",
                 )
             )
+    thermal = _thermal_from_dict(c, data.get("thermal"), evap)
     c.raise_if_any()
     return Equipment(
         eid,
@@ -206,7 +206,8 @@ def _thermal_from_dict(c: Collector, raw: Any, evaporating_C: float | None) -> M
         c.add(InvalidInputError("thermal.medium_volume_m3", None, "a volume in m³", "required in [thermal]"))
         return None
     rated = values.get("rated_medium_C")
-    if rated is not None and evaporating_C is not None and rated <= evaporating_C:
+    evap_ok = not any(getattr(e, "field", "") == "evaporating_C" for e in c.problems)
+    if rated is not None and evaporating_C is not None and evap_ok and rated <= evaporating_C:
         c.add(
             InvalidInputError("thermal.rated_medium_C", rated, f"above evaporating_C = {evaporating_C:g} °C")
         )
