@@ -114,29 +114,53 @@ class MediumNode:
 
     # -- one step -------------------------------------------------------------------------------
     def solve_step(self, model, newton, t1: float, dt: float, a: float, hist, Hn, H0):
-        """One implicit step of pieces + medium; returns (H, iterations) like ``newton(model, ...)``."""
+        """One implicit step of pieces + medium; returns (H, iterations) like ``newton(model, ...)``.
+
+        The plant's mode of the last accepted step is tried first (a plant at its limit usually stays there
+        for many steps); a solution whose medium lies on the wrong side of the set point for that mode is
+        dropped and the step solved with the set point held, then in the mode the required duty calls for."""
         self._accept(Hn)
         self._first = False
-        plant = self.plant
-        C = plant.heat_capacity_J_K
+        C = self.plant.heat_capacity_J_K
         weight = self.pieces * model.grid.piece_factor
         set_point = float(model.boundary.medium(t1))
-        cp = MediumCoupling(set_point, False, weight, a * C / dt, C * self.history_E(a) / dt, plant)
+        cp = MediumCoupling(set_point, False, weight, a * C / dt, C * self.history_E(a) / dt, self.plant)
+        its = 0
+        last = self.records[-1].mode if self.records else "hold"
+        if last != "hold":
+            H1, it = self._free(model, newton, cp, last, (t1, dt, a, hist, Hn, H0))
+            its += it
+            if H1 is not None and self._consistent(last, cp.E, set_point):
+                return self._keep_free(model, cp, H1, t1, weight), its
+            cp.free, cp.mode, cp.E = False, "hold", set_point
         H1, it = newton(model, t1, dt, a, hist, Hn, H0, coupling=cp)
+        its += it
         if H1 is None:
-            return None, it
+            return None, its
         Qs = model.heat_flow_W(t1, H1, set_point) / model.grid.piece_factor
-        L, _ = plant.fixed(set_point)
+        L, _ = self.plant.fixed(set_point)
         required = cp.a_C_dt * set_point - cp.hist_W + weight * Qs - L
-        mode = plant.mode(required, set_point)
+        mode = self.plant.mode(required, set_point)
         if mode == "hold":
-            return self._keep(H1, t1, set_point, required, L, weight * Qs, "hold"), it
-        cp.free, cp.mode, cp.E = True, mode, self._current[1]
-        H2, it2 = newton(model, t1, dt, a, hist, Hn, H1, coupling=cp)
+            return self._keep(H1, t1, set_point, required, L, weight * Qs, "hold"), its
+        H2, it = self._free(model, newton, cp, mode, (t1, dt, a, hist, Hn, H1))
         if H2 is None:
-            return None, it + it2
-        Qs = model.heat_flow_W(t1, H2, cp.E) / model.grid.piece_factor
-        return self._keep(H2, t1, cp.E, cp.duty(cp.E)[0], plant.fixed(cp.E)[0], weight * Qs, mode), it + it2
+            return None, its + it
+        return self._keep_free(model, cp, H2, t1, weight), its + it
+
+    def _free(self, model, newton, cp: MediumCoupling, mode: str, args):
+        cp.free, cp.mode, cp.E = True, mode, self._current[1]
+        return newton(model, *args, coupling=cp)
+
+    def _consistent(self, mode: str, E: float, set_point: float) -> bool:
+        """A medium on the side of the set point the mode implies (a chiller at its limit above it, a chiller
+        switched off below it; the other way round for a heater)."""
+        above = E >= set_point
+        return above if (mode == "limit") == self.plant.refrigerating else not above
+
+    def _keep_free(self, model, cp: MediumCoupling, H, t1: float, weight: float):
+        Qs = model.heat_flow_W(t1, H, cp.E) / model.grid.piece_factor
+        return self._keep(H, t1, cp.E, cp.duty(cp.E)[0], self.plant.fixed(cp.E)[0], weight * Qs, cp.mode)
 
     def _keep(self, H, t1, E, P, L, Q, mode):
         self.latest_C = float(E)

@@ -40,6 +40,7 @@ def summary_dict(result) -> dict[str, Any]:
         "unreliable_reasons": list(getattr(result, "unreliable_reasons", ())),
         "procplan_version": __version__,
         "caution": CAUTION,
+        "load": {"model": plan.load.model, "pieces": plan.pieces},
     }
     for sr in result.steps:
         out["steps"].append(
@@ -59,6 +60,7 @@ def summary_dict(result) -> dict[str, Any]:
                 "details": {k: v for k, v in _plain(sr.details).items() if v is not None},
                 "warnings": list(sr.warnings),
                 "unreliable_reason": getattr(sr, "unreliable_reason", None),
+                "machine_load": _machine_load_dict(sr),
             }
         )
         if getattr(sr, "mass", None) is not None:
@@ -84,6 +86,15 @@ def packing_dict(packed) -> dict[str, Any]:
         ],
         "single_piece_mass_kg": packed.single.piece_mass_kg,
     }
+
+
+def _machine_load_dict(sr) -> dict[str, Any] | None:
+    """How the machine carried the batch (loaded step), or the note of an empty-machine run, or None."""
+    ml = getattr(sr, "machine_load", None)
+    if ml is not None:
+        return {**_plain(ml), "held": ml.held, "summary": ml.describe()}
+    note = getattr(sr, "load_note", None)
+    return None if note is None else {"empty_machine": True, "summary": note}
 
 
 def history_dict(result) -> dict[str, list]:
@@ -202,6 +213,9 @@ def _step_lines(result, site=None) -> list[str]:
             )
         if getattr(sr, "mass", None) is not None:
             lines += brine_lines(sr.mass)
+        ml = _machine_load_dict(sr)
+        if ml is not None:
+            lines.append(f"    machine: {ml['summary']}")
     return lines
 
 

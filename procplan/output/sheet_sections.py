@@ -33,6 +33,8 @@ def difference_text(site: SiteSettings, difference_K: float) -> str:
 def expected_cell(st: Styles, site: SiteSettings, c):
     """The expected temperature; marked when the prediction itself lies beyond the action limit."""
     text = site.format_temperature(c.expected_C)
+    if getattr(c, "medium_C", None) is not None:
+        text += f" (machine at {site.format_temperature(c.medium_C)})"
     outside = (c.low_C is not None and c.expected_C < c.low_C - 1e-9) or (
         c.high_C is not None and c.expected_C > c.high_C + 1e-9
     )

@@ -105,6 +105,27 @@ class MachineLoadResult:
         """True when the plant held the set point throughout (never at its limit)."""
         return self.time_at_limit_s <= 0.0
 
+    def describe(self) -> str:
+        """One line for the summary text and the sheet: what the batch asked and what the plant did."""
+        duty = "removal" if self.refrigerating else "supply"
+        if self.held:
+            limit = "held the set point throughout"
+        else:
+            limit = f"at its limit for {self.time_at_limit_s / 60:.0f} min, medium to {self.worst_medium_C:.1f} °C"
+        if self.pull_down_s is None:
+            back = "; not back within 0.5 K of the set point"
+        elif self.pull_down_s > 0:
+            back = f"; back within 0.5 K of the set point after {self.pull_down_s / 60:.0f} min"
+        else:
+            back = ""
+        return (
+            f"{self.machine}, {self.pieces} pieces, medium at loading {self.loading_C:g} °C: peak load "
+            f"{self.peak_load_kW:.1f} kW against {self.capacity_kW:.1f} kW {duty}; plant {limit}{back}; heat "
+            f"into the pieces {self.pieces_kJ / 3600:.2f} kWh, medium and structure "
+            f"{self.medium_structure_kJ / 3600:.2f} kWh, from the plant {self.plant_kJ / 3600:.2f} kWh, fixed loads "
+            f"{self.fixed_kJ / 3600:.2f} kWh (balance {self.energy_balance_error:.2%})"
+        )
+
     def warning(self, step_name: str) -> str | None:
         """The capacity warning of the step (None when the plant held the set point)."""
         if self.held:

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import dataclasses
+import functools
 
 import numpy as np
 import pytest
@@ -129,11 +130,16 @@ def _demo_dict(name):
 DEMOS = sorted(p.stem for p in (LIB.root / "plans").glob("*.toml"))
 
 
+@functools.cache
+def _demo_run(name: str, model: str = "loaded"):
+    plan = plan_from_dict(_demo_dict(name), library=LIB)
+    return run_plan(dataclasses.replace(plan, load=Load(model)), library=LIB)
+
+
 @pytest.mark.parametrize("name", DEMOS)
 def test_energy_balance_over_pieces_medium_plant_and_fixed_loads_on_every_demo_plan(name):
     # Invariant: heat into the pieces + into medium and structure = plant + fixed loads, within 0.5 %.
-    plan = plan_from_dict(_demo_dict(name), library=LIB)
-    res = run_plan(plan, library=LIB)
+    res = _demo_run(name)
     for sr in res.steps:
         assert sr.energy_balance_error < 0.005, sr.name
         if sr.machine_load is not None:
@@ -148,9 +154,7 @@ def test_energy_balance_over_pieces_medium_plant_and_fixed_loads_on_every_demo_p
 def test_demo_loads_beyond_their_machines_take_longer_and_warn(name, step):
     # Method: the loaded run against the empty-machine run of the same plan (the 34 kW against
     # 8.5 kW, and 520 kW against 40 kW).
-    plan = plan_from_dict(_demo_dict(name), library=LIB)
-    loaded = run_plan(plan, library=LIB)
-    empty = run_plan(dataclasses.replace(plan, load=Load("set-point")), library=LIB)
+    loaded, empty = _demo_run(name), _demo_run(name, "set-point")
     (ls,) = [s for s in loaded.steps if s.name == step]
     (es,) = [s for s in empty.steps if s.name == step]
     assert ls.duration_s > es.duration_s
