@@ -62,8 +62,9 @@ def _add_required(subparsers) -> None:
     r.add_argument(
         "--parameter",
         required=True,
-        choices=sorted(PARAMETERS),
-        help="; ".join(f"{k}: {v.description}" for k, v in PARAMETERS.items()),
+        choices=sorted([*PARAMETERS, "pieces"]),
+        help="; ".join(f"{k}: {v.description}" for k, v in PARAMETERS.items())
+        + "; pieces: the largest batch (pieces per batch) that still meets the goal in a loaded machine",
     )
     r.add_argument(
         "--goal",
