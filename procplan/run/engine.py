@@ -24,6 +24,7 @@ from procplan.conduction.regime import Regime, classify_regime
 from procplan.errors import InvalidInputError
 from procplan.model import SOLVERS, Plan, Step
 from procplan.properties.table import PropertyTable
+from procplan.run import machine_load as ml
 from procplan.run.assess import Outcomes, assess_plan
 from procplan.run.budget import (
     ENERGY_BALANCE_LIMIT,
@@ -33,7 +34,7 @@ from procplan.run.budget import (
     step_limit_error,
     unreliable_reason,
 )
-from procplan.run.machine_load import MachineLoadResult, coupled_solver_choice, load_result, step_load
+from procplan.run.machine_load import MachineLoadResult
 from procplan.run.mass_step import brine_first, brine_until, salt_columns, salted_properties
 from procplan.run.solver import PROPERTY_SPREAD_LIMIT, choose_solver, exact_properties
 from procplan.run.step_surface import StepSurface, resolve_step_surface
@@ -297,7 +298,7 @@ def _fv_step(
     machine, balance = None, res.energy_balance_error
     if node is not None:
         node.finish(res.final_enthalpy_J_kg)
-        machine, medium_C, plant_W = load_result(load, node, res.time_s, res.heat_flow_W, boundary.medium)
+        machine, medium_C, plant_W = ml.load_result(load, node, res.time_s, res.heat_flow_W, boundary.medium)
         frame["medium_C"], frame["plant_W"] = medium_C, plant_W
         balance = max(balance, machine.energy_balance_error)
     details = StepSolverDetails(
@@ -459,7 +460,10 @@ def _run_step(
     mass = None
     if step.brine is not None:
         mass, step = brine_first(step, i, product, ctx.props, surface, carried.salt)
-    load, load_note = step_load(ctx.plan, step, i, ctx.library, surface.medium_C[0])
+    load, load_note = ml.step_load(ctx.plan, step, i, ctx.library, surface.medium_C[0])
+    held = None  # a load the plant surely carries at its set point: solved as a set-point step
+    if load is not None and ml.holds_throughout(load, surface, carried.field, product.geometry.area_m2):
+        held, load = load, None
     ctx = replace(ctx, load=load)
     choice = choose_solver(
         ctx.requested,
@@ -471,9 +475,11 @@ def _run_step(
         field_carried_on=i < len(ctx.plan.steps) - 1,
     )
     if load is not None:
-        choice = coupled_solver_choice(choice, load)
+        choice = ml.coupled_solver_choice(choice, load)
     run, surface = _solve_with_surface_pass(ctx, i, step, choice.solver, carried, surface)
     run, unreliable = _check_balance(ctx, step, choice.solver, carried, surface, run)
+    if held is not None:
+        run = replace(run, **ml.held_frame(held, run.frame))
     # the regime and Biot number of the h the step ran with (after the surface pass)
     regime = classify_regime(
         float(np.mean(surface.h_W_m2K)),

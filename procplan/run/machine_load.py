@@ -31,6 +31,9 @@ __all__ = [
     "MachineLoadResult",
     "StepLoad",
     "coupled_solver_choice",
+    "held_frame",
+    "held_result",
+    "holds_throughout",
     "load_result",
     "step_load",
 ]
@@ -163,6 +166,50 @@ def step_load(
 
     loading = step.loading_medium_C if step.loading_medium_C is not None else set_point_C
     return StepLoad(eq.name, Plant.of(eq, set_point_C), plan.pieces, loading, set_point_C), None
+
+
+def holds_throughout(load: StepLoad, surface, field_C, area_m2: float) -> bool:
+    """True when the plant surely holds the set point over the whole step, so that the loaded step is the
+    set-point step and needs no coupling (nor finite volumes).
+
+    Bound: with a constant medium and h and no extra surface flux, the surface lies between the extremes of
+    the field at the start and the medium (maximum principle), so the heat the N pieces give the medium lies
+    in [−N h A (T_sp − T_min)⁺, N h A (T_max − T_sp)⁺]; with the fixed loads at the set point, the plant holds
+    when every value in that range is within what it can remove (or supply) at the set point.
+    """
+    if not surface.constant or surface.radiates_to_other_walls or load.loading_C != load.set_point_C:
+        return False
+    sp = load.set_point_C
+    T = np.asarray(getattr(field_C, "final_field", field_C), dtype=float)
+    hA = load.pieces * float(surface.h_W_m2K[0]) * area_m2
+    g_max, g_min = hA * max(float(T.max()) - sp, 0.0), -hA * max(sp - float(T.min()), 0.0)
+    L, _ = load.plant.fixed(sp)
+    avail = load.plant.available_W(sp)
+    if load.plant.refrigerating:
+        return g_min + L >= 0.0 and g_max + L <= avail
+    return -(g_max + L) >= 0.0 and -(g_min + L) <= avail
+
+
+def held_result(load: StepLoad, time_s: np.ndarray, heat_flow_W: np.ndarray):
+    """The machine-load result of a step whose plant held the set point throughout (:func:`holds_throughout`):
+    the medium at the set point, the plant taking what the batch and the fixed loads give it."""
+    node = load.node()
+    L, _ = load.plant.fixed(load.set_point_C)
+    q = load.pieces * np.asarray(heat_flow_W, dtype=float)
+    node.records = [
+        MediumRecord(float(t), load.set_point_C, float(qi - L), L, float(qi), "hold")
+        for t, qi in zip(time_s[1:], q[1:], strict=True)
+    ]
+    return load_result(load, node, np.asarray(time_s, dtype=float), heat_flow_W, lambda t: load.set_point_C)
+
+
+def held_frame(load: StepLoad, frame) -> dict:
+    """The step history (a DataFrame) of a held load with its medium and plant columns, and its result."""
+    frame = frame.copy()
+    machine, frame["medium_C"], frame["plant_W"] = held_result(
+        load, frame["time_s"].to_numpy(), frame["heat_flow_W"].to_numpy()
+    )
+    return {"machine": machine, "frame": frame}
 
 
 def coupled_solver_choice(choice, load: StepLoad):
