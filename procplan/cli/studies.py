@@ -502,6 +502,7 @@ def cmd_sweep(args) -> int:
             executor=ex,
             n_nodes=args.n_nodes,
             progress=_progress(args, "pairs", args.every),
+            pieces=args.pieces,
         )
     finally:
         if ex is not None:

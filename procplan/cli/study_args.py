@@ -199,6 +199,12 @@ def _add_sweep(subparsers) -> None:
     s.add_argument("--products", help="comma-separated product names (default: all)")
     s.add_argument("--equipment", help="comma-separated machine ids (default: all)")
     s.add_argument("--kinds", help="comma-separated machine kinds (default: all)")
+    s.add_argument(
+        "--pieces",
+        type=int,
+        default=1,
+        help="pieces per batch in every machine (a machine with a thermal description reports its shortfall)",
+    )
     s.add_argument("--workers", type=int, default=None, help="processes (default: sequential)")
     s.add_argument(
         "--n-nodes", type=int, default=None, help="finite-volume nodes per axis (coarser is faster)"
