@@ -56,6 +56,7 @@ class StepLoad:
     pieces: int
     loading_C: float
     set_point_C: float
+    medium: str = ""
 
     def node(self) -> MediumNode:
         return MediumNode(self.plant, self.pieces, self.loading_C)
@@ -83,6 +84,7 @@ class MachineLoadResult:
     pieces_kJ, medium_structure_kJ, plant_kJ, fixed_kJ : heat into the pieces, into the medium and structure,
         from the plant and from the fixed loads over the step [kJ] (plant and fixed loads into the medium)
     energy_balance_error : |pieces + medium and structure − plant − fixed| / the largest of them [-]
+    steam : True for a steam medium (whose drop below the set point means air in the cabinet)
     """
 
     machine: str
@@ -102,6 +104,7 @@ class MachineLoadResult:
     plant_kJ: float
     fixed_kJ: float
     energy_balance_error: float
+    steam: bool = False
 
     @property
     def held(self) -> bool:
@@ -139,11 +142,17 @@ class MachineLoadResult:
             if self.pull_down_s is not None
             else "not back at the set point by the end of the step"
         )
+        steam = (
+            "; below the steam's set point the cabinet holds an air–steam mixture, whose condensation "
+            "coefficient is far below pure steam's: the predicted heating is optimistic, confirm by probing"
+            if self.steam
+            else ""
+        )
         return (
             f"{step_name}: {self.machine} cannot hold {self.set_point_C:g} °C with {self.pieces} pieces: the batch "
             f"draws up to {self.peak_load_kW:.1f} kW against a {self.capacity_kW:.1f} kW plant, which ran at its "
             f"limit for {self.time_at_limit_s / 60:.0f} min; the medium {what} to {self.worst_medium_C:.1f} °C, "
-            f"{back}"
+            f"{back}{steam}"
         )
 
 
@@ -165,7 +174,7 @@ def step_load(
     from procplan.surface.plant import Plant
 
     loading = step.loading_medium_C if step.loading_medium_C is not None else set_point_C
-    return StepLoad(eq.name, Plant.of(eq, set_point_C), plan.pieces, loading, set_point_C), None
+    return StepLoad(eq.name, Plant.of(eq, set_point_C), plan.pieces, loading, set_point_C, eq.medium), None
 
 
 def holds_throughout(load: StepLoad, surface, field_C, area_m2: float) -> bool:
@@ -296,5 +305,6 @@ def load_result(load: StepLoad, node: MediumNode, time_s: np.ndarray, heat_flow_
         plant_kJ=plant_J / 1e3,
         fixed_kJ=fixed_J / 1e3,
         energy_balance_error=float(error),
+        steam=load.medium == "steam",
     )
     return res, medium, plant
