@@ -101,3 +101,33 @@ def test_compare_varies_the_batch_and_reports_the_shortfall():
     from procplan.studies.metrics import result_metrics
 
     assert math.isnan(result_metrics(empty)["capacity_shortfall_kW"])
+
+
+def test_the_warmest_loading_temperature_that_meets_the_time():
+    # Method: the required loading temperature checked by forward runs 0.5 K either side; a warmer machine
+    # at loading never cools the batch faster.
+    from procplan.studies.inverse import required_setting
+
+    plan = PLAN.with_pieces(200)
+    at_set_point = run_plan(plan, library=TEST_LIB).steps[0].duration_s / 60.0
+    warm = run_plan(plan.with_step(0, loading_medium_C=15.0), library=TEST_LIB).steps[0].duration_s / 60.0
+    assert warm > at_set_point
+    target = at_set_point + 0.5 * (warm - at_set_point)
+    r = required_setting(
+        plan,
+        step_index=0,
+        parameter="loading_medium_C",
+        goal="time",
+        library=TEST_LIB,
+        target_min=target,
+        bounds=(-5.0, 15.0),
+        n_scan=3,
+        xtol=0.05,
+    )
+    assert r.achievable and r.passes == "below" and r.confirmed
+
+    def measure(v):
+        p = plan.with_step(0, loading_medium_C=v, duration_s=1.25 * 60 * target)
+        return GOALS["time"].measure(run_plan(p, library=TEST_LIB), p, 0, target)
+
+    assert measure(r.value - 0.5) > 0 > measure(r.value + 0.5)
