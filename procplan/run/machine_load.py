@@ -186,7 +186,9 @@ def holds_throughout(load: StepLoad, surface, field_C, area_m2: float) -> bool:
     in [−N h A (T_sp − T_min)⁺, N h A (T_max − T_sp)⁺]; with the fixed loads at the set point, the plant holds
     when every value in that range is within what it can remove (or supply) at the set point.
     """
-    if not surface.constant or surface.radiates_to_other_walls or load.loading_C != load.set_point_C:
+    if field_C is None or not surface.constant or surface.radiates_to_other_walls:
+        return False
+    if load.loading_C != load.set_point_C:
         return False
     sp = load.set_point_C
     T = np.asarray(getattr(field_C, "final_field", field_C), dtype=float)
