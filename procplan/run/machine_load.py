@@ -9,6 +9,11 @@ series solution needs a medium given in advance, so a loaded step runs on finite
 says so). With ``model = "set-point"`` (or a machine without a thermal description) the medium is held at
 the set point whatever the load: the empty-machine run, labelled as such.
 
+Modelling choices (each errs to the safe side or is stated): one well-mixed medium node (the air or water
+at the product is the node's temperature); h is evaluated at the set point, not at the drifting medium;
+with radiation to walls at another temperature than the air the node carries the sink temperature; the
+latent (humidity) part of a coil's load and an ice bank's store are not modelled.
+
 Per step the result gives the medium history, the plant duty against its capacity, the time at the limit,
 the pull-down time (back within :data:`PULL_DOWN_BAND_K` of the set point), the energy of pieces, medium and
 structure, plant and fixed loads with the balance error over all of them, and a warning whenever the plant
