@@ -107,6 +107,24 @@ def test_a_vanishing_load_reproduces_the_constant_medium_history_in_a_demo_machi
     assert empty.steps[0].machine_load is None and "empty-machine" in empty.steps[0].load_note
 
 
+def test_the_sure_hold_shortcut_equals_the_coupled_solve(monkeypatch):
+    # Method: a load within the plant's bound at the set point runs as the set-point step; forcing the
+    # coupled solve instead gives the same history (the plant holds the set point on every step) and duty.
+    from procplan.run import machine_load
+
+    plan = plan_from_dict(
+        {**_demo_dict("roulade-blast-chill"), "checks": {"pieces_per_batch": 10}}, library=LIB
+    )
+    short = run_plan(plan, library=LIB, solver="finite-volume", assess=False)
+    monkeypatch.setattr(machine_load, "holds_throughout", lambda *a: False)
+    coupled = run_plan(plan, library=LIB, solver="finite-volume", assess=False)
+    assert "solved with the 10 pieces" in coupled.steps[0].reason
+    assert np.max(np.abs(short.history["core_C"] - coupled.history["core_C"])) <= 1e-6
+    a, b = short.steps[0].machine_load, coupled.steps[0].machine_load
+    assert a.held and b.held
+    assert abs(a.plant_kJ - b.plant_kJ) <= 1e-3 * abs(b.plant_kJ)
+
+
 def test_a_plant_at_its_cap_lets_the_medium_rise_at_load_minus_capacity_over_C():
     # Source: hand energy balance of the medium, C dT/dt = load − capacity (plant capped by its compressor).
     C, cap = 2.0e5, 500.0
