@@ -270,11 +270,7 @@ def _fv_step(
 ) -> _StepRun:
     """Run the finite-volume solver for one step; ``time_settings`` holds dt_s (and, for a refined rerun,
     the adaptive step's aim and cap); ``load`` (a machine_load.StepLoad) solves the medium with the batch."""
-    boundary = surface.boundary()
-    node = None
-    if load is not None:
-        node = load.node()
-        boundary = replace(boundary, medium_node=node)
+    boundary, node = ml.with_medium_node(surface.boundary(), load)
     res = solve_conduction(
         geometry,
         props,
@@ -295,12 +291,8 @@ def _fv_step(
             "heat_flow_W": res.heat_flow_W,
         }
     )
-    machine, balance = None, res.energy_balance_error
-    if node is not None:
-        node.finish(res.final_enthalpy_J_kg)
-        machine, medium_C, plant_W = ml.load_result(load, node, res.time_s, res.heat_flow_W, boundary.medium)
-        frame["medium_C"], frame["plant_W"] = medium_C, plant_W
-        balance = max(balance, machine.energy_balance_error)
+    machine = ml.coupled_frame(load, node, res, frame, boundary.medium)
+    balance = max(res.energy_balance_error, machine.energy_balance_error if machine else 0.0)
     details = StepSolverDetails(
         grid=res.grid.describe() if hasattr(res.grid, "describe") else str(res.grid.shape),
         time_steps=res.n_steps,
@@ -436,10 +428,7 @@ def _place_frame(
     surface: StepSurface,
 ):
     """The step's history on the plan's clock, labelled with the step."""
-    if "medium_C" not in frame:  # the medium at its set point (the fluid, for walls at another temperature)
-        medium = np.asarray(surface.fluid_temperature_C, dtype=float)
-        frame["medium_C"] = np.interp(frame["time_s"], np.asarray(surface.medium_time_s), medium)
-        frame["plant_W"] = np.nan
+    ml.set_point_columns(frame, surface)
     frame["time_s"] = frame["time_s"] + t_offset_s
     if run.stop_time_s is not None and step.stop_when_core_C is not None and len(frame):
         # both solvers stop within 1e-5 K of the stop temperature; record the crossing as the target itself

@@ -35,12 +35,15 @@ __all__ = [
     "PULL_DOWN_BAND_K",
     "MachineLoadResult",
     "StepLoad",
+    "coupled_frame",
     "coupled_solver_choice",
     "held_frame",
     "held_result",
     "holds_throughout",
     "load_result",
+    "set_point_columns",
     "step_load",
+    "with_medium_node",
 ]
 
 #: Load models of a plan (``[load] model``).
@@ -226,6 +229,36 @@ def held_frame(load: StepLoad, frame) -> dict:
         load, frame["time_s"].to_numpy(), frame["heat_flow_W"].to_numpy()
     )
     return {"machine": machine, "frame": frame}
+
+
+def with_medium_node(boundary, load: StepLoad | None):
+    """The step's boundary with a fresh medium node for ``load`` (unchanged without one), and the node."""
+    if load is None:
+        return boundary, None
+    node = load.node()
+    return replace(boundary, medium_node=node), node
+
+
+def coupled_frame(load: StepLoad | None, node, res, frame, set_point) -> MachineLoadResult | None:
+    """After a coupled finite-volume run ``res``: its machine-load result, with the medium and plant
+    columns added to the step's ``frame``; None without a load."""
+    if node is None:
+        return None
+    node.finish(res.final_enthalpy_J_kg)
+    machine, frame["medium_C"], frame["plant_W"] = load_result(
+        load, node, res.time_s, res.heat_flow_W, set_point
+    )
+    return machine
+
+
+def set_point_columns(frame, surface) -> None:
+    """The medium at its set point (the fluid, for walls at another temperature) and no plant figure, for a
+    step's frame that has no medium column yet."""
+    if "medium_C" in frame:
+        return
+    medium = np.asarray(surface.fluid_temperature_C, dtype=float)
+    frame["medium_C"] = np.interp(frame["time_s"], np.asarray(surface.medium_time_s), medium)
+    frame["plant_W"] = np.nan
 
 
 def coupled_solver_choice(choice, load: StepLoad):
