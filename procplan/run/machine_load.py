@@ -271,17 +271,15 @@ def coupled_solver_choice(choice, load: StepLoad):
 
 
 def _rows(node: MediumNode, q0_W: float) -> list[MediumRecord]:
-    """The accepted states of the medium with the loading state at t = 0 in front (plant as on the first step)."""
-    first = node.records[0] if node.records else None
+    """The accepted states of the medium with the loading state at t = 0 in front (the plant in the first
+    step's mode: holding, it takes what the batch and the fixed loads give the medium)."""
+    mode = node.records[0].mode if node.records else "hold"
     L0, _ = node.plant.fixed(node.initial_C)
-    start = MediumRecord(
-        0.0,
-        node.initial_C,
-        first.plant_W if first is not None else 0.0,
-        L0,
-        q0_W * node.pieces,
-        first.mode if first is not None else "hold",
+    Q0 = q0_W * node.pieces
+    P0 = (
+        {"hold": Q0 - L0, "off": 0.0}.get(mode) if mode != "limit" else node.plant.at_limit(node.initial_C)[0]
     )
+    start = MediumRecord(0.0, node.initial_C, P0, L0, Q0, mode)
     return [start, *node.records]
 
 
