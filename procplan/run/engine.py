@@ -34,7 +34,6 @@ from procplan.run.budget import (
     step_limit_error,
     unreliable_reason,
 )
-from procplan.run.machine_load import MachineLoadResult
 from procplan.run.mass_step import brine_first, brine_until, salt_columns, salted_properties
 from procplan.run.solver import PROPERTY_SPREAD_LIMIT, choose_solver, exact_properties
 from procplan.run.step_surface import StepSurface, resolve_step_surface
@@ -119,10 +118,8 @@ class StepResult:
     unreliable_reason: str | None = None
     #: solute taken up during the step (procplan.run.mass_step.MassStepResult), None without a brine record
     mass: Any = None
-    #: how the machine carried the batch (None: the medium was held at its set point)
-    machine_load: MachineLoadResult | None = None
-    #: why a step in a machine ran with the medium at its set point (an empty-machine run), None otherwise
-    load_note: str | None = None
+    machine_load: ml.MachineLoadResult | None = None  # how the machine carried the batch (None: set point)
+    load_note: str | None = None  # why a step in a machine ran as an empty machine (set point held)
 
     @property
     def duration_s(self) -> float:
@@ -201,7 +198,7 @@ class _StepRun:
     energy_balance_error: float
     details: StepSolverDetails
     fv: Any  # the finite-volume result (its final field carries on), None for the exact solver
-    machine: MachineLoadResult | None = None  # a loaded step: how the machine carried the batch
+    machine: ml.MachineLoadResult | None = None  # a loaded step: how the machine carried the batch
 
 
 def _exact_stop(run, times: np.ndarray, hist, step: Step):
@@ -265,9 +262,7 @@ def _exact_step(geometry, props: PropertyTable, start_C: float, surface: StepSur
     return _StepRun(frame, stop_time, 0.0, details, None)
 
 
-def _fv_step(
-    geometry, props, initial, surface: StepSurface, step: Step, n_nodes, time_settings, load=None
-) -> _StepRun:
+def _fv_step(geometry, props, initial, surface, step: Step, n_nodes, time_settings, load=None) -> _StepRun:
     """Run the finite-volume solver for one step; ``time_settings`` holds dt_s (and, for a refined rerun,
     the adaptive step's aim and cap); ``load`` (a machine_load.StepLoad) solves the medium with the batch."""
     boundary, node = ml.with_medium_node(surface.boundary(), load)
@@ -291,8 +286,7 @@ def _fv_step(
             "heat_flow_W": res.heat_flow_W,
         }
     )
-    machine = ml.coupled_frame(load, node, res, frame, boundary.medium)
-    balance = max(res.energy_balance_error, machine.energy_balance_error if machine else 0.0)
+    machine, balance = ml.coupled_frame(load, node, res, frame, boundary.medium)
     details = StepSolverDetails(
         grid=res.grid.describe() if hasattr(res.grid, "describe") else str(res.grid.shape),
         time_steps=res.n_steps,
@@ -334,11 +328,9 @@ def _solve(ctx: _Context, chosen: str, carried: _Carried, step: Step, surface: S
     geometry = ctx.plan.product.geometry
     if chosen == "exact":
         return _exact_step(geometry, ctx.props, carried.start_C, surface, step)
-    time_settings = ctx.refined if ctx.refined is not None else {"dt_s": ctx.dt_s}
+    timing = ctx.refined if ctx.refined is not None else {"dt_s": ctx.dt_s}
     try:
-        return _fv_step(
-            geometry, ctx.props, carried.field, surface, step, ctx.n_nodes, time_settings, ctx.load
-        )
+        return _fv_step(geometry, ctx.props, carried.field, surface, step, ctx.n_nodes, timing, ctx.load)
     except InvalidInputError as exc:
         if exc.field == "max_steps":
             raise step_limit_error(f"{step.name}", exc) from exc
@@ -407,8 +399,7 @@ def _step_warnings(
         out.append(
             f"{step.name}: the core did not reach {step.stop_when_core_C:g} °C within {step.duration_s / 60:g} min"
         )
-    if run.machine is not None and run.machine.warning(step.name):
-        out.append(run.machine.warning(step.name))
+    out.extend(w for w in [run.machine and run.machine.warning(step.name)] if w)
     if unreliable is not None:
         out.append(unreliable)
     elif run.energy_balance_error > 0.005:
@@ -418,17 +409,8 @@ def _step_warnings(
     return tuple(out)
 
 
-def _place_frame(
-    frame: pd.DataFrame,
-    step: Step,
-    i: int,
-    run: _StepRun,
-    t_offset_s: float,
-    first: bool,
-    surface: StepSurface,
-):
+def _place_frame(frame: pd.DataFrame, step: Step, i: int, run: _StepRun, t_offset_s: float, first: bool):
     """The step's history on the plan's clock, labelled with the step."""
-    ml.set_point_columns(frame, surface)
     frame["time_s"] = frame["time_s"] + t_offset_s
     if run.stop_time_s is not None and step.stop_when_core_C is not None and len(frame):
         # both solvers stop within 1e-5 K of the stop temperature; record the crossing as the target itself
@@ -449,11 +431,7 @@ def _run_step(
     mass = None
     if step.brine is not None:
         mass, step = brine_first(step, i, product, ctx.props, surface, carried.salt)
-    load, load_note = ml.step_load(ctx.plan, step, i, ctx.library, surface.medium_C[0])
-    held = None  # a load the plant surely carries at its set point: solved as a set-point step
-    if load is not None and ml.holds_throughout(load, surface, carried.field, product.geometry.area_m2):
-        held, load = load, None
-    ctx = replace(ctx, load=load)
+    ctx, held, load_note = ml.step_loads(ctx, step, i, surface, carried.field)
     choice = choose_solver(
         ctx.requested,
         props=ctx.props,
@@ -463,12 +441,10 @@ def _run_step(
         step_label=f"steps[{i}] ({step.name})",
         field_carried_on=i < len(ctx.plan.steps) - 1,
     )
-    if load is not None:
-        choice = ml.coupled_solver_choice(choice, load)
+    choice = ml.coupled_solver_choice(choice, ctx.load)
     run, surface = _solve_with_surface_pass(ctx, i, step, choice.solver, carried, surface)
     run, unreliable = _check_balance(ctx, step, choice.solver, carried, surface, run)
-    if held is not None:
-        run = replace(run, **ml.held_frame(held, run.frame))
+    run = ml.with_held(run, held, surface)
     # the regime and Biot number of the h the step ran with (after the surface pass)
     regime = classify_regime(
         float(np.mean(surface.h_W_m2K)),
@@ -476,7 +452,7 @@ def _run_step(
         float(ctx.props.conductivity(0.5 * (carried.mean_C + np.mean(surface.medium_C)))),
     )
     details = replace(run.details, regime=regime.regime)
-    frame = _place_frame(run.frame, step, i, run, carried.t_offset_s, i == 0, surface)
+    frame = _place_frame(run.frame, step, i, run, carried.t_offset_s, first=i == 0)
     if mass is not None:
         end = float(run.frame["time_s"].iloc[-1]) - carried.t_offset_s
         mass = brine_until(mass, step, i, product, ctx.props, surface, carried.salt, end)

@@ -43,6 +43,8 @@ __all__ = [
     "load_result",
     "set_point_columns",
     "step_load",
+    "step_loads",
+    "with_held",
     "with_medium_node",
 ]
 
@@ -239,16 +241,17 @@ def with_medium_node(boundary, load: StepLoad | None):
     return replace(boundary, medium_node=node), node
 
 
-def coupled_frame(load: StepLoad | None, node, res, frame, set_point) -> MachineLoadResult | None:
-    """After a coupled finite-volume run ``res``: its machine-load result, with the medium and plant
-    columns added to the step's ``frame``; None without a load."""
+def coupled_frame(load: StepLoad | None, node, res, frame, set_point):
+    """After a finite-volume run ``res``: its machine-load result (None without a load), with the medium and
+    plant columns added to the step's ``frame``, and the energy-balance error over pieces, medium, structure,
+    plant and fixed loads (the pieces' alone without a load)."""
     if node is None:
-        return None
+        return None, res.energy_balance_error
     node.finish(res.final_enthalpy_J_kg)
     machine, frame["medium_C"], frame["plant_W"] = load_result(
         load, node, res.time_s, res.heat_flow_W, set_point
     )
-    return machine
+    return machine, max(res.energy_balance_error, machine.energy_balance_error)
 
 
 def set_point_columns(frame, surface) -> None:
@@ -261,8 +264,30 @@ def set_point_columns(frame, surface) -> None:
     frame["plant_W"] = np.nan
 
 
-def coupled_solver_choice(choice, load: StepLoad):
-    """The solver choice of a loaded step: finite volumes, with the reason."""
+def step_loads(ctx, step: Step, index: int, surface, field_C):
+    """For the engine's step context ``ctx`` (plan, library, ``load``): the context with the load to couple
+    (None: none), the load the plant surely holds at its set point, which then runs as the set-point step
+    (:func:`holds_throughout`), and the note of an empty-machine run."""
+    plan = ctx.plan
+    load, note = step_load(plan, step, index, ctx.library, surface.medium_C[0])
+    if load is not None and holds_throughout(load, surface, field_C, plan.product.geometry.area_m2):
+        return replace(ctx, load=None), load, note
+    return replace(ctx, load=load), None, note
+
+
+def with_held(run, held: StepLoad | None, surface):
+    """The engine's step run with the machine-load result of a held load, and the medium and plant columns
+    of a step at its set point (unchanged otherwise)."""
+    if held is not None:
+        run = replace(run, **held_frame(held, run.frame))
+    set_point_columns(run.frame, surface)
+    return run
+
+
+def coupled_solver_choice(choice, load: StepLoad | None):
+    """The solver choice of a loaded step: finite volumes, with the reason (unchanged without a load)."""
+    if load is None:
+        return choice
     reason = (
         f"finite volume: the medium temperature is solved with the {load.pieces} pieces of the batch (a medium "
         "that depends on the load is not known in advance, which the exact series solution needs)"
