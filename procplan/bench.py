@@ -468,13 +468,15 @@ def bench_roulade_variability(n_samples: int = 40) -> list[tuple[str, float, str
 
 
 #: The app timing, run in its own interpreter (the package below the app never imports streamlit): the median
-#: seconds of ``repeats`` changes of the first air-temperature input of the roulade plan under AppTest.
+#: seconds of ``repeats`` changes of the air temperature on the Process page (roulade plan) under AppTest.
 _APP_TIMING = """
 import statistics, sys, time
 from streamlit.testing.v1 import AppTest
+from procplan.ui.main import PAGES
 at = AppTest.from_file(sys.argv[1], default_timeout=300)
 at.run()
-boxes = [w for w in at.number_input if "air" in w.label.lower()]
+at.switch_page("procplan/ui/pages/" + next(p for t, p, *_ in PAGES if t == "Process")).run()
+boxes = [w for w in at.number_input if w.label.startswith("Air temperature")]
 if not boxes:
     print("nan no-input")
     raise SystemExit
