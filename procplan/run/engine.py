@@ -28,7 +28,6 @@ from procplan.run.assess import Outcomes, assess_plan
 from procplan.run.budget import (
     ENERGY_BALANCE_LIMIT,
     MAX_TIME_STEPS_PER_STEP,
-    TIME_REFINEMENT,
     check_work_budget,
     refined_time_settings,
     step_limit_error,
@@ -75,8 +74,7 @@ class StepSolverDetails:
     time_steps, rejected_steps : finite volumes: accepted and rejected time steps [-]
     dt_min_s, dt_max_s : finite volumes: smallest and largest accepted time step [s]
     method : finite volumes: the discretisation in words
-    time_tolerance_K, local_error_estimate_K : finite volumes with error-controlled steps: the tolerance [K]
-        and the largest estimated local time-integration error of an accepted step [K]
+    time_tolerance_K, local_error_estimate_K : error-controlled steps: tolerance, largest local estimate [K]
     h_surface_C : surface temperature averaged over the step at which h was evaluated again [°C]
     h_change_on_second_pass : relative change of h at that temperature [-]; above
         :data:`H_SURFACE_TOLERANCE` the step ran again with the new h
@@ -329,9 +327,9 @@ def _solve(ctx: _Context, chosen: str, carried: _Carried, step: Step, surface: S
     geometry = ctx.plan.product.geometry
     if chosen == "exact":
         return _exact_step(geometry, ctx.props, carried.start_C, surface, step)
-    time_settings = ctx.refined if ctx.refined is not None else {"dt_s": ctx.dt_s}
-    if ctx.time_tolerance_K is not None and "tolerance_K" not in time_settings:
-        time_settings = {**time_settings, "tolerance_K": ctx.time_tolerance_K}
+    time_settings = (
+        ctx.refined if ctx.refined is not None else {"dt_s": ctx.dt_s, "tolerance_K": ctx.time_tolerance_K}
+    )
     try:
         return _fv_step(geometry, ctx.props, carried.field, surface, step, ctx.n_nodes, time_settings)
     except InvalidInputError as exc:
@@ -381,9 +379,7 @@ def _check_balance(ctx: _Context, step: Step, chosen: str, carried: _Carried, su
     relied on (None when it can)."""
     if chosen == "exact" or run.energy_balance_error <= ENERGY_BALANCE_LIMIT:
         return run, None
-    finer = refined_time_settings(step.duration_s, ctx.dt_s)
-    if finer and ctx.time_tolerance_K is not None and ctx.dt_s is None:
-        finer["tolerance_K"] = ctx.time_tolerance_K / TIME_REFINEMENT
+    finer = refined_time_settings(step.duration_s, ctx.dt_s, ctx.time_tolerance_K)
     if finer:
         again = _solve(replace(ctx, refined=finer), chosen, carried, step, surface)
         kept = {
@@ -567,9 +563,8 @@ def run_plan(
     assess : compute outcomes (targets, rules, lethality, freezing, energy, margin)
     site : site settings whose tariff prices the energy when the plan gives no price (default: the library
         folder's ``site.toml``, if any)
-    time_tolerance_K : finite-volume steps chosen by an estimate of the time-integration error, aiming at
-        this many kelvin (see ``solve_conduction(tolerance_K=...)``); None (default): the adaptive step by
-        the largest node change per step, as before
+    time_tolerance_K : finite-volume steps by an estimate of the time-integration error, aiming at this [K]
+        (``solve_conduction(tolerance_K=...)``); None (default): by the largest node change per step
     """
     requested = solver or plan.solver
     validate.choice("solver", requested, SOLVERS)
@@ -585,9 +580,8 @@ def run_plan(
     props.check_in_range("start.temperature_C", plan.start_temperature_C)
     piece_mass_kg = props.mass_density_kg_m3 * plan.product.geometry.volume_m3
     check_work_budget(plan, requested, n_nodes, dt_s)
-    if time_tolerance_K is not None:
-        time_tolerance_K = validate.positive("time_tolerance_K", time_tolerance_K, "K")
-    ctx = _Context(plan, library, props, requested, n_nodes, dt_s, time_tolerance_K=time_tolerance_K)
+    tol = None if time_tolerance_K is None else validate.positive("time_tolerance_K", time_tolerance_K, "K")
+    ctx = _Context(plan, library, props, requested, n_nodes, dt_s, time_tolerance_K=tol)
     history, steps, warnings, props = _run_steps(ctx)
     warnings.extend(_range_warnings(history, props))
     outcomes = (
