@@ -366,6 +366,203 @@ def bench_generated_plans(n: int = 24, seed: int = 7) -> list[tuple[str, float, 
     ]
 
 
+# --- error-controlled steps, equal-error ratios, the LAPACK floor (issue: honest benchmark) -----------------
+
+#: Tolerances [K] of the error-controlled finite volume, and the errors [K] at which the methods are compared.
+TOLERANCES_K = (0.5, 0.25, 0.1, 0.05, 0.01)
+EQUAL_ERRORS_K = (0.25, 0.1, 0.05)
+
+
+def _lapack_floor_s(n_solves: int, n: int = 100, repeats: int = 3) -> float:
+    """Seconds of ``n_solves`` bare LAPACK gtsv solves of an n-cell tridiagonal system (the linear algebra a
+    1-D run cannot avoid: one per Newton iteration)."""
+    import scipy.linalg.lapack
+
+    gtsv = scipy.linalg.lapack.dgtsv
+    lower, upper = -np.ones(n - 1), -np.ones(n - 1)
+    diag, rhs = np.full(n, 4.0), np.ones(n)
+
+    def solves():
+        for _ in range(n_solves):
+            gtsv(lower, diag, upper, rhs)
+
+    return _median_time(solves, repeats)[0]
+
+
+def bench_error_control(repeats: int = 3) -> list[tuple[str, float, str]]:
+    """1-D freezing (the case of :func:`bench_freezing`) with error-controlled steps: measured core error per
+    tolerance (steps landing on the 97 comparison times) against a fixed 2 s step reference, the time, the
+    bare LAPACK floor for the same number of Newton solves and the overhead factor; then the ratio
+    solve_ivp / finite volume at equal error 0.25, 0.1 and 0.05 K (log-log interpolation, never extrapolated)."""
+    g = Geometry("slab", thickness_m=0.05)
+    bc = SurfaceBoundary.constant(-30.0, 20.0)
+    end = 24 * 3600.0
+    t_eval = np.linspace(0.0, end, 97)
+    ref = solve_conduction(g, FOOD, 10.0, bc, end, n_nodes=100, dt_s=2.0, output_time_s=t_eval)
+    rows, fv_pairs, ivp_pairs = [], [], []
+    for tol in TOLERANCES_K:
+        t_fv, fv = _median_time(
+            lambda k=tol: solve_conduction(
+                g, FOOD, 10.0, bc, end, n_nodes=100, tolerance_K=k, output_time_s=t_eval
+            ),
+            repeats,
+        )
+        err = float(np.max(np.abs(fv.core_C - ref.core_C)))
+        floor = _lapack_floor_s(fv.n_iterations)
+        fv_pairs.append((err, t_fv))
+        rows.append(
+            (
+                f"1-D freezing, error-controlled, tolerance {tol:g} K",
+                t_fv,
+                f"core error {err:.3f} K, {fv.n_steps} steps ({fv.n_rejected} rejected), {fv.n_iterations} "
+                f"Newton solves; LAPACK floor {floor * 1e3:.1f} ms, overhead ×{t_fv / floor:.0f}, "
+                f"balance {fv.energy_balance_error:.1e}",
+            )
+        )
+    for rtol in IVP_RTOLS:
+        t_ivp, (core, nfev) = _median_time(
+            lambda r=rtol: mol_apparent_cp(g, FOOD, 10.0, -30.0, 20.0, end, 100, r, t_eval),
+            max(1, repeats // 2),
+        )
+        ivp_pairs.append((float(np.max(np.abs(core - ref.core_C))), t_ivp))
+    for err in EQUAL_ERRORS_K:
+        t_fv, t_ivp = time_at_error(fv_pairs, err), time_at_error(ivp_pairs, err)
+        how = "both interpolated"
+        if t_fv != t_fv:  # every FV run was more accurate than err: its fastest such run bounds the ratio
+            within = [t for e, t in fv_pairs if e <= err]
+            t_fv = min(within) if within else float("nan")
+            how = "FV: its fastest run with a smaller error, so the ratio is a lower bound"
+        rows.append(
+            (
+                f"  ratio solve_ivp / error-controlled FV at equal error {err:g} K",
+                t_ivp / t_fv,
+                f"FV {t_fv:.3f} s, solve_ivp {t_ivp:.3f} s ({how}; n/a outside the measured range)",
+            )
+        )
+    return rows
+
+
+def bench_brick_31(repeats: int = 1) -> list[tuple[str, float, str]]:
+    """3-D brick at 31³ nodes (the case of :func:`bench_brick_15`), the solver as it chooses."""
+    g = Geometry("brick", length_m=0.04, width_m=0.05, height_m=0.06)
+    times = np.linspace(0.0, 4 * 3600.0, 500)
+    t, r = _median_time(
+        lambda: solve_conduction(
+            g,
+            PropertyTable.constant(0.5, 1050.0, 3600.0),
+            60.0,
+            SurfaceBoundary.constant(2.0, 25.0),
+            times[-1],
+            n_nodes=31,
+            output_time_s=times,
+        ),
+        repeats,
+    )
+    return [
+        (
+            "3-D brick 31^3 (500 output times)",
+            t,
+            f"{r.n_steps} steps, {r.n_factorisations} LU factorisations, {r.n_reused_factorisations} reused",
+        )
+    ]
+
+
+def bench_roulade_variability(n_samples: int = 40) -> list[tuple[str, float, str]]:
+    """Variability of the roulade plan on the full-model path (start temperature sampled): ``n_samples`` runs
+    in one process and with the default (a process pool when it pays), and the 1,000-sample time extrapolated
+    from them."""
+    from procplan.files.library import load_library
+    from procplan.studies.runner import default_workers
+    from procplan.studies.variability import distribution, monte_carlo
+
+    lib = load_library()
+    plan = lib.plan("roulade-blast-chill")
+    dist = {"start_C": distribution("uniform", 70.0, 78.0)}
+    rows = []
+    for executor, label in ((None, "one process"), ("auto", f"default ({default_workers()} cores)")):
+        t0 = time.perf_counter()
+        monte_carlo(
+            plan, dist, n_samples=n_samples, library=lib, method="run", corners=False, executor=executor
+        )
+        t = time.perf_counter() - t0
+        rows.append(
+            (f"variability roulade, {n_samples} samples, {label}", t, f"{t / n_samples:.2f} s per sample")
+        )
+        rows.append((f"  1,000 samples extrapolated, {label}", t / n_samples * 1000, "from the run above"))
+    return rows
+
+
+#: The app timing, run in its own interpreter (the package below the app never imports streamlit): the median
+#: seconds of ``repeats`` changes of the air temperature on the Process page (roulade plan) under AppTest.
+_APP_TIMING = """
+import statistics, sys, time
+from streamlit.testing.v1 import AppTest
+from procplan.ui.main import PAGES
+at = AppTest.from_file(sys.argv[1], default_timeout=300)
+at.run()
+at.switch_page("procplan/ui/pages/" + next(p for t, p, *_ in PAGES if t == "Process")).run()
+boxes = [w for w in at.number_input if w.label.startswith("Air temperature")]
+if not boxes:
+    print("nan no-input")
+    raise SystemExit
+times = []
+base = float(boxes[0].value)
+for j in range(int(sys.argv[2])):  # a new value each time (a value seen before would come from the cache)
+    t0 = time.perf_counter()
+    boxes[0].set_value(base - 0.5 * (j + 1)).run()
+    times.append(time.perf_counter() - t0)
+print(statistics.median(times), repr(boxes[0].label))
+"""
+
+
+def bench_app_recompute(repeats: int = 3) -> list[tuple[str, float, str]]:
+    """The app's recompute after a setting change of the roulade plan (the default plan of the app; streamlit
+    AppTest in a separate interpreter): the median over ``repeats`` changes of the first air temperature."""
+    import os
+    import subprocess
+    import sys
+
+    app_file = os.path.join(os.path.dirname(os.path.dirname(os.path.abspath(__file__))), "app.py")
+    if not os.path.exists(app_file):
+        return [("app recompute after a setting change", float("nan"), "app.py not found beside the package")]
+    out = subprocess.run(
+        [sys.executable, "-c", _APP_TIMING, app_file, str(repeats)],
+        capture_output=True,
+        text=True,
+        check=False,
+    )
+    value, _, label = (out.stdout.strip().splitlines() or ["nan"])[-1].partition(" ")
+    return [
+        (
+            "app recompute after a setting change (AppTest, roulade)",
+            float(value) if value.replace(".", "", 1).isdigit() else float("nan"),
+            f"median of {repeats}, input {label}" if label else out.stderr.strip()[-200:],
+        )
+    ]
+
+
+def bench_cli_startup(repeats: int = 3) -> list[tuple[str, float, str]]:
+    """Wall time of ``procplan --help`` and ``procplan run vial-cool-down`` in a fresh interpreter (medians)."""
+    import subprocess
+    import sys
+
+    rows = []
+    for args in (["--help"], ["run", "vial-cool-down"]):
+
+        def call(a=args):
+            subprocess.run([sys.executable, "-m", "procplan.cli.main", *a], capture_output=True, check=False)
+
+        t, _ = _median_time(call, repeats)
+        rows.append(
+            (f"CLI start-up: procplan {' '.join(args)}", t, f"median of {repeats}, fresh interpreter")
+        )
+    t, _ = _median_time(
+        lambda: subprocess.run([sys.executable, "-c", "pass"], capture_output=True, check=False), repeats
+    )
+    rows.append(("  bare interpreter start (floor)", t, "python -c pass"))
+    return rows
+
+
 def main() -> None:
     rows = (
         bench_freezing()
@@ -376,6 +573,11 @@ def main() -> None:
         + bench_finite_cylinder()
         + bench_studies()
         + bench_generated_plans()
+        + bench_error_control()
+        + bench_brick_31()
+        + bench_roulade_variability()
+        + bench_app_recompute()
+        + bench_cli_startup()
     )
     width = max(len(r[0]) for r in rows)
     print(f"{'case':<{width}}  {'value':>10}  notes")

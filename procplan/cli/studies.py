@@ -80,7 +80,11 @@ def _progress(args, label: str, every: int):
 
 
 def _executor(workers: int | None):
-    if not workers or workers <= 1:
+    """None (not given): the study's default, a process pool on the machine's cores when it pays; 1: in this
+    process; more: a pool of that many processes."""
+    if workers is None:
+        return "auto"
+    if workers <= 1:
         return None
     from concurrent.futures import ProcessPoolExecutor
 
@@ -296,7 +300,7 @@ def cmd_variability(args) -> int:
             progress=_progress(args, "samples", max(1, args.samples // 10)),
         )
     finally:
-        if ex is not None:
+        if hasattr(ex, "shutdown"):
             ex.shutdown()
     if args.csv:
         write_output(csv, res.samples.to_csv(index=False), force=args.force)
@@ -505,7 +509,7 @@ def cmd_sweep(args) -> int:
             pieces=args.pieces,
         )
     finally:
-        if ex is not None:
+        if hasattr(ex, "shutdown"):
             ex.shutdown()
     tab = res.table
     if args.csv:

@@ -125,7 +125,12 @@ def _add_variability(subparsers) -> None:
         default="auto",
         help="fast exact path, run_plan per sample, or automatic",
     )
-    v.add_argument("--workers", type=int, default=None, help="processes for the run_plan path")
+    v.add_argument(
+        "--workers",
+        type=int,
+        default=None,
+        help="processes for the run_plan path (default: the machine's cores when that pays; 1: this process)",
+    )
     v.add_argument("--no-corners", action="store_true", help="skip the worst-case corner runs")
     v.add_argument("--json", action="store_true", help="print the summary as JSON")
     v.add_argument("--csv", metavar="FILE", help="write every sample as CSV (- for standard output)")
@@ -205,7 +210,12 @@ def _add_sweep(subparsers) -> None:
         default=1,
         help="pieces per batch in every machine (a machine with a thermal description reports its shortfall)",
     )
-    s.add_argument("--workers", type=int, default=None, help="processes (default: sequential)")
+    s.add_argument(
+        "--workers",
+        type=int,
+        default=None,
+        help="processes (default: the machine's cores when that pays; 1: this process)",
+    )
     s.add_argument(
         "--n-nodes", type=int, default=None, help="finite-volume nodes per axis (coarser is faster)"
     )

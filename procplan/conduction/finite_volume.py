@@ -42,11 +42,13 @@ import numpy as np
 
 from procplan import validate
 from procplan.conduction.fv_boundary import SurfaceBoundary, TimeProfile
+from procplan.conduction.fv_error import ERROR_SHARE
 from procplan.conduction.fv_grid import FVGrid, build_grid
 from procplan.conduction.fv_model import FVModel
 from procplan.conduction.fv_result import ConductionResult, ConductionSolverError, HistoryRecorder
 from procplan.conduction.fv_stepping import (
     FLUX_CHANGE_PER_STEP,
+    FLUX_CHANGE_WITH_TOLERANCE,
     SCHEMES,
     STOP_DIRECTIONS,
     StepControl,
@@ -66,6 +68,14 @@ __all__ = [
     "TimeProfile",
     "solve_conduction",
 ]
+
+#: Largest node change per adaptive step [K] without a tolerance, and with one (then a guard for the Newton
+#: iteration and for the cells next to a kink of T(H), which the error estimate leaves out).
+STEP_CHANGE_K = 0.5
+STEP_CHANGE_WITH_TOLERANCE_K = 2.0
+#: The same limit as a share of the run's temperature span, without a tolerance and with one.
+SPAN_SHARE = 0.02
+SPAN_SHARE_WITH_TOLERANCE = 0.05
 
 #: The discrete operator under its former name.
 _Model = FVModel
@@ -116,10 +126,11 @@ def solve_conduction(
     stop_when_core_C: float | None = None,
     stop_direction: str | None = None,
     scheme: str = "bdf2",
-    max_step_change_K: float = 0.5,
+    max_step_change_K: float | None = None,
     max_dt_s: float | None = None,
     surface_refinement: float = 0.5,
     max_steps: int | None = None,
+    tolerance_K: float | None = None,
 ) -> ConductionResult:
     """Transient conduction with phase change in one piece of product, by implicit finite volumes on enthalpy.
 
@@ -141,12 +152,17 @@ def solve_conduction(
     stop_direction : ``"falling"`` or ``"rising"``; None = inferred from the initial core temperature
     scheme : ``"bdf2"`` (default) or ``"euler"`` (see ``SCHEMES``)
     max_step_change_K : target largest temperature change of any node per adaptive step [K] (also capped at
-        2 % of the run's temperature span)
+        2 % of the run's temperature span); default 0.5 K, or 2 K (5 % of the span) with ``tolerance_K``
     max_dt_s : largest adaptive step [s] (default end_time_s / 20)
     surface_refinement : node packing toward the surface, 0 (uniform) to 0.9; the default 0.5 makes the
         surface spacing about 0.4 of the centre spacing (see ``fv_grid.AxisGrid.graded``)
     max_steps : most time steps (accepted and rejected) before the run gives up with an InvalidInputError
         on ``max_steps`` (None: no limit)
+    tolerance_K : time-integration tolerance [K]: adaptive steps are chosen by an estimate of each step's
+        local error (BDF2 against its predictor, :mod:`~procplan.conduction.fv_error`) so that the
+        time-integration error of the temperatures stays within about this; None (default) = steps by
+        ``max_step_change_K`` alone. The estimates are reported in the result. (The spatial error of the grid
+        is not included.)
 
     Returns
     -------
@@ -163,15 +179,17 @@ def solve_conduction(
     >>> bool(r.core_C[-1] < r.core_C[0]) and r.energy_balance_error < 5e-3
     True
     """
-    end, target, dt_s, dt_cap = _check_settings(
-        geometry, props, boundary, end_time_s, scheme, max_step_change_K, dt_s, max_dt_s
+    end, target, dt_s, dt_cap, tol = _check_settings(
+        geometry, props, boundary, end_time_s, scheme, max_step_change_K, dt_s, max_dt_s, tolerance_K
     )
     boundary.check_covers(end)
     H, grid = _initial_enthalpy(initial_C, props, geometry, n_nodes, surface_refinement)
     model = FVModel(grid, props, boundary)
     outs = _output_times(output_time_s, end)
     core0 = float(model.temperature(H[grid.core_index]))
-    target = _span_target(model, boundary, H, end, target)
+    target = _span_target(
+        model, boundary, H, end, target, SPAN_SHARE if tol is None else SPAN_SHARE_WITH_TOLERANCE
+    )
     stop, stop_direction = _stop_condition(stop_when_core_C, stop_direction, core0)
     landings = np.union1d(boundary.breakpoints_s, [end] if outs is None else np.r_[outs, end])
     control = StepControl(
@@ -186,6 +204,8 @@ def solve_conduction(
         stop=stop,
         stop_direction=stop_direction,
         max_steps=max_steps,
+        tolerance=tol,
+        flux_change=FLUX_CHANGE_PER_STEP if tol is None else FLUX_CHANGE_WITH_TOLERANCE,
     )
     recorder = HistoryRecorder(grid, model.temperature)
     stepper = TimeStepper(model, control, H, recorder)
@@ -198,14 +218,20 @@ def solve_conduction(
         dts=stepper.dts,
         energy_balance_error=stepper.energy_balance_error(),
         stopped_at_s=stepper.stopped_at,
-        method=_method_text(grid, scheme, dt_s, target, dt_cap),
+        method=_method_text(grid, scheme, dt_s, target, dt_cap, tol, stepper),
         n_factorisations=model.factors.n_factorisations,
         n_reused_factorisations=model.factors.n_reused,
+        error_estimates=(tol, stepper.err_max, stepper.err_core_sum)
+        if tol is not None and dt_s is None
+        else (None, None, None),
     )
 
 
-def _check_settings(geometry, props, boundary, end_time_s, scheme, max_step_change_K, dt_s, max_dt_s):
-    """Validated (end [s], step target [K], fixed step [s] or None, largest adaptive step [s])."""
+def _check_settings(
+    geometry, props, boundary, end_time_s, scheme, max_step_change_K, dt_s, max_dt_s, tolerance_K
+):
+    """Validated (end [s], step target [K], fixed step [s] or None, largest adaptive step [s], tolerance [K]
+    or None)."""
     if not isinstance(geometry, Geometry):
         raise InvalidInputError("geometry", type(geometry).__name__, "a procplan.geometry.Geometry")
     if not isinstance(props, PropertyTable):
@@ -214,7 +240,11 @@ def _check_settings(geometry, props, boundary, end_time_s, scheme, max_step_chan
         raise InvalidInputError("boundary", type(boundary).__name__, "a SurfaceBoundary")
     end = validate.positive("end_time_s", end_time_s, "s")
     validate.choice("scheme", scheme, SCHEMES)
-    target = validate.positive("max_step_change_K", max_step_change_K, "K")
+    tol = None if tolerance_K is None else validate.positive("tolerance_K", tolerance_K, "K")
+    if max_step_change_K is None:
+        target = STEP_CHANGE_K if tol is None else STEP_CHANGE_WITH_TOLERANCE_K
+    else:
+        target = validate.positive("max_step_change_K", max_step_change_K, "K")
     if dt_s is not None:
         dt_s = validate.number("dt_s", dt_s, minimum=0.0, min_inclusive=False, maximum=end, unit="s")
     dt_cap = (
@@ -222,7 +252,7 @@ def _check_settings(geometry, props, boundary, end_time_s, scheme, max_step_chan
         if max_dt_s is None
         else validate.number("max_dt_s", max_dt_s, minimum=0.0, min_inclusive=False, unit="s")
     )
-    return end, target, dt_s, dt_cap
+    return end, target, dt_s, dt_cap, tol
 
 
 def _output_times(output_time_s, end: float) -> np.ndarray | None:
@@ -238,15 +268,15 @@ def _output_times(output_time_s, end: float) -> np.ndarray | None:
 
 
 def _span_target(
-    model: FVModel, boundary: SurfaceBoundary, H: np.ndarray, end: float, target: float
+    model: FVModel, boundary: SurfaceBoundary, H: np.ndarray, end: float, target: float, share: float
 ) -> float:
-    """The step target [K], also capped at 2 % of the temperature span of the run, so that a small change is
-    followed as closely, relatively, as a large one."""
+    """The step target [K], also capped at ``share`` of the temperature span of the run, so that a small
+    change is followed as closely, relatively, as a large one."""
     tms = boundary.medium(np.r_[0.0, boundary.breakpoints_s[boundary.breakpoints_s < end], end])
     t_all = model.temperature(H)
     span = max(float(np.max(tms)), float(t_all.max())) - min(float(np.min(tms)), float(t_all.min()))
     if span > 1e-6:  # a smaller span is round-off (a product already at the medium temperature): no cap
-        target = min(target, 0.02 * span)
+        target = min(target, share * span)
     return target
 
 
@@ -263,13 +293,20 @@ def _stop_condition(stop_when_core_C, stop_direction, core0: float) -> tuple[flo
     return stop, stop_direction
 
 
-def _method_text(grid: FVGrid, scheme: str, dt_s: float | None, target: float, dt_cap: float) -> str:
+def _method_text(
+    grid: FVGrid, scheme: str, dt_s: float | None, target: float, dt_cap: float, tol, stepper: TimeStepper
+) -> str:
     """Description of the discretisation for the result's provenance."""
-    step_text = (
-        f"fixed dt {dt_s:g} s"
-        if dt_s is not None
-        else f"adaptive dt (target {target:g} K per step, at most {dt_cap:g} s)"
-    )
+    if dt_s is not None:
+        step_text = f"fixed dt {dt_s:g} s"
+    elif tol is not None:
+        step_text = (
+            f"error-controlled dt (time-integration tolerance {tol:g} K: estimated local error at most "
+            f"{ERROR_SHARE * tol:.3g} K per step, largest accepted {stepper.err_max:.2g} K, summed at the core "
+            f"{stepper.err_core_sum:.2g} K; at most {target:g} K change per step and {dt_cap:g} s)"
+        )
+    else:
+        step_text = f"adaptive dt (target {target:g} K per step, at most {dt_cap:g} s)"
     return (
         f"finite volume, {grid.describe()}; enthalpy unknown, harmonic-mean face conductivity; "
         f"{SCHEMES[scheme]}, {step_text}; Newton on H with dT/dH from the table (secant fallback)"

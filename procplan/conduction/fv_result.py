@@ -44,6 +44,11 @@ class ConductionResult:
     n_factorisations : sparse LU factorisations of the Newton matrix (2-D and 3-D; 0 in 1-D, whose
         tridiagonal systems are solved directly)
     n_reused_factorisations : Newton systems solved with a kept LU as GMRES preconditioner instead of a new one
+    time_tolerance_K : the time-integration tolerance the steps were chosen for [K], or None (steps by the
+        largest node change)
+    local_error_estimate_K : with a tolerance, the largest estimated local time-integration error of an
+        accepted step [K] (any cell), and core_error_sum_K the sum of the core's estimates over the run [K]
+        (a bound on its time-integration error if conduction damped nothing); None without a tolerance
     """
 
     time_s: np.ndarray
@@ -67,6 +72,9 @@ class ConductionResult:
     method: str
     n_factorisations: int = 0
     n_reused_factorisations: int = 0
+    time_tolerance_K: float | None = None
+    local_error_estimate_K: float | None = None
+    core_error_sum_K: float | None = None
 
     def to_frame(self) -> pd.DataFrame:
         """The history as a DataFrame with unit-suffixed columns."""
@@ -119,6 +127,7 @@ class HistoryRecorder:
         method: str,
         n_factorisations: int = 0,
         n_reused_factorisations: int = 0,
+        error_estimates: tuple[float | None, float | None, float | None] = (None, None, None),
     ) -> ConductionResult:
         """The ConductionResult of the recorded history with the final enthalpy field H [J/kg]."""
         grid = self.grid
@@ -149,4 +158,7 @@ class HistoryRecorder:
             method=method,
             n_factorisations=n_factorisations,
             n_reused_factorisations=n_reused_factorisations,
+            time_tolerance_K=error_estimates[0],
+            local_error_estimate_K=error_estimates[1],
+            core_error_sum_K=error_estimates[2],
         )

@@ -15,11 +15,19 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from procplan.conduction.fv_error import ERROR_SHARE, kink_cells, local_error_K, near_kink
 from procplan.conduction.fv_model import FVModel
 from procplan.conduction.fv_result import ConductionSolverError, HistoryRecorder
 from procplan.errors import InvalidInputError
 
-__all__ = ["FLUX_CHANGE_PER_STEP", "SCHEMES", "STOP_DIRECTIONS", "StepControl", "TimeStepper"]
+__all__ = [
+    "FLUX_CHANGE_PER_STEP",
+    "FLUX_CHANGE_WITH_TOLERANCE",
+    "SCHEMES",
+    "STOP_DIRECTIONS",
+    "StepControl",
+    "TimeStepper",
+]
 
 #: Time-integration schemes.
 SCHEMES: dict[str, str] = {
@@ -33,8 +41,11 @@ STOP_DIRECTIONS: dict[str, str] = {
     "rising": "core rises to the target",
 }
 
-#: Largest relative change of the surface heat flow per adaptive step (trapezoidal heat integration).
+#: Largest relative change of the surface heat flow per adaptive step (trapezoidal heat integration), without
+#: a tolerance and with one (then the error estimate follows the field; the energy balance of the 1-D freezing
+#: benchmark stays below 1e-3 with it).
 FLUX_CHANGE_PER_STEP = 0.1
+FLUX_CHANGE_WITH_TOLERANCE = 0.5
 
 
 @dataclass(frozen=True)
@@ -46,7 +57,8 @@ class StepControl:
     landings : times steps land on [s]; jumps : times of step changes of the surface condition [s];
     outs : output times [s] or None (every step); stop : core stop temperature [°C] or None;
     stop_direction : "falling" or "rising" (with ``stop``); max_steps : most time steps, accepted and
-    rejected, before the run is given up (None: no limit).
+    rejected, before the run is given up (None: no limit); tolerance : the time-integration error aimed at
+    [K] (None: steps by ``target`` alone, see :mod:`~procplan.conduction.fv_stepping`).
     """
 
     end: float
@@ -60,6 +72,8 @@ class StepControl:
     stop: float | None
     stop_direction: str | None
     max_steps: int | None = None
+    tolerance: float | None = None
+    flux_change: float = FLUX_CHANGE_PER_STEP
 
     @property
     def eps_t(self) -> float:
@@ -86,6 +100,12 @@ class TimeStepper:
             recorder.record(0.0, H, self.T_cur, self.q_now, 0.0)
         self.H_prev: np.ndarray | None = None
         self.dt_prev: float | None = None
+        self.H_prev2: np.ndarray | None = None  # the state before H_prev (error estimate of BDF2)
+        self.dt_prev2: float | None = None
+        self.last_a = 1.0  # the BDF coefficient of the last solved step (1: backward Euler)
+        self.err = self.err_order = None  # local error estimate [K] per cell of the last solved step, and
+        # the power of the step it scales with
+        self.err_max = self.err_core_sum = 0.0  # largest accepted local estimate; sum at the core [K]
         self.dt = self.start_dt(0.0, H)
         self.n_steps = self.n_rej = self.n_it = 0
         self.dts: list[float] = []
@@ -120,12 +140,12 @@ class TimeStepper:
         """Set the wanted next step after an accepted step (restart after a jump of the surface condition)."""
         c = self.c
         if c.jumps.size and np.any(np.abs(c.jumps - self.t) <= c.eps_t):
-            self.H_prev = self.dt_prev = None
+            self.H_prev = self.dt_prev = self.H_prev2 = self.dt_prev2 = None
             self.dt = self.start_dt(self.t, self.H)
         elif c.dt_s is None:
-            grow = min(
-                2.0, 0.9 * c.target / max(change, 1e-12), 0.9 * FLUX_CHANGE_PER_STEP / max(q_change, 1e-12)
-            )
+            grow = min(2.0, 0.9 * c.target / max(change, 1e-12), 0.9 * c.flux_change / max(q_change, 1e-12))
+            if self.err is not None:
+                grow = min(grow, self._error_factor())
             self.dt = step * max(0.5, grow)
         else:
             self.dt = min(c.dt_s, 2.0 * step)  # back to the user's step after sub-steps
@@ -144,6 +164,7 @@ class TimeStepper:
         """Solve a step of dtn [s] from the current state. Returns (H, iterations), H None on failure."""
         model, t, H = self.model, self.t, self.H
         a, hist, guess = self.coefficients(dtn)
+        self.last_a = a
         H1, it = model.solve_step(t + dtn, dtn, a, hist, H, guess)
         if H1 is None:  # the extrapolated guess may sit past a kink; retry from the old state
             H1, it2 = model.solve_step(t + dtn, dtn, a, hist, H, H)
@@ -159,7 +180,48 @@ class TimeStepper:
             if T1.min() < lo - slack or T1.max() > hi + slack:
                 H1, it2 = model.solve_step(t + dtn, dtn, 1.0, H, H, H)
                 it += it2
+                self.last_a = 1.0
         return H1, it
+
+    # -- the local error (procplan.conduction.fv_error) -------------------------------------
+    def doubled_first_step(self, dtn: float):
+        """A first step (no history) by step doubling: one backward-Euler step of dtn [s] and two of dtn/2.
+        Returns (the two half steps' H or None, iterations); sets the error estimate [K] (their difference)."""
+        model, t, H = self.model, self.t, self.H
+        H_full, it = model.solve_step(t + dtn, dtn, 1.0, H, H, H)
+        if H_full is None:
+            return None, it
+        H_mid, it2 = model.solve_step(t + 0.5 * dtn, 0.5 * dtn, 1.0, H, H, H)
+        it += it2
+        if H_mid is None:
+            return None, it
+        H1, it3 = model.solve_step(t + dtn, 0.5 * dtn, 1.0, H_mid, H_mid, H_mid)
+        if H1 is None:
+            return None, it + it3
+        err = np.abs(H1 - H_full) / model.cp_min
+        err[near_kink(model, kink_cells(model.kinks, H, H_mid, H1, H_full))] = 0.0
+        self.err, self.err_order, self.last_a = err, 2, 1.0
+        return H1, it + it3
+
+    def estimate_error(self, dtn: float, H1: np.ndarray) -> None:
+        """Set the local error estimate [K] per cell of the step of dtn [s] to H1 (None without history)."""
+        if self.H_prev is None:
+            self.err = None
+            return
+        bdf2 = self.last_a != 1.0 and self.H_prev2 is not None
+        history = [(self.H, dtn), (self.H_prev, self.dt_prev)]
+        if bdf2:
+            history.append((self.H_prev2, self.dt_prev2))
+        self.err = local_error_K(self.model, H1, history, bdf2)
+        self.err_order = 3 if bdf2 else 2
+
+    def _error_ratio(self) -> float:
+        """The largest local error estimate over what one step may take (≤ 1 accepts)."""
+        return float(self.err.max()) / (ERROR_SHARE * self.c.tolerance)
+
+    def _error_factor(self) -> float:
+        """The factor on the step that puts the local error estimate at what a step may take."""
+        return 0.9 * max(self._error_ratio(), 1e-12) ** (-1.0 / self.err_order)
 
     def _crosses_stop(self, core1: float) -> bool:
         c = self.c
@@ -201,7 +263,11 @@ class TimeStepper:
         # surface flux per step moderate, which matters on a phase-change plateau where temperatures barely move
         q_change = abs(q_new - self.q_now) / max(abs(q_new), abs(self.q_now), 1e-300)
         self.q_now = q_new
+        self.H_prev2, self.dt_prev2 = self.H_prev, self.dt_prev
         self.H_prev, self.H, self.dt_prev, self.T_cur = self.H, H1, step, T1
+        if self.err is not None:
+            self.err_max = max(self.err_max, float(self.err.max()))
+            self.err_core_sum += float(self.err[self.grid.core_index])
         self.t = self.t + step if self.stopped_at is None else self.stopped_at
         self.core_T = core1
         self.n_steps += 1
@@ -223,7 +289,8 @@ class TimeStepper:
                     f"stopped at t = {self.t:g} s of {c.end:g} s after {c.max_steps} time steps",
                 )
             step = self._next_step()
-            H1, it = self.attempt(step)
+            first = c.tolerance is not None and c.dt_s is None and self.H_prev is None
+            H1, it = self.doubled_first_step(step) if first else self.attempt(step)
             self.n_it += it
             if H1 is None:
                 self.n_rej += 1
@@ -239,6 +306,13 @@ class TimeStepper:
                 self.n_rej += 1
                 self.dt = step * max(0.2, 0.9 * c.target / change)
                 continue
+            if c.tolerance is not None and c.dt_s is None:
+                if not first:
+                    self.estimate_error(step, H1)
+                if self.err is not None and self._error_ratio() > 1.0 and step > 1e-7 * c.end:
+                    self.n_rej += 1
+                    self.dt = step * min(0.9, max(0.2, self._error_factor()))
+                    continue
             core1 = float(T1[self.grid.core_index])
             if self._crosses_stop(core1):
                 step, H1 = self._locate_stop(step, H1, core1)

@@ -117,9 +117,10 @@ def step_limit_error(label: str, exc: InvalidInputError) -> InvalidInputError:
     )
 
 
-def refined_time_settings(duration_s: float, dt_s: float | None) -> dict:
-    """The finite-volume time settings of the rerun, :data:`TIME_REFINEMENT` times finer, or an empty dict
-    when that rerun would take more than :data:`MAX_TIME_STEPS_PER_STEP` time steps (no rerun)."""
+def refined_time_settings(duration_s: float, dt_s: float | None, tolerance_K: float | None = None) -> dict:
+    """The finite-volume time settings of the rerun, :data:`TIME_REFINEMENT` times finer (a time-integration
+    tolerance too), or an empty dict when that rerun would take more than :data:`MAX_TIME_STEPS_PER_STEP` time
+    steps (no rerun)."""
     if dt_s is not None:
         fine = float(dt_s) / TIME_REFINEMENT
         if expected_time_steps(duration_s, fine) > MAX_TIME_STEPS_PER_STEP:
@@ -128,6 +129,7 @@ def refined_time_settings(duration_s: float, dt_s: float | None) -> dict:
     return {
         "max_step_change_K": ADAPTIVE_STEP_CHANGE_K / TIME_REFINEMENT,
         "max_dt_s": duration_s / 20.0 / TIME_REFINEMENT,
+        "tolerance_K": None if tolerance_K is None else tolerance_K / TIME_REFINEMENT,
     }
 
 

@@ -75,6 +75,7 @@ class StepSolverDetails:
     time_steps, rejected_steps : finite volumes: accepted and rejected time steps [-]
     dt_min_s, dt_max_s : finite volumes: smallest and largest accepted time step [s]
     method : finite volumes: the discretisation in words
+    time_tolerance_K, local_error_estimate_K : error-controlled steps: tolerance, largest local estimate [K]
     h_surface_C : surface temperature averaged over the step at which h was evaluated again [°C]
     h_change_on_second_pass : relative change of h at that temperature [-]; above
         :data:`H_SURFACE_TOLERANCE` the step ran again with the new h
@@ -92,6 +93,8 @@ class StepSolverDetails:
     dt_min_s: float | None = None
     dt_max_s: float | None = None
     method: str | None = None
+    time_tolerance_K: float | None = None
+    local_error_estimate_K: float | None = None
     h_surface_C: float | None = None
     h_change_on_second_pass: float | None = None
     regime: str | None = None
@@ -294,6 +297,8 @@ def _fv_step(geometry, props, initial, surface, step: Step, n_nodes, time_settin
         dt_min_s=res.dt_min_s,
         dt_max_s=res.dt_max_s,
         method=res.method,
+        time_tolerance_K=res.time_tolerance_K,
+        local_error_estimate_K=res.local_error_estimate_K,
     )
     return _StepRun(frame, res.stopped_at_s, balance, details, res, machine)
 
@@ -310,6 +315,7 @@ class _Context:
     dt_s: float | None
     refined: dict | None = None  # the finer time settings of an energy-balance rerun (None: as asked)
     load: Any = None  # the step's machine load (machine_load.StepLoad), None: the medium at its set point
+    time_tolerance_K: float | None = None  # the finite volume's time-integration tolerance (None: by change)
 
 
 @dataclass
@@ -328,7 +334,9 @@ def _solve(ctx: _Context, chosen: str, carried: _Carried, step: Step, surface: S
     geometry = ctx.plan.product.geometry
     if chosen == "exact":
         return _exact_step(geometry, ctx.props, carried.start_C, surface, step)
-    timing = ctx.refined if ctx.refined is not None else {"dt_s": ctx.dt_s}
+    timing = (
+        ctx.refined if ctx.refined is not None else {"dt_s": ctx.dt_s, "tolerance_K": ctx.time_tolerance_K}
+    )
     try:
         return _fv_step(geometry, ctx.props, carried.field, surface, step, ctx.n_nodes, timing, ctx.load)
     except InvalidInputError as exc:
@@ -378,7 +386,7 @@ def _check_balance(ctx: _Context, step: Step, chosen: str, carried: _Carried, su
     relied on (None when it can)."""
     if chosen == "exact" or run.energy_balance_error <= ENERGY_BALANCE_LIMIT:
         return run, None
-    finer = refined_time_settings(step.duration_s, ctx.dt_s)
+    finer = refined_time_settings(step.duration_s, ctx.dt_s, ctx.time_tolerance_K)
     if finer:
         again = _solve(replace(ctx, refined=finer), chosen, carried, step, surface)
         kept = {
@@ -555,6 +563,7 @@ def run_plan(
     dt_s: float | None = None,
     assess: bool = True,
     site=None,
+    time_tolerance_K: float | None = None,
 ) -> PlanResult:
     """Run every step of ``plan`` in order and return the PlanResult.
 
@@ -567,6 +576,8 @@ def run_plan(
     assess : compute outcomes (targets, rules, lethality, freezing, energy, margin)
     site : site settings whose tariff prices the energy when the plan gives no price (default: the library
         folder's ``site.toml``, if any)
+    time_tolerance_K : finite-volume steps by an estimate of the time-integration error, aiming at this [K]
+        (``solve_conduction(tolerance_K=...)``); None (default): by the largest node change per step
     """
     requested = solver or plan.solver
     validate.choice("solver", requested, SOLVERS)
@@ -582,7 +593,8 @@ def run_plan(
     props.check_in_range("start.temperature_C", plan.start_temperature_C)
     piece_mass_kg = props.mass_density_kg_m3 * plan.product.geometry.volume_m3
     check_work_budget(plan, requested, n_nodes, dt_s)
-    ctx = _Context(plan, library, props, requested, n_nodes, dt_s)
+    tol = None if time_tolerance_K is None else validate.positive("time_tolerance_K", time_tolerance_K, "K")
+    ctx = _Context(plan, library, props, requested, n_nodes, dt_s, time_tolerance_K=tol)
     history, steps, warnings, props = _run_steps(ctx)
     warnings.extend(_range_warnings(history, props))
     outcomes = (

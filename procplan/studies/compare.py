@@ -235,6 +235,7 @@ def compare_plans(
     n_nodes=None,
     dt_s: float | None = None,
     progress: Callable[[int, int, str], None] | None = None,
+    stop=None,
 ) -> Comparison:
     """Run each plan and tabulate the scenarios, ranked by ``criterion``.
 
@@ -246,12 +247,14 @@ def compare_plans(
     criterion : a key of CRITERIA: "time", "energy" or "margin"
     solver, n_nodes, dt_s : passed to run_plan
     progress : called as progress(done, total, name) after each run
+    stop : a ``threading.Event``; when set, the comparison ends between runs with ``StudyStopped``
 
     Returns
     -------
     Comparison; the table's columns are METRIC_COLUMNS and ``rank`` (1 = best)
     """
     from procplan.run.engine import run_plan
+    from procplan.studies.runner import check_stop
 
     validate.choice("criterion", criterion, CRITERIA)
     plans = list(plans)
@@ -270,6 +273,7 @@ def compare_plans(
     results: dict[str, Any] = {}
     rows = []
     for j, (name, plan) in enumerate(zip(names, plans, strict=True)):
+        check_stop(stop, j, len(plans))
         res = run_plan(plan, library=library, solver=solver, n_nodes=n_nodes, dt_s=dt_s)
         results[name] = res
         rows.append({"scenario": name, **result_metrics(res)})

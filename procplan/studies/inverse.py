@@ -38,6 +38,17 @@ from procplan.model import MAX_STEP_MIN, Plan
 from procplan.outcomes import plan_time_min
 from procplan.output.json_safe import json_safe
 from procplan.properties.table import MODEL_RANGE_C
+from procplan.studies.runner import check_stop
+
+#: Forward runs of the root search after the scan, for a time estimate before the study starts (Brent's method
+#: to 1e-5 of the range; measured 0–14 after the 5-point scan on the roulade and vial demo plans, medium and h).
+ESTIMATED_REFINEMENT_RUNS = 10
+
+
+def estimated_runs(n_scan: int = 5) -> int:
+    """Forward runs a :func:`required_setting` search is expected to take (scan, root search, confirmation)."""
+    return int(n_scan) + ESTIMATED_REFINEMENT_RUNS + 1
+
 
 #: Default range of a given surface coefficient [W/m²K]: still air to condensing steam (Incropera Table 1.1).
 H_RANGE_W_M2K = (2.0, 20000.0)
@@ -352,6 +363,7 @@ def required_setting(
     n_nodes=None,
     dt_s: float | None = None,
     progress: Callable[[int, float, float], None] | None = None,
+    stop=None,
 ) -> RequiredSetting:
     """The value of ``parameter`` at which ``plan`` just meets ``goal``, confirmed by a forward run.
 
@@ -369,6 +381,9 @@ def required_setting(
     xtol : absolute tolerance of the answer in the parameter's unit (default 1e-5 of the range)
     solver, n_nodes, dt_s : passed to :func:`procplan.run.engine.run_plan`
     progress : called as progress(evaluations, value, measure) after each forward run
+    stop : a ``threading.Event``; when set, the search ends before its next forward run with
+        :class:`procplan.studies.runner.StudyStopped` (about ``n_scan`` + :data:`ESTIMATED_REFINEMENT_RUNS`
+        + 1 runs in all: :func:`estimated_runs`)
 
     Returns
     -------
@@ -421,6 +436,7 @@ def required_setting(
     evals: list[tuple[float, float]] = []
 
     def measure(v: float) -> float:
+        check_stop(stop, len(evals), max(len(evals) + 1, n_scan + ESTIMATED_REFINEMENT_RUNS))
         p = evaluated(v)
         res = run_plan(p, library=library, solver=solver, n_nodes=n_nodes, dt_s=dt_s)
         m = float(gspec.measure(res, p, i, target_min))

@@ -132,12 +132,13 @@ def sweep_catalogue(
     products: Sequence[str] | None = None,
     equipment: Sequence[str] | None = None,
     kinds: Sequence[str] | None = None,
-    executor=None,
+    executor="auto",
     solver: str | None = None,
     n_nodes=None,
     dt_s: float | None = None,
     progress: Callable[[int, int], None] | None = None,
     pieces: int = 1,
+    stop=None,
 ) -> SweepResult:
     """Run every chosen product in every chosen suitable machine.
 
@@ -146,11 +147,13 @@ def sweep_catalogue(
     library : the library whose products and machines are swept
     products, equipment : names to include (default: all)
     kinds : machine kinds to include (default: every kind of KIND_TASKS)
-    executor : any concurrent.futures.Executor (or a Dask Client); default sequential in-process
+    executor : "auto" (default: a process pool on the machine's cores when it pays), None (in this process),
+        or any concurrent.futures.Executor (or a Dask Client); see :func:`procplan.studies.runner.run_jobs`
     solver, n_nodes, dt_s : passed to run_plan
     progress : progress(done, total)
     pieces : pieces per batch in every machine (a machine with a thermal description carries the batch, and
         the table's ``capacity_shortfall_kW`` says by how much its plant falls short)
+    stop : a ``threading.Event``; when set, the sweep ends between runs with ``StudyStopped``
 
     Returns
     -------
@@ -180,7 +183,7 @@ def sweep_catalogue(
             plans[(p, e)] = plan
             pairs.append((p, e))
             jobs.append(make_job((p, e), plan, library, solver=solver, n_nodes=n_nodes, dt_s=dt_s))
-    outs = run_jobs(jobs, executor=executor, progress=progress)
+    outs = run_jobs(jobs, executor=executor, progress=progress, stop=stop)
     rows = []
     for (p, e), out in zip(pairs, outs, strict=True):
         eq = library.equipment[e]

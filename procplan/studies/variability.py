@@ -258,12 +258,13 @@ def monte_carlo(
     library=None,
     step_index: int = 0,
     method: str = "auto",
-    executor=None,
+    executor="auto",
     corners: bool = True,
     solver: str | None = None,
     n_nodes=None,
     dt_s: float | None = None,
     progress: Callable[[int, int], None] | None = None,
+    stop=None,
 ) -> VariabilityResult:
     """Monte Carlo over the inputs of ``distributions`` (keys of :data:`VARIABLES`).
 
@@ -277,10 +278,13 @@ def monte_carlo(
     step_index : the step whose h the h variables change
     method : "auto" (the exact fast path when it applies), "exact" (fast path; refused when it does not
         apply) or "run" (run_plan per sample)
-    executor : any concurrent.futures.Executor for the "run" path (default: sequential in-process)
+    executor : for the "run" path: "auto" (default: a process pool on the machine's cores when it pays,
+        see :func:`procplan.studies.runner.run_jobs`), None (in this process) or any concurrent.futures.Executor
     corners : also run the worst-case corners (2^k runs for k variables)
     solver, n_nodes, dt_s : passed to run_plan
     progress : progress(done, total) for the "run" path
+    stop : a ``threading.Event`` (or see :func:`procplan.studies.runner.stop_requested`); when set, the "run"
+        path ends between runs with :class:`procplan.studies.runner.StudyStopped`
 
     Returns
     -------
@@ -313,7 +317,9 @@ def monte_carlo(
         _fast_run(plan, nominal, samples, ctx, library, frame)
     else:
         run_opts = {"solver": solver, "n_nodes": n_nodes, "dt_s": dt_s}
-        notes += _run_path(plan, samples, step_index, ctx, library, run_opts, executor, progress, frame)
+        notes += _run_path(
+            plan, samples, step_index, ctx, library, run_opts, (executor, progress, stop), frame
+        )
     worst = worst_res = corner_frame = None
     if corners:
         worst, worst_res, corner_frame = _corners(
@@ -377,7 +383,7 @@ def _choose_path(plan: Plan, nominal, names, step_index, ctx, method: str, solve
     return fast, notes
 
 
-def _run_path(plan, samples, step_index, ctx, library, run_opts, executor, progress, frame) -> list[str]:
+def _run_path(plan, samples, step_index, ctx, library, run_opts, running, frame) -> list[str]:
     """run_plan for every sample; fills the frame's metrics and returns notes."""
     from procplan.studies.runner import make_job, run_jobs
 
@@ -388,7 +394,8 @@ def _run_path(plan, samples, step_index, ctx, library, run_opts, executor, progr
         for k in names:
             p = VARIABLES[k][1](p, float(samples[k][j]), step_index, ctx)
         jobs.append(make_job(j, p, library, **run_opts))
-    outs = run_jobs(jobs, executor=executor, progress=progress)
+    executor, progress, stop = running
+    outs = run_jobs(jobs, executor=executor, progress=progress, stop=stop)
     errors = [o["error"] for o in outs if o["error"]]
     rows = [o["metrics"] or {} for o in outs]
     frame["time_to_target_min"] = [r.get("time_to_target_min", math.nan) for r in rows]

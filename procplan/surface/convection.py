@@ -18,8 +18,6 @@ import math
 from collections.abc import Callable
 from dataclasses import replace
 
-from CoolProp.CoolProp import HAPropsSI
-
 from procplan import validate
 from procplan.errors import InvalidInputError
 from procplan.geometry import Geometry
@@ -36,6 +34,7 @@ from procplan.surface.media import (
     GRAVITY_M_S2,
     WATER_RANGE_C,
     FluidProperties,
+    HAPropsSI,
     air_properties,
     brine_freezing_C,
     medium_properties,

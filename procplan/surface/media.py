@@ -23,10 +23,24 @@ import math
 from dataclasses import dataclass
 from functools import lru_cache
 
-from CoolProp.CoolProp import HAPropsSI, PropsSI
-
 from procplan import validate
 from procplan.errors import InvalidInputError
+
+
+def PropsSI(*args):  # noqa: N802 - CoolProp's name
+    """CoolProp's ``PropsSI``, loaded on first use (its import takes a second or more; ``procplan --help`` and
+    the library commands do not need it)."""
+    from CoolProp.CoolProp import PropsSI as props
+
+    return props(*args)
+
+
+def HAPropsSI(*args):  # noqa: N802 - CoolProp's name
+    """CoolProp's ``HAPropsSI``, loaded on first use."""
+    from CoolProp.CoolProp import HAPropsSI as props
+
+    return props(*args)
+
 
 ZERO_CELSIUS_K = 273.15
 #: Molar mass of water [kg/mol] and the molar gas constant [J/molK] (CODATA 2018).

@@ -7,6 +7,7 @@ import math
 import pandas as pd
 import streamlit as st
 
+from procplan.errors import InvalidInputError
 from procplan.output.report import format_f
 from procplan.ui import adapter, charts, state, widgets
 from procplan.ui.fmt import Units, round_to
@@ -306,7 +307,12 @@ def variability(text: str, u: Units) -> None:
     req = st.session_state.get("mc_request")
     if not req or req[0] != text:
         return
-    out = adapter.variability(*req, generation=state.generation())
+    if method == "exact":
+        out = adapter.variability(*req, generation=state.generation())
+    else:
+        out = _variability_with_progress(req, plan, mod)
+        if out is None:
+            return
     if not out.ok:
         widgets.problems(out.problems, "The study refused these inputs:")
         return
@@ -341,6 +347,61 @@ def variability(text: str, u: Units) -> None:
             )
     for note in r.notes:
         st.caption(note)
+
+
+def _variability_with_progress(req, plan, mod):
+    """The study of ``req`` with its time estimate, a progress bar and a stop button (None when stopped); the
+    result is kept for this session, so other widgets do not run it again."""
+    kept = st.session_state.get("mc_result")
+    if kept is not None and kept[0] == req:
+        return kept[1]
+    runner = adapter.studies_module("runner")
+    lib = adapter.library(state.generation())
+    dists = {}
+    try:
+        for name, spec in req[1]:
+            dists[name] = mod.parse_distribution(spec)
+        per_run = runner.time_one_run(plan, lib)
+    except InvalidInputError as exc:
+        return adapter.Outcome(problems=adapter.problems_of(exc))
+    n = req[2]
+    workers = runner.default_workers()
+    st.caption(
+        f"Estimated time: up to {_seconds_text(runner.estimate_study_s(per_run, n, workers))} "
+        f"(one run of this plan takes {per_run:.2g} s; {n} samples, {workers} cores; much less when the "
+        f"exact series applies)"
+    )
+    if st.button("Stop the study", key="mc_stop"):
+        st.session_state.pop("mc_request", None)
+        st.info("The study was stopped. Change the inputs or run it again.")
+        return None
+    bar = st.progress(0.0, text="Starting…")
+
+    def progress(done: int, total: int) -> None:
+        bar.progress(done / total, text=f"{done} of {total} samples")
+
+    try:
+        result = mod.monte_carlo(
+            plan,
+            dists,
+            n_samples=n,
+            seed=req[3],
+            library=lib,
+            step_index=req[4],
+            method=req[5],
+            corners=False,
+            progress=progress,
+        )
+        out = adapter.Outcome(result)
+    except InvalidInputError as exc:
+        out = adapter.Outcome(problems=adapter.problems_of(exc))
+    bar.empty()
+    st.session_state["mc_result"] = (req, out)
+    return out
+
+
+def _seconds_text(seconds: float) -> str:
+    return f"{seconds:.0f} s" if seconds < 120 else f"{seconds / 60:.0f} min"
 
 
 def logger(text: str, u: Units) -> None:
