@@ -40,7 +40,7 @@ from scipy.optimize import least_squares
 
 from procplan import validate
 from procplan.errors import InvalidInputError
-from procplan.model import Plan
+from procplan.model import Load, Plan
 from procplan.output.json_safe import json_safe
 from procplan.studies.logger import LoggerData
 
@@ -202,6 +202,13 @@ def _measured_curve(log: LoggerData, channel: str | None, time_offset_s: float, 
     return channel, t_all, temp_all, t, temp
 
 
+_SET_POINT_NOTE = (
+    "fitted with the machine's medium held at its set point: where the logged batch warmed or cooled the "
+    "medium, that drift is taken into the fitted h (lower for a chiller or heater that could not hold), "
+    "which errs toward longer predicted times"
+)
+
+
 def _general_model(plan_s: Plan, sr, library, solver, n_nodes):
     """The engine at the core with the step's effective h replaced by a trial value.
 
@@ -240,7 +247,9 @@ def _nominal(plan: Plan, start_C: float, library, solver, n_nodes):
 
     from procplan.run.engine import run_plan
 
-    plan_s = replace(plan, start_temperature_C=start_C)
+    # The h is fitted with the medium at its set point (an empty machine): the fitted h is a property of the
+    # surface, and a run that loads the machine then adds the medium's drift once, from the plant model.
+    plan_s = replace(plan, start_temperature_C=start_C, load=Load(model="set-point"))
     if library is None and (plan.steps[0].equipment or plan.checks.cooling_rule):
         from procplan.files.library import load_library
 
@@ -360,6 +369,8 @@ def calibrate(
     else:
         model, length, notes = _general_model(plan_s, sr, library, solver, n_nodes)
         method = "run_plan (core) with the step's effective h replaced"
+    if plan.load.model == "loaded" and plan.steps[0].equipment is not None:
+        notes = [*notes, _SET_POINT_NOTE]
     f = _fit(model, t, temp, list(fit), h0, length, exact, f"log.{channel}")
     return _result(
         f,

@@ -16,7 +16,7 @@ from procplan.errors import InvalidInputError
 from procplan.files.library import DEMO_LIBRARY, load_library, save_measurement, save_product
 from procplan.files.plan import save_plan
 from procplan.geometry import Geometry
-from procplan.model import FixedProperties, Plan, Product, Step
+from procplan.model import FixedProperties, Load, Plan, Product, Step
 from procplan.run.engine import run_plan
 from procplan.studies.calibrate import calibrate, fitted_h_record
 from procplan.studies.logger import clean_logger, read_logger
@@ -33,8 +33,10 @@ def lib_root(tmp_path):
 
 
 def _first_step(lib, name):
+    # The calibration fits h with the machine's medium at its set point, so the plan's own curve is the
+    # empty-machine run (the loaded soup bath drifts below its set point; see test_loaded_plan_is_fitted_...).
     plan = lib.plan(name)
-    return replace(plan, steps=plan.steps[:1])
+    return replace(plan, steps=plan.steps[:1], load=Load(model="set-point"))
 
 
 def _own_curve_text(result) -> str:
@@ -150,3 +152,14 @@ def test_curve_insensitive_to_h_raises_invalid_input():
     with pytest.raises(InvalidInputError) as exc:
         calibrate(cylinder_plan(), clean_logger(read_logger("time_s,core\n" + body)), start_C=70.0)
     assert exc.value.field == "log.core"
+
+
+def test_loaded_plan_is_fitted_at_the_set_point_and_says_so(lib_root):
+    # A loaded bath that cannot hold its set point: the fit runs the empty machine and notes the drift it absorbs
+    lib = load_library(lib_root)
+    plan = _first_step(lib, "soup-pouch-pasteurise")
+    loaded = replace(plan, load=Load(model="loaded"))
+    before = run_plan(plan, library=lib)
+    cal = calibrate(loaded, clean_logger(read_logger(_own_curve_text(before))), library=lib)
+    assert cal.h_W_m2K == pytest.approx(cal.plan_h_W_m2K, rel=0.01)
+    assert any("set point" in n for n in cal.notes)
