@@ -103,6 +103,11 @@ class GABIsotherm:
         0.5
         """
         x = validate.array("moisture_kg_kg", moisture_kg_kg, minimum=0.0, maximum=100.0, unit="kg/kg")
+        aw = self._water_activity(x)
+        return aw if np.ndim(moisture_kg_kg) else float(aw)
+
+    def _water_activity(self, x: np.ndarray) -> np.ndarray:
+        """:meth:`water_activity` on a checked array (the solver's inner loop)."""
         xm, c, k = self.x_m_kg_kg, self.c, self.k
         b = xm * c - x * (c - 2.0)
         disc = np.maximum(b * b + 4.0 * x * x * (c - 1.0), 0.0)
@@ -112,8 +117,7 @@ class GABIsotherm:
         aw = np.where(
             (y > 0) & (y <= k) & (x < self.saturated_moisture_kg_kg), y / k, np.where(x > 0, 1.0, 0.0)
         )
-        aw = np.clip(aw, 0.0, 1.0)
-        return aw if np.ndim(moisture_kg_kg) else float(aw)
+        return np.clip(aw, 0.0, 1.0)
 
 
 #: Published GAB parameter sets (values from memory, see the module note; ``confirmed = False``).
@@ -189,3 +193,62 @@ def check_isotherm_name(field: str, name: str) -> str:
     if name not in ISOTHERMS:
         raise InvalidInputError(field, name, f"one of {', '.join(sorted(ISOTHERMS))}")
     return name
+
+
+@dataclass(frozen=True)
+class MoistureDiffusivity:
+    """Effective moisture diffusivity of a food, Arrhenius in temperature: D = D_ref exp(−E_a/R (1/T − 1/T_ref)).
+
+    Attributes
+    ----------
+    name : registry key (the food)
+    D_ref_m2_s : D at ``reference_C`` [m²/s]
+    activation_J_mol : activation energy E_a [J/mol]
+    reference_C : reference temperature [°C]
+    measured_C : temperatures of the source's measurements (lowest, highest) [°C]
+    source : the publication
+    confirmed : False: values from memory, indicative
+    """
+
+    name: str
+    D_ref_m2_s: float
+    activation_J_mol: float
+    reference_C: float
+    measured_C: tuple[float, float]
+    source: str
+    confirmed: bool = False
+
+
+#: Published effective moisture diffusivities (values from memory, ``confirmed = False``).
+MOISTURE_DIFFUSIVITIES: dict[str, MoistureDiffusivity] = {
+    d.name: d
+    for d in (
+        MoistureDiffusivity(
+            "beef",
+            1.5e-10,
+            30e3,
+            30.0,
+            (10.0, 80.0),
+            "Trujillo, F.J., Wiangkaew, C., Pham, Q.T. (2007). Drying modeling and water diffusivity in beef meat. "
+            "J. Food Eng. 78, 74–85 (lean beef, Arrhenius)",
+        ),
+        MoistureDiffusivity(
+            "potato",
+            1.0e-9,
+            25e3,
+            60.0,
+            (40.0, 90.0),
+            "Saravacos, G.D., Maroulis, Z.B. (2001). Transport Properties of Foods, Marcel Dekker, ch. 8 (potato, "
+            "air drying)",
+        ),
+        MoistureDiffusivity(
+            "apple",
+            1.0e-9,
+            25e3,
+            60.0,
+            (40.0, 80.0),
+            "Saravacos, G.D., Maroulis, Z.B. (2001). Transport Properties of Foods, Marcel Dekker, ch. 8 (apple, "
+            "air drying)",
+        ),
+    )
+}

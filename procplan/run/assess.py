@@ -187,6 +187,8 @@ class Outcomes:
     refrigeration: tuple[StepEnergy, ...]
     energy_balance: float = 0.0
     weight_loss_percent: tuple[tuple[str, float], ...] = ()
+    #: mass at the end over the mass at the start [%], from the weight losses (None without any)
+    yield_percent: float | None = None
     warnings: tuple[str, ...] = ()
     price: EnergyPrice | None = None
     cost_per_batch: float | None = None
@@ -440,6 +442,9 @@ def _weight_loss(run: _Run) -> tuple[tuple[str, float], ...]:
     area = run.plan.product.geometry.area_m2
     out = []
     for sr in run.steps:
+        if sr.drying is not None:  # hot dry air: the coupled moisture solution's loss
+            out.append((sr.name, sr.drying.weight_loss_percent))
+            continue
         ev = sr.surface.evaporation
         if ev is None:
             continue
@@ -449,6 +454,13 @@ def _weight_loss(run: _Run) -> tuple[tuple[str, float], ...]:
         )
         out.append((sr.name, pct))
     return tuple(out)
+
+
+def _yield_percent(losses: tuple[tuple[str, float], ...]) -> float | None:
+    """Mass at the end over the mass at the start [%]: each step's loss is a share of the mass it started with."""
+    if not losses:
+        return None
+    return 100.0 * float(np.prod([1.0 - pct / 100.0 for _, pct in losses]))
 
 
 def assess_plan(
@@ -486,9 +498,11 @@ def assess_plan(
     )
     price = _price(run, site, library, warnings)
     refrigeration = tuple(_step_energy(run, sr, price) for sr in run.steps)
+    losses = _weight_loss(run)
     costs = [se.refrigeration.cost for se in refrigeration if se.refrigeration is not None]
     return Outcomes(
-        weight_loss_percent=_weight_loss(run),
+        weight_loss_percent=losses,
+        yield_percent=_yield_percent(losses),
         targets=targets,
         rule_check=rule_check,
         rule_applied_from_s=rule_from,

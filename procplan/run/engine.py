@@ -114,6 +114,8 @@ class StepResult:
     warnings: tuple[str, ...] = ()
     #: why the step cannot be relied on (its energy balance), None when it can
     unreliable_reason: str | None = None
+    #: moisture of an unwrapped product drying in hot dry air (run.dry_oven.DryingSummary), None otherwise
+    drying: Any = None
 
     @property
     def duration_s(self) -> float:
@@ -190,6 +192,7 @@ class _StepRun:
     energy_balance_error: float
     details: StepSolverDetails
     fv: Any  # the finite-volume result (its final field carries on), None for the exact solver
+    drying: Any = None  # run.dry_oven.DryingSummary of a step in hot dry air
 
 
 def _exact_stop(run, times: np.ndarray, hist, step: Step):
@@ -267,6 +270,11 @@ def _fv_step(geometry, props, initial, surface: StepSurface, step: Step, n_nodes
         max_steps=MAX_TIME_STEPS_PER_STEP,
         **time_settings,
     )
+    return _fv_run(res)
+
+
+def _fv_run(res, drying=None) -> _StepRun:
+    """The step run of a finite-volume result."""
     frame = pd.DataFrame(
         {
             "time_s": res.time_s,
@@ -284,7 +292,31 @@ def _fv_step(geometry, props, initial, surface: StepSurface, step: Step, n_nodes
         dt_max_s=res.dt_max_s,
         method=res.method,
     )
-    return _StepRun(frame, res.stopped_at_s, res.energy_balance_error, details, res)
+    return _StepRun(frame, res.stopped_at_s, res.energy_balance_error, details, res, drying)
+
+
+def _dry_oven_step(ctx, carried, surface: StepSurface, step: Step, time_settings) -> _StepRun | None:
+    """Heat and moisture together for an unwrapped product in hot dry air (None when the product has no
+    published moisture properties: the plain heat step runs, and the surface says so)."""
+    from procplan.run.dry_oven import DryOvenModel, solve_dry_oven, summarise
+
+    product = ctx.plan.product
+    model = DryOvenModel.for_product(product, ctx.props, surface.drying_air)
+    if model is None:
+        return None
+    res = solve_dry_oven(
+        product.geometry,
+        ctx.props,
+        carried.field,
+        surface.boundary(),
+        model,
+        step.duration_s,
+        n_nodes=ctx.n_nodes,
+        stop_when_core_C=step.stop_when_core_C,
+        max_steps=MAX_TIME_STEPS_PER_STEP,
+        **time_settings,
+    )
+    return _fv_run(res.heat, summarise(res, model, ctx.props.mass_density_kg_m3 * product.geometry.volume_m3))
 
 
 @dataclass(frozen=True)
@@ -317,6 +349,10 @@ def _solve(ctx: _Context, chosen: str, carried: _Carried, step: Step, surface: S
         return _exact_step(geometry, ctx.props, carried.start_C, surface, step)
     time_settings = ctx.refined if ctx.refined is not None else {"dt_s": ctx.dt_s}
     try:
+        if surface.drying_air is not None:
+            run = _dry_oven_step(ctx, carried, surface, step, time_settings)
+            if run is not None:
+                return run
         return _fv_step(geometry, ctx.props, carried.field, surface, step, ctx.n_nodes, time_settings)
     except InvalidInputError as exc:
         if exc.field == "max_steps":
@@ -449,17 +485,18 @@ def _run_step(
         details=details,
         warnings=_step_warnings(step, surface, run, unreliable),
         unreliable_reason=unreliable,
+        drying=run.drying,
     )
     return frame, result, run
 
 
-def _range_warnings(history: pd.DataFrame, props: PropertyTable) -> list[str]:
+def _range_warnings(history: pd.DataFrame, props: PropertyTable, dried: bool = False) -> list[str]:
     """Warnings on temperatures the model carries only roughly: boiling, and outside the property model."""
     out = []
     lo, hi = float(props.temperature_C[0]), float(props.temperature_C[-1])
     t_min = float(history[["core_C", "surface_C"]].min().min())
     t_max = float(history[["core_C", "surface_C"]].max().max())
-    if t_max > 100.5:
+    if t_max > 100.5 and not dried:
         out.append(
             f"product temperatures reach {t_max:.0f} °C: above 100 °C the water in an unsealed product boils and the "
             "surface dries, which a conduction model does not carry; treat temperatures above 100 °C as indicative only"
@@ -530,7 +567,7 @@ def run_plan(
     check_work_budget(plan, requested, n_nodes, dt_s)
     ctx = _Context(plan, library, props, requested, n_nodes, dt_s)
     history, steps, warnings = _run_steps(ctx)
-    warnings.extend(_range_warnings(history, props))
+    warnings.extend(_range_warnings(history, props, dried=any(s.drying is not None for s in steps)))
     outcomes = (
         assess_plan(plan, history, tuple(steps), props, piece_mass_kg, library, site) if assess else None
     )

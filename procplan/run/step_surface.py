@@ -169,6 +169,8 @@ class StepSurface:
     warnings: tuple[str, ...] = ()
     evaporation: Any = None  # callable q(t, T_s) [W/m²] and mass-flux function, for unwrapped products in air
     fluid_C: tuple[float, ...] = ()
+    #: hot dry air (surface.oven_air.DryingAir) an unwrapped product dries in: heat and moisture coupled
+    drying_air: Any = None
 
     @property
     def radiates_to_other_walls(self) -> bool:
@@ -182,7 +184,12 @@ class StepSurface:
 
     @property
     def constant(self) -> bool:
-        return len(set(self.medium_C)) == 1 and len(set(self.h_W_m2K)) == 1 and self.evaporation is None
+        return (
+            len(set(self.medium_C)) == 1
+            and len(set(self.h_W_m2K)) == 1
+            and self.evaporation is None
+            and self.drying_air is None
+        )
 
     def boundary(self) -> SurfaceBoundary:
         q = self.evaporation.heat_flux_W_m2 if self.evaporation is not None else None
@@ -338,8 +345,17 @@ def _equipment(
                 f"surroundings_C of {step.surroundings_C:g} °C is not applied on top of the measured h, "
                 "which already carries the radiation of the trial"
             )
-    evaporation = None
-    if product.unwrapped and eq.medium == "air" and "relative_humidity" in eq.settings:
+    evaporation = drying = None
+    if product.unwrapped and eq.medium == "air" and "dew_point_C" in rows[0][1]:
+        from procplan.surface.oven_air import DryingAir
+
+        s0 = rows[0][1]
+        drying = DryingAir(
+            float(s0[eq.temperature_key]),
+            min(float(s0["dew_point_C"]), float(s0[eq.temperature_key])),
+            first.h_conv_W_m2K,
+        )
+    elif product.unwrapped and eq.medium == "air" and "relative_humidity" in eq.settings:
         from procplan.surface.moisture import SurfaceEvaporation
 
         evaporation = SurfaceEvaporation.for_step(eq, rows[0][1], first.h_conv_W_m2K, product)
@@ -356,7 +372,7 @@ def _equipment(
     breakdown = replace(
         _breakdown(first, source, machine=MachineUsed.of(eq, rows[0][1]), measured=tuple(measured_used)),
         h_eff_W_m2K=h_eff,
-        evaporation=None if evaporation is None else evaporation.describe(),
+        evaporation=drying.describe() if drying is not None else None if evaporation is None else evaporation.describe(),
     )
     if temps[0] == fluids[0]:  # a measured h at the first point: no sink to report
         breakdown = replace(breakdown, fluid_C=None, surroundings_C=None, sink_C=None)
@@ -369,6 +385,7 @@ def _equipment(
         tuple(warnings),
         evaporation,
         tuple(fluids),
+        drying,
     )
 
 

@@ -32,7 +32,7 @@ Incropera, DeWitt, Bergman, Lavine, Fundamentals of Heat and Mass Transfer, 7th 
 from __future__ import annotations
 
 from dataclasses import dataclass
-from functools import lru_cache
+from functools import cached_property, lru_cache
 
 import numpy as np
 from scipy.optimize import brentq
@@ -66,6 +66,11 @@ def _psat_hfg(surface_C):
     grid, lnp, hfg = _tables()
     t = np.clip(np.asarray(surface_C, dtype=float), grid[0], grid[-1])
     return np.exp(np.interp(t, grid, lnp)), np.interp(t, grid, hfg)
+
+
+def latent_heat(surface_C):
+    """h_fg [J/kg] at surface temperatures (vectorised; the tabulated values of :func:`media.latent_heat_J_kg`)."""
+    return _psat_hfg(surface_C)[1]
 
 
 def humidity_ratio(dew_point_C: float, pressure_Pa: float = 101325.0) -> float:
@@ -113,12 +118,12 @@ class DryingAir:
             "h_conv_W_m2K", self.h_conv_W_m2K, minimum=0.0, min_inclusive=False, maximum=1e4, unit="W/m²K"
         )
 
-    @property
+    @cached_property
     def humidity_ratio(self) -> float:
         """W of the air [kg water / kg dry air]."""
         return humidity_ratio(self.dew_point_C, self.pressure_Pa)
 
-    @property
+    @cached_property
     def humid_cp_J_kgK(self) -> float:
         """c_p,a + W c_p,v [J/(kg dry air · K)], dry air at the air temperature."""
         return air_properties(self.air_C).cp_J_kgK + self.humidity_ratio * CP_VAPOUR_J_KGK
