@@ -15,7 +15,14 @@ from procplan.model import Brine, Plan, Product, Step
 from procplan.properties.salting import equilibrium_fraction, salted_freezing_point_C
 from procplan.run.engine import run_plan
 
-PORK = (("water", 0.73), ("protein", 0.22), ("fat", 0.04), ("carbohydrate", 0.0), ("fiber", 0.0), ("ash", 0.01))
+PORK = (
+    ("water", 0.73),
+    ("protein", 0.22),
+    ("fat", 0.04),
+    ("carbohydrate", 0.0),
+    ("fiber", 0.0),
+    ("ash", 0.01),
+)
 SLAB = Geometry("slab", thickness_m=0.02, length_m=0.15, width_m=0.09)
 
 
