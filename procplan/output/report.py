@@ -9,6 +9,7 @@ from procplan.caution import CAUTION
 from procplan.outcomes import DEFAULT_MAX_LOG_REDUCTION, INDICATIVE
 from procplan.outcomes.energy import PEAK_DUTY_LABEL
 from procplan.outcomes.rules import limit_text
+from procplan.output.brine_report import brine_dict, brine_lines
 from procplan.output.json_safe import json_safe
 
 
@@ -60,6 +61,8 @@ def summary_dict(result) -> dict[str, Any]:
                 "unreliable_reason": getattr(sr, "unreliable_reason", None),
             }
         )
+        if getattr(sr, "mass", None) is not None:
+            out["steps"][-1]["brine"] = brine_dict(sr.mass)
     if result.outcomes is not None:
         out["outcomes"] = _plain(result.outcomes)
     return out
@@ -173,6 +176,8 @@ def _step_lines(result, site=None) -> list[str]:
             lines.append(
                 f"    end: core {_temp(site, e.core_C, 1)}, surface {_temp(site, e.surface_C, 1)}, mean {_temp(site, e.mean_C, 1)}; energy-balance error {sr.energy_balance_error:.2%}"
             )
+        if getattr(sr, "mass", None) is not None:
+            lines += brine_lines(sr.mass)
     return lines
 
 

@@ -150,3 +150,19 @@ def test_a_plan_without_brine_has_no_salt_columns():
     r = run_plan(plan)
     assert "core_salt_percent" not in r.history and r.steps[0].mass is None
     assert math.isfinite(r.history["core_C"].iloc[-1])
+
+
+def test_report_text_and_json_carry_the_brine_section():
+    from procplan.output.report import summary_dict, summary_text
+
+    brine = Brine(brine_fraction=0.1, D_m2_s=1.9e-10, stop_when_core_fraction=0.01, target_mean_fraction=0.5)
+    r = run_plan(_plan(brine))
+    section = summary_dict(r)["steps"][0]["brine"]
+    m = r.steps[0].mass
+    assert section["end"]["core_percent"] == pytest.approx(100 * m.core_fraction[-1], abs=1e-4)
+    assert section["stopped_on"] == "centre" and section["target_mean_reached_min"] is None
+    assert len(section["profile"]["percent"]) == len(section["profile"]["position_from_centre_mm"])
+    text = summary_text(r)
+    assert (
+        "stopped when the core reached its salt target" in text and "mean target 50.00 % NOT reached" in text
+    )
