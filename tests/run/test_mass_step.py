@@ -166,3 +166,16 @@ def test_report_text_and_json_carry_the_brine_section():
     assert (
         "stopped when the core reached its salt target" in text and "mean target 50.00 % NOT reached" in text
     )
+
+
+def test_sheet_salt_checkpoints_read_the_run():
+    from procplan.output.sheet_data import salt_checkpoints
+
+    brine = Brine(brine_fraction=0.1, D_m2_s=1.9e-10, stop_when_core_fraction=0.01)
+    r = run_plan(_plan(brine, Step("hold", 600.0, medium_C=5.0, h_W_m2K=10.0)))
+    cps = salt_checkpoints(r)
+    m = r.steps[0].mass
+    assert len(cps) == 2 and cps[1].time_min == pytest.approx(m.stopped_at_s / 60.0)
+    assert cps[1].core_percent == pytest.approx(1.0, abs=1e-3)
+    assert cps[0].mean_percent < cps[1].mean_percent
+    assert "target ends the step" in cps[1].basis
