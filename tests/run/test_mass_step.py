@@ -179,3 +179,19 @@ def test_sheet_salt_checkpoints_read_the_run():
     assert cps[1].core_percent == pytest.approx(1.0, abs=1e-3)
     assert cps[0].mean_percent < cps[1].mean_percent
     assert "target ends the step" in cps[1].basis
+
+
+def test_required_brining_time_is_the_series_time_for_constant_coefficients():
+    from procplan.studies.brining import required_brining_time_s
+
+    brine = Brine(brine_fraction=0.1, D_m2_s=1.9e-10, k_m_m_s=2e-6)
+    plan = _plan(brine)
+    t = required_brining_time_s(plan, 0, core_percent=1.2)
+    c_eq = equilibrium_fraction(0.1, 0.73)
+    assert t == pytest.approx(
+        diffusion.time_to_centre_concentration(SLAB, 1.9e-10, 0.0, c_eq, 0.012, k_m_m_s=2e-6), rel=1e-2
+    )
+    with pytest.raises(InvalidInputError, match="core_percent"):
+        required_brining_time_s(
+            replace(plan, steps=(replace(plan.steps[0], duration_s=600.0),)), 0, core_percent=1.2
+        )
