@@ -95,6 +95,36 @@ class Target:
 
 
 @dataclass(frozen=True)
+class Brine:
+    """Salt or sugar taken up during a step (brining, curing, infusion): the surface condition, the diffusivity,
+    and the targets. Concentrations are solute mass fractions of the product [kg/kg] (the file's percent / 100).
+
+    ``brine_fraction`` is the brine's (or syrup's) solute mass fraction; ``dry_cure`` holds the surface at a
+    saturated solution instead. The diffusivity is a registry key of procplan.properties.diffusivity, or a given
+    ``D_m2_s`` at ``reference_C`` with an optional activation energy. ``k_m_m_s`` None takes the surface
+    coefficient from the step's flow (heat–mass analogy) for a salt brine, else a constant surface value.
+    ``equalise`` runs the step with no exchange at the surface (salt redistributes inside).
+    """
+
+    solute: str = "salt"
+    brine_fraction: float | None = None
+    dry_cure: bool = False
+    equalise: bool = False
+    diffusivity: str | None = None
+    D_m2_s: float | None = None
+    reference_C: float | None = None
+    activation_J_mol: float | None = None
+    k_m_m_s: float | None = None
+    partition: float = 1.0
+    initial_fraction: float | None = None  # the product's solute before the first such step (default 0)
+    water_fraction: float | None = None  # the unsalted product's water fraction (default: its composition)
+    stop_when_core_fraction: float | None = None
+    stop_when_mean_fraction: float | None = None
+    target_core_fraction: float | None = None
+    target_mean_fraction: float | None = None
+
+
+@dataclass(frozen=True)
 class Step:
     """One process step. The surface is either a given h with a medium temperature (constant or a
     time profile), or a machine from the equipment library with its settings (constant, or a profile)."""
@@ -112,6 +142,7 @@ class Step:
     surroundings_C: float | None = None
     targets: tuple[Target, ...] = ()
     duration_given: bool = True
+    brine: Brine | None = None
 
     @property
     def settings_dict(self) -> dict[str, Any]:

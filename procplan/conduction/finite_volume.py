@@ -245,7 +245,7 @@ def _span_target(
     tms = boundary.medium(np.r_[0.0, boundary.breakpoints_s[boundary.breakpoints_s < end], end])
     t_all = model.temperature(H)
     span = max(float(np.max(tms)), float(t_all.max())) - min(float(np.min(tms)), float(t_all.min()))
-    if span > 0:
+    if span > 1e-6:  # a smaller span is round-off (a product already at the medium temperature): no cap
         target = min(target, 0.02 * span)
     return target
 

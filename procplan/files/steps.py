@@ -7,6 +7,7 @@ from typing import Any
 
 from procplan import validate
 from procplan.errors import Collector, InvalidInputError
+from procplan.files.brine import brine_from_dict, brine_to_dict
 from procplan.files.fields import (
     check_keys,
     file_minutes,
@@ -31,6 +32,7 @@ STEP_KEYS = (
     "emissivity",
     "surroundings_C",
     "targets",
+    "brine",
 )
 
 
@@ -48,13 +50,17 @@ def _duration(c: Collector, data: Mapping[str, Any], p: str) -> tuple[float, flo
         unit="min",
     )
     stop = optional(c, data, "stop_when_core_C", p, product_temperature)
-    if "duration_min" not in data and "stop_when_core_C" not in data:
+    brine = data.get("brine")
+    brine_stop = isinstance(brine, Mapping) and any(
+        k in brine for k in ("stop_when_core_percent", "stop_when_mean_percent")
+    )
+    if "duration_min" not in data and "stop_when_core_C" not in data and not brine_stop:
         c.add(
             InvalidInputError(
                 p + "duration_min",
                 None,
                 f"(0, {MAX_STEP_MIN:g}] min",
-                "a step needs a duration_min or a stop_when_core_C",
+                "a step needs a duration_min, a stop_when_core_C or a brine stop",
             )
         )
     duration_s = (duration_min if duration_min is not None else DEFAULT_STOP_CAP_MIN) * 60.0
@@ -248,6 +254,7 @@ def step_from_dict(data: Mapping[str, Any], index: int, source: str = "plan") ->
     emissivity = optional(c, data, "emissivity", p, validate.fraction)
     surroundings = optional(c, data, "surroundings_C", p, medium_temperature)
     targets = _targets(c, data, p)
+    brine = brine_from_dict(c, data["brine"], p + "brine.") if "brine" in data else None
     c.raise_if_any()
     return Step(
         name=name,
@@ -263,6 +270,7 @@ def step_from_dict(data: Mapping[str, Any], index: int, source: str = "plan") ->
         surroundings_C=surroundings,
         targets=targets,
         duration_given=duration_given,
+        brine=brine,
     )
 
 
@@ -295,4 +303,6 @@ def step_to_dict(s: Step) -> dict[str, Any]:
         d["surroundings_C"] = file_number(s.surroundings_C)
     if s.targets:
         d["targets"] = [{"point": t.point, "temperature_C": file_number(t.temperature_C)} for t in s.targets]
+    if s.brine is not None:
+        d["brine"] = brine_to_dict(s.brine)
     return d

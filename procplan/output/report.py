@@ -9,6 +9,7 @@ from procplan.caution import CAUTION
 from procplan.outcomes import DEFAULT_MAX_LOG_REDUCTION, INDICATIVE
 from procplan.outcomes.energy import PEAK_DUTY_LABEL
 from procplan.outcomes.rules import limit_text
+from procplan.output.brine_report import brine_dict, brine_lines
 from procplan.output.json_safe import json_safe
 
 
@@ -62,6 +63,8 @@ def summary_dict(result) -> dict[str, Any]:
         )
         if getattr(sr, "drying", None) is not None:
             out["steps"][-1]["drying"] = _plain(sr.drying)
+        if getattr(sr, "mass", None) is not None:
+            out["steps"][-1]["brine"] = brine_dict(sr.mass)
     if result.outcomes is not None:
         out["outcomes"] = _plain(result.outcomes)
     return out
@@ -177,6 +180,8 @@ def _step_lines(result, site=None) -> list[str]:
             )
         if getattr(sr, "drying", None) is not None:
             lines.append(_drying_line(sr.drying, site))
+        if getattr(sr, "mass", None) is not None:
+            lines += brine_lines(sr.mass)
     return lines
 
 

@@ -47,6 +47,7 @@ from procplan.output.sheet_sections import (
     checkpoints_section,
     header_section,
     product_section,
+    salt_section,
     steps_section,
 )
 
@@ -87,6 +88,7 @@ def _build(result, site, *, size, chart_h, paper, lot_id, revision, date, prepar
     story += steps_section(result, site, st, W)
     story += chart_section(result, site, st, W, chart_h)
     story += checkpoints_section(result, site, st, W)
+    story += salt_section(result, site, st, W)
     story += rules_section(result, site, st, W)
     story += lethality_section(result, site, st, W)
     story += freezing_section(result, site, st, W)

@@ -305,3 +305,43 @@ def _merge(cps: list[Checkpoint]) -> tuple[Checkpoint, ...]:
         others = [k for k in kept if not k.rule]
         kept = sorted(rules + others[: max(0, MAX_CHECKPOINTS - len(rules))], key=lambda c: c.time_min)
     return tuple(kept[:MAX_CHECKPOINTS])
+
+
+@dataclass(frozen=True)
+class SaltCheckpoint:
+    """One salt (or sugar) sample to take in a brining step: the predicted core and mean content [%]."""
+
+    time_min: float
+    step: str
+    solute: str
+    core_percent: float
+    mean_percent: float
+    basis: str
+
+
+def salt_checkpoints(result) -> tuple[SaltCheckpoint, ...]:
+    """Samples to take in each step with a solute record: halfway and at the end (the step's solute stop when
+    it has one); the values are the run's own history."""
+    out: list[SaltCheckpoint] = []
+    for sr in result.steps:
+        m = getattr(sr, "mass", None)
+        if m is None or m.mode == "equalisation":
+            continue
+        t_end = float(m.time_s[-1])
+        end_basis = (
+            f"the {'core' if m.stopped_on == 'centre' else m.stopped_on} {m.solute} target ends the step"
+            if m.stopped_on is not None
+            else "end of the step"
+        )
+        for t, basis in ((0.5 * t_end, "halfway: uptake on course"), (t_end, end_basis)):
+            out.append(
+                SaltCheckpoint(
+                    time_min=(sr.start_s + t) / 60.0,
+                    step=sr.name,
+                    solute=m.solute,
+                    core_percent=100.0 * float(np.interp(t, m.time_s, m.core_fraction)),
+                    mean_percent=100.0 * float(np.interp(t, m.time_s, m.mean_fraction)),
+                    basis=basis,
+                )
+            )
+    return tuple(out)

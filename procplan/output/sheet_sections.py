@@ -11,7 +11,7 @@ from reportlab.platypus import (
 
 from procplan.files.site import SiteSettings
 from procplan.output.chart import history_chart
-from procplan.output.sheet_data import ACTION_IF_MISSED, checkpoints, margin_note
+from procplan.output.sheet_data import ACTION_IF_MISSED, checkpoints, margin_note, salt_checkpoints
 from procplan.output.sheet_layout import (
     BOLD,
     FONT,
@@ -293,3 +293,42 @@ def checkpoints_section(result, site, st, W):
         st.small,
     )
     return [*st.h("Checkpoints (probe readings)"), t, Spacer(1, 1), note]
+
+
+def salt_section(result, site, st, W):
+    """Salt (or sugar) samples of the brining steps, with the predicted core and mean content; empty without."""
+    cps = salt_checkpoints(result)
+    if not cps:
+        return []
+    rows = [
+        [
+            "#",
+            "When (elapsed)",
+            "Step",
+            "Expected core",
+            "Expected mean",
+            "Basis",
+            "Measured",
+            "Time / initials",
+        ]
+    ]
+    for i, c in enumerate(cps, start=1):
+        rows.append(
+            [
+                str(i),
+                site.format_time_hm(c.time_min),
+                c.step,
+                f"{c.core_percent:.2f} % {c.solute}",
+                f"{c.mean_percent:.2f} % {c.solute}",
+                c.basis,
+                "",
+                "",
+            ]
+        )
+    t = table(rows, cols(W, [0.03, 0.1, 0.12, 0.12, 0.12, 0.25, 0.12, 0.14]), st)
+    note = st.p(
+        "A core sample below its expected content: extend the step and sample again (a cut through the thickest "
+        "part; the mean from the whole piece).",
+        st.small,
+    )
+    return [*st.h("Salt checkpoints (samples)"), t, Spacer(1, 1), note]

@@ -33,6 +33,7 @@ from procplan.run.budget import (
     step_limit_error,
     unreliable_reason,
 )
+from procplan.run.mass_step import brine_first, brine_until, salt_columns, salted_properties
 from procplan.run.solver import PROPERTY_SPREAD_LIMIT, choose_solver, exact_properties
 from procplan.run.step_surface import StepSurface, resolve_step_surface
 
@@ -116,6 +117,8 @@ class StepResult:
     unreliable_reason: str | None = None
     #: moisture of an unwrapped product drying in hot dry air (run.dry_oven.DryingSummary), None otherwise
     drying: Any = None
+    #: solute taken up during the step (procplan.run.mass_step.MassStepResult), None without a brine record
+    mass: Any = None
 
     @property
     def duration_s(self) -> float:
@@ -341,6 +344,7 @@ class _Carried:
     field: Any
     uniform: bool = True
     t_offset_s: float = 0.0
+    salt: Any = None  # procplan.run.mass_step.SaltState after a brining step
 
 
 def _solve(ctx: _Context, chosen: str, carried: _Carried, step: Step, surface: StepSurface) -> _StepRun:
@@ -450,6 +454,9 @@ def _run_step(
     """Resolve the surface, choose the solver, solve one step; the history is on the plan's clock."""
     product = ctx.plan.product
     surface = resolve_step_surface(step, i, product, carried.mean_C, ctx.library)
+    mass = None
+    if step.brine is not None:
+        mass, step = brine_first(step, i, product, ctx.props, surface, carried.salt)
     choice = choose_solver(
         ctx.requested,
         props=ctx.props,
@@ -469,6 +476,9 @@ def _run_step(
     )
     details = replace(run.details, regime=regime.regime)
     frame = _place_frame(run.frame, step, i, run, carried.t_offset_s, first=i == 0)
+    if mass is not None:
+        end = float(run.frame["time_s"].iloc[-1]) - carried.t_offset_s
+        mass = brine_until(mass, step, i, product, ctx.props, surface, carried.salt, end)
     stop = run.stop_time_s
     result = StepResult(
         index=i,
@@ -483,9 +493,10 @@ def _run_step(
         stop_time_s=None if stop is None else carried.t_offset_s + stop,
         energy_balance_error=float(run.energy_balance_error),
         details=details,
-        warnings=_step_warnings(step, surface, run, unreliable),
+        warnings=_step_warnings(step, surface, run, unreliable) + (() if mass is None else mass.warnings),
         unreliable_reason=unreliable,
         drying=run.drying,
+        mass=mass,
     )
     return frame, result, run
 
@@ -509,15 +520,22 @@ def _range_warnings(history: pd.DataFrame, props: PropertyTable, dried: bool = F
     return out
 
 
-def _run_steps(ctx: _Context) -> tuple[pd.DataFrame, list[StepResult], list[str]]:
-    """Every step in order, the field carried from one into the next."""
-    start = ctx.plan.start_temperature_C
+def _run_steps(ctx: _Context) -> tuple[pd.DataFrame, list[StepResult], list[str], PropertyTable]:
+    """Every step in order, the field (and the salt) carried from one into the next; after a step that took up
+    salt, the later steps use the lowered freezing point. Returns the properties of the last step too."""
+    start, base = ctx.plan.start_temperature_C, ctx.props
     carried = _Carried(start_C=start, mean_C=start, field=start)
     frames: list[pd.DataFrame] = []
     steps: list[StepResult] = []
     warnings: list[str] = []
     for i, step in enumerate(ctx.plan.steps):
         frame, result, run = _run_step(ctx, i, step, carried)
+        salt = carried.salt
+        if result.mass is not None:
+            salt = result.mass.state
+            props, note = salted_properties(ctx.plan.product, base, salt)
+            ctx = replace(ctx, props=props)
+            result = replace(result, mass=replace(result.mass, freezing_note=note))
         frames.append(frame)
         steps.append(result)
         warnings.extend(result.warnings)
@@ -529,8 +547,14 @@ def _run_steps(ctx: _Context) -> tuple[pd.DataFrame, list[StepResult], list[str]
             field=run.fv.final_field if run.fv is not None else None,
             uniform=False,
             t_offset_s=result.end_s,
+            salt=salt,
         )
-    return pd.concat(frames, ignore_index=True), steps, warnings
+    history = pd.concat(frames, ignore_index=True)
+    brines = [s.brine for s in ctx.plan.steps if s.brine is not None]
+    if brines:
+        for name, col in salt_columns(history, steps, brines[0].initial_fraction or 0.0).items():
+            history[name] = col
+    return history, steps, warnings, ctx.props
 
 
 def run_plan(
@@ -566,7 +590,7 @@ def run_plan(
     piece_mass_kg = props.mass_density_kg_m3 * plan.product.geometry.volume_m3
     check_work_budget(plan, requested, n_nodes, dt_s)
     ctx = _Context(plan, library, props, requested, n_nodes, dt_s)
-    history, steps, warnings = _run_steps(ctx)
+    history, steps, warnings, props = _run_steps(ctx)
     warnings.extend(_range_warnings(history, props, dried=any(s.drying is not None for s in steps)))
     outcomes = (
         assess_plan(plan, history, tuple(steps), props, piece_mass_kg, library, site) if assess else None
