@@ -5,11 +5,10 @@ density [kg/m³] (no shrinkage) and D the effective moisture diffusivity [m²/s]
 at the evaporation flux n″(t, X_s) [kg/m²s], which the caller gives (the air's drive and the surface water
 activity from the sorption isotherm):  −ρ_dm D ∂X/∂n = n″(t, X_s).
 
-This is Fourier's problem with ρ c_p → 1, k → D, T → X and a surface flux q_extra = −n″/ρ_dm (the heat and mass
-transfer analogy, Crank 1975 ch. 1 and 4; Incropera 7th ed. §14.1), so the enthalpy finite-volume solver of
-:mod:`procplan.conduction.finite_volume` runs it unchanged, with its implicit time stepping, its surface-flux
-Newton iteration and its balance check, which here is the mass balance (water lost through the surface against
-the change of the water held).
+It runs on the one transport core, :func:`procplan.conduction.transport.solve_diffusion` (capacity ρ_dm, no
+surface coefficient, the evaporation as the surface flux): the finite-volume solver with its implicit time
+stepping, its surface-flux Newton iteration and its balance check, here the mass balance (water lost through
+the surface against the change of the water held).
 
 Effective moisture diffusivities are Arrhenius in temperature (:func:`arrhenius_m2_s`); the caller evaluates D
 at the temperature of the layer it models.
@@ -31,16 +30,12 @@ from dataclasses import dataclass
 import numpy as np
 
 from procplan import validate
-from procplan.conduction.finite_volume import solve_conduction
-from procplan.conduction.fv_boundary import SurfaceBoundary
+from procplan.conduction.transport import solve_diffusion
 from procplan.errors import InvalidInputError
 from procplan.geometry import Geometry
-from procplan.properties.table import PropertyTable
 
 #: Universal gas constant [J/(mol K)].
 GAS_CONSTANT_J_MOLK = 8.314462618
-#: A surface "heat-transfer coefficient" so small that the flux is all the caller's (the solver requires h > 0).
-_NO_EXCHANGE = 1e-12
 
 
 def arrhenius_m2_s(temperature_C, D_ref_m2_s: float, activation_J_mol: float, reference_C: float):
@@ -76,15 +71,6 @@ class MoistureHistory:
     depth_m: float
     profile_depth_m: np.ndarray
     profile_kg_kg: np.ndarray
-
-
-def moisture_table(D_m2_s: float | Callable, range_kg_kg: tuple[float, float] = (0.0, 20.0)) -> PropertyTable:
-    """The unit-capacity property table of the analogy: "temperature" X, enthalpy X, conductivity D(X)."""
-    x = np.linspace(range_kg_kg[0], range_kg_kg[1], 401)
-    d = np.broadcast_to(np.asarray(D_m2_s(x) if callable(D_m2_s) else D_m2_s, dtype=float), x.shape)
-    if not np.all((d > 1e-16) & (d < 1e-6)):
-        raise InvalidInputError("D_m2_s", float(np.min(d)), "effective diffusivities within 1e-16…1e-6 m²/s")
-    return PropertyTable(x, x.copy(), d.copy(), np.ones_like(x), None, 0.0, "moisture (unit capacity, k = D)")
 
 
 def solve_moisture(
@@ -124,33 +110,35 @@ def solve_moisture(
         raise InvalidInputError("geometry", geometry.shape, "a 1-D shape (slab, cylinder, sphere) for moisture")
     rho_dm = validate.number("dry_matter_kg_m3", dry_matter_kg_m3, minimum=1.0, maximum=2000.0, unit="kg/m³")
     x0 = validate.number("initial_kg_kg", initial_kg_kg, minimum=0.0, maximum=19.0, unit="kg/kg dry matter")
-    props = moisture_table(D_m2_s)
 
-    def q_extra(t, xs):
-        return -np.asarray(surface_flux_kg_m2s(t, np.maximum(xs, 0.0)), dtype=float) / rho_dm
+    def into(t, xs):
+        return -np.asarray(surface_flux_kg_m2s(t, np.maximum(xs, 0.0)), dtype=float)
 
-    res = solve_conduction(
+    res = solve_diffusion(
         geometry,
-        props,
+        D_m2_s,
         x0,
-        SurfaceBoundary(0.0, _NO_EXCHANGE, q_extra),
+        0.0,
         end_time_s,
+        k_m_m_s=None,
+        capacity=rho_dm,
+        surface_flux=into,
+        concentration_range=(0.0, max(x0, 1e-3)),
         output_time_s=output_time_s,
         n_nodes=n_nodes,
-        max_step_change_K=max(0.02, 0.01 * x0),
         surface_refinement=0.8,
     )
     axis = geometry.axes[0]
-    volume_per_area = geometry.volume_m3 / geometry.area_m2 if geometry.shape != "slab" else axis.length_m
-    lost = rho_dm * volume_per_area * (x0 - np.asarray(res.mean_C, dtype=float))
+    # the amount lost per m² of exposed surface (the transport core reports per m² of face for a slab)
+    per_area = 1.0 if geometry.shape == "slab" else 1.0 / geometry.area_m2
     x_nodes = np.asarray(res.grid.axes[0].x_m)
     return MoistureHistory(
         time_s=np.asarray(res.time_s, dtype=float),
-        surface_kg_kg=np.asarray(res.surface_C, dtype=float),
-        mean_kg_kg=np.asarray(res.mean_C, dtype=float),
-        centre_kg_kg=np.asarray(res.core_C, dtype=float),
-        lost_kg_m2=lost,
-        mass_balance_error=float(res.energy_balance_error),
+        surface_kg_kg=np.asarray(res.surface, dtype=float),
+        mean_kg_kg=np.asarray(res.mean, dtype=float),
+        centre_kg_kg=np.asarray(res.centre, dtype=float),
+        lost_kg_m2=-np.asarray(res.uptake, dtype=float) * per_area,
+        mass_balance_error=float(res.mass_balance_error),
         depth_m=axis.length_m,
         profile_depth_m=axis.length_m - x_nodes,
         profile_kg_kg=np.asarray(res.final_field, dtype=float).ravel(),

@@ -61,6 +61,10 @@ MAX_PASSES = 8
 SURFACE_TOLERANCE_K = 0.1
 #: Surface water activity below which the surface counts as dried (crusted).
 DRY_SURFACE_WATER_ACTIVITY = 0.98
+#: Weight of the newest pass in the exchanged histories from the second pass on.
+RELAXATION = 0.5
+#: Points of the histories exchanged between the heat and the moisture passes.
+HISTORY_POINTS = 241
 
 
 @dataclass(frozen=True)
@@ -179,16 +183,18 @@ def solve_dry_oven(
     heat_settings : passed on to solve_conduction (n_nodes, dt_s, stop_when_core_C, max_steps, …)
     """
     air, iso = model.air, model.isotherm
+    # a history on a fixed grid: the moisture pass lands on the heat pass's times, and few times keep both fast
+    heat_settings.setdefault("output_time_s", np.linspace(0.0, end_time_s, HISTORY_POINTS))
     aw_t, aw_v = np.array([0.0, end_time_s]), np.ones(2)
-    n_t, n_v = np.array([0.0, end_time_s]), np.full(2, np.inf)
+    n_t, n_v, wet_v = np.array([0.0, end_time_s]), np.zeros(2), np.ones(2)
     heat = moisture = None
     change, passes = float("inf"), 0
     for passes in range(1, MAX_PASSES + 1):
 
-        def q_extra(t, ts, n_t=n_t, n_v=n_v):
-            # the air's drive on a wet surface, capped by what the moisture inside supplied on the last pass
-            wet = air.mass_flux_kg_m2s(ts)
-            return -np.minimum(wet, np.interp(t, n_t, n_v)) * latent_heat(ts)
+        def q_extra(t, ts, n_t=n_t, n_v=n_v, wet_v=wet_v):
+            # wet on the last pass: the air's drive on a wet surface; dried: the flux the moisture inside supplied
+            w = np.interp(t, n_t, wet_v)
+            return -(w * air.mass_flux_kg_m2s(ts) + (1.0 - w) * np.interp(t, n_t, n_v)) * latent_heat(ts)
 
         bnd = SurfaceBoundary(boundary.medium_C, boundary.h_W_m2K, q_extra)
         new = solve_conduction(geometry, props, initial, bnd, end_time_s, **heat_settings)
@@ -197,8 +203,12 @@ def solve_dry_oven(
         heat = new
         moisture = _moisture_pass(model, geometry, heat, moisture_nodes)
         aw_t, aw_v = moisture.time_s, np.asarray(iso.water_activity(moisture.surface_kg_kg), dtype=float)
-        n_t = aw_t
-        n_v = air.mass_flux_kg_m2s(np.interp(aw_t, heat.time_s, heat.face_surface_C), aw_v)
+        n_new = air.mass_flux_kg_m2s(np.interp(aw_t, heat.time_s, heat.face_surface_C), aw_v)
+        wet_new = (aw_v >= DRY_SURFACE_WATER_ACTIVITY).astype(float)
+        if passes > 1:  # under-relaxed: the switch from wet to dry moves back and forth otherwise
+            n_new = RELAXATION * n_new + (1.0 - RELAXATION) * np.interp(aw_t, n_t, n_v)
+            wet_new = RELAXATION * wet_new + (1.0 - RELAXATION) * np.interp(aw_t, n_t, wet_v)
+        n_t, n_v, wet_v = aw_t, n_new, wet_new
         if change < SURFACE_TOLERANCE_K:
             break
     dried = np.nonzero(aw_v < DRY_SURFACE_WATER_ACTIVITY)[0]
