@@ -45,7 +45,9 @@ def arrhenius_m2_s(temperature_C, D_ref_m2_s: float, activation_J_mol: float, re
     4.383
     """
     t = np.asarray(temperature_C, dtype=float) + 273.15
-    return D_ref_m2_s * np.exp(-activation_J_mol / GAS_CONSTANT_J_MOLK * (1.0 / t - 1.0 / (reference_C + 273.15)))
+    return D_ref_m2_s * np.exp(
+        -activation_J_mol / GAS_CONSTANT_J_MOLK * (1.0 / t - 1.0 / (reference_C + 273.15))
+    )
 
 
 @dataclass(frozen=True, eq=False)
@@ -107,7 +109,9 @@ def solve_moisture(
     (0.36, True)
     """
     if len(geometry.axes) != 1:
-        raise InvalidInputError("geometry", geometry.shape, "a 1-D shape (slab, cylinder, sphere) for moisture")
+        raise InvalidInputError(
+            "geometry", geometry.shape, "a 1-D shape (slab, cylinder, sphere) for moisture"
+        )
     rho_dm = validate.number("dry_matter_kg_m3", dry_matter_kg_m3, minimum=1.0, maximum=2000.0, unit="kg/m³")
     x0 = validate.number("initial_kg_kg", initial_kg_kg, minimum=0.0, maximum=19.0, unit="kg/kg dry matter")
 

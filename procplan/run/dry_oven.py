@@ -139,7 +139,9 @@ def _moisture_pass(model: DryOvenModel, geometry: Geometry, heat, n_nodes: int) 
     iso, air = model.isotherm, model.air
 
     def flux(time_s, x_surface):
-        return air.mass_flux_kg_m2s(np.interp(time_s, t, ts), iso._water_activity(np.asarray(x_surface, dtype=float)))
+        return air.mass_flux_kg_m2s(
+            np.interp(time_s, t, ts), iso._water_activity(np.asarray(x_surface, dtype=float))
+        )
 
     return solve_moisture(
         _moisture_geometry(geometry, D, end),
@@ -157,7 +159,9 @@ def _history_change(a, b) -> float:
     """Largest difference of two surface-temperature histories over their common time span [K]."""
     end = min(a.time_s[-1], b.time_s[-1])
     t = np.linspace(0.0, end, 401)
-    return float(np.max(np.abs(np.interp(t, a.time_s, a.face_surface_C) - np.interp(t, b.time_s, b.face_surface_C))))
+    return float(
+        np.max(np.abs(np.interp(t, a.time_s, a.face_surface_C) - np.interp(t, b.time_s, b.face_surface_C)))
+    )
 
 
 def solve_dry_oven(
@@ -256,6 +260,11 @@ class DryingSummary:
     surface_change_K: float
     mass_balance_error: float
     model: str
+
+    @property
+    def converged(self) -> bool:
+        """Whether the coupling settled within :data:`SURFACE_TOLERANCE_K`."""
+        return self.surface_change_K < SURFACE_TOLERANCE_K
 
 
 def summarise(res: DryOvenResult, model: DryOvenModel, piece_mass_kg: float) -> DryingSummary:

@@ -426,6 +426,11 @@ def _step_warnings(
         out.append(
             f"{step.name}: the core did not reach {step.stop_when_core_C:g} °C within {step.duration_s / 60:g} min"
         )
+    if run.drying is not None and not run.drying.converged:
+        out.append(
+            f"{step.name}: heat and moisture did not settle within {run.drying.passes} coupling passes (surface "
+            f"temperature still moving by {run.drying.surface_change_K:.1f} K): treat the cook time and weight loss as indicative"
+        )
     if unreliable is not None:
         out.append(unreliable)
     elif run.energy_balance_error > 0.005:
@@ -520,6 +525,16 @@ def _range_warnings(history: pd.DataFrame, props: PropertyTable, dried: bool = F
     return out
 
 
+def _carried_field(run: _StepRun, props: PropertyTable):
+    """The field the next step starts from; a dried crust above the property model's range (a roast's surface
+    in a hot oven) is brought back to the range's top, which takes out a little heat (the slower side)."""
+    if run.fv is None:
+        return None
+    if run.drying is None:
+        return run.fv.final_field
+    return np.minimum(run.fv.final_field, float(props.temperature_C[-1]))
+
+
 def _run_steps(ctx: _Context) -> tuple[pd.DataFrame, list[StepResult], list[str], PropertyTable]:
     """Every step in order, the field (and the salt) carried from one into the next; after a step that took up
     salt, the later steps use the lowered freezing point. Returns the properties of the last step too."""
@@ -544,7 +559,7 @@ def _run_steps(ctx: _Context) -> tuple[pd.DataFrame, list[StepResult], list[str]
             start_C=float(last["core_C"]),
             mean_C=float(last["mean_C"]),
             # None only for single-step plans or a forced exact solver
-            field=run.fv.final_field if run.fv is not None else None,
+            field=_carried_field(run, ctx.props),
             uniform=False,
             t_offset_s=result.end_s,
             salt=salt,

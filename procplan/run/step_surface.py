@@ -372,7 +372,11 @@ def _equipment(
     breakdown = replace(
         _breakdown(first, source, machine=MachineUsed.of(eq, rows[0][1]), measured=tuple(measured_used)),
         h_eff_W_m2K=h_eff,
-        evaporation=drying.describe() if drying is not None else None if evaporation is None else evaporation.describe(),
+        evaporation=drying.describe()
+        if drying is not None
+        else None
+        if evaporation is None
+        else evaporation.describe(),
     )
     if temps[0] == fluids[0]:  # a measured h at the first point: no sink to report
         breakdown = replace(breakdown, fluid_C=None, surroundings_C=None, sink_C=None)

@@ -69,7 +69,10 @@ SETTINGS: dict[str, SettingSpec] = {
 
 #: Media and the settings each needs (required) or accepts (optional); the first required one is the medium temperature.
 MEDIA: dict[str, dict[str, tuple[str, ...]]] = {
-    "air": {"required": ("air_C", "air_speed_m_s"), "optional": ("relative_humidity", "dew_point_C", "emissivity")},
+    "air": {
+        "required": ("air_C", "air_speed_m_s"),
+        "optional": ("relative_humidity", "dew_point_C", "emissivity"),
+    },
     "water": {"required": ("water_C", "water_speed_m_s"), "optional": ()},
     "brine": {"required": ("brine_C", "brine_speed_m_s"), "optional": ()},
     "steam": {"required": ("steam_C",), "optional": ()},

@@ -16,7 +16,9 @@ from procplan.surface.oven_air import DryingAir
 def slice_in_dryer():
     # a 6 mm potato-like slice (80 % water) in air at 100 °C, dew point 40 °C, convection only (h = 15 W/m²K)
     air = DryingAir(100.0, 40.0, 15.0)
-    model = DryOvenModel(air, ISOTHERMS["potato"], MOISTURE_DIFFUSIVITIES["potato"], dry_basis(0.8), 1050.0 * 0.2)
+    model = DryOvenModel(
+        air, ISOTHERMS["potato"], MOISTURE_DIFFUSIVITIES["potato"], dry_basis(0.8), 1050.0 * 0.2
+    )
     props = PropertyTable.constant(0.5, 1050.0, 3600.0)
     g = Geometry("slab", thickness_m=0.006)
     return solve_dry_oven(g, props, 20.0, SurfaceBoundary.constant(100.0, 15.0), model, 2 * 3600.0), model
