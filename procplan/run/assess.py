@@ -19,6 +19,7 @@ from procplan.model import LethalityCheck, Plan
 from procplan.outcomes.energy import heat_by_direction_J, peak_duty_W
 from procplan.outcomes.freezing_time import ehtd_of_dimensions
 from procplan.properties.table import PropertyTable
+from procplan.run.dry_oven import yield_percent
 
 #: Evaporating temperature below the medium and condensing temperature assumed when a step names no
 #: machine (common practice for air coolers: 6–10 K approach; air-cooled condensers about 35 °C).
@@ -456,13 +457,6 @@ def _weight_loss(run: _Run) -> tuple[tuple[str, float], ...]:
     return tuple(out)
 
 
-def _yield_percent(losses: tuple[tuple[str, float], ...]) -> float | None:
-    """Mass at the end over the mass at the start [%]: each step's loss is a share of the mass it started with."""
-    if not losses:
-        return None
-    return 100.0 * float(np.prod([1.0 - pct / 100.0 for _, pct in losses]))
-
-
 def assess_plan(
     plan: Plan,
     history: pd.DataFrame,
@@ -502,7 +496,7 @@ def assess_plan(
     costs = [se.refrigeration.cost for se in refrigeration if se.refrigeration is not None]
     return Outcomes(
         weight_loss_percent=losses,
-        yield_percent=_yield_percent(losses),
+        yield_percent=yield_percent(losses),
         targets=targets,
         rule_check=rule_check,
         rule_applied_from_s=rule_from,

@@ -266,6 +266,14 @@ class DryingSummary:
         """Whether the coupling settled within :data:`SURFACE_TOLERANCE_K`."""
         return self.surface_change_K < SURFACE_TOLERANCE_K
 
+    @property
+    def unsettled_text(self) -> str:
+        """The warning for a coupling that did not settle."""
+        return (
+            f"heat and moisture did not settle within {self.passes} coupling passes (surface temperature still "
+            f"moving by {self.surface_change_K:.1f} K): treat the cook time and weight loss as indicative"
+        )
+
 
 def summarise(res: DryOvenResult, model: DryOvenModel, piece_mass_kg: float) -> DryingSummary:
     """The per-piece summary of a dry-air step."""
@@ -285,3 +293,38 @@ def summarise(res: DryOvenResult, model: DryOvenModel, piece_mass_kg: float) -> 
         mass_balance_error=res.moisture.mass_balance_error,
         model=model.describe(),
     )
+
+
+def yield_percent(losses) -> float | None:
+    """Mass at the end over the mass at the start [%] from (step, loss [%]) pairs, each loss a share of the mass
+    the step started with (None without any loss).
+
+    >>> round(yield_percent([("roast", 10.0), ("chill", 2.0)]), 6)
+    88.2
+    """
+    if not losses:
+        return None
+    return 100.0 * float(np.prod([1.0 - pct / 100.0 for _, pct in losses]))
+
+
+def dry_oven_step(product, props, initial, surface, step, n_nodes, time_settings: dict):
+    """The engine's dry-air step: (heat result, DryingSummary), or None when the product's category has no
+    published isotherm and moisture diffusivity (the plain heat step runs then)."""
+    from procplan.run.budget import MAX_TIME_STEPS_PER_STEP
+
+    model = DryOvenModel.for_product(product, props, surface.drying_air)
+    if model is None:
+        return None
+    res = solve_dry_oven(
+        product.geometry,
+        props,
+        initial,
+        surface.boundary(),
+        model,
+        step.duration_s,
+        n_nodes=n_nodes,
+        stop_when_core_C=step.stop_when_core_C,
+        max_steps=MAX_TIME_STEPS_PER_STEP,
+        **time_settings,
+    )
+    return res.heat, summarise(res, model, props.mass_density_kg_m3 * product.geometry.volume_m3)

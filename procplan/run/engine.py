@@ -299,27 +299,11 @@ def _fv_run(res, drying=None) -> _StepRun:
 
 
 def _dry_oven_step(ctx, carried, surface: StepSurface, step: Step, time_settings) -> _StepRun | None:
-    """Heat and moisture together for an unwrapped product in hot dry air (None when the product has no
-    published moisture properties: the plain heat step runs, and the surface says so)."""
-    from procplan.run.dry_oven import DryOvenModel, solve_dry_oven, summarise
+    """Heat and moisture together in hot dry air (None: no published moisture properties, plain heat step)."""
+    from procplan.run.dry_oven import dry_oven_step
 
-    product = ctx.plan.product
-    model = DryOvenModel.for_product(product, ctx.props, surface.drying_air)
-    if model is None:
-        return None
-    res = solve_dry_oven(
-        product.geometry,
-        ctx.props,
-        carried.field,
-        surface.boundary(),
-        model,
-        step.duration_s,
-        n_nodes=ctx.n_nodes,
-        stop_when_core_C=step.stop_when_core_C,
-        max_steps=MAX_TIME_STEPS_PER_STEP,
-        **time_settings,
-    )
-    return _fv_run(res.heat, summarise(res, model, ctx.props.mass_density_kg_m3 * product.geometry.volume_m3))
+    out = dry_oven_step(ctx.plan.product, ctx.props, carried.field, surface, step, ctx.n_nodes, time_settings)
+    return None if out is None else _fv_run(*out)
 
 
 @dataclass(frozen=True)
@@ -427,10 +411,7 @@ def _step_warnings(
             f"{step.name}: the core did not reach {step.stop_when_core_C:g} °C within {step.duration_s / 60:g} min"
         )
     if run.drying is not None and not run.drying.converged:
-        out.append(
-            f"{step.name}: heat and moisture did not settle within {run.drying.passes} coupling passes (surface "
-            f"temperature still moving by {run.drying.surface_change_K:.1f} K): treat the cook time and weight loss as indicative"
-        )
+        out.append(f"{step.name}: {run.drying.unsettled_text}")
     if unreliable is not None:
         out.append(unreliable)
     elif run.energy_balance_error > 0.005:
@@ -526,12 +507,9 @@ def _range_warnings(history: pd.DataFrame, props: PropertyTable, dried: bool = F
 
 
 def _carried_field(run: _StepRun, props: PropertyTable):
-    """The field the next step starts from; a dried crust above the property model's range (a roast's surface
-    in a hot oven) is brought back to the range's top, which takes out a little heat (the slower side)."""
-    if run.fv is None:
-        return None
-    if run.drying is None:
-        return run.fv.final_field
+    """The next step's start; a dried crust above the property range is cut to its top (a little heat less)."""
+    if run.fv is None or run.drying is None:
+        return None if run.fv is None else run.fv.final_field
     return np.minimum(run.fv.final_field, float(props.temperature_C[-1]))
 
 

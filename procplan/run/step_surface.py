@@ -290,6 +290,31 @@ def _setting_rows(step, index: int, eq) -> list[tuple[float, dict]]:
     return rows
 
 
+def _evaporation(product, eq, settings: dict, h_conv_W_m2K: float, warnings: list):
+    """The surface evaporation of an unwrapped product in an air machine: hot dry air with a dew point (heat
+    and moisture coupled, the second value), a humidity setting (a surface flux, the first), or neither."""
+    evaporation = drying = None
+    if product.unwrapped and eq.medium == "air" and "dew_point_C" in settings:
+        from procplan.surface.oven_air import DryingAir
+
+        s0 = settings
+        drying = DryingAir(
+            float(s0[eq.temperature_key]),
+            min(float(s0["dew_point_C"]), float(s0[eq.temperature_key])),
+            h_conv_W_m2K,
+        )
+    elif product.unwrapped and eq.medium == "air" and "relative_humidity" in eq.settings:
+        from procplan.surface.moisture import SurfaceEvaporation
+
+        evaporation = SurfaceEvaporation.for_step(eq, settings, h_conv_W_m2K, product)
+    elif product.unwrapped and eq.medium == "air":
+        warnings.append(
+            f"{eq.name} has no humidity setting, so surface evaporation of the unwrapped product is not modelled: "
+            "a wet surface runs cooler than predicted and the core heats more slowly; confirm cook times by probing"
+        )
+    return evaporation, drying
+
+
 def _equipment(
     step, index: int, product, surface_C: float | None, start_mean_C: float, library
 ) -> StepSurface:
@@ -345,25 +370,7 @@ def _equipment(
                 f"surroundings_C of {step.surroundings_C:g} °C is not applied on top of the measured h, "
                 "which already carries the radiation of the trial"
             )
-    evaporation = drying = None
-    if product.unwrapped and eq.medium == "air" and "dew_point_C" in rows[0][1]:
-        from procplan.surface.oven_air import DryingAir
-
-        s0 = rows[0][1]
-        drying = DryingAir(
-            float(s0[eq.temperature_key]),
-            min(float(s0["dew_point_C"]), float(s0[eq.temperature_key])),
-            first.h_conv_W_m2K,
-        )
-    elif product.unwrapped and eq.medium == "air" and "relative_humidity" in eq.settings:
-        from procplan.surface.moisture import SurfaceEvaporation
-
-        evaporation = SurfaceEvaporation.for_step(eq, rows[0][1], first.h_conv_W_m2K, product)
-    elif product.unwrapped and eq.medium == "air":
-        warnings.append(
-            f"{eq.name} has no humidity setting, so surface evaporation of the unwrapped product is not modelled: "
-            "a wet surface runs cooler than predicted and the core heats more slowly; confirm cook times by probing"
-        )
+    evaporation, drying = _evaporation(product, eq, rows[0][1], first.h_conv_W_m2K, warnings)
     if len(times) > 1 and times[-1] < step.duration_s:  # the last setting holds to the end of the step
         times.append(step.duration_s)
         fluids.append(fluids[-1])
