@@ -208,6 +208,31 @@ def bench_roulade(repeats: int = 5) -> list[tuple[str, float, str]]:
     )
 
 
+def bench_loaded_batch(repeats: int = 3) -> list[tuple[str, float, str]]:
+    """The roulade chill with the medium solved with the batch (the plan's 120 pieces, within the plant; and
+    360 pieces, beyond it) against the single-piece run with the medium held at its set point."""
+    from dataclasses import replace
+
+    from procplan.files.library import load_library
+    from procplan.model import Load
+    from procplan.run.engine import run_plan
+
+    lib = load_library()
+    plan = lib.plan("roulade-blast-chill")
+    single = replace(plan, load=Load("set-point"))
+    t_single, _ = _median_time(lambda: run_plan(single, library=lib, assess=False), repeats)
+    rows = [("roulade chill, one piece at the set point", t_single, "empty-machine run")]
+    for n in (plan.pieces, 3 * plan.pieces):
+        t_n, res = _median_time(lambda n=n: run_plan(plan.with_pieces(n), library=lib, assess=False), repeats)
+        ml = res.steps[0].machine_load
+        state = (
+            "plant held the set point" if ml.held else f"plant at its limit {ml.time_at_limit_s / 60:.0f} min"
+        )
+        rows.append((f"roulade chill, batch of {n} with the medium", t_n, state))
+        rows.append((f"  ratio batch of {n} / one piece", t_n / t_single, "(aim < 1.3)"))
+    return rows
+
+
 def bench_brick_15(repeats: int = 3) -> list[tuple[str, float, str]]:
     """3-D brick, 15³ nodes, 4 h chilling with 500 output times."""
     g = Geometry("brick", length_m=0.04, width_m=0.05, height_m=0.06)
@@ -345,6 +370,7 @@ def main() -> None:
     rows = (
         bench_freezing()
         + bench_roulade()
+        + bench_loaded_batch()
         + bench_brick_15()
         + bench_brick()
         + bench_finite_cylinder()

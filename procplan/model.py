@@ -22,6 +22,8 @@ MEDIUM_RANGE_C = (-80.0, 300.0)
 SOLVERS = ("auto", "exact", "finite-volume")
 POINTS = ("core", "surface", "mean")
 FOOD_CATEGORIES = ("meat", "fruit-vegetable", "juice", "other")
+#: Load models (see procplan.run.machine_load.LOAD_MODELS for their meaning).
+LOAD_MODELS = ("loaded", "set-point")
 DIMENSION_KEYS = ("thickness_mm", "diameter_mm", "length_mm", "width_mm", "height_mm")
 
 
@@ -143,6 +145,8 @@ class Step:
     targets: tuple[Target, ...] = ()
     duration_given: bool = True
     brine: Brine | None = None
+    #: the machine's medium temperature when the batch is loaded [°C] (None: at its set point)
+    loading_medium_C: float | None = None
 
     @property
     def settings_dict(self) -> dict[str, Any]:
@@ -176,6 +180,38 @@ class Checks:
 
 
 @dataclass(frozen=True)
+class Packing:
+    """How the pieces are packed: a tray, case, stack of cases or pallet, run as one brick of effective
+    properties (:mod:`procplan.run.packing`). Lengths in metres; ``None`` means "from the other values"."""
+
+    arrangement: str  # one of PACKING_ARRANGEMENTS
+    case_length_m: float  # inner dimensions of one case (or tray)
+    case_width_m: float
+    case_height_m: float
+    pieces_per_case: int
+    wall: str | None = None  # a key of properties.packing.WALL_MATERIALS, or None with wall_k_W_mK
+    wall_thickness_m: float = 0.0
+    wall_k_W_mK: float | None = None
+    cases_layout: tuple[int, int, int] = (1, 1, 1)  # cases along length, width, height (stack, pallet)
+    piece_layout: tuple[int, int, int] | None = None  # pieces along length, width, height in one case
+    void_fraction: float | None = None  # override of the air fraction computed from the piece count
+    air_flow_factor: float = 1.0  # air (or liquid) speed at the load / the machine's setting
+    conductivity_model: str = "emt"
+
+
+PACKING_ARRANGEMENTS = ("tray", "case", "stack", "pallet")
+
+
+@dataclass(frozen=True)
+class Load:
+    """How the batch loads its machines: ``"loaded"`` (the medium solved with the pieces, limited by the plant,
+    where the machine has a thermal description) or ``"set-point"`` (an empty-machine run). The number of
+    pieces is ``Checks.pieces_per_batch``."""
+
+    model: str = "loaded"
+
+
+@dataclass(frozen=True)
 class Plan:
     """A whole plan: the unit every engine run, study and sheet starts from."""
 
@@ -186,6 +222,17 @@ class Plan:
     checks: Checks = field(default_factory=Checks)
     solver: str = "auto"
     notes: str = ""
+    packing: Packing | None = None
+    load: Load = field(default_factory=Load)
+
+    @property
+    def pieces(self) -> int:
+        """Pieces per batch (the one number: ``checks.pieces_per_batch``)."""
+        return self.checks.pieces_per_batch
+
+    def with_pieces(self, pieces: int) -> Plan:
+        """A copy with another batch size (used by studies)."""
+        return replace(self, checks=replace(self.checks, pieces_per_batch=int(pieces)))
 
     def with_step(self, index: int, **changes: Any) -> Plan:
         """A copy with one step changed (used by studies)."""

@@ -35,7 +35,7 @@ from procplan.errors import InvalidInputError
 from procplan.model import SOLVERS
 
 #: Modules that add their own sub-commands through ``register(subparsers)``.
-EXTENSION_MODULES = ("procplan.cli.study_args", "procplan.cli.sheet")
+EXTENSION_MODULES = ("procplan.cli.study_args", "procplan.cli.sheet", "procplan.cli.trial")
 
 
 def _failed(result) -> bool:

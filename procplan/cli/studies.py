@@ -147,11 +147,60 @@ def cmd_compare(args) -> int:
             f"  {int(r['rank'])}. {name}\n"
             f"     to {r['target_C']:g} °C: {_fmt(r['time_to_target_min'])}, plan {_fmt(r['plan_time_min'])}"
             f"{';' if rule or leth else ''}{rule}{leth}\n"
-            f"     energy: {r['energy_removed_kWh']:.2f} kWh removed, {r['energy_added_kWh']:.2f} kWh added, peak {r['peak_duty_kW']:.1f} kW, electricity {r['electricity_kWh']:.2f} kWh",
+            f"     energy: {r['energy_removed_kWh']:.2f} kWh removed, {r['energy_added_kWh']:.2f} kWh added, peak {r['peak_duty_kW']:.1f} kW, electricity {r['electricity_kWh']:.2f} kWh"
+            + _capacity_text(r),
             file=out,
         )
     _written(args, "table", out)
     return EXIT_OK
+
+
+def _capacity_text(r) -> str:
+    """The batch and, for a loaded machine that could not hold its set point, the shortfall."""
+    short = r.get("capacity_shortfall_kW")
+    if short is None or short != short:
+        return ""
+    text = f"\n     batch of {int(r['pieces'])}: "
+    if short > 0:
+        return text + f"plant short by {short:.1f} kW, at its limit {r['plant_limit_min']:.0f} min"
+    return text + "the plant held its set point"
+
+
+def _cmd_pieces(args, lib, plan) -> int:
+    """``procplan required --parameter pieces``: the largest batch that still meets the goal."""
+    from procplan.studies.batch_size import largest_batch
+
+    def prog(n, v, m):
+        if not args.quiet:
+            print(f"  run {n}: pieces = {v} → measure {m:+.4g}", file=sys.stderr, flush=True)
+
+    r = largest_batch(
+        plan, step_index=args.step, goal=args.goal, library=lib, target_min=args.target_min, progress=prog
+    )
+    ml = r.machine_load
+    if args.json:
+        from procplan.output.json_safe import json_safe
+
+        _dump(
+            {
+                "parameter": "pieces",
+                "goal": r.goal,
+                "target_min": r.target_min,
+                "pieces": r.pieces,
+                "first_failing": r.first_failing,
+                "evaluations": [list(e) for e in r.evaluations],
+                "machine_load": None if ml is None else {**json_safe(ml), "summary": ml.describe()},
+                "message": r.message,
+                "caution": CAUTION,
+            }
+        )
+        return EXIT_OK if r.pieces is not None else EXIT_CHECK_FAILED
+    print(r.message)
+    if ml is not None:
+        print(f"  with {ml.pieces} pieces: {ml.describe()}")
+    print(f"  {len(r.evaluations)} forward runs")
+    print("\n" + CAUTION)
+    return EXIT_OK if r.pieces is not None else EXIT_CHECK_FAILED
 
 
 # --- required ----------------------------------------------------------------------------------------------
@@ -167,6 +216,8 @@ def cmd_required(args) -> int:
     )
     lib = load_library_of(args)
     plan = load_plan_of(args.plan, lib)
+    if args.parameter == "pieces":
+        return _cmd_pieces(args, lib, plan)
 
     def prog(n, v, m):
         if not args.quiet:
@@ -194,6 +245,27 @@ def cmd_required(args) -> int:
         print(f"  note: {n}")
     print("\n" + CAUTION)
     return EXIT_OK if r.achievable else EXIT_CHECK_FAILED
+
+
+def cmd_brining_time(args) -> int:
+    """``procplan brining-time``: how long a brining step must run for a core (or mean) salt target."""
+    from procplan.studies.brining import required_brining_time_s
+
+    lib = load_library_of(args)
+    plan = load_plan_of(args.plan, lib)
+    t = required_brining_time_s(
+        plan, args.step, core_percent=args.core_percent, mean_percent=args.mean_percent, library=lib
+    )
+    where, pct = ("core", args.core_percent) if args.core_percent is not None else ("mean", args.mean_percent)
+    if args.json:
+        _dump(
+            {"step": args.step, "point": where, "salt_percent": pct, "time_min": t / 60.0, "caution": CAUTION}
+        )
+        return EXIT_OK
+    name = plan.steps[args.step].name
+    print(f"'{name}': the {where} reaches {pct:g} % salt after {t / 60.0:.0f} min ({t / 3600.0:.1f} h)")
+    print("\n" + CAUTION)
+    return EXIT_OK
 
 
 # --- variability --------------------------------------------------------------------------------------------
@@ -430,6 +502,7 @@ def cmd_sweep(args) -> int:
             executor=ex,
             n_nodes=args.n_nodes,
             progress=_progress(args, "pairs", args.every),
+            pieces=args.pieces,
         )
     finally:
         if ex is not None:
@@ -455,9 +528,13 @@ def _print_sweep(res) -> None:
             print(f"  {r['product']:<24} {r['equipment']:<16} invalid: {r['error']}")
             continue
         rule = "" if r["rule_passed"] is None else (" rule PASS" if r["rule_passed"] else " rule FAIL")
+        short = r.get("capacity_shortfall_kW")
+        short = (
+            f"; plant short by {short:.1f} kW" if short is not None and short == short and short > 0 else ""
+        )
         print(
             f"  {r['product']:<24} {r['equipment']:<16} {r['process']:<8} {r['start_C']:g}→{r['target_C']:g} °C: "
-            f"{_fmt(r['time_to_target_min'])} (plan {_fmt(r['plan_time_min'])}){rule}"
+            f"{_fmt(r['time_to_target_min'])} (plan {_fmt(r['plan_time_min'])}){rule}{short}"
         )
     if res.skipped:
         print("  skipped machines: " + ", ".join(res.skipped))

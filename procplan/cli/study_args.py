@@ -6,7 +6,14 @@
 from __future__ import annotations
 
 from procplan.caution import CAUTION
-from procplan.cli.studies import cmd_calibrate, cmd_compare, cmd_required, cmd_sweep, cmd_variability
+from procplan.cli.studies import (
+    cmd_brining_time,
+    cmd_calibrate,
+    cmd_compare,
+    cmd_required,
+    cmd_sweep,
+    cmd_variability,
+)
 
 _FORCE_HELP = "replace an existing --csv file"
 
@@ -55,8 +62,9 @@ def _add_required(subparsers) -> None:
     r.add_argument(
         "--parameter",
         required=True,
-        choices=sorted(PARAMETERS),
-        help="; ".join(f"{k}: {v.description}" for k, v in PARAMETERS.items()),
+        choices=sorted([*PARAMETERS, "pieces"]),
+        help="; ".join(f"{k}: {v.description}" for k, v in PARAMETERS.items())
+        + "; pieces: the largest batch (pieces per batch) that still meets the goal in a loaded machine",
     )
     r.add_argument(
         "--goal",
@@ -73,6 +81,23 @@ def _add_required(subparsers) -> None:
     r.add_argument("--json", action="store_true", help="print the answer as JSON")
     r.add_argument("--quiet", action="store_true", help="no progress on stderr")
     r.set_defaults(func=cmd_required)
+
+
+def _add_brining_time(subparsers) -> None:
+    """``procplan brining-time``."""
+    b = subparsers.add_parser(
+        "brining-time",
+        help="time a brining step needs for a core or mean salt target",
+        description="Required brining time: the plan runs up to the brining step with the target as its salt stop "
+        "(the step's duration is the search bound). " + CAUTION,
+    )
+    b.add_argument("plan", help="plan file (TOML) or library plan name")
+    b.add_argument("--step", type=int, default=0, help="index of the brining step (default 0)")
+    g = b.add_mutually_exclusive_group(required=True)
+    g.add_argument("--core-percent", type=float, help="salt at the core [%% of the product's mass]")
+    g.add_argument("--mean-percent", type=float, help="mean salt [%% of the product's mass]")
+    b.add_argument("--json", action="store_true", help="print the answer as JSON")
+    b.set_defaults(func=cmd_brining_time)
 
 
 def _add_variability(subparsers) -> None:
@@ -174,6 +199,12 @@ def _add_sweep(subparsers) -> None:
     s.add_argument("--products", help="comma-separated product names (default: all)")
     s.add_argument("--equipment", help="comma-separated machine ids (default: all)")
     s.add_argument("--kinds", help="comma-separated machine kinds (default: all)")
+    s.add_argument(
+        "--pieces",
+        type=int,
+        default=1,
+        help="pieces per batch in every machine (a machine with a thermal description reports its shortfall)",
+    )
     s.add_argument("--workers", type=int, default=None, help="processes (default: sequential)")
     s.add_argument(
         "--n-nodes", type=int, default=None, help="finite-volume nodes per axis (coarser is faster)"
@@ -193,6 +224,7 @@ COMMANDS = {
     "variability": (_add_variability, "Monte Carlo percentiles of time to target and lethality"),
     "calibrate": (_add_calibrate, "fit the effective h to a temperature-logger file"),
     "sweep": (_add_sweep, "every product in every suitable machine"),
+    "brining-time": (_add_brining_time, "time a brining step needs for a core or mean salt target"),
 }
 
 

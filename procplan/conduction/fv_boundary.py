@@ -9,6 +9,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass, field
+from typing import Any
 
 import numpy as np
 
@@ -159,6 +160,8 @@ class SurfaceBoundary:
     h_W_m2K : surface heat-transfer coefficient [W/m²K], > 0, in the same forms
     q_extra_W_m2 : optional callable ``q(t_s, T_surface_C) -> W/m²`` (vectorised over surface temperatures),
         positive into the product, e.g. evaporative cooling (negative)
+    medium_node : optional :class:`procplan.conduction.fv_medium.MediumNode`: the medium is then solved with
+        the pieces (``medium_C`` is its set point) instead of being given
 
     >>> b = SurfaceBoundary(2.0, ([0.0, 3600.0], [20.0, 40.0]))
     >>> b.h(1800.0)
@@ -168,6 +171,7 @@ class SurfaceBoundary:
     medium_C: TimeProfile | float | tuple
     h_W_m2K: TimeProfile | float | tuple
     q_extra_W_m2: Callable | None = None
+    medium_node: Any = None
     _m: TimeProfile = field(init=False, repr=False)
     _h: TimeProfile = field(init=False, repr=False)
 

@@ -53,6 +53,8 @@ class FVModel:
         if self.dim > 1:
             self._perm, self._indices, self._indptr = sparse_pattern(self.fi, self.fj, self.n)
         self.has_q = boundary.q_extra_W_m2 is not None
+        #: the medium solved with the pieces (procplan.conduction.fv_medium.MediumNode), None: a given medium
+        self.medium_node = boundary.medium_node
         self.factors = Factorisation(
             self.dim
         )  # the Newton matrix's LU kept across iterations and steps (2-D, 3-D)
@@ -85,10 +87,17 @@ class FVModel:
         w = 2.0 * self.fg / (s * s)
         return G, w * kj * kj * dk[self.fi], w * ki * ki * dk[self.fj]
 
-    def surface_flux(self, t: float, Ts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """Heat into each surface cell [W] and its derivative with respect to the cell temperature [W/K]."""
+    def medium_at(self, t: float) -> float:
+        """The medium temperature [°C] at t: the boundary's, or the coupled medium's latest solution."""
+        return self.boundary.medium(t) if self.medium_node is None else self.medium_node.latest_C
+
+    def surface_flux(
+        self, t: float, Ts: np.ndarray, medium_C: float | None = None
+    ) -> tuple[np.ndarray, np.ndarray]:
+        """Heat into each surface cell [W] and its derivative with respect to the cell temperature [W/K]
+        (with the medium at ``medium_C``, default :meth:`medium_at`)."""
         h = self.boundary.h(t)
-        q = h * (self.boundary.medium(t) - Ts)
+        q = h * ((self.medium_at(t) if medium_C is None else medium_C) - Ts)
         dq = np.full(Ts.shape, -h)
         if self.has_q:
             eps = 1e-3
@@ -98,7 +107,9 @@ class FVModel:
             dq = dq + (q1 - q0) / eps
         return self.sa * q, self.sa * dq
 
-    def net_flow(self, t: float, T: np.ndarray, G: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    def net_flow(
+        self, t: float, T: np.ndarray, G: np.ndarray, medium_C: float | None = None
+    ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         flux = G * (T[self.fj] - T[self.fi])
         if self.dim == 1:
             F = np.zeros(self.n)
@@ -106,15 +117,19 @@ class FVModel:
             F[1:] -= flux
         else:
             F = np.bincount(self.fi, flux, self.n) - np.bincount(self.fj, flux, self.n)
-        qs, dqs = self.surface_flux(t, T[self.sc])
+        qs, dqs = self.surface_flux(t, T[self.sc], medium_C)
         F[self.sc] += qs
         return F, qs, dqs
 
-    def heat_flow_W(self, t: float, H: np.ndarray) -> float:
-        qs, _ = self.surface_flux(t, self.temperature(H[self.sc]))
+    def heat_flow_W(self, t: float, H: np.ndarray, medium_C: float | None = None) -> float:
+        """Heat into the whole piece [W] (the grid's surface times the pieces it stands for)."""
+        qs, _ = self.surface_flux(t, self.temperature(H[self.sc]), medium_C)
         return float(qs.sum()) * self.grid.piece_factor
 
     # -- one implicit step (procplan.conduction.fv_newton) ---------------------------------
     def solve_step(self, t1: float, dt: float, a: float, hist: np.ndarray, Hn: np.ndarray, H0: np.ndarray):
-        """Solve m (a H − hist)/dt = F(T(H)) at t1. Returns (H, iterations) or (None, iterations)."""
+        """Solve m (a H − hist)/dt = F(T(H)) at t1. Returns (H, iterations) or (None, iterations).
+        With a coupled medium, its node solves the step with the pieces (procplan.conduction.fv_medium)."""
+        if self.medium_node is not None:
+            return self.medium_node.solve_step(self, solve_step, t1, dt, a, hist, Hn, H0)
         return solve_step(self, t1, dt, a, hist, Hn, H0)

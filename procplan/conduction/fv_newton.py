@@ -20,31 +20,47 @@ if TYPE_CHECKING:
 __all__ = ["linear_on", "solve_step", "solve_step_1d"]
 
 _MAX_NEWTON = 40
+#: Newton tolerance of a free medium temperature [K].
+_TOL_MEDIUM_K = 1e-7
 _SECANT_AFTER = 8
 
 
 def solve_step(
-    model: FVModel, t1: float, dt: float, a: float, hist: np.ndarray, Hn: np.ndarray, H0: np.ndarray
+    model: FVModel,
+    t1: float,
+    dt: float,
+    a: float,
+    hist: np.ndarray,
+    Hn: np.ndarray,
+    H0: np.ndarray,
+    coupling=None,
 ):
     """Solve m (a H − hist)/dt = F(T(H)) at t1. Returns (H, iterations) or (None, iterations).
 
     2-D and 3-D: each Newton system is solved with a kept factorisation as preconditioner where it serves
     (:func:`procplan.conduction.fv_linear.linear_solve`), to a linear residual well below the Newton tolerance.
+    ``coupling`` (a :class:`procplan.conduction.fv_medium.MediumCoupling`) gives the medium temperature; when
+    it is free, the medium balance is solved with the pieces by the bordered Newton system (Schur complement:
+    a second solve with the same matrix for the column of the medium).
     """
     if model.dim == 1:
-        return solve_step_1d(model, t1, dt, a, hist, Hn, H0)
+        return solve_step_1d(model, t1, dt, a, hist, Hn, H0, coupling)
     M = model.mass
     md = a * M / dt
     tol = 1e-6 * model.cp_min  # J/kg, about a micro-kelvin of sensible heat
     H = H0.copy()
     Hold = Told = None
+    free = coupling is not None and coupling.free
     for it in range(1, _MAX_NEWTON + 1):
         T = model.temperature(H)
         G, dGi, dGj = model.conductance(T, derivatives=True)
-        F, _, dqs = model.net_flow(t1, T, G)
+        F, qs, dqs = model.net_flow(t1, T, G, None if coupling is None else coupling.E)
         R = md * H - (M / dt) * hist - F
         err = float(np.max(np.abs(R) / md))
-        if err < tol:
+        if free:
+            h = float(model.boundary.h(t1))
+            RE, dRE = coupling.residual(float(qs.sum()), h * float(model.sa.sum()))
+        if err < tol and (not free or abs(RE) < _TOL_MEDIUM_K * coupling.a_C_dt):
             return H, it - 1
         direction = np.sign(H - Hn)
         direction = np.where(direction == 0, -np.sign(R), direction)
@@ -57,7 +73,16 @@ def solve_step(
         dTf = T[model.fj] - T[model.fi]
         # the linear residual left by the solve: about 1 % of the Newton tolerance in the next residual
         rtol = min(1e-3, max(1e-12, 0.01 * tol / err))
-        delta = linear_solve(model, md, -G + dTf * dGi, G + dTf * dGj, dqs, D, -R, a / dt, rtol)
+        af, bf = -G + dTf * dGi, G + dTf * dGj
+        delta = linear_solve(model, md, af, bf, dqs, D, -R, a / dt, rtol)
+        if free:
+            u = np.zeros(model.n)
+            u[model.sc] = -model.sa * h  # ∂R/∂E
+            x2 = linear_solve(model, md, af, bf, dqs, D, u, a / dt, rtol)
+            c = coupling.weight * dqs * D[model.sc]  # ∂R_E/∂H on the surface cells
+            dE = (-RE - float(c @ delta[model.sc])) / (dRE - float(c @ x2[model.sc]))
+            delta = delta - x2 * dE
+            coupling.E += dE
         if not np.all(np.isfinite(delta)):
             return None, it
         if model.kinks.size and it <= _SECANT_AFTER:
@@ -75,8 +100,9 @@ def _stop_on_kinks(kinks: np.ndarray, H: np.ndarray, delta: np.ndarray) -> tuple
         return np.where(cut, frac * delta, delta), cut
 
 
-def solve_step_1d(model: FVModel, t1, dt, a, hist, Hn, H0):
-    """The same Newton iteration as :func:`solve_step`, written with slices for the 1-D tridiagonal case."""
+def solve_step_1d(model: FVModel, t1, dt, a, hist, Hn, H0, coupling=None):
+    """The same Newton iteration as :func:`solve_step`, written with slices for the 1-D tridiagonal case
+    (a free medium: the two right-hand sides of the bordered system in one ``gtsv`` call)."""
     M = model.mass
     md = a * M / dt
     rhs0 = (M / dt) * hist
@@ -85,12 +111,15 @@ def solve_step_1d(model: FVModel, t1, dt, a, hist, Hn, H0):
     hg, slope, nseg, nks = model.h_grid, model.slope, model.nseg, ksl.size
     fg, area, kinks = model.fg, model.sa[0], model.kinks
     h = float(model.boundary.h(t1))
-    tm = float(model.boundary.medium(t1))
+    tm = float(model.boundary.medium(t1)) if coupling is None else coupling.E
+    free = coupling is not None and coupling.free
     has_q = model.has_q
     n = model.n
     H = H0.copy()
     dd = np.empty(n)
     for it in range(1, _MAX_NEWTON + 1):
+        if free:
+            tm = coupling.E
         T = np.interp(H, hx, tx)
         k = np.interp(T, tk, kk)
         ki, kj = k[:-1], k[1:]
@@ -112,7 +141,8 @@ def solve_step_1d(model: FVModel, t1, dt, a, hist, Hn, H0):
             dqs += (q1 - q0) / 1e-3
         F[-1] += area * qs
         R = md * H - rhs0 - F
-        if np.max(np.abs(R) / md) < tol:
+        RE, dRE = coupling.residual(area * qs, h * area) if free else (0.0, 1.0)
+        if np.max(np.abs(R) / md) < tol and (not free or abs(RE) < _TOL_MEDIUM_K * coupling.a_C_dt):
             return H, it - 1
         # dT/dH on the segment H moves into
         idx = np.searchsorted(hg, H, side="right") - 1
@@ -133,7 +163,8 @@ def solve_step_1d(model: FVModel, t1, dt, a, hist, Hn, H0):
         dd[:-1] = af
         dd[-1] = area * dqs
         dd[1:] -= bf
-        _, _, _, delta, info = _gtsv(af * D[:-1], md - dd * D, -bf * D[1:], -R, 1, 1, 1, 1)
+        border = (coupling, RE, dRE, area * h, area * dqs * D[-1]) if free else None
+        delta, info = _tridiagonal_update(af * D[:-1], md - dd * D, -bf * D[1:], R, border)
         if info != 0 or not np.all(np.isfinite(delta)):
             return None, it
         if kinks.size:
@@ -141,9 +172,26 @@ def solve_step_1d(model: FVModel, t1, dt, a, hist, Hn, H0):
         else:
             cut = np.zeros(1, dtype=bool)
         H = H + delta
-        if not cut.any() and linear_on(model, idx, H, has_q):
+        if not free and not cut.any() and linear_on(model, idx, H, has_q):
             return H, it
     return None, _MAX_NEWTON
+
+
+def _tridiagonal_update(lower, diag, upper, R, border):
+    """The Newton update of the 1-D system; with ``border`` = (coupling, R_E, dR_E/dE, h A, ∂q_s/∂H A), the
+    bordered system of the free medium, by the Schur complement with both right-hand sides in one ``gtsv``."""
+    if border is None:
+        _, _, _, delta, info = _gtsv(lower, diag, upper, -R, 1, 1, 1, 1)
+        return delta, info
+    coupling, RE, dRE, hA, dqA = border
+    B = np.zeros((R.size, 2), order="F")
+    B[:, 0] = -R
+    B[-1, 1] = -hA  # ∂R/∂E: the medium enters the surface node's balance only
+    _, _, _, X, info = _gtsv(lower, diag, upper, B, 1, 1, 1, 1)
+    c = coupling.weight * dqA  # ∂R_E/∂H of the surface node
+    dE = (-RE - c * X[-1, 0]) / (dRE - c * X[-1, 1])
+    coupling.E += dE
+    return X[:, 0] - X[:, 1] * dE, info
 
 
 def linear_on(model: FVModel, idx: np.ndarray, H: np.ndarray, has_q: bool) -> bool:

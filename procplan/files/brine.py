@@ -99,7 +99,7 @@ def _diffusivity(c: Collector, data: Mapping[str, Any], p: str, solute: str):
     if key is not None:
         if not isinstance(key, str) or key not in DIFFUSIVITIES:
             c.add(InvalidInputError(p + "diffusivity", key, f"one of {', '.join(DIFFUSIVITIES)}"))
-        elif solute == "salt" and DIFFUSIVITIES[key].solute != "NaCl":
+        elif DIFFUSIVITIES[key].solute != {"salt": "NaCl", "sugar": "sucrose"}.get(solute):
             c.add(InvalidInputError(p + "diffusivity", key, "a record of the step's solute"))
         if "D_m2_s" in data:
             c.add(InvalidInputError(p + "D_m2_s", data["D_m2_s"], "diffusivity or D_m2_s, not both"))

@@ -21,6 +21,7 @@ from procplan.surface.machines import (
     Equipment,
     SettingRange,
 )
+from procplan.surface.plant import THERMAL_FIELDS, MachineThermal
 from procplan.surface.ranges import EQUIPMENT_KINDS
 
 _ID = re.compile(r"^[a-z0-9][a-z0-9-]{0,63}$")
@@ -36,6 +37,7 @@ EQUIPMENT_KEYS = (
     "condensing_C",
     "brine_nacl_fraction",
     "settings",
+    "thermal",
 )
 
 
@@ -162,10 +164,56 @@ def equipment_from_dict(data: Mapping[str, Any], source: str = "equipment") -> E
                     f"below the lowest {tkey} = {settings[tkey].minimum:g} °C (heat flows from the medium to the refrigerant)",
                 )
             )
+    thermal = _thermal_from_dict(c, data.get("thermal"), evap)
     c.raise_if_any()
     return Equipment(
-        eid, name, kind, medium, MappingProxyType(settings), capacity, evap, cond, description, plant, nacl
+        eid,
+        name,
+        kind,
+        medium,
+        MappingProxyType(settings),
+        capacity,
+        evap,
+        cond,
+        description,
+        plant,
+        nacl,
+        thermal=thermal,
     )
+
+
+def _thermal_from_dict(c: Collector, raw: Any, evaporating_C: float | None) -> MachineThermal | None:
+    """The optional ``[thermal]`` table (file units: kW for the fixed loads); None when absent."""
+    if raw is None:
+        return None
+    if not isinstance(raw, Mapping):
+        c.add(
+            InvalidInputError(
+                "thermal", raw, "a table such as { medium_volume_m3 = 12, structure_mass_kg = 900 }"
+            )
+        )
+        return None
+    by_key = {key: (name, unit, lo, hi) for name, (key, unit, lo, hi) in THERMAL_FIELDS.items()}
+    check_keys(c, raw, tuple(by_key), "thermal.")
+    values: dict[str, float] = {}
+    for key, (name, unit, lo, hi) in by_key.items():
+        if key not in raw:
+            continue
+        with c.catch():
+            x = validate.number(f"thermal.{key}", raw[key], minimum=lo, maximum=hi, unit=unit)
+            values[name] = x * 1e3 if unit == "kW" else x
+    if "medium_volume_m3" not in raw:
+        c.add(InvalidInputError("thermal.medium_volume_m3", None, "a volume in m³", "required in [thermal]"))
+        return None
+    rated = values.get("rated_medium_C")
+    evap_ok = not any(getattr(e, "field", "") == "evaporating_C" for e in c.problems)
+    if rated is not None and evaporating_C is not None and evap_ok and rated <= evaporating_C:
+        c.add(
+            InvalidInputError("thermal.rated_medium_C", rated, f"above evaporating_C = {evaporating_C:g} °C")
+        )
+    if len(values) < len([k for k in raw if k in by_key]):
+        return None
+    return MachineThermal(**values)
 
 
 def _setting_range(c: Collector, field_name: str, key: str, spec: Any) -> SettingRange | None:
@@ -258,4 +306,11 @@ def equipment_to_dict(equipment: Equipment) -> dict[str, Any]:
     d["settings"] = {
         k: {"min": r.minimum, "max": r.maximum, "default": r.default} for k, r in equipment.settings.items()
     }
+    th = equipment.thermal
+    if th is not None:
+        d["thermal"] = {
+            key: (getattr(th, name) / 1e3 if unit == "kW" else getattr(th, name))
+            for name, (key, unit, _, _) in THERMAL_FIELDS.items()
+            if getattr(th, name) is not None
+        }
     return d

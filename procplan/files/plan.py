@@ -9,16 +9,29 @@ from __future__ import annotations
 
 import os
 from collections.abc import Mapping
+from dataclasses import replace
 from pathlib import Path
 from typing import Any
 
 from procplan import validate
 from procplan.errors import Collector, InvalidInputError
 from procplan.files.fields import T_HI, T_LO, check_keys, file_number, optional, product_temperature
+from procplan.files.packing import packing_from_dict, packing_to_dict
 from procplan.files.product import product_freezing_C, product_from_dict, product_to_dict
 from procplan.files.steps import step_from_dict, step_to_dict
 from procplan.files.tomlfile import dump_toml, parse_toml, read_toml, write_atomic
-from procplan.model import MAX_STEP_MIN, POINTS, SOLVERS, Checks, LethalityCheck, Plan, Product, Step
+from procplan.model import (
+    LOAD_MODELS,
+    MAX_STEP_MIN,
+    POINTS,
+    SOLVERS,
+    Checks,
+    LethalityCheck,
+    Load,
+    Plan,
+    Product,
+    Step,
+)
 
 CHECK_KEYS = (
     "cooling_rule",
@@ -31,7 +44,8 @@ CHECK_KEYS = (
     "frozen_storage_C",
 )
 LETHALITY_KEYS = ("preset", "reference_C", "z_C", "required_F_min", "d_value_min", "point")
-PLAN_KEYS = ("title", "notes", "solver", "product", "start", "steps", "checks")
+PLAN_KEYS = ("title", "notes", "solver", "product", "start", "steps", "checks", "packing", "load")
+LOAD_KEYS = ("pieces", "model")
 
 
 def _lethality_table(c: Collector, raw: Mapping[str, Any], lp: str) -> LethalityCheck:
@@ -227,7 +241,14 @@ def plan_from_dict(data: Mapping[str, Any], source: str = "plan", library=None) 
     t0 = _start(c, data)
     steps = _steps(c, data, source, library)
     checks = _plan_checks(c, data, source, library)
+    load, pieces = _load(c, data, checks)
+    if checks is not None and pieces is not None:
+        checks = replace(checks, pieces_per_batch=pieces)
     notes = str(data.get("notes", ""))
+    packing = None
+    if "packing" in data:
+        with c.catch():
+            packing = packing_from_dict(data["packing"], source)
     if product is not None:
         _check_frozen_storage(c, product, checks, data.get("checks"))
     if t0 is not None and steps:
@@ -241,7 +262,41 @@ def plan_from_dict(data: Mapping[str, Any], source: str = "plan", library=None) 
         checks=checks,
         solver=solver,
         notes=notes,
+        packing=packing,
+        load=load,
     )
+
+
+def _load(c: Collector, data: Mapping[str, Any], checks: Checks | None) -> tuple[Load, int | None]:
+    """The ``[load]`` table: the load model and the pieces per batch (the same number as
+    ``checks.pieces_per_batch``, which older plans give; both given must agree)."""
+    raw = data.get("load", {})
+    if not isinstance(raw, Mapping):
+        c.add(InvalidInputError("load", raw, 'a table such as { pieces = 60, model = "loaded" }'))
+        return Load(), None
+    check_keys(c, raw, LOAD_KEYS, "load.")
+    model = raw.get("model", "loaded")
+    with c.catch():
+        validate.choice("load.model", model, LOAD_MODELS)
+    pieces = raw.get("pieces")
+    if pieces is not None:
+        if isinstance(pieces, bool) or not isinstance(pieces, int) or not (1 <= pieces <= 10_000_000):
+            c.add(InvalidInputError("load.pieces", pieces, "a whole number from 1 to 10 000 000"))
+            pieces = None
+        elif (
+            isinstance(data.get("checks"), Mapping)
+            and "pieces_per_batch" in data["checks"]
+            and checks is not None
+            and checks.pieces_per_batch != pieces
+        ):
+            c.add(
+                InvalidInputError(
+                    "load.pieces",
+                    pieces,
+                    f"checks.pieces_per_batch = {checks.pieces_per_batch} (one batch size)",
+                )
+            )
+    return Load(model if model in LOAD_MODELS else "loaded"), pieces
 
 
 def _check_frozen_storage(c: Collector, product: Product, checks: Checks, raw_checks: Any) -> None:
@@ -362,6 +417,10 @@ def plan_to_dict(plan: Plan) -> dict[str, Any]:
     ch = checks_to_dict(plan.checks)
     if ch:
         d["checks"] = ch
+    if plan.packing is not None:
+        d["packing"] = packing_to_dict(plan.packing)
+    if plan.load != Load():
+        d["load"] = {"model": plan.load.model}
     return d
 
 

@@ -33,6 +33,7 @@ STEP_KEYS = (
     "surroundings_C",
     "targets",
     "brine",
+    "loading_medium_C",
 )
 
 
@@ -255,6 +256,9 @@ def step_from_dict(data: Mapping[str, Any], index: int, source: str = "plan") ->
     surroundings = optional(c, data, "surroundings_C", p, medium_temperature)
     targets = _targets(c, data, p)
     brine = brine_from_dict(c, data["brine"], p + "brine.") if "brine" in data else None
+    loading = optional(c, data, "loading_medium_C", p, medium_temperature)
+    if loading is not None and equipment is None:
+        c.add(InvalidInputError(p + "loading_medium_C", loading, "only with an equipment name"))
     c.raise_if_any()
     return Step(
         name=name,
@@ -271,6 +275,7 @@ def step_from_dict(data: Mapping[str, Any], index: int, source: str = "plan") ->
         targets=targets,
         duration_given=duration_given,
         brine=brine,
+        loading_medium_C=loading,
     )
 
 
@@ -285,6 +290,8 @@ def step_to_dict(s: Step) -> dict[str, Any]:
         d["equipment"] = s.equipment
         if s.settings:
             d["settings"] = {k: file_number(v) for k, v in s.settings}
+        if s.loading_medium_C is not None:
+            d["loading_medium_C"] = file_number(s.loading_medium_C)
         if s.settings_profile:
             d["settings_profile"] = [
                 {"time_min": file_number(t / 60.0), **{k: file_number(v) for k, v in row}}

@@ -40,6 +40,7 @@ def summary_dict(result) -> dict[str, Any]:
         "unreliable_reasons": list(getattr(result, "unreliable_reasons", ())),
         "procplan_version": __version__,
         "caution": CAUTION,
+        "load": {"model": plan.load.model, "pieces": plan.pieces},
     }
     for sr in result.steps:
         out["steps"].append(
@@ -59,6 +60,7 @@ def summary_dict(result) -> dict[str, Any]:
                 "details": {k: v for k, v in _plain(sr.details).items() if v is not None},
                 "warnings": list(sr.warnings),
                 "unreliable_reason": getattr(sr, "unreliable_reason", None),
+                "machine_load": _machine_load_dict(sr),
             }
         )
         if getattr(sr, "drying", None) is not None:
@@ -67,7 +69,34 @@ def summary_dict(result) -> dict[str, Any]:
             out["steps"][-1]["brine"] = brine_dict(sr.mass)
     if result.outcomes is not None:
         out["outcomes"] = _plain(result.outcomes)
+    if getattr(result, "packing", None) is not None:
+        out["packing"] = packing_dict(result.packing)
     return out
+
+
+def packing_dict(packed) -> dict[str, Any]:
+    """A packed load (``PlanResult.packing``) as plain data: what the load is, and its positions beside the
+    single free piece (times in minutes to the plan's first stop temperature or target)."""
+    load = packed.load
+    return {
+        "load": {k: v for k, v in _plain(load).items() if k not in ("warnings", "geometry")}
+        | {"geometry": load.geometry.describe(), "pieces": load.pieces},
+        "target_C": packed.target_C,
+        "positions": [
+            {"name": p.name, "end_C": p.end_C, "time_to_target_min": _minutes(p.time_to_target_s)}
+            for p in packed.positions
+        ],
+        "single_piece_mass_kg": packed.single.piece_mass_kg,
+    }
+
+
+def _machine_load_dict(sr) -> dict[str, Any] | None:
+    """How the machine carried the batch (loaded step), or the note of an empty-machine run, or None."""
+    ml = getattr(sr, "machine_load", None)
+    if ml is not None:
+        return {**_plain(ml), "held": ml.held, "summary": ml.describe()}
+    note = getattr(sr, "load_note", None)
+    return None if note is None else {"empty_machine": True, "summary": note}
 
 
 def history_dict(result) -> dict[str, list]:
@@ -137,10 +166,16 @@ def summary_text(result, site=None) -> str:
     """A readable summary for the terminal; ``site`` (SiteSettings, optional) sets the display units of
     temperatures, process times and rule limits (default °C and minutes)."""
     plan = result.plan
+    packed = getattr(result, "packing", None)
     lines = [
         f"{plan.title}",
-        f"  product: {plan.product.name}, {plan.product.geometry.describe()}, {result.piece_mass_kg:.3f} kg per piece",
+        f"  product: {plan.product.name}, {plan.product.geometry.describe()}, {result.piece_mass_kg:.3f} kg per "
+        + ("piece" if packed is None else "load"),
     ]
+    if packed is not None:
+        from procplan.run.packing import packed_lines
+
+        lines += packed_lines(packed)
     for reason in getattr(result, "unreliable_reasons", ()):
         lines.append(f"  UNRELIABLE: {reason}")
     lines.append(f"  properties: {result.properties.source}")
@@ -182,6 +217,9 @@ def _step_lines(result, site=None) -> list[str]:
             lines.append(_drying_line(sr.drying, site))
         if getattr(sr, "mass", None) is not None:
             lines += brine_lines(sr.mass)
+        ml = _machine_load_dict(sr)
+        if ml is not None:
+            lines.append(f"    machine: {ml['summary']}")
     return lines
 
 

@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import hashlib
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -49,6 +49,8 @@ class Checkpoint:
     rule : True when the limit is a rule's stage or band limit
     limit_label : the action limit as printed, when it is a rule's published figure ("≤ 70 °F"); "" to
         print ``low_C``/``high_C`` in the display unit
+    medium_C : the predicted medium (air, water) temperature [°C] when the step's plant cannot hold its set
+        point (a loaded machine), so that the reading of the machine's own display can be checked too
     """
 
     time_min: float
@@ -61,6 +63,8 @@ class Checkpoint:
     action: str
     rule: bool = False
     limit_label: str = ""
+    #: the predicted medium temperature at that time [°C], given when the step's plant runs at its limit
+    medium_C: float | None = None
 
 
 @dataclass(frozen=True)
@@ -166,7 +170,18 @@ def checkpoints(result, tolerance_K: float = 1.0, site=None) -> tuple[Checkpoint
     unit = site.temperature_unit if site is not None else "C"
     cps += _rule_checkpoints(result, oc, t_end, unit, fmt_t)
     cps += _lethality_checkpoints(result, oc, t_end, tolerance_K)
-    return _merge(cps)
+    return tuple(_with_medium(result, c) for c in _merge(cps))
+
+
+def _with_medium(result, c: Checkpoint) -> Checkpoint:
+    """The checkpoint with the predicted medium temperature when its step's plant ran at its limit."""
+    sr = result.steps[_step_index_at(result, c.time_min * 60.0)]
+    ml = getattr(sr, "machine_load", None)
+    if ml is None or ml.held or "medium_C" not in result.history:
+        return c
+    h = result.history
+    medium = float(np.interp(c.time_min * 60.0, h["time_s"].to_numpy(), h["medium_C"].to_numpy()))
+    return replace(c, medium_C=medium)
 
 
 def _step_checkpoints(result, oc, t_end: float, tolerance_K: float, fmt_T) -> list[Checkpoint]:

@@ -33,6 +33,8 @@ def difference_text(site: SiteSettings, difference_K: float) -> str:
 def expected_cell(st: Styles, site: SiteSettings, c):
     """The expected temperature; marked when the prediction itself lies beyond the action limit."""
     text = site.format_temperature(c.expected_C)
+    if getattr(c, "medium_C", None) is not None:
+        text += f" (machine at {site.format_temperature(c.medium_C)})"
     outside = (c.low_C is not None and c.expected_C < c.low_C - 1e-9) or (
         c.high_C is not None and c.expected_C > c.high_C + 1e-9
     )
@@ -154,6 +156,7 @@ def product_section(result, site, st, W):
                 st.p("unwrapped (moisture loss)" if prod.unwrapped else "wrapped"),
             ]
         )
+    rows += _packed_rows(result, site, st)
     t1 = table(rows, cols(W, [0.15, 0.47, 0.17, 0.21]), st, header=False)
     eq_rows = [["Step", "Machine", "Settings", "Medium", "h [W/m²K]"]]
     for sr, step in zip(result.steps, plan.steps, strict=True):
@@ -168,6 +171,31 @@ def product_section(result, site, st, W):
         )
     t2 = table(eq_rows, cols(W, [0.15, 0.27, 0.34, 0.13, 0.11]), st)
     return [*st.h("Product and equipment"), t1, Spacer(1, 3), t2]
+
+
+def _packed_rows(result, site, st) -> list:
+    """A packed load: what it is, and its slowest and fastest positions beside the single free piece."""
+    packed = getattr(result, "packing", None)
+    if packed is None:
+        return []
+    load = packed.load
+    goal = "" if packed.target_C is None else f"time to {site.format_temperature(packed.target_C)}: "
+    where = "; ".join(
+        f"{p.name} "
+        + ("not reached" if p.time_to_target_s is None else site.format_time(p.time_to_target_s / 60.0))
+        for p in packed.positions
+    )
+    return [
+        [
+            st.b("Packed load"),
+            st.p(
+                f"{load.description}, {load.pieces} pieces; air between pieces {load.void_fraction:.0%}; "
+                f"effective conductivity {load.k_W_mK:.3f} W/mK (as low as {load.k_low_W_mK:.3f})"
+            ),
+            st.b("Positions"),
+            st.p(goal + where if packed.target_C is not None else where),
+        ]
+    ]
 
 
 def _target_cells(tg, sr, step, site: SiteSettings, st: Styles) -> tuple:

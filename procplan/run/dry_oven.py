@@ -307,16 +307,15 @@ def yield_percent(losses) -> float | None:
     return 100.0 * float(np.prod([1.0 - pct / 100.0 for _, pct in losses]))
 
 
-def dry_oven_step(product, props, initial, surface, step, n_nodes, time_settings: dict):
-    """The engine's dry-air step: (heat result, DryingSummary), or None when the product's category has no
-    published isotherm and moisture diffusivity (the plain heat step runs then)."""
+def dry_oven_step(geometry, props, initial, surface, step, n_nodes, time_settings: dict):
+    """The engine's dry-air step: (heat result, DryingSummary), or None for a step without drying."""
     from procplan.run.budget import MAX_TIME_STEPS_PER_STEP
 
-    model = DryOvenModel.for_product(product, props, surface.drying_air)
+    model = getattr(surface, "drying_air", None)
     if model is None:
         return None
     res = solve_dry_oven(
-        product.geometry,
+        geometry,
         props,
         initial,
         surface.boundary(),
@@ -327,4 +326,32 @@ def dry_oven_step(product, props, initial, surface, step, n_nodes, time_settings
         max_steps=MAX_TIME_STEPS_PER_STEP,
         **time_settings,
     )
-    return res.heat, summarise(res, model, props.mass_density_kg_m3 * product.geometry.volume_m3)
+    return res.heat, summarise(res, model, props.mass_density_kg_m3 * geometry.volume_m3)
+
+
+def carried_field(run, props):
+    """The field the next step starts from; a dried crust above the property model's range (a roast's surface
+    in a hot oven) is cut to the range's top, which takes out a little heat (the slower side)."""
+    if run.fv is None or run.drying is None:
+        return None if run.fv is None else run.fv.final_field
+    return np.minimum(run.fv.final_field, float(props.temperature_C[-1]))
+
+
+def range_warnings(history, props, dried: bool = False) -> list[str]:
+    """Warnings on temperatures the model carries only roughly: boiling (not when a dry-air step carried the
+    moisture), and outside the property model."""
+    out = []
+    lo, hi = float(props.temperature_C[0]), float(props.temperature_C[-1])
+    t_min = float(history[["core_C", "surface_C"]].min().min())
+    t_max = float(history[["core_C", "surface_C"]].max().max())
+    if t_max > 100.5 and not dried:
+        out.append(
+            f"product temperatures reach {t_max:.0f} °C: above 100 °C the water in an unsealed product boils and the "
+            "surface dries, which a conduction model does not carry; treat temperatures above 100 °C as indicative only"
+        )
+    if t_min < lo - 0.05 or t_max > hi + 0.05:
+        out.append(
+            f"product temperatures reach {t_min:.1f}…{t_max:.1f} °C, outside the property model's {lo:g}…{hi:g} °C: "
+            "properties are extrapolated there"
+        )
+    return out

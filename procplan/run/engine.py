@@ -24,6 +24,7 @@ from procplan.conduction.regime import Regime, classify_regime
 from procplan.errors import InvalidInputError
 from procplan.model import SOLVERS, Plan, Step
 from procplan.properties.table import PropertyTable
+from procplan.run import machine_load as ml
 from procplan.run.assess import Outcomes, assess_plan
 from procplan.run.budget import (
     ENERGY_BALANCE_LIMIT,
@@ -33,6 +34,7 @@ from procplan.run.budget import (
     step_limit_error,
     unreliable_reason,
 )
+from procplan.run.dry_oven import carried_field, dry_oven_step, range_warnings
 from procplan.run.mass_step import brine_first, brine_until, salt_columns, salted_properties
 from procplan.run.solver import PROPERTY_SPREAD_LIMIT, choose_solver, exact_properties
 from procplan.run.step_surface import StepSurface, resolve_step_surface
@@ -115,10 +117,11 @@ class StepResult:
     warnings: tuple[str, ...] = ()
     #: why the step cannot be relied on (its energy balance), None when it can
     unreliable_reason: str | None = None
-    #: moisture of an unwrapped product drying in hot dry air (run.dry_oven.DryingSummary), None otherwise
-    drying: Any = None
     #: solute taken up during the step (procplan.run.mass_step.MassStepResult), None without a brine record
     mass: Any = None
+    machine_load: ml.MachineLoadResult | None = None  # how the machine carried the batch (None: set point)
+    load_note: str | None = None  # why a step in a machine ran as an empty machine (set point held)
+    drying: Any = None  # run.dry_oven.DryingSummary: moisture of an unwrapped product in hot dry air
 
     @property
     def duration_s(self) -> float:
@@ -138,6 +141,8 @@ class PlanResult:
     warnings: tuple[str, ...] = ()
     #: why the run cannot be relied on (a step's energy balance off by more than 1 % after a finer rerun)
     unreliable_reasons: tuple[str, ...] = ()
+    #: a packed load (plan.packing): its slowest and fastest positions beside the single free piece
+    packing: Any = None
 
     def _overview(self) -> tuple[str, list[tuple[str, str, str, str]], str]:
         """Title, one row per step (name, solver, minutes, core and surface at its end) and the verdict."""
@@ -195,6 +200,7 @@ class _StepRun:
     energy_balance_error: float
     details: StepSolverDetails
     fv: Any  # the finite-volume result (its final field carries on), None for the exact solver
+    machine: ml.MachineLoadResult | None = None  # a loaded step: how the machine carried the batch
     drying: Any = None  # run.dry_oven.DryingSummary of a step in hot dry air
 
 
@@ -259,25 +265,28 @@ def _exact_step(geometry, props: PropertyTable, start_C: float, surface: StepSur
     return _StepRun(frame, stop_time, 0.0, details, None)
 
 
-def _fv_step(geometry, props, initial, surface: StepSurface, step: Step, n_nodes, time_settings) -> _StepRun:
+def _fv_step(geometry, props, initial, surface, step: Step, n_nodes, time_settings, load=None) -> _StepRun:
     """Run the finite-volume solver for one step; ``time_settings`` holds dt_s (and, for a refined rerun,
-    the adaptive step's aim and cap)."""
-    res = solve_conduction(
-        geometry,
-        props,
-        initial,
-        surface.boundary(),
-        step.duration_s,
-        n_nodes=n_nodes,
-        stop_when_core_C=step.stop_when_core_C,
-        max_steps=MAX_TIME_STEPS_PER_STEP,
-        **time_settings,
+    the adaptive step's aim and cap); ``load`` (a machine_load.StepLoad) solves the medium with the batch."""
+    boundary, node = ml.with_medium_node(surface.boundary(), load)
+    dried = (
+        dry_oven_step(geometry, props, initial, surface, step, n_nodes, time_settings) if not load else None
     )
-    return _fv_run(res)
-
-
-def _fv_run(res, drying=None) -> _StepRun:
-    """The step run of a finite-volume result."""
+    res = (
+        dried[0]
+        if dried
+        else solve_conduction(
+            geometry,
+            props,
+            initial,
+            boundary,
+            step.duration_s,
+            n_nodes=n_nodes,
+            stop_when_core_C=step.stop_when_core_C,
+            max_steps=MAX_TIME_STEPS_PER_STEP,
+            **time_settings,
+        )
+    )
     frame = pd.DataFrame(
         {
             "time_s": res.time_s,
@@ -287,6 +296,7 @@ def _fv_run(res, drying=None) -> _StepRun:
             "heat_flow_W": res.heat_flow_W,
         }
     )
+    machine, balance = ml.coupled_frame(load, node, res, frame, boundary.medium)
     details = StepSolverDetails(
         grid=res.grid.describe() if hasattr(res.grid, "describe") else str(res.grid.shape),
         time_steps=res.n_steps,
@@ -295,15 +305,7 @@ def _fv_run(res, drying=None) -> _StepRun:
         dt_max_s=res.dt_max_s,
         method=res.method,
     )
-    return _StepRun(frame, res.stopped_at_s, res.energy_balance_error, details, res, drying)
-
-
-def _dry_oven_step(ctx, carried, surface: StepSurface, step: Step, time_settings) -> _StepRun | None:
-    """Heat and moisture together in hot dry air (None: no published moisture properties, plain heat step)."""
-    from procplan.run.dry_oven import dry_oven_step
-
-    out = dry_oven_step(ctx.plan.product, ctx.props, carried.field, surface, step, ctx.n_nodes, time_settings)
-    return None if out is None else _fv_run(*out)
+    return _StepRun(frame, res.stopped_at_s, balance, details, res, machine, dried and dried[1])
 
 
 @dataclass(frozen=True)
@@ -317,6 +319,7 @@ class _Context:
     n_nodes: Any
     dt_s: float | None
     refined: dict | None = None  # the finer time settings of an energy-balance rerun (None: as asked)
+    load: Any = None  # the step's machine load (machine_load.StepLoad), None: the medium at its set point
 
 
 @dataclass
@@ -335,13 +338,9 @@ def _solve(ctx: _Context, chosen: str, carried: _Carried, step: Step, surface: S
     geometry = ctx.plan.product.geometry
     if chosen == "exact":
         return _exact_step(geometry, ctx.props, carried.start_C, surface, step)
-    time_settings = ctx.refined if ctx.refined is not None else {"dt_s": ctx.dt_s}
+    timing = ctx.refined if ctx.refined is not None else {"dt_s": ctx.dt_s}
     try:
-        if surface.drying_air is not None:
-            run = _dry_oven_step(ctx, carried, surface, step, time_settings)
-            if run is not None:
-                return run
-        return _fv_step(geometry, ctx.props, carried.field, surface, step, ctx.n_nodes, time_settings)
+        return _fv_step(geometry, ctx.props, carried.field, surface, step, ctx.n_nodes, timing, ctx.load)
     except InvalidInputError as exc:
         if exc.field == "max_steps":
             raise step_limit_error(f"{step.name}", exc) from exc
@@ -410,8 +409,7 @@ def _step_warnings(
         out.append(
             f"{step.name}: the core did not reach {step.stop_when_core_C:g} °C within {step.duration_s / 60:g} min"
         )
-    if run.drying is not None and not run.drying.converged:
-        out.append(f"{step.name}: {run.drying.unsettled_text}")
+    out.extend(w for w in [run.machine and run.machine.warning(step.name)] if w)
     if unreliable is not None:
         out.append(unreliable)
     elif run.energy_balance_error > 0.005:
@@ -443,6 +441,7 @@ def _run_step(
     mass = None
     if step.brine is not None:
         mass, step = brine_first(step, i, product, ctx.props, surface, carried.salt)
+    ctx, held, load_note = ml.step_loads(ctx, step, i, surface, carried.field)
     choice = choose_solver(
         ctx.requested,
         props=ctx.props,
@@ -452,8 +451,10 @@ def _run_step(
         step_label=f"steps[{i}] ({step.name})",
         field_carried_on=i < len(ctx.plan.steps) - 1,
     )
+    choice = ml.coupled_solver_choice(choice, ctx.load)
     run, surface = _solve_with_surface_pass(ctx, i, step, choice.solver, carried, surface)
     run, unreliable = _check_balance(ctx, step, choice.solver, carried, surface, run)
+    run = ml.with_held(run, held, surface)
     # the regime and Biot number of the h the step ran with (after the surface pass)
     regime = classify_regime(
         float(np.mean(surface.h_W_m2K)),
@@ -481,36 +482,12 @@ def _run_step(
         details=details,
         warnings=_step_warnings(step, surface, run, unreliable) + (() if mass is None else mass.warnings),
         unreliable_reason=unreliable,
-        drying=run.drying,
         mass=mass,
+        machine_load=run.machine,
+        load_note=load_note,
+        drying=run.drying,
     )
     return frame, result, run
-
-
-def _range_warnings(history: pd.DataFrame, props: PropertyTable, dried: bool = False) -> list[str]:
-    """Warnings on temperatures the model carries only roughly: boiling, and outside the property model."""
-    out = []
-    lo, hi = float(props.temperature_C[0]), float(props.temperature_C[-1])
-    t_min = float(history[["core_C", "surface_C"]].min().min())
-    t_max = float(history[["core_C", "surface_C"]].max().max())
-    if t_max > 100.5 and not dried:
-        out.append(
-            f"product temperatures reach {t_max:.0f} °C: above 100 °C the water in an unsealed product boils and the "
-            "surface dries, which a conduction model does not carry; treat temperatures above 100 °C as indicative only"
-        )
-    if t_min < lo - 0.05 or t_max > hi + 0.05:
-        out.append(
-            f"product temperatures reach {t_min:.1f}…{t_max:.1f} °C, outside the property model's {lo:g}…{hi:g} °C: "
-            "properties are extrapolated there"
-        )
-    return out
-
-
-def _carried_field(run: _StepRun, props: PropertyTable):
-    """The next step's start; a dried crust above the property range is cut to its top (a little heat less)."""
-    if run.fv is None or run.drying is None:
-        return None if run.fv is None else run.fv.final_field
-    return np.minimum(run.fv.final_field, float(props.temperature_C[-1]))
 
 
 def _run_steps(ctx: _Context) -> tuple[pd.DataFrame, list[StepResult], list[str], PropertyTable]:
@@ -537,7 +514,7 @@ def _run_steps(ctx: _Context) -> tuple[pd.DataFrame, list[StepResult], list[str]
             start_C=float(last["core_C"]),
             mean_C=float(last["mean_C"]),
             # None only for single-step plans or a forced exact solver
-            field=_carried_field(run, ctx.props),
+            field=carried_field(run, ctx.props),
             uniform=False,
             t_offset_s=result.end_s,
             salt=salt,
@@ -548,6 +525,17 @@ def _run_steps(ctx: _Context) -> tuple[pd.DataFrame, list[StepResult], list[str]
         for name, col in salt_columns(history, steps, brines[0].initial_fraction or 0.0).items():
             history[name] = col
     return history, steps, warnings, ctx.props
+
+
+def _run_packed(plan: Plan, **kw) -> PlanResult:
+    """The packed load as one brick (:mod:`procplan.run.packing`), with the single free piece run beside it."""
+    from procplan.run.packing import packed_plan, packed_result
+
+    load_plan, load = packed_plan(plan, kw["library"])
+    single = run_plan(replace(plan, packing=None), **kw)
+    result = run_plan(load_plan, **kw)
+    packed = packed_result(plan, load, result, single)
+    return replace(result, packing=packed, warnings=load.warnings + result.warnings)
 
 
 def run_plan(
@@ -578,13 +566,17 @@ def run_plan(
         from procplan.files.library import load_library
 
         library = load_library()
+    if plan.packing is not None:
+        return _run_packed(
+            plan, library=library, solver=solver, n_nodes=n_nodes, dt_s=dt_s, assess=assess, site=site
+        )
     props = plan.product.property_table()
     props.check_in_range("start.temperature_C", plan.start_temperature_C)
     piece_mass_kg = props.mass_density_kg_m3 * plan.product.geometry.volume_m3
     check_work_budget(plan, requested, n_nodes, dt_s)
     ctx = _Context(plan, library, props, requested, n_nodes, dt_s)
     history, steps, warnings, props = _run_steps(ctx)
-    warnings.extend(_range_warnings(history, props, dried=any(s.drying is not None for s in steps)))
+    warnings.extend(range_warnings(history, props, dried=any(s.drying is not None for s in steps)))
     outcomes = (
         assess_plan(plan, history, tuple(steps), props, piece_mass_kg, library, site) if assess else None
     )

@@ -355,11 +355,17 @@ def salted_properties(
         new = replace(product, fixed_properties=replace(product.fixed_properties, freezing_C=tf))
     else:
         new = replace(product, freezing_C=tf)
+    table = new.property_table()
+    given = f"initial freezing point {tf:.2f} °C (given)"
+    if given in table.source:
+        table = replace(
+            table, source=table.source.replace(given, f"initial freezing point {tf:.2f} °C (lowered by salt)")
+        )
     note = (
         f"salt taken up ({salt.fraction * 100:.2f} % mean) lowers the initial freezing point from {tf0:.2f} °C to "
         f"{tf:.2f} °C for the later steps (NaCl depression of the water phase, CoolProp MNA / Melinder 2007)"
     )
-    return new.property_table(), note
+    return table, note
 
 
 def salt_columns(history, step_results, initial_fraction: float) -> dict[str, np.ndarray]:

@@ -64,7 +64,7 @@ def _blockers(
     elif field_carried_on and requested == "auto":
         blockers.append("the temperature field is carried into the following steps")
     if surface.drying_air is not None:
-        air = surface.drying_air
+        air = surface.drying_air.air
         blockers.append(
             f"the unwrapped product's wet surface evaporates in dry air at {air.air_C:g} °C (wet bulb "
             f"{air.wet_bulb_C():.0f} °C) and dries into a crust, which slows the heating: heat and moisture are "

@@ -169,7 +169,7 @@ class StepSurface:
     warnings: tuple[str, ...] = ()
     evaporation: Any = None  # callable q(t, T_s) [W/m²] and mass-flux function, for unwrapped products in air
     fluid_C: tuple[float, ...] = ()
-    #: hot dry air (surface.oven_air.DryingAir) an unwrapped product dries in: heat and moisture coupled
+    #: hot dry air and the product's moisture properties (run.dry_oven.DryOvenModel): heat and moisture coupled
     drying_air: Any = None
 
     @property
@@ -295,14 +295,12 @@ def _evaporation(product, eq, settings: dict, h_conv_W_m2K: float, warnings: lis
     and moisture coupled, the second value), a humidity setting (a surface flux, the first), or neither."""
     evaporation = drying = None
     if product.unwrapped and eq.medium == "air" and "dew_point_C" in settings:
+        from procplan.run.dry_oven import DryOvenModel
         from procplan.surface.oven_air import DryingAir
 
-        s0 = settings
-        drying = DryingAir(
-            float(s0[eq.temperature_key]),
-            min(float(s0["dew_point_C"]), float(s0[eq.temperature_key])),
-            h_conv_W_m2K,
-        )
+        t_air = float(settings[eq.temperature_key])
+        air = DryingAir(t_air, min(float(settings["dew_point_C"]), t_air), h_conv_W_m2K)
+        drying = DryOvenModel.for_product(product, product.property_table(), air)
     elif product.unwrapped and eq.medium == "air" and "relative_humidity" in eq.settings:
         from procplan.surface.moisture import SurfaceEvaporation
 

@@ -35,6 +35,7 @@ VARIANT_KEYS: dict[str, str] = {
     "start_C": "start temperature [°C]",
     "cooling_rule": "the plan's cooling rule (a library rule name, or '' for none)",
     "margin_percent": "the site's safety margin [%]",
+    "pieces": "pieces per batch (a loaded machine's medium and plant respond to it)",
     **{k: f"product {k[:-3]} [mm]" for k in DIMENSION_KEYS},
 }
 
@@ -188,6 +189,11 @@ def _check_changes(out: Plan, change: Mapping[str, Any], where: str) -> Plan:
         ch["margin_percent"] = validate.number(
             f"{where}.margin_percent", change["margin_percent"], minimum=0, unit="%"
         )
+    if "pieces" in change:
+        n = change["pieces"]
+        if isinstance(n, bool) or not isinstance(n, int) or not 1 <= n <= 10_000_000:
+            raise InvalidInputError(f"{where}.pieces", n, "a whole number from 1 to 10 000 000")
+        ch["pieces_per_batch"] = n
     return replace(out, checks=replace(out.checks, **ch)) if ch else out
 
 

@@ -147,6 +147,19 @@ def _bounds_hold(plan: Plan, i: int, library) -> tuple[float, float]:
     return max(0.1 * d, 0.5), min(max(4.0 * d, 60.0), MAX_STEP_MIN)
 
 
+def _apply_loading(plan: Plan, i: int, v: float, library) -> Plan:
+    return plan.with_step(i, loading_medium_C=float(v))
+
+
+def _bounds_loading(plan: Plan, i: int, library) -> tuple[float, float]:
+    """From the machine's lowest to its highest setting, widened to room temperature (20 °C)."""
+    eq = _machine(plan, i, library, "loading_medium_C")
+    if eq is None:
+        raise InvalidInputError("parameter", "loading_medium_C", "a step in a machine")
+    r = eq.settings[eq.temperature_key]
+    return min(r.minimum, 20.0), max(r.maximum, 20.0)
+
+
 #: The parameters a required setting can be found for (one registry: API, CLI and app).
 PARAMETERS: dict[str, ParameterSpec] = {
     "medium_C": ParameterSpec(
@@ -171,6 +184,12 @@ PARAMETERS: dict[str, ParameterSpec] = {
         _bounds_dimension,
     ),
     "hold_min": ParameterSpec("min", "duration of the step", _apply_hold, _bounds_hold),
+    "loading_medium_C": ParameterSpec(
+        "°C",
+        "the machine's medium temperature when the batch is loaded (a loaded plan)",
+        _apply_loading,
+        _bounds_loading,
+    ),
 }
 
 
@@ -561,6 +580,8 @@ def _current_value(plan: Plan, i: int, parameter: str, library) -> float | None:
             return float(step.settings_dict.get(key, eq.settings[key].default))
         if parameter == "h_W_m2K":
             return step.h_W_m2K
+        if parameter == "loading_medium_C":
+            return step.loading_medium_C
         if parameter == "dimension_mm":
             return getattr(plan.product.geometry, _controlling(plan)) * 1000.0
         return step.duration_s / 60.0

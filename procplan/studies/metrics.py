@@ -33,6 +33,10 @@ METRIC_COLUMNS: dict[str, str] = {
     "peak_duty_kW": "peak duty (largest 1-min mean) of the batch over the run [kW]",
     "electricity_kWh": "refrigeration electricity per batch [kWh] (0 when no refrigerated step)",
     "energy_cost": "electricity cost per batch (NaN without a price)",
+    "pieces": "pieces per batch",
+    "capacity_shortfall_kW": "largest peak load beyond a loaded machine's plant capacity [kW] (0 when every "
+    "plant held its set point; NaN when no step ran as a loaded machine)",
+    "plant_limit_min": "time the loaded machines' plants ran at their limit [min]",
     "solvers": "solver of each step",
     "warnings": "number of warnings of the run",
 }
@@ -121,6 +125,14 @@ def result_metrics(result) -> dict[str, Any]:
     refr = [s.refrigeration for s in oc.refrigeration if s.refrigeration is not None]
     row["electricity_kWh"] = sum(r.electricity_kWh for r in refr)
     row["energy_cost"] = oc.cost_per_batch if oc.cost_per_batch is not None else math.nan
+    row["pieces"] = result.plan.pieces
+    loaded = [s.machine_load for s in result.steps if getattr(s, "machine_load", None) is not None]
+    row["capacity_shortfall_kW"] = (
+        max(0.0 if m.held else max(m.peak_load_kW - m.capacity_kW, 0.0) for m in loaded)
+        if loaded
+        else math.nan
+    )
+    row["plant_limit_min"] = sum(m.time_at_limit_s for m in loaded) / 60.0
     row["solvers"] = ", ".join(s.solver for s in result.steps)
     row["warnings"] = len(result.warnings)
     return row

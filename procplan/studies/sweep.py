@@ -14,6 +14,7 @@ from dataclasses import dataclass, field
 
 import pandas as pd
 
+from procplan import validate
 from procplan.errors import InvalidInputError
 from procplan.model import Checks, Plan, Step
 from procplan.studies.metrics import METRIC_COLUMNS
@@ -83,7 +84,7 @@ KIND_TASKS: dict[str, KindTask] = {
 }
 
 
-def pair_plan(product, equipment, library=None, task: KindTask | None = None) -> Plan:
+def pair_plan(product, equipment, library=None, task: KindTask | None = None, pieces: int = 1) -> Plan:
     """The one-step plan a sweep runs for a product in a machine (at the machine's default settings).
 
     >>> from procplan.files.library import load_library
@@ -109,7 +110,7 @@ def pair_plan(product, equipment, library=None, task: KindTask | None = None) ->
         product=product,
         start_temperature_C=task.start_C,
         steps=(step,),
-        checks=Checks(cooling_rule=rule),
+        checks=Checks(cooling_rule=rule, pieces_per_batch=int(pieces)),
     )
 
 
@@ -136,6 +137,7 @@ def sweep_catalogue(
     n_nodes=None,
     dt_s: float | None = None,
     progress: Callable[[int, int], None] | None = None,
+    pieces: int = 1,
 ) -> SweepResult:
     """Run every chosen product in every chosen suitable machine.
 
@@ -147,11 +149,14 @@ def sweep_catalogue(
     executor : any concurrent.futures.Executor (or a Dask Client); default sequential in-process
     solver, n_nodes, dt_s : passed to run_plan
     progress : progress(done, total)
+    pieces : pieces per batch in every machine (a machine with a thermal description carries the batch, and
+        the table's ``capacity_shortfall_kW`` says by how much its plant falls short)
 
     Returns
     -------
     SweepResult; pairs that fail validation keep their row with the error text
     """
+    pieces = int(validate.number("pieces", pieces, minimum=1, maximum=10_000_000))
     prods = sorted(library.products) if products is None else list(products)
     eqs = sorted(library.equipment) if equipment is None else list(equipment)
     for p in prods:
@@ -171,7 +176,7 @@ def sweep_catalogue(
             skipped.append(f"{e} ({eq.kind})")
             continue
         for p in prods:
-            plan = pair_plan(library.products[p], eq, library)
+            plan = pair_plan(library.products[p], eq, library, pieces=pieces)
             plans[(p, e)] = plan
             pairs.append((p, e))
             jobs.append(make_job((p, e), plan, library, solver=solver, n_nodes=n_nodes, dt_s=dt_s))

@@ -200,6 +200,9 @@ def _fast_path_blockers(plan: Plan, nominal, names: set[str], solver: str | None
         why.append("more than one step")
     elif _engine_choice(plan, nominal, solver).solver != "exact":
         why.append("the engine uses finite volumes for this plan")
+    ml = getattr(nominal.steps[0], "machine_load", None) if nominal.steps else None
+    if ml is not None and not ml.held:
+        why.append("the machine cannot hold its set point with this batch (the medium is solved with it)")
     if "water_fraction" in names:
         why.append("the composition varies")
     step = plan.steps[0]

@@ -15,6 +15,12 @@ An equipment file, sketched::
     [settings]
     air_C = { min = -10.0, max = 3.0, default = -4.0 }
     air_speed_m_s = { min = 1.0, max = 5.0, default = 3.5 }
+    [thermal]                       # optional: the machine as a thermal system (procplan.surface.plant)
+    medium_volume_m3 = 12.0
+    structure_mass_kg = 900.0
+    rated_medium_C = -6.0
+    fan_kW = 2.2
+    wall_UA_W_K = 25.0
 """
 
 from __future__ import annotations
@@ -113,6 +119,8 @@ class Equipment:
     evaporating_C, condensing_C : refrigerant temperatures for energy estimates [°C] (None for heating kinds)
     description, plant : free text
     brine_nacl_fraction : NaCl mass fraction of a brine medium
+    thermal : the machine as a thermal system (:class:`procplan.surface.plant.MachineThermal`); None when not
+        given, and a loaded run then keeps the medium at its set point (with a note)
     """
 
     id: str
@@ -127,6 +135,7 @@ class Equipment:
     plant: str = ""
     brine_nacl_fraction: float | None = None
     extra: Mapping[str, Any] = field(default_factory=lambda: MappingProxyType({}))
+    thermal: Any = None
 
     @property
     def temperature_key(self) -> str:

@@ -24,6 +24,10 @@ def temperature_figure(result, u: Units, title: str = "Product temperatures") ->
         mv = np.asarray(sr.surface.fluid_temperature_C, dtype=float)
         xs = np.r_[mt, sr.end_s]
         ys = np.r_[mv, mv[-1]]
+        ml = getattr(sr, "machine_load", None)
+        if ml is not None and not ml.held and "medium_C" in h:  # a loaded machine: the medium drifts
+            seg = h[h["step_index"] == sr.index]
+            xs, ys = seg["time_s"].to_numpy(), seg["medium_C"].to_numpy()
         fig.add_trace(
             go.Scatter(
                 x=u.time_value(xs),

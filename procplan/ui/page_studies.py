@@ -8,7 +8,7 @@ import streamlit as st
 
 from procplan.outcomes.energy import PEAK_DUTY_LABEL
 from procplan.output.report import format_f
-from procplan.ui import adapter, charts, state, widgets
+from procplan.ui import adapter, charts, state, trial_panel, widgets
 from procplan.ui.fmt import Units
 
 
@@ -111,5 +111,7 @@ def render() -> None:
     studies_panels.variability(text, u)
     st.divider()
     studies_panels.logger(text, u)
+    st.divider()
+    trial_panel.render(text, u)
     st.divider()
     studies_panels.catalogue_sweep()

@@ -56,6 +56,10 @@ def test_round_trip_keeps_every_value():
             "steps[0].brine.stop_when_mean_percent",
         ),
         ({"dry_cure": True, "solute": "sugar", "D_m2_s": 2e-10}, "steps[0].brine.dry_cure"),
+        (
+            {"brine_percent": 40, "solute": "sugar", "diffusivity": "salt-pork-loin"},
+            "steps[0].brine.diffusivity",
+        ),
     ],
 )
 def test_each_problem_names_its_field(brine, field):

@@ -195,3 +195,22 @@ def test_required_brining_time_is_the_series_time_for_constant_coefficients():
         required_brining_time_s(
             replace(plan, steps=(replace(plan.steps[0], duration_s=600.0),)), 0, core_percent=1.2
         )
+
+
+def test_brining_time_command_prints_the_same_time(tmp_path, capsys):
+    import json
+
+    from procplan.cli import main
+    from procplan.files.plan import save_plan
+    from procplan.studies.brining import required_brining_time_s
+
+    plan = _plan(Brine(brine_fraction=0.1, D_m2_s=1.9e-10, k_m_m_s=2e-6))
+    path = save_plan(plan, tmp_path / "brine.toml")
+    assert main(["brining-time", str(path), "--core-percent", "1.2", "--json"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert out["time_min"] == pytest.approx(
+        required_brining_time_s(plan, 0, core_percent=1.2) / 60.0, rel=1e-9
+    )
+    assert main(["brining-time", str(path), "--core-percent", "1.2"]) == 0
+    assert "the core reaches 1.2 % salt" in capsys.readouterr().out
+    assert main(["brining-time", str(path), "--core-percent", "9"]) == 2
