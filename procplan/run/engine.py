@@ -442,6 +442,7 @@ def _run_step(
     if step.brine is not None:
         mass, step = brine_first(step, i, product, ctx.props, surface, carried.salt)
     ctx, held, load_note = ml.step_loads(ctx, step, i, surface, carried.field)
+    ctx = ctx if surface.drying_air is None else replace(ctx, load=None)  # dry air: the set point held
     choice = choose_solver(
         ctx.requested,
         props=ctx.props,
