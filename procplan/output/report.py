@@ -63,6 +63,8 @@ def summary_dict(result) -> dict[str, Any]:
                 "machine_load": _machine_load_dict(sr),
             }
         )
+        if getattr(sr, "drying", None) is not None:
+            out["steps"][-1]["drying"] = _plain(sr.drying)
         if getattr(sr, "mass", None) is not None:
             out["steps"][-1]["brine"] = brine_dict(sr.mass)
     if result.outcomes is not None:
@@ -211,12 +213,29 @@ def _step_lines(result, site=None) -> list[str]:
             lines.append(
                 f"    end: core {_temp(site, e.core_C, 1)}, surface {_temp(site, e.surface_C, 1)}, mean {_temp(site, e.mean_C, 1)}; energy-balance error {sr.energy_balance_error:.2%}"
             )
+        if getattr(sr, "drying", None) is not None:
+            lines.append(_drying_line(sr.drying, site))
         if getattr(sr, "mass", None) is not None:
             lines += brine_lines(sr.mass)
         ml = _machine_load_dict(sr)
         if ml is not None:
             lines.append(f"    machine: {ml['summary']}")
     return lines
+
+
+def _drying_line(d, site=None) -> str:
+    """The moisture of a step in hot dry air: wet period, crust, loss."""
+    wet = (
+        "the surface stays wet to the end"
+        if d.wet_until_s is None
+        else f"the surface stays wet for {_time(site, d.wet_until_s / 60)}, then dries into a crust"
+    )
+    return (
+        f"    moisture: wet bulb of the air {_temp(site, d.wet_bulb_C, 1)}; {wet} (surface moisture "
+        f"{d.surface_moisture_kg_kg:.2f} kg water/kg dry matter at the end, from {d.initial_moisture_kg_kg:.2f}); "
+        f"weight loss {d.weight_loss_kg * 1000:.0f} g ({d.weight_loss_percent:.1f} %); {d.passes} coupling passes, "
+        f"mass balance {d.mass_balance_error:.2%}"
+    )
 
 
 def _target_lines(oc, site=None) -> list[str]:
@@ -315,6 +334,10 @@ def _energy_lines(oc) -> list[str]:
     lines: list[str] = []
     for step_name, pct in oc.weight_loss_percent:
         lines.append(f"  {step_name}: weight loss by surface evaporation {pct:.2f} % of the piece's mass")
+    if oc.yield_percent is not None:
+        lines.append(
+            f"  yield: {oc.yield_percent:.1f} % of the starting mass (evaporation only: drip and fat running out are not modelled)"
+        )
     en = oc.energy
     lines.append(
         f"  energy (batch of {en.pieces:g}): heat removed {en.heat_removed_J_per_batch / 3.6e6:.2f} kWh, heat added "

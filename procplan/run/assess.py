@@ -19,6 +19,7 @@ from procplan.model import LethalityCheck, Plan
 from procplan.outcomes.energy import heat_by_direction_J, peak_duty_W
 from procplan.outcomes.freezing_time import ehtd_of_dimensions
 from procplan.properties.table import PropertyTable
+from procplan.run.dry_oven import yield_percent
 
 #: Evaporating temperature below the medium and condensing temperature assumed when a step names no
 #: machine (common practice for air coolers: 6–10 K approach; air-cooled condensers about 35 °C).
@@ -187,6 +188,8 @@ class Outcomes:
     refrigeration: tuple[StepEnergy, ...]
     energy_balance: float = 0.0
     weight_loss_percent: tuple[tuple[str, float], ...] = ()
+    #: mass at the end over the mass at the start [%], from the weight losses (None without any)
+    yield_percent: float | None = None
     warnings: tuple[str, ...] = ()
     price: EnergyPrice | None = None
     cost_per_batch: float | None = None
@@ -440,6 +443,9 @@ def _weight_loss(run: _Run) -> tuple[tuple[str, float], ...]:
     area = run.plan.product.geometry.area_m2
     out = []
     for sr in run.steps:
+        if sr.drying is not None:  # hot dry air: the coupled moisture solution's loss
+            out.append((sr.name, sr.drying.weight_loss_percent))
+            continue
         ev = sr.surface.evaporation
         if ev is None:
             continue
@@ -486,9 +492,11 @@ def assess_plan(
     )
     price = _price(run, site, library, warnings)
     refrigeration = tuple(_step_energy(run, sr, price) for sr in run.steps)
+    losses = _weight_loss(run)
     costs = [se.refrigeration.cost for se in refrigeration if se.refrigeration is not None]
     return Outcomes(
-        weight_loss_percent=_weight_loss(run),
+        weight_loss_percent=losses,
+        yield_percent=yield_percent(losses),
         targets=targets,
         rule_check=rule_check,
         rule_applied_from_s=rule_from,

@@ -34,6 +34,7 @@ from procplan.run.budget import (
     step_limit_error,
     unreliable_reason,
 )
+from procplan.run.dry_oven import carried_field, dry_oven_step, range_warnings
 from procplan.run.mass_step import brine_first, brine_until, salt_columns, salted_properties
 from procplan.run.solver import PROPERTY_SPREAD_LIMIT, choose_solver, exact_properties
 from procplan.run.step_surface import StepSurface, resolve_step_surface
@@ -123,6 +124,7 @@ class StepResult:
     mass: Any = None
     machine_load: ml.MachineLoadResult | None = None  # how the machine carried the batch (None: set point)
     load_note: str | None = None  # why a step in a machine ran as an empty machine (set point held)
+    drying: Any = None  # run.dry_oven.DryingSummary: moisture of an unwrapped product in hot dry air
 
     @property
     def duration_s(self) -> float:
@@ -202,6 +204,7 @@ class _StepRun:
     details: StepSolverDetails
     fv: Any  # the finite-volume result (its final field carries on), None for the exact solver
     machine: ml.MachineLoadResult | None = None  # a loaded step: how the machine carried the batch
+    drying: Any = None  # run.dry_oven.DryingSummary of a step in hot dry air
 
 
 def _exact_stop(run, times: np.ndarray, hist, step: Step):
@@ -269,16 +272,23 @@ def _fv_step(geometry, props, initial, surface, step: Step, n_nodes, time_settin
     """Run the finite-volume solver for one step; ``time_settings`` holds dt_s (and, for a refined rerun,
     the adaptive step's aim and cap); ``load`` (a machine_load.StepLoad) solves the medium with the batch."""
     boundary, node = ml.with_medium_node(surface.boundary(), load)
-    res = solve_conduction(
-        geometry,
-        props,
-        initial,
-        boundary,
-        step.duration_s,
-        n_nodes=n_nodes,
-        stop_when_core_C=step.stop_when_core_C,
-        max_steps=MAX_TIME_STEPS_PER_STEP,
-        **time_settings,
+    dried = (
+        dry_oven_step(geometry, props, initial, surface, step, n_nodes, time_settings) if not load else None
+    )
+    res = (
+        dried[0]
+        if dried
+        else solve_conduction(
+            geometry,
+            props,
+            initial,
+            boundary,
+            step.duration_s,
+            n_nodes=n_nodes,
+            stop_when_core_C=step.stop_when_core_C,
+            max_steps=MAX_TIME_STEPS_PER_STEP,
+            **time_settings,
+        )
     )
     frame = pd.DataFrame(
         {
@@ -300,7 +310,7 @@ def _fv_step(geometry, props, initial, surface, step: Step, n_nodes, time_settin
         time_tolerance_K=res.time_tolerance_K,
         local_error_estimate_K=res.local_error_estimate_K,
     )
-    return _StepRun(frame, res.stopped_at_s, balance, details, res, machine)
+    return _StepRun(frame, res.stopped_at_s, balance, details, res, machine, dried and dried[1])
 
 
 @dataclass(frozen=True)
@@ -440,6 +450,7 @@ def _run_step(
     if step.brine is not None:
         mass, step = brine_first(step, i, product, ctx.props, surface, carried.salt)
     ctx, held, load_note = ml.step_loads(ctx, step, i, surface, carried.field)
+    ctx = ctx if surface.drying_air is None else replace(ctx, load=None)  # dry air: the set point held
     choice = choose_solver(
         ctx.requested,
         props=ctx.props,
@@ -483,27 +494,9 @@ def _run_step(
         mass=mass,
         machine_load=run.machine,
         load_note=load_note,
+        drying=run.drying,
     )
     return frame, result, run
-
-
-def _range_warnings(history: pd.DataFrame, props: PropertyTable) -> list[str]:
-    """Warnings on temperatures the model carries only roughly: boiling, and outside the property model."""
-    out = []
-    lo, hi = float(props.temperature_C[0]), float(props.temperature_C[-1])
-    t_min = float(history[["core_C", "surface_C"]].min().min())
-    t_max = float(history[["core_C", "surface_C"]].max().max())
-    if t_max > 100.5:
-        out.append(
-            f"product temperatures reach {t_max:.0f} °C: above 100 °C the water in an unsealed product boils and the "
-            "surface dries, which a conduction model does not carry; treat temperatures above 100 °C as indicative only"
-        )
-    if t_min < lo - 0.05 or t_max > hi + 0.05:
-        out.append(
-            f"product temperatures reach {t_min:.1f}…{t_max:.1f} °C, outside the property model's {lo:g}…{hi:g} °C: "
-            "properties are extrapolated there"
-        )
-    return out
 
 
 def _run_steps(ctx: _Context) -> tuple[pd.DataFrame, list[StepResult], list[str], PropertyTable]:
@@ -530,7 +523,7 @@ def _run_steps(ctx: _Context) -> tuple[pd.DataFrame, list[StepResult], list[str]
             start_C=float(last["core_C"]),
             mean_C=float(last["mean_C"]),
             # None only for single-step plans or a forced exact solver
-            field=run.fv.final_field if run.fv is not None else None,
+            field=carried_field(run, ctx.props),
             uniform=False,
             t_offset_s=result.end_s,
             salt=salt,
@@ -596,7 +589,7 @@ def run_plan(
     tol = None if time_tolerance_K is None else validate.positive("time_tolerance_K", time_tolerance_K, "K")
     ctx = _Context(plan, library, props, requested, n_nodes, dt_s, time_tolerance_K=tol)
     history, steps, warnings, props = _run_steps(ctx)
-    warnings.extend(_range_warnings(history, props))
+    warnings.extend(range_warnings(history, props, dried=any(s.drying is not None for s in steps)))
     outcomes = (
         assess_plan(plan, history, tuple(steps), props, piece_mass_kg, library, site) if assess else None
     )

@@ -63,7 +63,14 @@ def _blockers(
         blockers.append("the temperature field carried from the previous step is not uniform")
     elif field_carried_on and requested == "auto":
         blockers.append("the temperature field is carried into the following steps")
-    if not surface.constant:
+    if surface.drying_air is not None:
+        air = surface.drying_air.air
+        blockers.append(
+            f"the unwrapped product's wet surface evaporates in dry air at {air.air_C:g} °C (wet bulb "
+            f"{air.wet_bulb_C():.0f} °C) and dries into a crust, which slows the heating: heat and moisture are "
+            "solved together"
+        )
+    elif not surface.constant:
         blockers.append("the medium temperature, h or surface evaporation changes during the step")
     if freezes:
         blockers.append(f"the product passes its initial freezing point {tf:.1f} °C (latent heat)")

@@ -169,6 +169,8 @@ class StepSurface:
     warnings: tuple[str, ...] = ()
     evaporation: Any = None  # callable q(t, T_s) [W/m²] and mass-flux function, for unwrapped products in air
     fluid_C: tuple[float, ...] = ()
+    #: hot dry air and the product's moisture properties (run.dry_oven.DryOvenModel): heat and moisture coupled
+    drying_air: Any = None
 
     @property
     def radiates_to_other_walls(self) -> bool:
@@ -182,7 +184,12 @@ class StepSurface:
 
     @property
     def constant(self) -> bool:
-        return len(set(self.medium_C)) == 1 and len(set(self.h_W_m2K)) == 1 and self.evaporation is None
+        return (
+            len(set(self.medium_C)) == 1
+            and len(set(self.h_W_m2K)) == 1
+            and self.evaporation is None
+            and self.drying_air is None
+        )
 
     def boundary(self) -> SurfaceBoundary:
         q = self.evaporation.heat_flux_W_m2 if self.evaporation is not None else None
@@ -283,6 +290,29 @@ def _setting_rows(step, index: int, eq) -> list[tuple[float, dict]]:
     return rows
 
 
+def _evaporation(product, eq, settings: dict, h_conv_W_m2K: float, warnings: list):
+    """The surface evaporation of an unwrapped product in an air machine: hot dry air with a dew point (heat
+    and moisture coupled, the second value), a humidity setting (a surface flux, the first), or neither."""
+    evaporation = drying = None
+    if product.unwrapped and eq.medium == "air" and "dew_point_C" in settings:
+        from procplan.run.dry_oven import DryOvenModel
+        from procplan.surface.oven_air import DryingAir
+
+        t_air = float(settings[eq.temperature_key])
+        air = DryingAir(t_air, min(float(settings["dew_point_C"]), t_air), h_conv_W_m2K)
+        drying = DryOvenModel.for_product(product, product.property_table(), air)
+    elif product.unwrapped and eq.medium == "air" and "relative_humidity" in eq.settings:
+        from procplan.surface.moisture import SurfaceEvaporation
+
+        evaporation = SurfaceEvaporation.for_step(eq, settings, h_conv_W_m2K, product)
+    elif product.unwrapped and eq.medium == "air":
+        warnings.append(
+            f"{eq.name} has no humidity setting, so surface evaporation of the unwrapped product is not modelled: "
+            "a wet surface runs cooler than predicted and the core heats more slowly; confirm cook times by probing"
+        )
+    return evaporation, drying
+
+
 def _equipment(
     step, index: int, product, surface_C: float | None, start_mean_C: float, library
 ) -> StepSurface:
@@ -338,16 +368,7 @@ def _equipment(
                 f"surroundings_C of {step.surroundings_C:g} °C is not applied on top of the measured h, "
                 "which already carries the radiation of the trial"
             )
-    evaporation = None
-    if product.unwrapped and eq.medium == "air" and "relative_humidity" in eq.settings:
-        from procplan.surface.moisture import SurfaceEvaporation
-
-        evaporation = SurfaceEvaporation.for_step(eq, rows[0][1], first.h_conv_W_m2K, product)
-    elif product.unwrapped and eq.medium == "air":
-        warnings.append(
-            f"{eq.name} has no humidity setting, so surface evaporation of the unwrapped product is not modelled: "
-            "a wet surface runs cooler than predicted and the core heats more slowly; confirm cook times by probing"
-        )
+    evaporation, drying = _evaporation(product, eq, rows[0][1], first.h_conv_W_m2K, warnings)
     if len(times) > 1 and times[-1] < step.duration_s:  # the last setting holds to the end of the step
         times.append(step.duration_s)
         fluids.append(fluids[-1])
@@ -356,7 +377,11 @@ def _equipment(
     breakdown = replace(
         _breakdown(first, source, machine=MachineUsed.of(eq, rows[0][1]), measured=tuple(measured_used)),
         h_eff_W_m2K=h_eff,
-        evaporation=None if evaporation is None else evaporation.describe(),
+        evaporation=drying.describe()
+        if drying is not None
+        else None
+        if evaporation is None
+        else evaporation.describe(),
     )
     if temps[0] == fluids[0]:  # a measured h at the first point: no sink to report
         breakdown = replace(breakdown, fluid_C=None, surroundings_C=None, sink_C=None)
@@ -369,6 +394,7 @@ def _equipment(
         tuple(warnings),
         evaporation,
         tuple(fluids),
+        drying,
     )
 
 

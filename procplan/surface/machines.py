@@ -64,6 +64,7 @@ SETTINGS: dict[str, SettingSpec] = {
     "air_C": SettingSpec("°C", -100.0, 300.0, "air temperature"),
     "air_speed_m_s": SettingSpec("m/s", 0.0, 40.0, "air speed approaching the product"),
     "relative_humidity": SettingSpec("", 0.0, 1.0, "relative humidity of the air, fraction"),
+    "dew_point_C": SettingSpec("°C", -40.0, 99.0, "dew point of hot, dry air (its water content)"),
     "emissivity": SettingSpec("", 0.0, 1.0, "emissivity of the radiative exchange with the walls"),
     "water_C": SettingSpec("°C", 0.0, 99.0, "water temperature"),
     "water_speed_m_s": SettingSpec("m/s", 0.0, 5.0, "water speed past the product"),
@@ -74,7 +75,10 @@ SETTINGS: dict[str, SettingSpec] = {
 
 #: Media and the settings each needs (required) or accepts (optional); the first required one is the medium temperature.
 MEDIA: dict[str, dict[str, tuple[str, ...]]] = {
-    "air": {"required": ("air_C", "air_speed_m_s"), "optional": ("relative_humidity", "emissivity")},
+    "air": {
+        "required": ("air_C", "air_speed_m_s"),
+        "optional": ("relative_humidity", "dew_point_C", "emissivity"),
+    },
     "water": {"required": ("water_C", "water_speed_m_s"), "optional": ()},
     "brine": {"required": ("brine_C", "brine_speed_m_s"), "optional": ()},
     "steam": {"required": ("steam_C",), "optional": ()},

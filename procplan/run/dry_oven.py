@@ -1,0 +1,357 @@
+"""Steps in hot dry air: heat and moisture of an unwrapped product solved together.
+
+The heat problem (:func:`procplan.conduction.finite_volume.solve_conduction`) carries at its surface the
+latent heat of the water that evaporates, q″ = −n″(T_s, a_w) h_fg (:class:`procplan.surface.oven_air.DryingAir`);
+the moisture problem (:func:`procplan.conduction.moisture.solve_moisture`) loses that water at its surface,
+and the sorption isotherm (:mod:`procplan.properties.sorption`) turns the surface moisture into the surface
+water activity a_w. While the surface holds free water (a_w = 1) it sits close to the air's wet-bulb
+temperature; once the moisture inside cannot keep up, a_w falls, the surface dries into a crust, evaporation
+fades and the surface heats towards the oven.
+
+Coupling: Gauss–Seidel waveform relaxation over the step. Pass 1 runs the heat problem with a wet surface
+(a_w = 1 throughout); every pass then runs the moisture problem with the surface-temperature history of the
+heat pass, and the next heat pass with the surface water-activity history of that moisture pass, until the
+surface-temperature histories of two heat passes differ by less than :data:`SURFACE_TOLERANCE_K` (at most
+:data:`MAX_PASSES` passes; each sub-problem is solved implicitly, so each pass is stable, and the iteration
+converges to the coupled solution of the two time-discretised problems; tests/run/test_dry_oven.py).
+
+Modelling choices (each on the side stated):
+
+* One moisture history for the whole surface, that of the centre of the face on the shortest axis (the middle
+  of the curved side of a joint): corners and edges dry first and run hotter than it.
+* Where the moisture change reaches only a thin layer (5√(D t) below the half-thickness) the moisture problem
+  is solved on that layer as a plane sheet with a sealed back (its curvature neglected).
+* D follows Arrhenius at the time-averaged surface temperature of the previous heat pass (the hottest part of
+  the layer: it overstates the supply of water to the surface, so the surface stays wet longer and the heating
+  is predicted slower, the safe direction for a cook time).
+* Only evaporation leaves the product: juice expelled as the proteins shrink (drip) and fat rendered out are
+  not modelled, so the weight loss is the evaporative loss alone (cook losses of roasts are larger).
+
+References
+----------
+White, J. (1989). Relaxation methods for ordinary differential equations (waveform relaxation); Lelarasmee,
+E., Ruehli, A.E., Sangiovanni-Vincentelli, A.L. (1982). The waveform relaxation method for time-domain analysis
+of large scale integrated circuits. IEEE Trans. CAD 1(3), 131–145.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from procplan.conduction.finite_volume import solve_conduction
+from procplan.conduction.fv_boundary import SurfaceBoundary
+from procplan.conduction.moisture import MoistureHistory, arrhenius_m2_s, layer_depth_m, solve_moisture
+from procplan.geometry import Geometry
+from procplan.properties.sorption import (
+    CATEGORY_ISOTHERM,
+    ISOTHERMS,
+    MOISTURE_DIFFUSIVITIES,
+    GABIsotherm,
+    MoistureDiffusivity,
+    dry_basis,
+)
+from procplan.surface.oven_air import DryingAir, latent_heat
+
+#: Passes of the waveform relaxation at most, and the change of the surface-temperature history [K] below
+#: which the coupled solution is taken as converged.
+MAX_PASSES = 8
+SURFACE_TOLERANCE_K = 0.1
+#: Surface water activity below which the surface counts as dried (crusted).
+DRY_SURFACE_WATER_ACTIVITY = 0.98
+#: Weight of the newest pass in the exchanged histories from the second pass on.
+RELAXATION = 0.5
+#: Points of the histories exchanged between the heat and the moisture passes.
+HISTORY_POINTS = 241
+
+
+@dataclass(frozen=True)
+class DryOvenModel:
+    """What a dry-air step needs besides the heat problem: the air, the product's isotherm and diffusivity."""
+
+    air: DryingAir
+    isotherm: GABIsotherm
+    diffusivity: MoistureDiffusivity
+    initial_kg_kg: float
+    dry_matter_kg_m3: float
+
+    @classmethod
+    def for_product(cls, product, props, air: DryingAir) -> DryOvenModel | None:
+        """The model for ``product`` (None when its category has no published isotherm and diffusivity)."""
+        name = CATEGORY_ISOTHERM.get(product.category)
+        comp = product.composition_dict
+        if name is None or name not in MOISTURE_DIFFUSIVITIES or "water" not in comp:
+            return None
+        w = float(comp["water"])
+        rho = float(props.mass_density_kg_m3)
+        return cls(air, ISOTHERMS[name], MOISTURE_DIFFUSIVITIES[name], dry_basis(w), rho * (1.0 - w))
+
+    def describe(self) -> str:
+        return (
+            f"surface drying in {self.air.describe()}; GAB isotherm '{self.isotherm.name}', moisture diffusivity "
+            f"{self.diffusivity.D_ref_m2_s:.2g} m²/s at {self.diffusivity.reference_C:g} °C (indicative)"
+        )
+
+
+@dataclass(frozen=True, eq=False)
+class DryOvenResult:
+    """A dry-air step: the heat result of the last pass, the moisture history and the coupling's record.
+
+    Attributes
+    ----------
+    heat : the ConductionResult of the last heat pass
+    moisture : the MoistureHistory of the last moisture pass (face-centre surface)
+    passes : heat passes run
+    surface_change_K : largest change of the surface-temperature history on the last pass [K]
+    lost_kg : water evaporated from one piece [kg]
+    wet_bulb_C : wet-bulb temperature of the air [°C]
+    wet_until_s : time the surface water activity falls below :data:`DRY_SURFACE_WATER_ACTIVITY` [s] (None:
+        it stays wet)
+    """
+
+    heat: Any
+    moisture: MoistureHistory
+    passes: int
+    surface_change_K: float
+    lost_kg: float
+    wet_bulb_C: float
+    wet_until_s: float | None
+
+
+def _moisture_geometry(geometry: Geometry, D_m2_s: float, end_s: float) -> Geometry:
+    """The product itself when it is 1-D and the moisture change reaches deep into it, else a surface layer."""
+    half = min(a.length_m for a in geometry.axes)
+    depth = layer_depth_m(D_m2_s, end_s, half)
+    if len(geometry.axes) == 1 and depth >= 0.5 * half:
+        return geometry
+    return Geometry("slab", thickness_m=depth, faces=1)
+
+
+def _moisture_pass(model: DryOvenModel, geometry: Geometry, heat, n_nodes: int) -> MoistureHistory:
+    t = np.asarray(heat.time_s, dtype=float)
+    ts = np.asarray(heat.face_surface_C, dtype=float)
+    end = float(t[-1])
+    mean_ts = float(np.trapezoid(ts, t) / end) if end > 0 else float(ts[0])
+    d = model.diffusivity
+    D = float(arrhenius_m2_s(mean_ts, d.D_ref_m2_s, d.activation_J_mol, d.reference_C))
+    iso, air = model.isotherm, model.air
+
+    def flux(time_s, x_surface):
+        return air.mass_flux_kg_m2s(
+            np.interp(time_s, t, ts), iso._water_activity(np.asarray(x_surface, dtype=float))
+        )
+
+    return solve_moisture(
+        _moisture_geometry(geometry, D, end),
+        D,
+        model.dry_matter_kg_m3,
+        model.initial_kg_kg,
+        flux,
+        end,
+        output_time_s=t,
+        n_nodes=n_nodes,
+    )
+
+
+def _history_change(a, b) -> float:
+    """Largest difference of two surface-temperature histories over their common time span [K]."""
+    end = min(a.time_s[-1], b.time_s[-1])
+    t = np.linspace(0.0, end, 401)
+    return float(
+        np.max(np.abs(np.interp(t, a.time_s, a.face_surface_C) - np.interp(t, b.time_s, b.face_surface_C)))
+    )
+
+
+def solve_dry_oven(
+    geometry: Geometry,
+    props,
+    initial,
+    boundary: SurfaceBoundary,
+    model: DryOvenModel,
+    end_time_s: float,
+    *,
+    moisture_nodes: int = 41,
+    **heat_settings: Any,
+) -> DryOvenResult:
+    """Heat and moisture of one step in hot dry air, coupled by waveform relaxation (see the module note).
+
+    Parameters
+    ----------
+    geometry, props, initial : the product's shape, property table and starting field (as for solve_conduction)
+    boundary : the step's convective boundary (medium or sink temperature and effective h), without evaporation
+    model : the air and the product's moisture properties
+    end_time_s : the step's duration [s]
+    moisture_nodes : nodes of the moisture problem
+    heat_settings : passed on to solve_conduction (n_nodes, dt_s, stop_when_core_C, max_steps, …)
+    """
+    air, iso = model.air, model.isotherm
+    # a history on a fixed grid: the moisture pass lands on the heat pass's times, and few times keep both fast
+    heat_settings.setdefault("output_time_s", np.linspace(0.0, end_time_s, HISTORY_POINTS))
+    aw_t, aw_v = np.array([0.0, end_time_s]), np.ones(2)
+    n_t, n_v, wet_v = np.array([0.0, end_time_s]), np.zeros(2), np.ones(2)
+    heat = moisture = None
+    change, passes = float("inf"), 0
+    for passes in range(1, MAX_PASSES + 1):
+
+        def q_extra(t, ts, n_t=n_t, n_v=n_v, wet_v=wet_v):
+            # wet on the last pass: the air's drive on a wet surface; dried: the flux the moisture inside supplied
+            w = np.interp(t, n_t, wet_v)
+            return -(w * air.mass_flux_kg_m2s(ts) + (1.0 - w) * np.interp(t, n_t, n_v)) * latent_heat(ts)
+
+        bnd = SurfaceBoundary(boundary.medium_C, boundary.h_W_m2K, q_extra)
+        new = solve_conduction(geometry, props, initial, bnd, end_time_s, **heat_settings)
+        if heat is not None:
+            change = _history_change(heat, new)
+        heat = new
+        moisture = _moisture_pass(model, geometry, heat, moisture_nodes)
+        aw_t, aw_v = moisture.time_s, np.asarray(iso.water_activity(moisture.surface_kg_kg), dtype=float)
+        n_new = air.mass_flux_kg_m2s(np.interp(aw_t, heat.time_s, heat.face_surface_C), aw_v)
+        wet_new = (aw_v >= DRY_SURFACE_WATER_ACTIVITY).astype(float)
+        if passes > 1:  # under-relaxed: the switch from wet to dry moves back and forth otherwise
+            n_new = RELAXATION * n_new + (1.0 - RELAXATION) * np.interp(aw_t, n_t, n_v)
+            wet_new = RELAXATION * wet_new + (1.0 - RELAXATION) * np.interp(aw_t, n_t, wet_v)
+        n_t, n_v, wet_v = aw_t, n_new, wet_new
+        if change < SURFACE_TOLERANCE_K:
+            break
+    dried = np.nonzero(aw_v < DRY_SURFACE_WATER_ACTIVITY)[0]
+    return DryOvenResult(
+        heat=heat,
+        moisture=moisture,
+        passes=passes,
+        surface_change_K=change,
+        lost_kg=float(moisture.lost_kg_m2[-1]) * geometry.area_m2,
+        wet_bulb_C=air.wet_bulb_C(),
+        wet_until_s=float(aw_t[dried[0]]) if dried.size else None,
+    )
+
+
+@dataclass(frozen=True)
+class DryingSummary:
+    """What a dry-air step did to the product's water, per piece (shown in the summary, JSON and sheet).
+
+    Attributes
+    ----------
+    weight_loss_kg, weight_loss_percent : water evaporated [kg] and as a share of the piece's mass at the start
+        of the step [%]
+    yield_percent : mass after the step over mass before it [%] (evaporation only; drip is not modelled)
+    wet_bulb_C : wet-bulb temperature of the air [°C]
+    wet_until_s : time from the step's start the surface stays wet [s] (None: wet to the end)
+    surface_moisture_kg_kg, mean_layer_moisture_kg_kg : moisture at the end, at the surface and in the modelled
+        layer [kg water / kg dry matter]
+    initial_moisture_kg_kg : moisture at the start [kg/kg dry matter]
+    layer_depth_m : depth of the modelled moisture layer [m]
+    passes, surface_change_K : coupling passes and the last change of the surface temperature [K]
+    mass_balance_error : of the moisture problem [-]
+    model : the model in words
+    """
+
+    weight_loss_kg: float
+    weight_loss_percent: float
+    yield_percent: float
+    wet_bulb_C: float
+    wet_until_s: float | None
+    surface_moisture_kg_kg: float
+    mean_layer_moisture_kg_kg: float
+    initial_moisture_kg_kg: float
+    layer_depth_m: float
+    passes: int
+    surface_change_K: float
+    mass_balance_error: float
+    model: str
+
+    @property
+    def converged(self) -> bool:
+        """Whether the coupling settled within :data:`SURFACE_TOLERANCE_K`."""
+        return self.surface_change_K < SURFACE_TOLERANCE_K
+
+    @property
+    def unsettled_text(self) -> str:
+        """The warning for a coupling that did not settle."""
+        return (
+            f"heat and moisture did not settle within {self.passes} coupling passes (surface temperature still "
+            f"moving by {self.surface_change_K:.1f} K): treat the cook time and weight loss as indicative"
+        )
+
+
+def summarise(res: DryOvenResult, model: DryOvenModel, piece_mass_kg: float) -> DryingSummary:
+    """The per-piece summary of a dry-air step."""
+    pct = 100.0 * res.lost_kg / piece_mass_kg
+    return DryingSummary(
+        weight_loss_kg=res.lost_kg,
+        weight_loss_percent=pct,
+        yield_percent=100.0 - pct,
+        wet_bulb_C=res.wet_bulb_C,
+        wet_until_s=res.wet_until_s,
+        surface_moisture_kg_kg=float(res.moisture.surface_kg_kg[-1]),
+        mean_layer_moisture_kg_kg=float(res.moisture.mean_kg_kg[-1]),
+        initial_moisture_kg_kg=model.initial_kg_kg,
+        layer_depth_m=res.moisture.depth_m,
+        passes=res.passes,
+        surface_change_K=res.surface_change_K,
+        mass_balance_error=res.moisture.mass_balance_error,
+        model=model.describe(),
+    )
+
+
+def yield_percent(losses) -> float | None:
+    """Mass at the end over the mass at the start [%] from (step, loss [%]) pairs, each loss a share of the mass
+    the step started with (None without any loss).
+
+    >>> round(yield_percent([("roast", 10.0), ("chill", 2.0)]), 6)
+    88.2
+    """
+    if not losses:
+        return None
+    return 100.0 * float(np.prod([1.0 - pct / 100.0 for _, pct in losses]))
+
+
+def dry_oven_step(geometry, props, initial, surface, step, n_nodes, time_settings: dict):
+    """The engine's dry-air step: (heat result, DryingSummary), or None for a step without drying."""
+    from procplan.run.budget import MAX_TIME_STEPS_PER_STEP
+
+    model = getattr(surface, "drying_air", None)
+    if model is None:
+        return None
+    res = solve_dry_oven(
+        geometry,
+        props,
+        initial,
+        surface.boundary(),
+        model,
+        step.duration_s,
+        n_nodes=n_nodes,
+        stop_when_core_C=step.stop_when_core_C,
+        max_steps=MAX_TIME_STEPS_PER_STEP,
+        **time_settings,
+    )
+    return res.heat, summarise(res, model, props.mass_density_kg_m3 * geometry.volume_m3)
+
+
+def carried_field(run, props):
+    """The field the next step starts from; a dried crust above the property model's range (a roast's surface
+    in a hot oven) is cut to the range's top, which takes out a little heat (the slower side)."""
+    if run.fv is None or run.drying is None:
+        return None if run.fv is None else run.fv.final_field
+    return np.minimum(run.fv.final_field, float(props.temperature_C[-1]))
+
+
+def range_warnings(history, props, dried: bool = False) -> list[str]:
+    """Warnings on temperatures the model carries only roughly: boiling (not when a dry-air step carried the
+    moisture), and outside the property model."""
+    out = []
+    lo, hi = float(props.temperature_C[0]), float(props.temperature_C[-1])
+    t_min = float(history[["core_C", "surface_C"]].min().min())
+    t_max = float(history[["core_C", "surface_C"]].max().max())
+    if t_max > 100.5 and not dried:
+        out.append(
+            f"product temperatures reach {t_max:.0f} °C: above 100 °C the water in an unsealed product boils and the "
+            "surface dries, which a conduction model does not carry; treat temperatures above 100 °C as indicative only"
+        )
+    if t_min < lo - 0.05 or t_max > hi + 0.05:
+        out.append(
+            f"product temperatures reach {t_min:.1f}…{t_max:.1f} °C, outside the property model's {lo:g}…{hi:g} °C: "
+            "properties are extrapolated there"
+        )
+    return out
