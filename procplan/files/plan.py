@@ -15,7 +15,16 @@ from typing import Any
 
 from procplan import validate
 from procplan.errors import Collector, InvalidInputError
-from procplan.files.fields import T_HI, T_LO, check_keys, file_number, optional, product_temperature
+from procplan.files.fields import (
+    T_HI,
+    T_LO,
+    check_keys,
+    check_product_temperature,
+    file_number,
+    optional,
+    product_temperature,
+    stated_temperature,
+)
 from procplan.files.packing import packing_from_dict, packing_to_dict
 from procplan.files.product import product_freezing_C, product_from_dict, product_to_dict
 from procplan.files.steps import step_from_dict, step_to_dict
@@ -56,7 +65,7 @@ def _lethality_table(c: Collector, raw: Mapping[str, Any], lp: str) -> Lethality
         validate.choice(lp + "point", point, POINTS)
     leth = LethalityCheck(
         preset=raw.get("preset"),
-        reference_C=optional(c, raw, "reference_C", lp, product_temperature),
+        reference_C=optional(c, raw, "reference_C", lp, stated_temperature),
         z_C=optional(
             c, raw, "z_C", lp, validate.number, minimum=0.0, min_inclusive=False, maximum=200.0, unit="°C"
         ),
@@ -180,7 +189,7 @@ def _start(c: Collector, data: Mapping[str, Any]) -> float | None:
         )
         return None
     check_keys(c, start, ("temperature_C",), "start.")
-    return optional(c, start, "temperature_C", "start.", product_temperature)
+    return optional(c, start, "temperature_C", "start.", stated_temperature)
 
 
 def _steps(c: Collector, data: Mapping[str, Any], source: str, library) -> list[Step]:
@@ -251,6 +260,7 @@ def plan_from_dict(data: Mapping[str, Any], source: str = "plan", library=None) 
             packing = packing_from_dict(data["packing"], source)
     if product is not None:
         _check_frozen_storage(c, product, checks, data.get("checks"))
+    _check_product_range(c, product, data.get("product"), t0, steps)
     if t0 is not None and steps:
         _check_first_stop(c, steps[0], t0, library)
     c.raise_if_any()
@@ -297,6 +307,27 @@ def _load(c: Collector, data: Mapping[str, Any], checks: Checks | None) -> tuple
                 )
             )
     return Load(model if model in LOAD_MODELS else "loaded"), pieces
+
+
+def _check_product_range(
+    c: Collector, product: Product | None, raw: Any, t0: float | None, steps: list[Step]
+) -> None:
+    """The start, stop and target temperatures inside what the product's properties cover (an invalid
+    product without fixed properties: the composition model's range, so that every problem shows at once)."""
+    if product is None:
+        if not isinstance(raw, Mapping) or "fixed_properties" in raw or "library" in raw:
+            return
+        product = Product("?", None)
+    named = [("start.temperature_C", t0)]
+    for i, s in enumerate(steps):
+        named.append((f"steps[{i}].stop_when_core_C", s.stop_when_core_C))
+        named += [
+            (f"steps[{i}].targets[{j}].temperature_C", t.temperature_C) for j, t in enumerate(s.targets)
+        ]
+    for name, value in named:
+        if value is not None:
+            with c.catch():
+                check_product_temperature(product, name, value)
 
 
 def _check_frozen_storage(c: Collector, product: Product, checks: Checks, raw_checks: Any) -> None:

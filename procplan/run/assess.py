@@ -325,7 +325,7 @@ def _lethalities(run: _Run) -> tuple[LethalityOutcome | None, LethalityOutcome |
     chk = run.plan.checks.lethality
     lethality = _lethality(chk, hist) if chk is not None else None
     quality = None
-    if hist["surface_C"].max() > 60.0:
+    if hist["surface_C"].max() > 60.0 and run.properties.temperature_C[-1] <= 150.0:  # a food, not glass
         quality = _lethality(LethalityCheck(preset="cook-value-c100", point="surface"), hist)
     return lethality, quality
 
