@@ -82,7 +82,9 @@ MEDIA: dict[str, dict[str, tuple[str, ...]]] = {
 
 #: Kinds that refrigerate, for which evaporating and condensing temperatures are required.
 REFRIGERATED_KINDS = frozenset(
-    k for k, v in EQUIPMENT_KINDS.items() if k not in ("convection-oven", "dry-heat-tunnel", "water-bath", "steam-oven")
+    k
+    for k, v in EQUIPMENT_KINDS.items()
+    if k not in ("convection-oven", "dry-heat-tunnel", "water-bath", "steam-oven")
 )
 
 
