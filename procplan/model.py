@@ -191,6 +191,12 @@ class Checks:
     cop_fraction: float = 0.5
     energy_price_per_kWh: float | None = None
     frozen_storage_C: float = -18.0
+    budget_used_above_h: float = 0.0  # stability budget already spent above / below the band before this plan
+    budget_used_below_h: float = 0.0
+    mean_kinetic_point: str | None = (
+        None  # point whose mean kinetic temperature is reported (None: not asked)
+    )
+    mean_kinetic_max_C: float | None = None  # the limit it is judged against (None: reported only)
 
 
 @dataclass(frozen=True)

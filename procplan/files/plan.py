@@ -51,7 +51,13 @@ CHECK_KEYS = (
     "cop_fraction",
     "energy_price_per_kWh",
     "frozen_storage_C",
+    "budget_used_above_h",
+    "budget_used_below_h",
+    "mean_kinetic_point",
+    "mean_kinetic_max_C",
 )
+#: Largest stability budget already spent that a plan may carry [h] (about 11 years).
+MAX_BUDGET_USED_H = 1.0e5
 LETHALITY_KEYS = ("preset", "reference_C", "z_C", "required_F_min", "d_value_min", "point")
 PLAN_KEYS = ("title", "notes", "solver", "product", "start", "steps", "checks", "packing", "load")
 LOAD_KEYS = ("pieces", "model")
@@ -149,9 +155,29 @@ def checks_from_dict(data: Mapping[str, Any], source: str = "plan") -> Checks:
             c, data, "energy_price_per_kWh", p, validate.number, minimum=0.0, maximum=100.0
         ),
         frozen_storage_C=optional(c, data, "frozen_storage_C", p, product_temperature, default=-18.0),
+        **_cold_chain_checks(c, data, p),
     )
     c.raise_if_any()
     return checks
+
+
+def _cold_chain_checks(c: Collector, data: Mapping[str, Any], p: str) -> dict[str, Any]:
+    """Stability budget already spent and the mean kinetic temperature asked for (its point and limit)."""
+    out: dict[str, Any] = {}
+    for key in ("budget_used_above_h", "budget_used_below_h"):
+        out[key] = optional(
+            c, data, key, p, validate.number, minimum=0.0, maximum=MAX_BUDGET_USED_H, unit="h", default=0.0
+        )
+    point = data.get("mean_kinetic_point")
+    if point is not None:
+        with c.catch():
+            validate.choice(p + "mean_kinetic_point", point, POINTS)
+    limit = optional(c, data, "mean_kinetic_max_C", p, product_temperature)
+    out["mean_kinetic_point"] = point if isinstance(point, str) and point in POINTS else None
+    if limit is not None and out["mean_kinetic_point"] is None and point is None:
+        out["mean_kinetic_point"] = "core"
+    out["mean_kinetic_max_C"] = limit
+    return out
 
 
 def _product(c: Collector, data: Mapping[str, Any], source: str, library) -> Product | None:
@@ -428,10 +454,15 @@ def checks_to_dict(ch: Checks) -> dict[str, Any]:
         "cop_fraction",
         "energy_price_per_kWh",
         "frozen_storage_C",
+        "budget_used_above_h",
+        "budget_used_below_h",
+        "mean_kinetic_max_C",
     ):
         v = getattr(ch, key)
         if v is not None and v != getattr(defaults, key):
             d[key] = file_number(v)
+    if ch.mean_kinetic_point is not None:
+        d["mean_kinetic_point"] = ch.mean_kinetic_point
     return d
 
 
