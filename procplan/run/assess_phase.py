@@ -156,7 +156,9 @@ def thawing_outcome(plan: Plan, history: pd.DataFrame, steps, props: PropertyTab
 
 def _thawing(plan, history, sr, step, props, tf: float, core0: float, medium: float) -> ThawingOutcome:
     target = step.stop_when_core_C if step.stop_when_core_C is not None else tf
-    seg = history[(history["time_s"] >= sr.start_s) & (history["time_s"] <= sr.end_s)]
+    seg = history[history["step_index"] == sr.index]
+    if sr.index > 0:  # the previous step's last row: this step's starting state
+        seg = pd.concat([history[history["step_index"] == sr.index - 1].iloc[-1:], seg])
     reached = oc.time_to_temperature(
         seg["time_s"].to_numpy(), seg["core_C"].to_numpy(), target, direction="up", start_s=sr.start_s
     )
