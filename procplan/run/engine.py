@@ -238,7 +238,11 @@ def _exact_step(geometry, props: PropertyTable, start_C: float, surface: StepSur
     def run(times):
         return exact_history(geometry, k, rho, cp, h, start_C, medium, times)
 
-    times = np.linspace(0.0, step.duration_s, EXACT_POINTS)
+    # equal spacing, plus geometric spacing from the start: a thin or highly conductive piece in a liquid
+    # settles in seconds, and the heat through its surface is integrated from these samples
+    times = np.unique(
+        np.r_[np.linspace(0.0, step.duration_s, EXACT_POINTS), np.geomspace(1e-6, 1.0, 61) * step.duration_s]
+    )
     hist = run(times)
     stop_time = None
     if step.stop_when_core_C is not None:
