@@ -363,14 +363,14 @@ Z_VALUE_PRESETS: dict[str, LethalityPreset] = {
         ),
         LethalityPreset(
             "dry-heat-fh",
-            "dry-heat sterilisation of glass and metal (F_H), equivalent of 2 h at 160 °C",
+            "dry-heat sterilisation of glass and metal (FH), equivalent of 2 h at 160 °C",
             170.0,
             20.0,
             120.0 * 10.0 ** ((160.0 - 170.0) / 20.0),
             None,
             "safety",
-            "F_H: T_ref 170 °C, z 20 °C (United States Pharmacopeia <1229.8> Dry heat sterilization, as quoted "
-            "in its users' worked examples); required F_H = 2 h at 160 °C, the pharmacopoeias' reference dry-heat "
+            "FH: T_ref 170 °C, z 20 °C (United States Pharmacopeia <1229.8> Dry heat sterilization, as quoted "
+            "in its users' worked examples); required FH = 2 h at 160 °C, the pharmacopoeias' reference dry-heat "
             "cycle (European Pharmacopoeia 5.1.1, not read)",
             False,
         ),
