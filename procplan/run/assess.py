@@ -327,9 +327,10 @@ def _freezing_times(run: _Run) -> FreezingOutcome | None:
     """Freezing outcomes when the core freezes or a medium is below the frozen-storage temperature."""
     tf = run.properties.initial_freezing_C
     storage = run.plan.checks.frozen_storage_C
-    starts_frozen = run.plan.start_temperature_C < tf - 0.05 if tf is not None else False
+    thaws = tf is not None and run.plan.start_temperature_C < tf - 0.05  # a frozen start warmed above T_f
+    thaws = thaws and any(float(np.mean(sr.surface.medium_C)) > tf for sr in run.steps)
     if tf is not None and (
-        (run.history["core_C"].min() < tf - 0.05 and not starts_frozen)
+        (run.history["core_C"].min() < tf - 0.05 and not thaws)
         or any(min(sr.surface.medium_C) < storage for sr in run.steps)
     ):
         return freezing_outcome(run, tf, storage)
