@@ -35,7 +35,7 @@ from procplan.run.budget import (
     unreliable_reason,
 )
 from procplan.run.mass_step import brine_first, brine_until, salt_columns, salted_properties
-from procplan.run.solver import PROPERTY_SPREAD_LIMIT, choose_solver, exact_properties
+from procplan.run.solver import PROPERTY_SPREAD_LIMIT, choose_solver, exact_properties, exact_sample_times
 from procplan.run.step_surface import StepSurface, resolve_step_surface
 
 __all__ = [
@@ -238,11 +238,7 @@ def _exact_step(geometry, props: PropertyTable, start_C: float, surface: StepSur
     def run(times):
         return exact_history(geometry, k, rho, cp, h, start_C, medium, times)
 
-    # equal spacing, plus geometric spacing from the start: a thin or highly conductive piece in a liquid
-    # settles in seconds, and the heat through its surface is integrated from these samples
-    times = np.unique(
-        np.r_[np.linspace(0.0, step.duration_s, EXACT_POINTS), np.geomspace(1e-6, 1.0, 61) * step.duration_s]
-    )
+    times = exact_sample_times(step.duration_s, EXACT_POINTS)
     hist = run(times)
     stop_time = None
     if step.stop_when_core_C is not None:
