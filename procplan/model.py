@@ -10,7 +10,7 @@ from dataclasses import dataclass, field, replace
 from typing import Any
 
 from procplan.geometry import Geometry
-from procplan.properties.table import PropertyTable
+from procplan.properties.table import MODEL_RANGE_C, PropertyTable
 from procplan.surface.layers import PackagingLayer
 
 #: Longest step accepted [min] (a week): beyond this the unit is almost surely wrong.
@@ -18,7 +18,7 @@ MAX_STEP_MIN = 7 * 24 * 60.0
 #: Duration used for a step that only gives a stop condition [min].
 DEFAULT_STOP_CAP_MIN = 72 * 60.0
 #: Medium temperatures accepted [°C]: ovens run above the product-property range, which bounds the product only.
-MEDIUM_RANGE_C = (-80.0, 300.0)
+MEDIUM_RANGE_C = (-80.0, 400.0)
 SOLVERS = ("auto", "exact", "finite-volume")
 POINTS = ("core", "surface", "mean")
 FOOD_CATEGORIES = ("meat", "fruit-vegetable", "juice", "other")
@@ -29,7 +29,11 @@ DIMENSION_KEYS = ("thickness_mm", "diameter_mm", "length_mm", "width_mm", "heigh
 
 @dataclass(frozen=True)
 class FixedProperties:
-    """Measured constant properties that replace the composition model."""
+    """Measured constant properties that replace the composition model.
+
+    valid_min_C, valid_max_C : the temperatures the stated properties cover [°C] (None: the composition
+        model's −40…150 °C); glass or metal for dry-heat ovens and depyrogenation tunnels state e.g. 400 °C
+    """
 
     k_W_mK: float
     rho_kg_m3: float
@@ -38,6 +42,15 @@ class FixedProperties:
     freezing_C: float | None = None
     frozen_k_W_mK: float | None = None
     frozen_cp_J_kgK: float | None = None
+    valid_min_C: float | None = None
+    valid_max_C: float | None = None
+
+    @property
+    def temperature_range_C(self) -> tuple[float, float]:
+        """The range [°C] the properties cover: the stated one, else the composition model's."""
+        lo = MODEL_RANGE_C[0] if self.valid_min_C is None else self.valid_min_C
+        hi = MODEL_RANGE_C[1] if self.valid_max_C is None else self.valid_max_C
+        return lo, hi
 
 
 @dataclass(frozen=True)
@@ -75,6 +88,7 @@ class Product:
                 freezing_C=fp.freezing_C,
                 frozen_k_W_mK=fp.frozen_k_W_mK,
                 frozen_cp_J_kgK=fp.frozen_cp_J_kgK,
+                temperature_range_C=fp.temperature_range_C,
             )
         from procplan.properties import Composition
 
@@ -177,6 +191,12 @@ class Checks:
     cop_fraction: float = 0.5
     energy_price_per_kWh: float | None = None
     frozen_storage_C: float = -18.0
+    budget_used_above_h: float = 0.0  # stability budget already spent above / below the band before this plan
+    budget_used_below_h: float = 0.0
+    mean_kinetic_point: str | None = (
+        None  # point whose mean kinetic temperature is reported (None: not asked)
+    )
+    mean_kinetic_max_C: float | None = None  # the limit it is judged against (None: reported only)
 
 
 @dataclass(frozen=True)

@@ -92,6 +92,7 @@ class TimeStepper:
         self.t = 0.0
         self.H = H
         self.q_now = model.heat_flow_W(0.0, H)
+        self.q_peak = abs(self.q_now)  # largest |surface heat flow| so far [W]: the scale of flux changes
         self.heat = 0.0
         self.H0_total = float(np.dot(model.mass, H))
         self.T_cur = model.temperature(H)
@@ -234,8 +235,9 @@ class TimeStepper:
         """The step [s] (and its field) at which the core reaches the stop temperature: secant on the step."""
         stop = self.c.stop
         lo, flo, hi, fhi = 0.0, self.core_T - stop, step, core1 - stop
-        best = (step, H1)
-        for _ in range(12):
+        reached = (step, H1)  # the earliest state known to have reached the stop (the bracket's far end)
+        side = 0  # Illinois: halve the value at an end kept twice, so a bent curve still converges
+        for _ in range(16):
             s = lo + (hi - lo) * flo / (flo - fhi)
             s = min(max(s, lo + 1e-3 * (hi - lo)), hi - 1e-3 * (hi - lo))
             Hs, its = self.attempt(s)
@@ -243,14 +245,20 @@ class TimeStepper:
             if Hs is None:
                 break
             fs = float(self.model.temperature(Hs[self.grid.core_index])) - stop
-            best = (s, Hs)
             if abs(fs) < 1e-5:
-                break
+                return s, Hs
             if (fs > 0) == (flo > 0):
                 lo, flo = s, fs
+                fhi = 0.5 * fhi if side == 1 else fhi
+                side = 1
             else:
                 hi, fhi = s, fs
-        return best
+                reached = (s, Hs)
+                flo = 0.5 * flo if side == -1 else flo
+                side = -1
+        # not converged (a core on a phase-change plateau bends the secant): never stop short of the stop
+        # temperature, take the earliest state that reached it
+        return reached
 
     def _accept(self, step: float, H1: np.ndarray, T1: np.ndarray, core1: float, change: float) -> None:
         """Take the step: integrate the surface heat, shift the state, record, choose the next step."""
@@ -261,7 +269,10 @@ class TimeStepper:
         self.heat += 0.5 * (self.q_now + q_new) * step
         # the heat through the surface is integrated by the trapezoidal rule: keep the relative change of the
         # surface flux per step moderate, which matters on a phase-change plateau where temperatures barely move
-        q_change = abs(q_new - self.q_now) / max(abs(q_new), abs(self.q_now), 1e-300)
+        # relative to the step's largest flow so far: a flow passing through zero (a tempering product whose
+        # surface warms past the medium) would otherwise halve the step for ever
+        self.q_peak = max(self.q_peak, abs(q_new))
+        q_change = abs(q_new - self.q_now) / max(abs(q_new), abs(self.q_now), 0.05 * self.q_peak, 1e-300)
         self.q_now = q_new
         self.H_prev2, self.dt_prev2 = self.H_prev, self.dt_prev
         self.H_prev, self.H, self.dt_prev, self.T_cur = self.H, H1, step, T1

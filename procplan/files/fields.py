@@ -16,6 +16,8 @@ from procplan.model import MEDIUM_RANGE_C
 from procplan.properties.table import MODEL_RANGE_C
 
 T_LO, T_HI = MODEL_RANGE_C
+#: Widest range [°C] a product's fixed properties may state they cover (valid_min_C…valid_max_C).
+STATED_RANGE_LIMITS_C = (-200.0, 1000.0)
 
 
 def check_keys(c: Collector, data: Mapping[str, Any], allowed: Iterable[str], prefix: str = "") -> None:
@@ -51,6 +53,46 @@ def optional(
 def product_temperature(field_name: str, v: Any) -> float:
     """A product temperature [°C] inside the property model's range."""
     return validate.number(field_name, v, minimum=T_LO, maximum=T_HI, unit="°C")
+
+
+def stated_temperature(field_name: str, v: Any) -> float:
+    """A temperature [°C] a product may take with properties stated for it (``STATED_RANGE_LIMITS_C``); the
+    plan then checks it against the product's own range (see :func:`product_range_C`)."""
+    lo, hi = STATED_RANGE_LIMITS_C
+    return validate.number(field_name, v, minimum=lo, maximum=hi, unit="°C")
+
+
+def product_range_C(product) -> tuple[float, float, str | None]:
+    """(low, high, why) of the temperatures ``product`` accepts [°C]: its fixed properties' stated range,
+    else the composition model's (why None)."""
+    fp = product.fixed_properties
+    if fp is None or (fp.valid_min_C is None and fp.valid_max_C is None):
+        return T_LO, T_HI, None
+    lo, hi = fp.temperature_range_C
+    return lo, hi, "the range product.fixed_properties states (valid_min_C…valid_max_C)"
+
+
+def check_product_temperature(product, field_name: str, v: float) -> float:
+    """``v`` [°C] inside the temperatures ``product`` accepts, else InvalidInputError naming the range.
+
+    >>> from procplan.geometry import Geometry
+    >>> from procplan.model import FixedProperties, Product
+    >>> glass = Product("vial", Geometry("slab", thickness_m=0.001), fixed_properties=FixedProperties(
+    ...     1.1, 2230.0, 750.0, valid_max_C=400.0))
+    >>> check_product_temperature(glass, "start.temperature_C", 320.0)
+    320.0
+    >>> check_product_temperature(glass, "start.temperature_C", 450.0)
+    Traceback (most recent call last):
+    ...
+    procplan.errors.InvalidInputError: start.temperature_C = 450.0: allowed [-40, 400] °C (the range product.fixed_properties states (valid_min_C…valid_max_C))
+    """
+    lo, hi, why = product_range_C(product)
+    if lo <= v <= hi:
+        return v
+    try:
+        return validate.number(field_name, v, minimum=lo, maximum=hi, unit="°C")
+    except InvalidInputError as exc:
+        raise InvalidInputError(field_name, v, exc.allowed, why) from None
 
 
 def medium_temperature(field_name: str, v: Any) -> float:

@@ -15,7 +15,16 @@ from typing import Any
 
 from procplan import validate
 from procplan.errors import Collector, InvalidInputError
-from procplan.files.fields import T_HI, T_LO, check_keys, file_number, optional, product_temperature
+from procplan.files.fields import (
+    T_HI,
+    T_LO,
+    check_keys,
+    check_product_temperature,
+    file_number,
+    optional,
+    product_temperature,
+    stated_temperature,
+)
 from procplan.files.packing import packing_from_dict, packing_to_dict
 from procplan.files.product import product_freezing_C, product_from_dict, product_to_dict
 from procplan.files.steps import step_from_dict, step_to_dict
@@ -42,7 +51,13 @@ CHECK_KEYS = (
     "cop_fraction",
     "energy_price_per_kWh",
     "frozen_storage_C",
+    "budget_used_above_h",
+    "budget_used_below_h",
+    "mean_kinetic_point",
+    "mean_kinetic_max_C",
 )
+#: Largest stability budget already spent that a plan may carry [h] (about 11 years).
+MAX_BUDGET_USED_H = 1.0e5
 LETHALITY_KEYS = ("preset", "reference_C", "z_C", "required_F_min", "d_value_min", "point")
 PLAN_KEYS = ("title", "notes", "solver", "product", "start", "steps", "checks", "packing", "load")
 LOAD_KEYS = ("pieces", "model")
@@ -56,7 +71,7 @@ def _lethality_table(c: Collector, raw: Mapping[str, Any], lp: str) -> Lethality
         validate.choice(lp + "point", point, POINTS)
     leth = LethalityCheck(
         preset=raw.get("preset"),
-        reference_C=optional(c, raw, "reference_C", lp, product_temperature),
+        reference_C=optional(c, raw, "reference_C", lp, stated_temperature),
         z_C=optional(
             c, raw, "z_C", lp, validate.number, minimum=0.0, min_inclusive=False, maximum=200.0, unit="°C"
         ),
@@ -140,9 +155,29 @@ def checks_from_dict(data: Mapping[str, Any], source: str = "plan") -> Checks:
             c, data, "energy_price_per_kWh", p, validate.number, minimum=0.0, maximum=100.0
         ),
         frozen_storage_C=optional(c, data, "frozen_storage_C", p, product_temperature, default=-18.0),
+        **_cold_chain_checks(c, data, p),
     )
     c.raise_if_any()
     return checks
+
+
+def _cold_chain_checks(c: Collector, data: Mapping[str, Any], p: str) -> dict[str, Any]:
+    """Stability budget already spent and the mean kinetic temperature asked for (its point and limit)."""
+    out: dict[str, Any] = {}
+    for key in ("budget_used_above_h", "budget_used_below_h"):
+        out[key] = optional(
+            c, data, key, p, validate.number, minimum=0.0, maximum=MAX_BUDGET_USED_H, unit="h", default=0.0
+        )
+    point = data.get("mean_kinetic_point")
+    if point is not None:
+        with c.catch():
+            validate.choice(p + "mean_kinetic_point", point, POINTS)
+    limit = optional(c, data, "mean_kinetic_max_C", p, product_temperature)
+    out["mean_kinetic_point"] = point if isinstance(point, str) and point in POINTS else None
+    if limit is not None and out["mean_kinetic_point"] is None and point is None:
+        out["mean_kinetic_point"] = "core"
+    out["mean_kinetic_max_C"] = limit
+    return out
 
 
 def _product(c: Collector, data: Mapping[str, Any], source: str, library) -> Product | None:
@@ -180,7 +215,7 @@ def _start(c: Collector, data: Mapping[str, Any]) -> float | None:
         )
         return None
     check_keys(c, start, ("temperature_C",), "start.")
-    return optional(c, start, "temperature_C", "start.", product_temperature)
+    return optional(c, start, "temperature_C", "start.", stated_temperature)
 
 
 def _steps(c: Collector, data: Mapping[str, Any], source: str, library) -> list[Step]:
@@ -251,6 +286,7 @@ def plan_from_dict(data: Mapping[str, Any], source: str = "plan", library=None) 
             packing = packing_from_dict(data["packing"], source)
     if product is not None:
         _check_frozen_storage(c, product, checks, data.get("checks"))
+    _check_product_range(c, product, data.get("product"), t0, steps)
     if t0 is not None and steps:
         _check_first_stop(c, steps[0], t0, library)
     c.raise_if_any()
@@ -297,6 +333,27 @@ def _load(c: Collector, data: Mapping[str, Any], checks: Checks | None) -> tuple
                 )
             )
     return Load(model if model in LOAD_MODELS else "loaded"), pieces
+
+
+def _check_product_range(
+    c: Collector, product: Product | None, raw: Any, t0: float | None, steps: list[Step]
+) -> None:
+    """The start, stop and target temperatures inside what the product's properties cover (an invalid
+    product without fixed properties: the composition model's range, so that every problem shows at once)."""
+    if product is None:
+        if not isinstance(raw, Mapping) or "fixed_properties" in raw or "library" in raw:
+            return
+        product = Product("?", None)
+    named = [("start.temperature_C", t0)]
+    for i, s in enumerate(steps):
+        named.append((f"steps[{i}].stop_when_core_C", s.stop_when_core_C))
+        named += [
+            (f"steps[{i}].targets[{j}].temperature_C", t.temperature_C) for j, t in enumerate(s.targets)
+        ]
+    for name, value in named:
+        if value is not None:
+            with c.catch():
+                check_product_temperature(product, name, value)
 
 
 def _check_frozen_storage(c: Collector, product: Product, checks: Checks, raw_checks: Any) -> None:
@@ -397,10 +454,15 @@ def checks_to_dict(ch: Checks) -> dict[str, Any]:
         "cop_fraction",
         "energy_price_per_kWh",
         "frozen_storage_C",
+        "budget_used_above_h",
+        "budget_used_below_h",
+        "mean_kinetic_max_C",
     ):
         v = getattr(ch, key)
         if v is not None and v != getattr(defaults, key):
             d[key] = file_number(v)
+    if ch.mean_kinetic_point is not None:
+        d["mean_kinetic_point"] = ch.mean_kinetic_point
     return d
 
 

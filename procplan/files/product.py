@@ -15,6 +15,7 @@ from procplan.files.fields import (
     file_number,
     optional,
     product_temperature,
+    stated_temperature,
 )
 from procplan.geometry import SHAPES, Geometry, geometry_from_mm
 from procplan.model import DIMENSION_KEYS, FOOD_CATEGORIES, FixedProperties, Product
@@ -61,6 +62,8 @@ FIXED_PROPERTY_KEYS = (
     "freezing_C",
     "frozen_k_W_mK",
     "frozen_cp_J_kgK",
+    "valid_min_C",
+    "valid_max_C",
 )
 
 
@@ -149,15 +152,16 @@ def _fixed_properties(c: Collector, fp: Any, prefix: str) -> FixedProperties | N
     vals["latent_J_kg"] = optional(
         c, fp, "latent_J_kg", fpp, validate.number, minimum=0.0, maximum=400e3, unit="J/kg", default=0.0
     )
-    vals["freezing_C"] = optional(c, fp, "freezing_C", fpp, product_temperature)
+    lo, hi = _stated_range(c, fp, fpp, vals)
+    vals["freezing_C"] = optional(c, fp, "freezing_C", fpp, stated_temperature)
     vals["frozen_k_W_mK"] = optional(c, fp, "frozen_k_W_mK", fpp, validate.positive, "W/mK")
     vals["frozen_cp_J_kgK"] = optional(c, fp, "frozen_cp_J_kgK", fpp, validate.positive, "J/kgK")
     if vals["latent_J_kg"] and vals["freezing_C"] is not None:
-        # the latent heat is released over a band below freezing_C that must fit inside the model's range
+        # the latent heat is released over a band below freezing_C that must fit inside the stated range
         # (procplan.properties.table.PropertyTable.constant: 0.5 K band, 1 K clearance at either end)
         with c.catch():
             validate.number(
-                fpp + "freezing_C", vals["freezing_C"], minimum=T_LO + 1.5, maximum=T_HI - 1.0, unit="°C"
+                fpp + "freezing_C", vals["freezing_C"], minimum=lo + 1.5, maximum=hi - 1.0, unit="°C"
             )
     if vals["latent_J_kg"] and vals["freezing_C"] is None:
         c.add(
@@ -168,6 +172,27 @@ def _fixed_properties(c: Collector, fp: Any, prefix: str) -> FixedProperties | N
     if all(vals[k] is not None for k in ("k_W_mK", "rho_kg_m3", "cp_J_kgK")):
         return FixedProperties(**vals)
     return None
+
+
+def _stated_range(c: Collector, fp: Mapping[str, Any], fpp: str, vals: dict) -> tuple[float, float]:
+    """``valid_min_C`` and ``valid_max_C`` (the range the stated properties cover) into ``vals``; returns the
+    range in force (the composition model's −40…150 °C for an end not given)."""
+    vals["valid_min_C"] = optional(c, fp, "valid_min_C", fpp, stated_temperature)
+    vals["valid_max_C"] = optional(c, fp, "valid_max_C", fpp, stated_temperature)
+    lo = T_LO if vals["valid_min_C"] is None else vals["valid_min_C"]
+    hi = T_HI if vals["valid_max_C"] is None else vals["valid_max_C"]
+    if not hi - lo >= 10.0:
+        c.add(
+            InvalidInputError(
+                fpp + "valid_max_C",
+                hi,
+                f">= valid_min_C + 10 °C ({lo + 10.0:g} °C)",
+                "the stated properties must cover a range of temperatures",
+            )
+        )
+        vals["valid_min_C"] = vals["valid_max_C"] = None
+        return T_LO, T_HI
+    return lo, hi
 
 
 def _properties(

@@ -13,6 +13,7 @@ from typing import Any
 from procplan import validate
 from procplan.errors import Collector, InvalidInputError
 from procplan.files.fields import check_keys
+from procplan.outcomes.cold_chain import StabilityBudget
 from procplan.outcomes.rules import (
     RULE_KINDS,
     RULE_POINTS,
@@ -25,7 +26,10 @@ from procplan.outcomes.rules import (
 )
 from procplan.units import c_to_f, f_to_c
 
-RULE_KEYS = ("bands", "confirmed", "kind", "name", "notes", "point", "source", "stages", "title")
+RULE_KEYS = ("bands", "budget", "confirmed", "kind", "name", "notes", "point", "source", "stages", "title")
+BUDGET_KEYS = ("allowance_above_h", "allowance_below_h", "high_C", "low_C")
+#: Largest stability allowance a rule file may give [h] (about 11 years).
+MAX_ALLOWANCE_H = 1.0e5
 STAGE_KEYS = ("clock", "from_C", "from_F", "to_C", "to_F", "within_min")
 BAND_KEYS = ("at_least_min", "at_most_min", "high_C", "high_F", "low_C", "low_F", "max_outside_min", "name")
 #: Largest difference [K] between a limit's °C figure and the exact conversion of its °F figure: a figure
@@ -212,6 +216,44 @@ def _band(c: Collector, i: int, b: dict) -> Band:
     )
 
 
+def _budget(c: Collector, raw: Any, kind: Any, name: str, citation: str) -> StabilityBudget | None:
+    """The ``[budget]`` table of a stability-budget rule: the band and the hours allowed above and below it
+    over the product's life (an allowance not given is 0 h: no time outside on that side, the safe side)."""
+    if raw is None:
+        if kind == "stability-budget":
+            c.add(
+                InvalidInputError(
+                    "budget", None, "a [budget] table with low_C, high_C, allowance_above_h", "required"
+                )
+            )
+        return None
+    if kind != "stability-budget":
+        c.add(InvalidInputError("budget", "given", 'only with kind = "stability-budget"'))
+        return None
+    if not isinstance(raw, dict):
+        c.add(InvalidInputError("budget", raw, "a table with low_C, high_C, allowance_above_h"))
+        return None
+    check_keys(c, raw, BUDGET_KEYS, "budget.")
+    for key in ("low_C", "high_C"):
+        if raw.get(key) is None:
+            c.add(InvalidInputError("budget." + key, None, "a temperature in °C", "required"))
+    for key in ("allowance_above_h", "allowance_below_h"):
+        if key in raw and raw[key] is None:
+            c.add(InvalidInputError("budget." + key, None, f"[0, {MAX_ALLOWANCE_H:g}] h"))
+    low = _opt_number(c, "budget.low_C", raw.get("low_C"), minimum=-80.0, maximum=100.0, unit="°C")
+    high = _opt_number(c, "budget.high_C", raw.get("high_C"), minimum=-80.0, maximum=100.0, unit="°C")
+    if low is not None and high is not None and not low < high:
+        c.add(InvalidInputError("budget.high_C", high, f"> low_C ({low:g} °C)"))
+        return None
+    allow = {
+        k: _opt_number(c, "budget." + k, raw.get(k, 0.0), minimum=0.0, maximum=MAX_ALLOWANCE_H, unit="h")
+        for k in ("allowance_above_h", "allowance_below_h")
+    }
+    if low is None or high is None or None in allow.values():
+        return None
+    return StabilityBudget(low, high, allow["allowance_above_h"], allow["allowance_below_h"], name, citation)
+
+
 def _list(c: Collector, data: dict, key: str, what: str) -> list:
     raw = data.get(key, [])
     if not isinstance(raw, list):
@@ -270,10 +312,11 @@ def rule_from_dict(data: dict, source: str = "rule") -> Rule:
             c.add(InvalidInputError(f"bands[{i}]", b, "a table with low_C/high_C and a time limit"))
             continue
         bands.append(_band(c, i, b))
-    if not raw_stages and not raw_bands:
+    budget = _budget(c, data.get("budget"), kind, name, citation)
+    if not raw_stages and not raw_bands and "budget" not in data:
         c.add(InvalidInputError("stages", [], "at least one stage or band"))
     c.raise_if_any()
-    return Rule(name, citation, kind, tuple(stages), tuple(bands), point, title, notes, confirmed)
+    return Rule(name, citation, kind, tuple(stages), tuple(bands), point, title, notes, confirmed, budget)
 
 
 def _limit_to_dict(key: str, value_C: float, published: Published | None) -> dict[str, float]:
@@ -333,4 +376,12 @@ def rule_to_dict(rule: Rule) -> dict:
                 if v is not None:
                     bd[k] = v
             d["bands"].append(bd)
+    if rule.budget is not None:
+        b = rule.budget
+        d["budget"] = {
+            "low_C": b.low_C,
+            "high_C": b.high_C,
+            "allowance_above_h": b.allowance_above_h,
+            "allowance_below_h": b.allowance_below_h,
+        }
     return d

@@ -15,7 +15,7 @@ from procplan.files.fields import (
     freeze,
     medium_temperature,
     optional,
-    product_temperature,
+    stated_temperature,
 )
 from procplan.model import DEFAULT_STOP_CAP_MIN, MAX_STEP_MIN, MEDIUM_RANGE_C, POINTS, Step, Target
 
@@ -50,7 +50,7 @@ def _duration(c: Collector, data: Mapping[str, Any], p: str) -> tuple[float, flo
         maximum=MAX_STEP_MIN,
         unit="min",
     )
-    stop = optional(c, data, "stop_when_core_C", p, product_temperature)
+    stop = optional(c, data, "stop_when_core_C", p, stated_temperature)
     brine = data.get("brine")
     brine_stop = isinstance(brine, Mapping) and any(
         k in brine for k in ("stop_when_core_percent", "stop_when_mean_percent")
@@ -216,7 +216,7 @@ def _targets(c: Collector, data: Mapping[str, Any], p: str) -> tuple[Target, ...
         if not isinstance(t, Mapping) or "temperature_C" not in t:
             c.add(InvalidInputError(tp.rstrip("."), t, "a table with temperature_C and optional point"))
             continue
-        temp = optional(c, t, "temperature_C", tp, product_temperature)
+        temp = optional(c, t, "temperature_C", tp, stated_temperature)
         point = t.get("point", "core")
         with c.catch():
             validate.choice(tp + "point", point, POINTS)

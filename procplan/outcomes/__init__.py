@@ -33,6 +33,7 @@ from procplan.outcomes.freezing_time import (
     freezing_time_pham,
     freezing_time_plank,
     pham_mean_freezing_temperature_C,
+    thawing_time_plank,
 )
 from procplan.outcomes.lethality import (
     DEFAULT_MAX_LOG_REDUCTION,
@@ -73,6 +74,7 @@ __all__ = [
     "Excursion",
     "StabilityBudget",
     "check_stability_budget",
+    "thawing_time_plank",
     "mean_kinetic_temperature_C",
     "DIRECTIONS",
     "F_INTEGRATION_METHODS",

@@ -194,7 +194,8 @@ class Excursion:
     duration_s : end_s − start_s [s]
     peak_C : the highest reading (above) or the lowest (below) during the excursion [°C]
     ongoing : True when the history ended outside the band (the excursion may go on)
-    used_h : total time outside on this side up to the end of this excursion [h]
+    used_h : total time outside on this side up to the end of this excursion, with any allowance spent before
+        the histories [h]
     remaining_above_h, remaining_below_h : allowances left after this excursion [h]; negative when overspent
     """
 
@@ -285,7 +286,9 @@ def _excursions_of(t: np.ndarray, temp: np.ndarray, budget: StabilityBudget, k: 
     return sorted(rows, key=lambda r: r[2])
 
 
-def check_stability_budget(budget: StabilityBudget, histories) -> BudgetCheck:
+def check_stability_budget(
+    budget: StabilityBudget, histories, *, used_above_h: float = 0.0, used_below_h: float = 0.0
+) -> BudgetCheck:
     """Time above and below a storage band over consecutive histories, against a cumulative allowance.
 
     Parameters
@@ -294,6 +297,8 @@ def check_stability_budget(budget: StabilityBudget, histories) -> BudgetCheck:
     histories : list of (time_s, temperature_C) pairs, in the order the product lived them (each its own
         clock, ≥ 2 samples); excursions add up across them. An excursion that runs to the end of one history
         and one that starts the next are counted as two (the gap between histories is not assumed).
+    used_above_h, used_below_h : allowance already spent earlier in the product's life [h], ≥ 0; the
+        remaining budget after each excursion counts it, the durations (above_s, below_s) do not
 
     Returns
     -------
@@ -316,9 +321,17 @@ def check_stability_budget(budget: StabilityBudget, histories) -> BudgetCheck:
         total += float(t[-1] - t[0])
         rows += _excursions_of(t, temp, budget, k)
     allowance = {"above": budget.allowance_above_h, "below": budget.allowance_below_h}
-    used_s = {"above": 0.0, "below": 0.0}
+    before_s = {
+        "above": 3600.0 * validate.number("used_above_h", used_above_h, minimum=0.0, unit="h"),
+        "below": 3600.0 * validate.number("used_below_h", used_below_h, minimum=0.0, unit="h"),
+    }
+    used_s = dict(before_s)
+    if exhausted_before := [k for k in ("above", "below") if used_s[k] / 3600.0 > allowance[k]]:
+        exhausted_at_start = (exhausted_before[0], 0, 0.0)
+    else:
+        exhausted_at_start = None
     excursions = []
-    exhausted = None
+    exhausted = exhausted_at_start
     for side, k, start, end, peak, ongoing in rows:
         before_h = used_s[side] / 3600.0
         used_s[side] += float(end - start)
@@ -339,10 +352,12 @@ def check_stability_budget(budget: StabilityBudget, histories) -> BudgetCheck:
                 remaining_below_h=allowance["below"] - used_s["below"] / 3600.0,
             )
         )
-    above, below = used_s["above"], used_s["below"]
+    above, below = used_s["above"] - before_s["above"], used_s["below"] - before_s["below"]
     passed = exhausted is None
     if passed:
         reason = f"within budget: {above / 3600:.3g} h above {budget.high_C:g} °C, {below / 3600:.3g} h below {budget.low_C:g} °C"
+    elif exhausted_at_start is not None:
+        reason = f"{exhausted_at_start[0]} allowance already used up before these histories"
     else:
         side, k, when = exhausted
         reason = f"{side} allowance used up in history {k + 1} at {when / 3600:.3g} h"
@@ -353,8 +368,8 @@ def check_stability_budget(budget: StabilityBudget, histories) -> BudgetCheck:
         above_s=above,
         below_s=below,
         inside_s=total - above - below,
-        remaining_above_h=allowance["above"] - above / 3600.0,
-        remaining_below_h=allowance["below"] - below / 3600.0,
+        remaining_above_h=allowance["above"] - used_s["above"] / 3600.0,
+        remaining_below_h=allowance["below"] - used_s["below"] / 3600.0,
         excursions=tuple(excursions),
         exhausted=exhausted,
         reason=reason,

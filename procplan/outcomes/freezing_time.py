@@ -1,4 +1,5 @@
-"""Freezing times: Plank's equation, Pham's (1986) two-stage method, and freezing onset/end from a history.
+"""Freezing and thawing times: Plank's equation (and its thawing form), Pham's (1986) two-stage method, and
+freezing onset/end from a history.
 
 The two estimates are independent of the solvers: they give a quick second opinion on a predicted
 freezing step, and the test suite checks them against Neumann's exact solution and each other.
@@ -81,6 +82,70 @@ def freezing_time_plank(
     k = validate.positive("k_frozen_W_mK", k_frozen_W_mK, "W/mK")
     p, r = PLANK_SHAPE_FACTORS[shape]
     return rho * lat / (tf - ta) * (p * a / h + r * a * a / k)
+
+
+def thawing_time_plank(
+    shape: str,
+    length_m: float,
+    rho_kg_m3: float,
+    latent_J_kg: float,
+    freezing_C: float,
+    medium_C: float,
+    h_W_m2K: float,
+    k_thawed_W_mK: float,
+) -> float:
+    """Thawing time by Plank's equation adapted to thawing [s].
+
+    t = (ρ L / (T_a − T_f)) · (P a / h + R a² / k_u)
+
+    the freezing form with the heat flowing inwards: the thawed layer grows from the surface, so its
+    conductivity k_u (not the frozen one) carries the heat to the melting front; P, R as for freezing.
+
+    Parameters
+    ----------
+    shape : "slab", "cylinder" (infinite) or "sphere"
+    length_m : a, the full thickness of a slab heated on both faces, or the diameter [m]
+    rho_kg_m3 : density [kg/m³]
+    latent_J_kg : latent heat to melt [J/kg]
+    freezing_C : initial freezing point T_f [°C]
+    medium_C : thawing-medium temperature T_a [°C], above T_f
+    h_W_m2K : surface heat-transfer coefficient [W/m²K]
+    k_thawed_W_mK : thermal conductivity of the thawed product [W/mK]
+
+    Notes
+    -----
+    Same assumptions as :func:`freezing_time_plank`: the product starts at T_f, melts at T_f, and the sensible
+    heat of the thawed layer is neglected. It tends to the exact (Neumann, quasi-steady) thawing time as the
+    Stefan number c_u (T_a − T_f)/L goes to 0 and underestimates otherwise; Cleland et al. (1986) found no
+    published simple formula within ±10 % of their 104 thawing measurements and fitted Plank-based formulae
+    with Stefan- and Plank-number corrections that are (the corrections were not read here).
+
+    References
+    ----------
+    Plank, R. (1913), as in :func:`freezing_time_plank`, with the heat flow reversed.
+    Cleland, D.J., Cleland, A.C., Earle, R.L. & Byrne, S.J. (1986), Prediction of thawing times for foods of
+    simple shape, Int. J. Refrig. 9:220–228 (abstract: Plank-based formulae within ±10 % at 95 % confidence).
+    Góral, D., Kluza, F., Spiess, W.E.L. & Kozłowicz, K. (2016), Review of thawing time prediction models
+    depending on process conditions and product characteristics, Food Technol. Biotechnol. 54(1):3–12.
+
+    Examples
+    --------
+    A 40 mm slab of cod, ρ 1050 kg/m³, L 260 kJ/kg, T_f −1 °C, water at 10 °C, h 200 W/m²K, k_u 0.5 W/mK:
+    1050 · 260e3 / 11 · (0.5 · 0.04/200 + 0.125 · 0.04²/0.5) = 24.82e6 · 5.0e-4 = 12 409 s = 3.447 h.
+
+    >>> round(thawing_time_plank("slab", 0.04, 1050.0, 260e3, -1.0, 10.0, 200.0, 0.5) / 3600, 3)
+    3.447
+    """
+    validate.choice("shape", shape, PLANK_SHAPE_FACTORS)
+    a = validate.positive("length_m", length_m, "m")
+    rho = validate.positive("rho_kg_m3", rho_kg_m3, "kg/m³")
+    lat = validate.positive("latent_J_kg", latent_J_kg, "J/kg")
+    tf = validate.number("freezing_C", freezing_C, unit="°C")
+    ta = validate.number("medium_C", medium_C, minimum=tf, min_inclusive=False, unit="°C")
+    h = validate.positive("h_W_m2K", h_W_m2K, "W/m²K")
+    k = validate.positive("k_thawed_W_mK", k_thawed_W_mK, "W/mK")
+    p, r = PLANK_SHAPE_FACTORS[shape]
+    return rho * lat / (ta - tf) * (p * a / h + r * a * a / k)
 
 
 def ehtd_cleland(beta1: float, beta2: float, bi: float) -> float:

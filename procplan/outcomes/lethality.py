@@ -362,6 +362,34 @@ Z_VALUE_PRESETS: dict[str, LethalityPreset] = {
             6.5,
         ),
         LethalityPreset(
+            "dry-heat-fh",
+            "dry-heat sterilisation of glass and metal (FH), equivalent of 2 h at 160 °C",
+            170.0,
+            20.0,
+            120.0 * 10.0 ** ((160.0 - 170.0) / 20.0),
+            None,
+            "safety",
+            "FH: T_ref 170 °C, z 20 °C (United States Pharmacopeia <1229.8> Dry heat sterilization, as quoted "
+            "in its users' worked examples); required FH = 2 h at 160 °C, the pharmacopoeias' reference dry-heat "
+            "cycle (European Pharmacopoeia 5.1.1, not read)",
+            False,
+        ),
+        LethalityPreset(
+            "depyrogenation-3log",
+            "bacterial endotoxin (E. coli lipopolysaccharide), 3-log reduction by dry heat",
+            250.0,
+            46.4,
+            3.0 * 4.99,
+            3.0,
+            "safety",
+            "D(250 °C) 4.99 min and z 46.4 °C of E. coli lipopolysaccharide: Tsuji, K. & Harrison, S.J. (1978), "
+            "Dry-heat destruction of lipopolysaccharide: dry-heat destruction kinetics, Appl. Environ. Microbiol. "
+            "36(5):710–714; a 3-log endotoxin reduction as the depyrogenation requirement (United States "
+            "Pharmacopeia <1228.1> Dry heat depyrogenation, not read)",
+            False,
+            3.0,
+        ),
+        LethalityPreset(
             "pasteurisation-units",
             "pasteurisation units of beverages: 1 PU = 1 min at 60 °C",
             60.0,

@@ -29,11 +29,19 @@ import numpy as np
 
 from procplan.caution import INDICATIVE
 from procplan.errors import InvalidInputError
+from procplan.outcomes.cold_chain import BudgetCheck, StabilityBudget, check_stability_budget
 from procplan.outcomes.targets import TargetResult, history_arrays, time_to_temperature
 from procplan.units import c_to_f, f_to_c
 
 #: Kinds of rule, with the direction their stages go ("down": each stage cools, "up": each heats).
-RULE_KINDS: dict[str, str | None] = {"cooling": "down", "heating": "up", "holding": None, "storage": None}
+RULE_KINDS: dict[str, str | None] = {
+    "cooling": "down",
+    "heating": "up",
+    "holding": None,
+    "storage": None,
+    "stability-budget": None,
+    "thawing": "up",
+}
 #: Monitored points: the history column each reads.
 RULE_POINTS: dict[str, str] = {"core": "core_C", "surface": "surface_C", "mean": "mean_C"}
 #: Stage clocks (see the module notes).
@@ -219,6 +227,8 @@ class Rule:
     point : monitored point, a key of ``RULE_POINTS``
     title : a readable title
     notes : anything a user should know (conditions not encoded, e.g. portion depth)
+    budget : a stability budget (kind "stability-budget"): cumulative hours allowed outside a storage band
+        over the product's life, checked on the monitored point with the remaining budget after each excursion
     """
 
     name: str
@@ -230,6 +240,7 @@ class Rule:
     title: str = ""
     notes: str = ""
     confirmed: bool = True
+    budget: StabilityBudget | None = None
 
     @property
     def column(self) -> str:
@@ -282,7 +293,7 @@ class BandCheck:
 
 @dataclass(frozen=True)
 class RuleCheck:
-    """Outcome of a rule: per-stage and per-band results and the overall verdict."""
+    """Outcome of a rule: per-stage and per-band results, the stability budget's, and the overall verdict."""
 
     rule_name: str
     source: str
@@ -291,6 +302,7 @@ class RuleCheck:
     stages: tuple[StageCheck, ...]
     bands: tuple[BandCheck, ...]
     reasons: tuple[str, ...] = field(default=())
+    budget: BudgetCheck | None = None
 
     @property
     def margin_min(self) -> float | None:
@@ -345,8 +357,11 @@ def _time_in_band(t: np.ndarray, temp: np.ndarray, lo: float | None, hi: float |
     return inside, longest
 
 
-def check_rule(rule: Rule, time_s, temperature_C) -> RuleCheck:
-    """Check a history of the rule's monitored point against every stage and band of ``rule``.
+def check_rule(
+    rule: Rule, time_s, temperature_C, *, budget_used_h: tuple[float, float] = (0.0, 0.0)
+) -> RuleCheck:
+    """Check a history of the rule's monitored point against every stage and band of ``rule``, and its
+    stability budget.
 
     A stage passes when the point reaches ``to_C`` no later than the limit; one that is not reached fails
     with a reason, as does every stage after a stage that never started.
@@ -356,6 +371,7 @@ def check_rule(rule: Rule, time_s, temperature_C) -> RuleCheck:
     rule : the rule
     time_s : sample times [s], strictly increasing
     temperature_C : the monitored point's temperature at each time [°C]
+    budget_used_h : stability budget already spent above and below the band before this history [h]
 
     >>> r = Rule("two-stage", "s", "cooling", stages=(Stage(57.0, 21.0, 120.0), Stage(21.0, 5.0, 360.0, "rule")))
     >>> chk = check_rule(r, [0, 3600, 7200, 18000], [57.0, 39.0, 21.0, 5.0])
@@ -366,12 +382,21 @@ def check_rule(rule: Rule, time_s, temperature_C) -> RuleCheck:
     stage_checks = _check_stages(rule, t, temp)
     total = float(t[-1]) - float(t[0])
     band_checks = [_check_band(i, b, t, temp, total) for i, b in enumerate(rule.bands)]
+    budget = None
+    if rule.budget is not None:
+        above, below = budget_used_h
+        budget = check_stability_budget(rule.budget, [(t, temp)], used_above_h=above, used_below_h=below)
     passed = all(s.passed for s in stage_checks) and all(b.passed for b in band_checks)
+    passed = passed and (budget is None or budget.passed)
     reasons = tuple(f"stage {s.index + 1}: {s.reason}" for s in stage_checks if not s.passed) + tuple(
         f"band {b.index + 1}: {b.reason}" for b in band_checks if not b.passed
     )
+    if budget is not None and not budget.passed:
+        reasons += (f"stability budget: {budget.reason}",)
     cite = rule.source if rule.confirmed else f"{INDICATIVE}: {rule.source}"
-    return RuleCheck(rule.name, cite, rule.point, passed, tuple(stage_checks), tuple(band_checks), reasons)
+    return RuleCheck(
+        rule.name, cite, rule.point, passed, tuple(stage_checks), tuple(band_checks), reasons, budget
+    )
 
 
 def _not_started(i: int, s: Stage, reason: str) -> StageCheck:

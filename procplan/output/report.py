@@ -183,7 +183,7 @@ def summary_text(result, site=None) -> str:
     lines += _step_lines(result, site)
     oc = result.outcomes
     if oc is not None:
-        lines += _target_lines(oc, site) + _rule_lines(oc, site)
+        lines += _target_lines(oc, site) + _rule_lines(oc, site) + _cold_thaw_lines(oc, site)
         for part in (_lethality_lines, _freezing_lines, _energy_lines):
             lines += part(oc)
     for w in result.warnings:
@@ -271,6 +271,54 @@ def _rule_lines(oc, site=None) -> list[str]:
             )
         for b in rc.bands:
             lines.append(f"    band {b.band.range_text(unit)}: {'pass' if b.passed else 'FAIL'} — {b.reason}")
+        if rc.budget is not None:
+            lines += budget_lines(rc.budget, site)
+    return lines
+
+
+def budget_lines(bc, site=None) -> list[str]:
+    """A stability budget's verdict, what this plan used and what is left, excursion by excursion."""
+    b = bc.budget
+    hi, lo = _temp(site, b.high_C), _temp(site, b.low_C)
+    lines = [
+        f"    stability budget: {'pass' if bc.passed else 'FAIL'} — {bc.above_s / 3600:.2f} h above {hi} and "
+        f"{bc.below_s / 3600:.2f} h below {lo} in this plan; left {bc.remaining_above_h:.2f} h of "
+        f"{b.allowance_above_h:g} h above, {bc.remaining_below_h:.2f} h of {b.allowance_below_h:g} h below"
+    ]
+    for i, ex in enumerate(bc.excursions):
+        left = ex.remaining_above_h if ex.side == "above" else ex.remaining_below_h
+        lines.append(
+            f"      excursion {i + 1} {ex.side} {hi if ex.side == 'above' else lo}: "
+            f"{_time(site, ex.start_s / 60)} to {_time(site, ex.end_s / 60)}"
+            f"{' (still outside at the end)' if ex.ongoing else ''}, peak {_temp(site, ex.peak_C, 1)}; "
+            f"{left:.2f} h left after it"
+        )
+    return lines
+
+
+def _cold_thaw_lines(oc, site=None) -> list[str]:
+    """The mean kinetic temperature asked for, and the thawing time beside Plank's estimate."""
+    lines: list[str] = []
+    mk = getattr(oc, "mean_kinetic", None)
+    if mk is not None:
+        verdict = (
+            "" if mk.passed is None else f", limit {_temp(site, mk.max_C)}: {'PASS' if mk.passed else 'FAIL'}"
+        )
+        lines.append(
+            f"  mean kinetic temperature ({mk.point}): {_temp(site, mk.mean_kinetic_C, 2)} over "
+            f"{_time(site, mk.duration_s / 60)}{verdict} — {mk.basis}"
+        )
+    th = getattr(oc, "thawing", None)
+    if th is not None:
+        what = "thawed" if th.thawed else "tempered"
+        tr = th.from_history
+        got = (
+            f"core reaches {_temp(site, th.target_C)} ({what}) after {_time(site, (tr.time_s - tr.start_s) / 60)}"
+            if tr.reached
+            else f"core does NOT reach {_temp(site, th.target_C)} (closest {_temp(site, tr.closest_C, 1)})"
+        )
+        plank = "—" if th.plank_s is None else _time(site, th.plank_s / 60)
+        lines.append(f"  thawing '{th.step}': {got}; Plank's thawing time (complete thawing) {plank}")
     return lines
 
 

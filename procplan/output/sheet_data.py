@@ -20,7 +20,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from procplan.outcomes.rules import Stage
+from procplan.outcomes.rules import Band, Stage
 
 #: Instruction printed with the checkpoint table.
 ACTION_IF_MISSED = (
@@ -246,7 +246,16 @@ def _rule_checkpoints(result, oc, t_end: float, unit: str, fmt_t) -> list[Checkp
                     limit_label=label,
                 )
             )
-        for b in rc.bands:
+        bands = [
+            (b.band.low_C, b.band.high_C, f"rule band {b.band.label(unit)}", b.band.range_text(unit))
+            for b in rc.bands
+        ]
+        if rc.budget is not None:  # the storage band whose excursions spend the stability budget
+            bb = Band(rc.budget.budget.low_C, rc.budget.budget.high_C)
+            bands.append(
+                (bb.low_C, bb.high_C, f"stability budget band {bb.range_text(unit)}", bb.range_text(unit))
+            )
+        for low, high, what, label in bands:
             for sr in result.steps:
                 t_min = math.floor(sr.end_s / 60.0 + 1e-9)
                 exp = _interp(result, rule.point, t_min * 60.0)
@@ -256,12 +265,12 @@ def _rule_checkpoints(result, oc, t_end: float, unit: str, fmt_t) -> list[Checkp
                         sr.name,
                         rule.point,
                         exp,
-                        b.band.low_C,
-                        b.band.high_C,
-                        f"rule band {b.band.label(unit)} at the end of the step",
+                        low,
+                        high,
+                        f"{what} at the end of the step",
                         ACTION_HOLD,
                         rule=True,
-                        limit_label=b.band.range_text(unit),
+                        limit_label=label,
                     )
                 )
     return cps

@@ -25,7 +25,7 @@ def rules_section(result, site, st, W):
     if rc is None:
         default = ", ".join(site.default_rules) or "none"
         out.append(st.p(f"No cooling or storage rule in this plan (site default rules: {default})."))
-        return out
+        return out + _mean_kinetic(oc, site, st)
     out.append(
         st.p(f"<b>{esc(rc.rule_name)}: {'PASS' if rc.passed else 'FAIL'}</b> — {esc(rc.source)}", raw=True)
     )
@@ -61,7 +61,57 @@ def rules_section(result, site, st, W):
                 ]
             )
         out.append(table(rows, cols(W, [0.16, 0.11, 0.11, 0.13, 0.11, 0.38]), st))
-    return out
+    if rc.budget is not None:
+        out.append(_budget_table(rc.budget, site, st, W))
+    return out + _mean_kinetic(oc, site, st)
+
+
+def _budget_table(bc, site, st, W):
+    """The stability budget: used in this plan and left, in total and after each excursion."""
+    b = bc.budget
+    hi, lo = site.format_temperature(b.high_C), site.format_temperature(b.low_C)
+    rows = [["Stability budget", "Start", "End", "Peak", "Left after it", "Result"]]
+    for ex in bc.excursions:
+        left = ex.remaining_above_h if ex.side == "above" else ex.remaining_below_h
+        rows.append(
+            [
+                f"{ex.side} {hi if ex.side == 'above' else lo}" + (" (still outside)" if ex.ongoing else ""),
+                site.format_time_hm(ex.start_s / 60.0),
+                site.format_time_hm(ex.end_s / 60.0),
+                site.format_temperature(ex.peak_C),
+                f"{left:.2f} h",
+                "within budget" if left >= 0 else "budget used up",
+            ]
+        )
+    rows.append(
+        [
+            f"total: {bc.above_s / 3600:.2f} h above {hi}, {bc.below_s / 3600:.2f} h below {lo}",
+            "",
+            "",
+            "",
+            f"{bc.remaining_above_h:.2f} h of {b.allowance_above_h:g} h above; "
+            f"{bc.remaining_below_h:.2f} h of {b.allowance_below_h:g} h below",
+            "PASS" if bc.passed else f"FAIL: {bc.reason}",
+        ]
+    )
+    return table(rows, cols(W, [0.3, 0.1, 0.1, 0.1, 0.22, 0.18]), st)
+
+
+def _mean_kinetic(oc, site, st):
+    """The mean kinetic temperature the plan asks for, with its limit and basis."""
+    mk = oc.mean_kinetic if oc is not None else None
+    if mk is None:
+        return []
+    verdict = (
+        ""
+        if mk.passed is None
+        else f"; limit {site.format_temperature(mk.max_C)}: {'PASS' if mk.passed else 'FAIL'}"
+    )
+    text = (
+        f"Mean kinetic temperature ({mk.point}): {site.format_temperature(mk.mean_kinetic_C, 2)} over "
+        f"{site.format_time_hm(mk.duration_s / 60.0)}{verdict}. {mk.basis}."
+    )
+    return [st.p(text)]
 
 
 def lethality_section(result, site, st, W):
@@ -108,11 +158,30 @@ def lethality_section(result, site, st, W):
     return out
 
 
+def thawing_section(result, site, st, W):
+    """Thawing or tempering: the time to the core target beside Plank's thawing time."""
+    th = result.outcomes.thawing if result.outcomes is not None else None
+    if th is None:
+        return []
+    tr = th.from_history
+    got = site.format_time_hm((tr.time_s - tr.start_s) / 60.0) if tr.reached else "not reached"
+    rows = [
+        ["Step", "Core target", "Reached after", "Plank (complete thawing)"],
+        [
+            th.step,
+            f"{site.format_temperature(th.target_C)} ({'thawed' if th.thawed else 'tempered'})",
+            got,
+            site.format_time_hm(th.plank_s / 60.0) if th.plank_s else "—",
+        ],
+    ]
+    return [*st.h("Thawing"), table(rows, cols(W, [0.3, 0.25, 0.2, 0.25]), st), st.p(th.basis, st.small)]
+
+
 def freezing_section(result, site, st, W):
     oc = result.outcomes
     fz = oc.freezing if oc is not None else None
     if fz is None:
-        return []
+        return thawing_section(result, site, st, W)
     fh = fz.from_history
     onset = site.format_time_hm(fh.onset.time_s / 60.0) if fh.onset.reached else "not reached"
     end = site.format_time_hm(fh.end.time_s / 60.0) if fh.end.reached else "not reached"
@@ -129,6 +198,7 @@ def freezing_section(result, site, st, W):
         *st.h("Freezing"),
         table(rows, cols(W, [0.3, 0.3, 0.2, 0.2]), st),
         st.p(fz.basis, st.small),
+        *thawing_section(result, site, st, W),
     ]
 
 

@@ -17,8 +17,15 @@ from procplan import outcomes as oc
 from procplan.errors import InvalidInputError
 from procplan.model import LethalityCheck, Plan
 from procplan.outcomes.energy import heat_by_direction_J, peak_duty_W
-from procplan.outcomes.freezing_time import ehtd_of_dimensions
 from procplan.properties.table import PropertyTable
+from procplan.run.assess_phase import (
+    FreezingOutcome,
+    MeanKineticOutcome,
+    ThawingOutcome,
+    freezing_outcome,
+    mean_kinetic_outcome,
+    thawing_outcome,
+)
 from procplan.run.dry_oven import yield_percent
 
 #: Evaporating temperature below the medium and condensing temperature assumed when a step names no
@@ -98,26 +105,6 @@ class LethalityOutcome:
 
 
 @dataclass(frozen=True)
-class FreezingOutcome:
-    """Freezing times, from the history and from the Plank and Pham estimates.
-
-    Attributes
-    ----------
-    initial_freezing_C : the product's initial freezing point [°C]
-    from_history : onset, end of the latent plateau and time to the storage temperature from the core history
-    plank_s : Plank's freezing time [s] (None when not applicable)
-    pham : Pham's freezing time with its parts (None when not applicable)
-    basis : the shape and dimension the estimates use, and their limits, in words
-    """
-
-    initial_freezing_C: float
-    from_history: oc.FreezingFromHistory
-    plank_s: float | None
-    pham: oc.PhamFreezingTime | None
-    basis: str
-
-
-@dataclass(frozen=True)
 class StepEnergy:
     """Heat exchanged in one step for the whole batch, gross in each direction (never netted).
 
@@ -176,6 +163,8 @@ class Outcomes:
     warnings : what the assessment found worth a warning
     price : the electricity price of the cost (None: no price in the plan or the site, no cost)
     cost_per_batch : electricity cost of the batch over all steps, in the price's currency (None without a price)
+    mean_kinetic : the mean kinetic temperature the checks ask for (None when not asked)
+    thawing : thawing time from the history beside a published estimate (None when the product does not thaw)
     """
 
     targets: tuple[StepTarget, ...]
@@ -193,6 +182,8 @@ class Outcomes:
     warnings: tuple[str, ...] = ()
     price: EnergyPrice | None = None
     cost_per_batch: float | None = None
+    mean_kinetic: MeanKineticOutcome | None = None
+    thawing: ThawingOutcome | None = None
 
 
 def _direction(start_C: float, medium_C: float) -> str:
@@ -318,7 +309,9 @@ def _rule_check(run: _Run, library) -> tuple[oc.RuleCheck | None, float | None]:
         first_cool.start_s if (first_cool is not None and rule.stages) else float(hist["time_s"].iloc[0])
     )
     seg = hist[hist["time_s"] >= rule_from]
-    check = oc.check_rule(rule, seg["time_s"].to_numpy() - rule_from, seg[f"{rule.point}_C"].to_numpy())
+    used = (run.plan.checks.budget_used_above_h, run.plan.checks.budget_used_below_h)
+    t_rule, temp_rule = seg["time_s"].to_numpy() - rule_from, seg[f"{rule.point}_C"].to_numpy()
+    check = oc.check_rule(rule, t_rule, temp_rule, budget_used_h=used)
     return check, rule_from
 
 
@@ -328,7 +321,7 @@ def _lethalities(run: _Run) -> tuple[LethalityOutcome | None, LethalityOutcome |
     chk = run.plan.checks.lethality
     lethality = _lethality(chk, hist) if chk is not None else None
     quality = None
-    if hist["surface_C"].max() > 60.0:
+    if hist["surface_C"].max() > 60.0 and run.properties.temperature_C[-1] <= 150.0:  # a food, not glass
         quality = _lethality(LethalityCheck(preset="cook-value-c100", point="surface"), hist)
     return lethality, quality
 
@@ -337,10 +330,13 @@ def _freezing_times(run: _Run) -> FreezingOutcome | None:
     """Freezing outcomes when the core freezes or a medium is below the frozen-storage temperature."""
     tf = run.properties.initial_freezing_C
     storage = run.plan.checks.frozen_storage_C
+    thaws = tf is not None and run.plan.start_temperature_C < tf - 0.05  # a frozen start warmed above T_f
+    thaws = thaws and any(float(np.mean(sr.surface.medium_C)) > tf for sr in run.steps)
     if tf is not None and (
-        run.history["core_C"].min() < tf - 0.05 or any(min(sr.surface.medium_C) < storage for sr in run.steps)
+        (run.history["core_C"].min() < tf - 0.05 and not thaws)
+        or any(min(sr.surface.medium_C) < storage for sr in run.steps)
     ):
-        return _freezing(run, tf, storage)
+        return freezing_outcome(run, tf, storage)
     return None
 
 
@@ -509,71 +505,9 @@ def assess_plan(
         warnings=tuple(warnings),
         price=price,
         cost_per_batch=None if price is None else float(sum(c for c in costs if c is not None)),
+        mean_kinetic=mean_kinetic_outcome(plan, history),
+        thawing=thawing_outcome(plan, history, tuple(steps), properties),
     )
-
-
-#: What each freezing time is, in the words every output shows.
-FREEZING_TIMES_TEXT = (
-    "the onset and end times are the numerical prediction (this run's history); "
-    "Plank's equation counts the latent heat only and underestimates; Pham's method includes the sensible heat"
-)
-
-
-def _freezing_shape(g, h: float, k_f: float) -> tuple[str, float, float | None, str]:
-    """(shape, length [m], E or None, basis) of the Plank and Pham estimates for a geometry.
-
-    Bricks and finite cylinders: a slab of the smallest dimension D with the equivalent heat-transfer
-    dimensionality E (Cleland, Cleland & Earle 1987), t_shape = t_slab(D) / E.
-    """
-    if g.shape in ("finite-cylinder", "brick"):
-        dims = (
-            (g.diameter_m, g.diameter_m, g.length_m)
-            if g.shape == "finite-cylinder"
-            else (g.length_m, g.width_m, g.height_m)
-        )
-        e, d = ehtd_of_dimensions(dims, h, k_f)
-        basis = (
-            f"Plank and Pham for the {g.shape}: a slab of the smallest dimension ({d * 1000:.0f} mm) divided by the "
-            f"equivalent heat-transfer dimensionality E = {e:.2f} (Cleland, Cleland & Earle 1987)"
-        )
-        return "slab", d, e, basis
-    axis = min(g.axes, key=lambda a: a.length_m)
-    length = 2 * axis.length_m if not (g.shape == "slab" and g.faces == 1) else 2 * g.thickness_m
-    return (
-        axis.kind,
-        length,
-        None,
-        f"Plank and Pham for the {axis.kind}, characteristic dimension {length * 1000:.0f} mm",
-    )
-
-
-def _freezing(result: _Run, tf: float, storage_C: float) -> FreezingOutcome:
-    hist = result.history
-    props = result.properties
-    fh = oc.freezing_from_history(hist["time_s"].to_numpy(), hist["core_C"].to_numpy(), tf, storage_C)
-    sr = next((s for s in result.steps if min(s.surface.medium_C) < tf), result.steps[0])
-    seg = hist[hist["step_index"] == sr.index]
-    t_init = float(seg["mean_C"].iloc[0]) if sr.index else result.plan.start_temperature_C
-    medium = float(np.mean(sr.surface.medium_C))
-    h = float(np.mean(sr.surface.h_W_m2K))
-    end_C = storage_C
-    rho = props.mass_density_kg_m3
-    cp_f = float(props.apparent_cp(-39.0))
-    cp_u = float(props.apparent_cp(tf + 1.0))
-    latent = float(props.enthalpy(tf) - props.enthalpy(end_C)) - cp_f * (tf - end_C)
-    k_f = float(props.conductivity(0.5 * (end_C + medium)))
-    shape, length, e, basis = _freezing_shape(result.plan.product.geometry, h, k_f)
-    basis = f"{FREEZING_TIMES_TEXT}. {basis}"
-    plank = pham = None
-    if medium < end_C and latent > 0:
-        try:
-            plank = oc.freezing_time_plank(shape, length, rho, latent, tf, medium, h, k_f) / (e or 1.0)
-            pham = oc.freezing_time_pham(
-                shape, length, rho, cp_u, cp_f, latent, max(t_init, tf + 0.1), end_C, medium, h, k_f, E=e
-            )
-        except InvalidInputError as exc:
-            basis += f"; estimates not available: {exc}"
-    return FreezingOutcome(tf, fh, plank, pham, basis)
 
 
 def surface_freezing_warnings(

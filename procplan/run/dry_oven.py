@@ -344,7 +344,9 @@ def range_warnings(history, props, dried: bool = False) -> list[str]:
     lo, hi = float(props.temperature_C[0]), float(props.temperature_C[-1])
     t_min = float(history[["core_C", "surface_C"]].min().min())
     t_max = float(history[["core_C", "surface_C"]].max().max())
-    if t_max > 100.5 and not dried:
+    if (
+        t_max > 100.5 and not dried and hi <= 150.0
+    ):  # a product stating properties above 150 °C is dry (glass)
         out.append(
             f"product temperatures reach {t_max:.0f} °C: above 100 °C the water in an unsealed product boils and the "
             "surface dries, which a conduction model does not carry; treat temperatures above 100 °C as indicative only"

@@ -36,7 +36,7 @@ from procplan.run.budget import (
 )
 from procplan.run.dry_oven import carried_field, dry_oven_step, range_warnings
 from procplan.run.mass_step import brine_first, brine_until, salt_columns, salted_properties
-from procplan.run.solver import PROPERTY_SPREAD_LIMIT, choose_solver, exact_properties
+from procplan.run.solver import PROPERTY_SPREAD_LIMIT, choose_solver, exact_properties, exact_sample_times
 from procplan.run.step_surface import StepSurface, resolve_step_surface
 
 __all__ = [
@@ -241,7 +241,7 @@ def _exact_step(geometry, props: PropertyTable, start_C: float, surface: StepSur
     def run(times):
         return exact_history(geometry, k, rho, cp, h, start_C, medium, times)
 
-    times = np.linspace(0.0, step.duration_s, EXACT_POINTS)
+    times = exact_sample_times(step.duration_s, EXACT_POINTS)
     hist = run(times)
     stop_time = None
     if step.stop_when_core_C is not None:

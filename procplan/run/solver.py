@@ -159,3 +159,15 @@ def exact_properties(props: PropertyTable, start_C, medium_C):
     if start.ndim == 0:
         return float(k), rho, float(cp), float(t_mid)
     return k, rho, cp, t_mid
+
+
+def exact_sample_times(duration_s: float, points: int) -> np.ndarray:
+    """Sample times [s] of an exact (series) step: ``points`` equally spaced, plus 61 geometrically spaced from
+    1e-6 of the step, so that a thin or highly conductive piece in a liquid, which settles in seconds, has its
+    surface heat flow integrated from resolved samples.
+
+    >>> t = exact_sample_times(600.0, 601)
+    >>> float(t[0]), float(t[1]) < 1e-3, float(t[-1]), bool((t[1:] > t[:-1]).all())
+    (0.0, True, 600.0, True)
+    """
+    return np.unique(np.r_[np.linspace(0.0, duration_s, points), np.geomspace(1e-6, 1.0, 61) * duration_s])

@@ -70,6 +70,9 @@ KIND_TASKS: dict[str, KindTask] = {
     "convection-oven": KindTask(
         "heating", 4.0, 75.0, 12 * 60.0, None, "chilled goods at 4 °C cooked to 75 °C core"
     ),
+    "dry-heat-tunnel": KindTask(
+        "heating", 25.0, 250.0, 60.0, None, "glassware at 25 °C heated to 250 °C (depyrogenation)"
+    ),
     "steam-oven": KindTask(
         "heating", 4.0, 75.0, 12 * 60.0, None, "chilled goods at 4 °C cooked to 75 °C core"
     ),

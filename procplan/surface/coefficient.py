@@ -198,8 +198,8 @@ def _conditions(equipment_type_or_model: Any, geometry: Geometry, **args: Any) -
     kind, medium = _kind_and_medium(equipment_type_or_model)
     if not isinstance(geometry, Geometry):
         raise InvalidInputError("geometry", geometry, "a procplan.geometry.Geometry")
-    t_inf = validate.number("medium_C", args["medium_C"], minimum=-100.0, maximum=300.0, unit="°C")
-    t_s = validate.number("surface_C", args["surface_C"], minimum=-100.0, maximum=300.0, unit="°C")
+    t_inf = validate.number("medium_C", args["medium_C"], minimum=-100.0, maximum=400.0, unit="°C")
+    t_s = validate.number("surface_C", args["surface_C"], minimum=-100.0, maximum=400.0, unit="°C")
     air, liquid, eps, h = (args[k] for k in ("air_speed_m_s", "liquid_speed_m_s", "emissivity", "h_W_m2K"))
     if air is not None:
         air = validate.number("air_speed_m_s", air, minimum=0.0, maximum=MAX_AIR_SPEED_M_S, unit="m/s")

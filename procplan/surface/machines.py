@@ -61,7 +61,7 @@ class SettingSpec:
 
 #: The one registry of adjustable settings (keys carry their units).
 SETTINGS: dict[str, SettingSpec] = {
-    "air_C": SettingSpec("°C", -100.0, 300.0, "air temperature"),
+    "air_C": SettingSpec("°C", -100.0, 400.0, "air temperature"),
     "air_speed_m_s": SettingSpec("m/s", 0.0, 40.0, "air speed approaching the product"),
     "relative_humidity": SettingSpec("", 0.0, 1.0, "relative humidity of the air, fraction"),
     "dew_point_C": SettingSpec("°C", -40.0, 99.0, "dew point of hot, dry air (its water content)"),
@@ -86,7 +86,9 @@ MEDIA: dict[str, dict[str, tuple[str, ...]]] = {
 
 #: Kinds that refrigerate, for which evaporating and condensing temperatures are required.
 REFRIGERATED_KINDS = frozenset(
-    k for k, v in EQUIPMENT_KINDS.items() if k not in ("convection-oven", "water-bath", "steam-oven")
+    k
+    for k, v in EQUIPMENT_KINDS.items()
+    if k not in ("convection-oven", "dry-heat-tunnel", "water-bath", "steam-oven")
 )
 
 

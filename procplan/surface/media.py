@@ -50,7 +50,7 @@ GAS_CONSTANT_J_MOLK = 8.314462618
 GRAVITY_M_S2 = 9.80665
 
 #: Temperature range [°C] accepted for air (CoolProp's air model is valid far beyond; this is the process range).
-AIR_RANGE_C = (-100.0, 300.0)
+AIR_RANGE_C = (-100.0, 400.0)
 #: Range [°C] for humid air through HAPropsSI.
 HUMID_AIR_RANGE_C = (-100.0, 200.0)
 #: Range [°C] of liquid water at about 1 atm; 0 °C is evaluated at 0.01 °C (the triple point).
@@ -144,7 +144,7 @@ def air_properties(
 
     Parameters
     ----------
-    temperature_C : air temperature [°C], −100 to 300 (humid: to 200)
+    temperature_C : air temperature [°C], −100 to 400 (humid: to 200)
     pressure_Pa : total pressure [Pa]
     relative_humidity : relative humidity as a fraction 0–1, or None for dry air
 

@@ -92,6 +92,12 @@ EQUIPMENT_KINDS: dict[str, EquipmentKind] = {
         "oven with fan-forced hot air (and radiation from the walls)",
         "forced-convection-gas",
     ),
+    "dry-heat-tunnel": EquipmentKind(
+        "air",
+        "convection",
+        "dry-heat sterilising or depyrogenation tunnel: laminar hot air down through a bed of glassware",
+        "forced-convection-gas",
+    ),
     "ice-water-tank": EquipmentKind(
         "water", "convection", "agitated ice-water tank (water near 0 °C)", "forced-convection-liquid"
     ),
@@ -118,6 +124,7 @@ TYPICAL_H_RANGES_W_M2K: dict[str, TypicalRange] = {
     "cold-room": _STILL,
     "pharma-cold-room": _STILL,
     "convection-oven": TypicalRange(15.0, 50.0, COMMON_PRACTICE, "fan-forced hot air"),
+    "dry-heat-tunnel": TypicalRange(5.0, 25.0, COMMON_PRACTICE, "laminar hot air, 0.3–1.5 m/s"),
     "impingement": TypicalRange(50.0, 200.0, COMMON_PRACTICE, "air jets on the product"),
     "water-bath": TypicalRange(200.0, 1000.0, COMMON_PRACTICE, "water immersion"),
     "ice-water-tank": TypicalRange(500.0, 2000.0, COMMON_PRACTICE, "agitated ice water or ice slurry"),

@@ -141,12 +141,75 @@ def _rule(result, u: Units) -> None:
                 "verdict": yes_no(b.passed),
             }
         )
+    if rc.budget is not None:
+        rows += _budget_rows(rc.budget, u)
     st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")
     # the reasons are sentences: as lines under the table they are read in full, not cut off in a cell
     lines = [f"Stage {s.index + 1}: {s.reason}" for s in rc.stages if s.reason]
     lines += [f"Band {b.index + 1}: {b.reason}" for b in rc.bands if b.reason]
+    if rc.budget is not None:
+        lines.append(f"Stability budget: {rc.budget.reason}")
     for r in (*lines, *rc.reasons):
         st.caption(r)
+
+
+def _budget_rows(bc, u: Units) -> list[dict]:
+    """The stability budget in the rule table: each excursion with the hours left after it, then the total."""
+    b = bc.budget
+    rows = []
+    for i, ex in enumerate(bc.excursions):
+        edge = b.high_C if ex.side == "above" else b.low_C
+        left = ex.remaining_above_h if ex.side == "above" else ex.remaining_below_h
+        rows.append(
+            {
+                "stage": f"excursion {i + 1}",
+                "from → to": f"{ex.side} {u.temp(edge)}, peak {u.temp(ex.peak_C)}",
+                "allowed": "",
+                "used": f"{u.duration(ex.start_s)} to {u.duration(ex.end_s)}",
+                "margin": f"{left:.2f} h left",
+                "margin %": "",
+                "verdict": yes_no(left >= 0),
+            }
+        )
+    rows.append(
+        {
+            "stage": "stability budget",
+            "from → to": f"{u.temp(b.low_C)}…{u.temp(b.high_C)}",
+            "allowed": f"{b.allowance_above_h:g} h above, {b.allowance_below_h:g} h below",
+            "used": f"{bc.above_s / 3600:.2f} h above, {bc.below_s / 3600:.2f} h below",
+            "margin": f"{bc.remaining_above_h:.2f} h / {bc.remaining_below_h:.2f} h left",
+            "margin %": "",
+            "verdict": yes_no(bc.passed),
+        }
+    )
+    return rows
+
+
+def _mean_kinetic(result, u: Units) -> None:
+    """The mean kinetic temperature the plan asks for."""
+    mk = result.outcomes.mean_kinetic
+    if mk is None:
+        return
+    c = st.columns(2)
+    c[0].metric(f"Mean kinetic temperature at the {mk.point}", u.temp(mk.mean_kinetic_C))
+    if mk.max_C is not None:
+        c[1].metric(f"Limit {u.temp(mk.max_C)}", "PASS" if mk.passed else "FAIL")
+    st.caption(mk.basis)
+
+
+def _thawing(result, u: Units) -> None:
+    """Thawing or tempering: the time to the core target beside Plank's thawing time."""
+    th = result.outcomes.thawing
+    if th is None:
+        return
+    tr = th.from_history
+    c = st.columns(2)
+    c[0].metric(
+        f"Core at {u.temp(th.target_C)} ({'thawed' if th.thawed else 'tempered'})",
+        u.duration(tr.time_s - tr.start_s) if tr.reached else "not reached",
+    )
+    c[1].metric("Plank's thawing time (complete)", u.duration(th.plank_s) if th.plank_s else "—")
+    st.caption(th.basis)
 
 
 def _heats(result) -> bool:
@@ -197,6 +260,9 @@ def _lethality(result, u: Units) -> None:
 
 def _freezing(result, u: Units) -> None:
     fz = result.outcomes.freezing
+    if fz is None and result.outcomes.thawing is not None:
+        _thawing(result, u)
+        return
     if fz is None:
         tf = result.properties.initial_freezing_C
         st.caption(
@@ -274,8 +340,9 @@ def render_result(result, u: Units, *, stale: bool = False) -> None:
     _targets(result, u)
     st.subheader("Rule check")
     _rule(result, u)
+    _mean_kinetic(result, u)
     _lethality(result, u)
-    st.subheader("Freezing")
+    st.subheader("Thawing" if result.outcomes.thawing is not None else "Freezing")
     _freezing(result, u)
     st.subheader("Energy and refrigeration")
     _energy(result, u)

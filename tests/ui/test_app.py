@@ -193,7 +193,7 @@ def test_property_curves_follow_the_library(app):
 
 def test_pick_a_library_product_with_the_search_filter(app):
     go(app, "Product")
-    app.text_input(key="product_search").set_value("vial").run()
+    app.text_input(key="product_search").set_value("vaccine").run()
     pick = app.selectbox(key="product_pick")
     assert len(pick.options) == 1 and pick.value == "vaccine-vial-10ml"
     app.button(key="use_product").click().run()
@@ -220,7 +220,7 @@ def _title_input(app):
 def test_switching_the_product_updates_the_plan_title(app):
     # The demo plan's title names the roulade; once the cod portion is in the plan that title would be
     # wrong, so a title the user did not write follows the product ("<product> in <machine>").
-    _use_product(app, "cod", "cod-portion")
+    _use_product(app, "cod loin", "cod-portion")
     assert app.session_state["plan"]["title"] == "cod-portion in chiller-b2"
     assert any("cod-portion in chiller-b2" in c.value for c in app.sidebar.caption)
     go(app, "Process")
@@ -234,7 +234,7 @@ def test_switching_the_product_updates_the_plan_title(app):
 def test_a_title_the_user_wrote_is_kept_when_the_product_changes(app):
     go(app, "Process")
     _title_input(app).set_value("Trial 14: line 2 chiller").run()
-    _use_product(app, "cod", "cod-portion")
+    _use_product(app, "cod loin", "cod-portion")
     assert app.session_state["plan"]["title"] == "Trial 14: line 2 chiller"
     assert app.session_state["plan"]["product"]["name"] == "cod-portion"
 
