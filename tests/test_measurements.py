@@ -80,7 +80,7 @@ def test_fitted_h_is_saved_and_then_used_by_the_machine_at_those_settings(tmp_pa
 def test_a_bad_measurement_file_is_listed_and_the_rest_loads(tmp_path):
     root = tmp_path / "lib"
     shutil.copytree(DEMO_LIBRARY, root)
-    (root / "measurements").mkdir()
+    (root / "measurements").mkdir(exist_ok=True)
     (root / "measurements" / "bad.toml").write_text(
         'quantity = "h_W_m2K"\nvalue = -3\nproduct = "nothing"\ndate = "yesterday"\n'
     )
