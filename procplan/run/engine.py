@@ -59,6 +59,11 @@ H_SURFACE_TOLERANCE = 0.03
 SINK_TOLERANCE_K = 0.05
 #: Further evaluations of h and the sink temperature at most, with radiation to walls at another temperature.
 MAX_SINK_PASSES = 4
+#: The warning of a step whose surface evaporation is left out because an earlier dry-air step dried a crust.
+CRUST_NOTE = (
+    "{}: the surface dried into a crust in the oven, whose water activity later steps do not carry, so its "
+    "evaporation is left out here (less weight loss; the core cools or heats more slowly than with a wet surface)"
+)
 #: Points in an exact-solution history.
 EXACT_POINTS = 601
 
@@ -207,6 +212,21 @@ class _Carried:
     uniform: bool = True
     t_offset_s: float = 0.0
     salt: Any = None  # procplan.run.mass_step.SaltState after a brining step
+    crust: bool = False  # a dry-air step dried the surface into a crust
+
+
+def _surface(
+    ctx: _Context, step: Step, i: int, carried: _Carried, surface_C: float | None = None
+) -> StepSurface:
+    """The step's surface; after a dry-air step dried a crust, without surface evaporation (and saying so)."""
+    surface = resolve_step_surface(
+        step, i, ctx.plan.product, carried.mean_C, ctx.library, surface_C=surface_C
+    )
+    if carried.crust and surface.evaporation is not None:
+        surface = replace(
+            surface, evaporation=None, warnings=(*surface.warnings, CRUST_NOTE.format(step.name))
+        )
+    return surface
 
 
 def _solve(ctx: _Context, chosen: str, carried: _Carried, step: Step, surface: StepSurface) -> _StepRun:
@@ -244,7 +264,7 @@ def _solve_with_surface_pass(ctx: _Context, i: int, step: Step, chosen: str, car
         ts_avg = _mean_surface_C(run)
         if ts_avg is None or (n > 0 and not surface.radiates_to_other_walls):
             break
-        again = resolve_step_surface(step, i, ctx.plan.product, carried.mean_C, ctx.library, surface_C=ts_avg)
+        again = _surface(ctx, step, i, carried, surface_C=ts_avg)
         change = float(np.max(np.abs(np.array(again.h_W_m2K) / np.array(surface.h_W_m2K) - 1.0)))
         sink_moved_K = float(np.max(np.abs(np.array(again.medium_C) - np.array(surface.medium_C))))
         if n == 0:
@@ -315,6 +335,10 @@ def _run_step(
     """Resolve the surface, choose the solver, solve one step; the history is on the plan's clock."""
     product = ctx.plan.product
     surface = resolve_step_surface(step, i, product, carried.mean_C, ctx.library)
+    if carried.crust and surface.evaporation is not None:
+        surface = replace(
+            surface, evaporation=None, warnings=(*surface.warnings, CRUST_NOTE.format(step.name))
+        )
     mass = None
     if step.brine is not None:
         mass, step = brine_first(step, i, product, ctx.props, surface, carried.salt)
@@ -396,6 +420,7 @@ def _run_steps(ctx: _Context) -> tuple[pd.DataFrame, list[StepResult], list[str]
             uniform=False,
             t_offset_s=result.end_s,
             salt=salt,
+            crust=carried.crust or (result.drying is not None and result.drying.wet_until_s is not None),
         )
     history = pd.concat(frames, ignore_index=True)
     brines = [s.brine for s in ctx.plan.steps if s.brine is not None]
