@@ -309,7 +309,7 @@ def _curves(prod: dict) -> None:
         )
     except Exception:  # noqa: BLE001 - the curves above already validated the product
         pass
-    st.plotly_chart(charts.property_figure(frame, tf, u), width="stretch", key="property_chart")
+    charts.show(charts.property_figure(frame, tf, u), "property_chart", "properties")
 
 
 def _save(prod: dict) -> None:

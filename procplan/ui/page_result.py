@@ -242,7 +242,7 @@ def _lethality_block(leth, u: Units) -> None:
         st.caption(f"{leth.process_fraction:.3g} of the required process (passes at 1).")
     st.caption(f"{leth.name}: {leth.target}. Source: {leth.source}")
     if leth.time_s is not None and leth.f_cumulative_min is not None:
-        st.plotly_chart(charts.lethality_figure(leth, u), width="stretch", key=f"leth_{leth.name}")
+        charts.show(charts.lethality_figure(leth, u), f"leth_{leth.name}", f"lethality-{leth.name}")
 
 
 def _lethality(result, u: Units) -> None:
@@ -333,9 +333,7 @@ def render_result(result, u: Units, *, stale: bool = False) -> None:
             icon=":material/history:",
         )
     headline(result, u)
-    st.plotly_chart(
-        charts.temperature_figure(result, u, result.plan.title), width="stretch", key="temperature_chart"
-    )
+    charts.show(charts.temperature_figure(result, u, result.plan.title), "temperature_chart", "temperatures")
     st.subheader("Targets and plan time")
     _targets(result, u)
     st.subheader("Rule check")

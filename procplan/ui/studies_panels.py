@@ -9,7 +9,7 @@ import streamlit as st
 
 from procplan.errors import InvalidInputError
 from procplan.output.report import format_f
-from procplan.ui import adapter, charts, state, widgets
+from procplan.ui import adapter, adapter_outputs, charts, state, widgets
 from procplan.ui.fmt import Units, round_to
 
 
@@ -340,13 +340,18 @@ def variability(text: str, u: Units) -> None:
     if "time_to_target_min" in r.samples:
         times = r.samples["time_to_target_min"].dropna().to_numpy() * 60.0
         if times.size:
-            st.plotly_chart(
-                charts.histogram_figure(times, u, "Time to target over the samples"),
-                width="stretch",
-                key="mc_hist",
+            charts.show(
+                charts.histogram_figure(times, u, "Time to target over the samples"), "mc_hist", "variability"
             )
     for note in r.notes:
         st.caption(note)
+    st.download_button(
+        "Download the study (Excel: percentiles, probabilities, every sample)",
+        adapter_outputs.variability_xlsx(r),
+        file_name="variability.xlsx",
+        mime=adapter_outputs.XLSX_MIME,
+        key="mc_xlsx",
+    )
 
 
 def _variability_with_progress(req, plan, mod):
@@ -485,9 +490,16 @@ def logger(text: str, u: Units) -> None:
         line=dict(color="#1b7837", dash="dash", width=2.5),
         name=f"fitted, h = {cal.h_W_m2K:.1f} W/m²K",
     )
-    st.plotly_chart(fig, width="stretch", key="log_chart")
+    charts.show(fig, "log_chart", "logger-fit")
     for note in cal.notes:
         st.caption(note)
+    st.download_button(
+        "Download the fit and residuals (Excel)",
+        adapter_outputs.calibration_xlsx(cal),
+        file_name="calibration.xlsx",
+        mime=adapter_outputs.XLSX_MIME,
+        key="log_xlsx",
+    )
     source = st.text_input("Data source (trial, logger, date)", key="log_source", max_chars=120)
     if st.button("Save this h to the library as a measured value", key="log_save"):
         saved = adapter.save_measured_h(text, cal, source, generation=state.generation())
@@ -596,4 +608,11 @@ def catalogue_sweep() -> None:
         "sweep.csv",
         "text/csv",
         key="sw_csv",
+    )
+    st.download_button(
+        "Download the sweep (Excel)",
+        adapter_outputs.sweep_xlsx(table, skipped),
+        "sweep.xlsx",
+        adapter_outputs.XLSX_MIME,
+        key="sw_xlsx",
     )
