@@ -176,23 +176,36 @@ def lethality_figure(leth, u: Units) -> go.Figure:
     return fig
 
 
-def property_figure(frame, freezing_C: float | None, u: Units) -> go.Figure:
+def property_figure(
+    frame, freezing_C: float | None, u: Units, x_range_C: tuple[float, float] | None = None
+) -> go.Figure:
+    """k, ρ, apparent cp (log scale: the latent peak and the sensible values both readable), enthalpy and
+    ice fraction against temperature; ``x_range_C`` narrows every panel to one range (e.g. freezing)."""
+    if x_range_C is not None:
+        t = frame["temperature_C"]
+        frame = frame[(t >= x_range_C[0]) & (t <= x_range_C[1])]
     x = u.t(frame["temperature_C"].to_numpy())
     fig = make_subplots(
         rows=2,
-        cols=2,
+        cols=3,
         subplot_titles=(
             "conductivity k [W/mK]",
             "density ρ [kg/m³]",
-            "apparent specific heat cp [kJ/kgK]",
             "ice fraction [kg/kg]",
+            "apparent specific heat cp [kJ/kgK]",
+            "enthalpy [kJ/kg] (zero at −40 °C)",
+            "",
         ),
+        specs=[[{}, {}, {}], [{}, {"colspan": 2}, None]],
+        horizontal_spacing=0.07,
+        vertical_spacing=0.16,
     )
     series = [
         (frame["k_W_mK"], 1, 1),
         (frame["rho_kg_m3"], 1, 2),
+        (frame["ice_fraction"], 1, 3),
         (frame["apparent_cp_J_kgK"] / 1000.0, 2, 1),
-        (frame["ice_fraction"], 2, 2),
+        (frame["enthalpy_J_kg"] / 1000.0, 2, 2),
     ]
     for y, r, c in series:
         fig.add_trace(
@@ -202,7 +215,7 @@ def property_figure(frame, freezing_C: float | None, u: Units) -> go.Figure:
         if freezing_C is not None:
             fig.add_vline(x=u.t(freezing_C), line=dict(color="#b2182b", dash="dot", width=1), row=r, col=c)
     fig.update_yaxes(type="log", dtick=1, row=2, col=1)
-    fig.update_layout(height=560, margin=dict(l=10, r=10, t=40, b=10))
+    fig.update_layout(height=620, margin=dict(l=10, r=10, t=40, b=10))
     return fig
 
 

@@ -19,6 +19,8 @@ PAGES = (
     ("Result", "result.py", "result", ":material/monitoring:"),
     ("Compare & studies", "studies.py", "studies", ":material/compare_arrows:"),
     ("Sheet & files", "files.py", "files", ":material/description:"),
+    ("Library", "library.py", "library", ":material/menu_book:"),
+    ("Site", "site.py", "site", ":material/factory:"),
 )
 DEFAULT_PAGE = "Result"
 

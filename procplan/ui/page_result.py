@@ -326,6 +326,26 @@ def _energy(result, u: Units) -> None:
             st.caption(f"{row['step']}: {row['basis']}")
 
 
+def _weight_loss(result) -> None:
+    """Moisture lost from an unwrapped product's surface, per step, as the library computes it."""
+    losses = result.outcomes.weight_loss_percent
+    if not losses:
+        return
+    st.subheader("Weight loss")
+    mass = result.piece_mass_kg
+    cols = st.columns(min(len(losses), 4))
+    for j, (step_name, pct) in enumerate(losses):
+        cols[j % len(cols)].metric(
+            f"{step_name}",
+            f"{pct:.2f} %",
+            help=f"about {pct / 100.0 * mass * 1000.0:.0f} g of a {mass:.3f} kg piece",
+        )
+    st.caption(
+        "Moisture evaporated from the unwrapped surface in each step, in % of the piece's mass "
+        "(surface evaporation only; the conduction model carries no moisture inside the product)."
+    )
+
+
 def render_result(result, u: Units, *, stale: bool = False) -> None:
     if stale:
         st.info(
@@ -344,6 +364,7 @@ def render_result(result, u: Units, *, stale: bool = False) -> None:
     _freezing(result, u)
     st.subheader("Energy and refrigeration")
     _energy(result, u)
+    _weight_loss(result)
     if result.warnings:
         st.subheader("Warnings")
         for w in result.warnings:
