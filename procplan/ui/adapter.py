@@ -41,7 +41,8 @@ class Problem:
         """The problem in plain words, the file key after it for whoever edits the file."""
         from procplan.ui.fmt import plain_field
 
-        text = f"**{plain_field(self.field)}**: {self.value!r} is not allowed; allowed {self.allowed}"
+        value = "missing" if self.value in ("", None) else f"{self.value!r} is not allowed"
+        text = f"**{plain_field(self.field)}**: {value}; allowed {self.allowed}"
         text += f" ({self.detail})" if self.detail else ""
         return text + f" · in the file: `{self.field}`"
 
@@ -84,6 +85,20 @@ def _library(root: str, generation: int):
     from procplan.files.library import load_library
 
     return load_library(root)
+
+
+#: Library generation of this server process, raised by every save (shared by all sessions).
+_SAVED_GENERATION = [0]
+
+
+def saved_generation() -> int:
+    return _SAVED_GENERATION[0]
+
+
+def library_saved(generation: int) -> int:
+    """Record that the library folder changed; returns the new generation for every session."""
+    _SAVED_GENERATION[0] = max(_SAVED_GENERATION[0], generation) + 1
+    return _SAVED_GENERATION[0]
 
 
 def library(generation: int = 0):

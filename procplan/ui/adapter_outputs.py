@@ -11,6 +11,13 @@ import streamlit as st
 from procplan.ui import adapter
 
 XLSX_MIME = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet"
+#: Streamlit makes a download's file only when it is clicked when given a function (newer releases).
+DEFERRED = "callable" in (st.download_button.__doc__ or "").split("file_name", 1)[0]
+
+
+def deferred(make):
+    """The download's data: made on the click where Streamlit allows it, else now."""
+    return make if DEFERRED else make()
 
 
 @st.cache_data(max_entries=16, show_spinner="Preparing the workbook…")

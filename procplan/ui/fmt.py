@@ -130,6 +130,7 @@ PLAIN_KEYS = {
     "lines": "line",
     "settings": "setting",
     "equipment": "machine",
+    "id": "file name",
     "temperature_C": "temperature",
     "stop_when_core_C": "stop when the core reaches",
     "duration_min": "step time",
@@ -170,7 +171,9 @@ def plain_field(field: str) -> str:
     >>> plain_field("steps[0].targets[1].temperature_C")
     'Step 1, target 2, temperature'
     >>> plain_field("site.energy.price_per_kWh")
-    'Site, energy, electricity price per kWh'
+    'Energy, electricity price per kWh'
+    >>> plain_field("checks.lethality.required_F_min")
+    'Lethality, required F'
     >>> plain_field("equipment.settings.air_C.max")
     'Machine, setting, air [°C], highest setting'
     """
@@ -179,7 +182,10 @@ def plain_field(field: str) -> str:
     from procplan.output.xlsx import header
 
     parts = []
-    for part in str(field).split("."):
+    path = str(field).split(".")
+    if len(path) > 1 and path[0] in ("site", "checks", "product"):
+        path = path[1:]  # the page says which record; the first word names the section
+    for part in path:
         m = re.fullmatch(r"([A-Za-z_]\w*)\[(\d+)\]", part)
         if m:
             word = PLAIN_KEYS.get(m.group(1), m.group(1).replace("_", " "))

@@ -53,6 +53,17 @@ BLANK_MACHINE = {
 }
 
 
+WIDGET_PREFIX = {"rule": "r.", "machine": "m."}
+
+
+def _forget_fields(prefix: str) -> None:
+    """Drop the editor's field values held by the session, so its fields show the record just picked."""
+    for k in [
+        k for k in st.session_state if str(k).split(":")[3:4] and str(k).split(":")[3].startswith(prefix)
+    ]:
+        del st.session_state[k]
+
+
 def _edited(kind: str, pick: str, load) -> dict:
     """The record being edited (kept in the session until another is picked or the library changes)."""
     key = f"lib_edit_{kind}"
@@ -61,6 +72,7 @@ def _edited(kind: str, pick: str, load) -> dict:
     if held is None or held["marker"] != marker:
         held = {"marker": marker, "data": load(pick)}
         st.session_state[key] = held
+        _forget_fields(WIDGET_PREFIX[kind])
     return held["data"]
 
 

@@ -114,7 +114,7 @@ def _scenarios(text: str, ok: bool, u: Units) -> None:
         c1, c2, _ = st.columns([1, 1, 2])
         c1.download_button(
             "Download the comparison (Excel)",
-            adapter_outputs.comparison_xlsx(comparison, diff),
+            adapter_outputs.deferred(lambda: adapter_outputs.comparison_xlsx(comparison, diff)),
             file_name="comparison.xlsx",
             mime=adapter_outputs.XLSX_MIME,
             key="scen_xlsx",

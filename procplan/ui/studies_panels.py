@@ -347,7 +347,7 @@ def variability(text: str, u: Units) -> None:
         st.caption(note)
     st.download_button(
         "Download the study (Excel: percentiles, probabilities, every sample)",
-        adapter_outputs.variability_xlsx(r),
+        adapter_outputs.deferred(lambda: adapter_outputs.variability_xlsx(r)),
         file_name="variability.xlsx",
         mime=adapter_outputs.XLSX_MIME,
         key="mc_xlsx",
@@ -495,7 +495,7 @@ def logger(text: str, u: Units) -> None:
         st.caption(note)
     st.download_button(
         "Download the fit and residuals (Excel)",
-        adapter_outputs.calibration_xlsx(cal),
+        adapter_outputs.deferred(lambda: adapter_outputs.calibration_xlsx(cal)),
         file_name="calibration.xlsx",
         mime=adapter_outputs.XLSX_MIME,
         key="log_xlsx",
@@ -611,7 +611,7 @@ def catalogue_sweep() -> None:
     )
     st.download_button(
         "Download the sweep (Excel)",
-        adapter_outputs.sweep_xlsx(table, skipped),
+        adapter_outputs.deferred(lambda: adapter_outputs.sweep_xlsx(table, skipped)),
         "sweep.xlsx",
         adapter_outputs.XLSX_MIME,
         key="sw_xlsx",
