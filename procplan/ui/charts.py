@@ -110,6 +110,7 @@ def rule_lines(fig: go.Figure, rc, u: Units, end_s: float, span_C: tuple[float, 
     """A rule's stage temperatures and deadlines and its bands; a deadline after the process end is marked
     by an arrow at the right edge with its time, so the axis keeps the process's length."""
     rule_start = rc.stages[0].start_s if rc.stages else None
+    beyond = 0
     for st_ in rc.stages:
         stage = st_.stage
         fig.add_hline(
@@ -130,11 +131,13 @@ def rule_lines(fig: go.Figure, rc, u: Units, end_s: float, span_C: tuple[float, 
                 annotation_position="top left",
             )
         else:
+            # after the process ends: named at the top right edge, one line per stage, not drawn
             fig.add_annotation(
-                x=1.0, xref="paper", y=u.t(stage.to_C), xanchor="right", yanchor="bottom",
+                x=1.0, xref="paper", y=1.0 - 0.06 * beyond, yref="paper", xanchor="right", yanchor="top",
                 text=f"stage {st_.index + 1} limit at {u.duration(deadline)} →", showarrow=False,
-                font=dict(size=11, color=RULE_COLOUR),
+                font=dict(size=11, color=RULE_COLOUR), bgcolor="rgba(255,255,255,0.8)",
             )  # fmt: skip
+            beyond += 1
     for b in rc.bands:
         lo = b.band.low_C if b.band.low_C is not None else span_C[0] - 5
         hi = b.band.high_C if b.band.high_C is not None else span_C[1] + 5

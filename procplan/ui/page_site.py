@@ -35,7 +35,7 @@ def _plant(d: dict, errs: widgets.FieldErrors) -> None:
     with c2:
         errs.mark("site.address")
     d["document_prefix"] = c3.text_input(
-        "Document numbers start with", value=d.get("document_prefix", "BP"), key=state.key("site.prefix")
+        "Document prefix", value=d.get("document_prefix", "BP"), key=state.key("site.prefix")
     )
     with c3:
         errs.mark("site.document_prefix")
@@ -65,6 +65,7 @@ def _units_and_defaults(d: dict, errs: widgets.FieldErrors, lib) -> None:
         d["probe"] = {"tolerance_K": tol}
         errs.mark("site.probe")
     c = st.columns([1, 1, 2])
+    c[2].caption("A new plan starts with this margin on the predicted time, then the fixed margin on top.")
     with c[0]:
         defaults["margin_percent"] = widgets.number(
             "Safety margin for new plans [%]", defaults.get("margin_percent", 20.0), "site.mp", step=5.0, fmt="%.0f"
@@ -76,15 +77,14 @@ def _units_and_defaults(d: dict, errs: widgets.FieldErrors, lib) -> None:
         )
         errs.mark("site.defaults.margin_min")
     rules = sorted(lib.rules)
-    defaults["rules"] = c[2].multiselect(
+    defaults["rules"] = st.multiselect(
         "Rules that apply by default",
         rules,
         default=[r for r in defaults.get("rules", []) if r in rules],
         format_func=lambda r: lib.rules[r].title or r,
         key=state.key("site.rules"),
     )
-    with c[2]:
-        errs.mark("site.defaults.rules")
+    errs.mark("site.defaults.rules")
 
 
 def _energy(d: dict, errs: widgets.FieldErrors) -> None:
@@ -116,7 +116,7 @@ def _lines(d: dict, errs: widgets.FieldErrors, lib) -> None:
     machines = sorted(lib.equipment)
     remove = None
     for i, ln in enumerate(lines):
-        c = st.columns([2, 3, 3, 1], vertical_alignment="bottom")
+        c = st.columns([2, 5, 3, 1], vertical_alignment="bottom")
         ln["name"] = c[0].text_input(f"Line {i + 1}", value=ln.get("name", ""), key=state.key("site.ln", i))
         ln["equipment"] = c[1].multiselect(
             "Machines on it",

@@ -32,6 +32,14 @@ def scenario_row(label: str, result, u: Units) -> dict:
     return row
 
 
+def comparison_view(frame: pd.DataFrame) -> pd.DataFrame:
+    """One column per scenario, one row per figure: fits the page for any number of figures."""
+    out = frame.set_index("scenario").T.astype(str)
+    out.index.name = "figure"
+    out.columns.name = None
+    return out
+
+
 def differences_view(diff: pd.DataFrame, u: Units) -> pd.DataFrame:
     """The differing inputs as shown: temperatures in the display unit, the input as a column."""
     out = diff.copy()
@@ -105,7 +113,7 @@ def _scenarios(text: str, ok: bool, u: Units) -> None:
     frame = pd.DataFrame(rows)
     if ranks:
         frame = frame.sort_values("rank")
-    st.dataframe(frame, hide_index=True, width="stretch")
+    st.dataframe(comparison_view(frame), width="stretch")
     diff = adapter_outputs.differences(tuple(texts), tuple(labels), state.generation())
     if not diff.empty:
         st.markdown("**What differs between the scenarios**")

@@ -589,7 +589,11 @@ def catalogue_sweep() -> None:
         )
     with c2:
         machines = st.multiselect(
-            "Machines", sorted(lib.equipment), default=sorted(lib.equipment)[:3], key="sw_machines"
+            "Machines",
+            sorted(lib.equipment),
+            default=sorted(lib.equipment)[:3],
+            key="sw_machines",
+            format_func=lambda e: lib.equipment[e].name,
         )
     if not st.button("Run the sweep", key="sw_go", disabled=not (products and machines)):
         return
