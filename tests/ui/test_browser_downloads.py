@@ -69,7 +69,7 @@ def test_every_download_opens(tmp_path):
                 chart = page.locator('[data-testid="stPlotlyChart"]').first
                 chart.hover()
                 with page.expect_download(timeout=60_000) as info:
-                    chart.locator('a[data-title^="Download plot"]').first.click()
+                    chart.locator('.modebar-btn[data-title^="Download plot"]').first.click()
                 assert Path(info.value.path()).read_bytes().startswith(b"\x89PNG\r\n\x1a\n")
                 assert info.value.suggested_filename == "temperatures.png"
 
