@@ -7,6 +7,7 @@ problems are shown under the fields they name.
 
 from __future__ import annotations
 
+import pandas as pd
 import streamlit as st
 
 from procplan.ui import state, widgets
@@ -126,3 +127,56 @@ def lethality(ch: dict, errs: widgets.FieldErrors | None = None) -> None:
         ch["lethality"] = leth
         if errs is not None:
             errs.mark("checks.lethality")
+
+
+MEDIUM_FORMS = {"constant": "constant", "profile": "changing over the step (a profile)"}
+
+
+def medium(step: dict, i: int) -> None:
+    """The medium temperature of a step with a given h: constant, or a profile of (time from the step's
+    start, temperature) points, each temperature holding until the next point."""
+    u = state.units()
+    forms = list(MEDIUM_FORMS)
+    form = st.radio(
+        "Medium temperature",
+        forms,
+        index=1 if step.get("medium_profile") else 0,
+        format_func=MEDIUM_FORMS.get,
+        horizontal=True,
+        key=state.key("s.medform", i),
+    )
+    if form == "constant":
+        first = step["medium_profile"][0][1] if step.get("medium_profile") else step.get("medium_C", 20.0)
+        step.pop("medium_profile", None)
+        step["medium_C"] = widgets.temperature(
+            "Medium temperature", first, f"s.med.{i}", minimum_C=-80.0, maximum_C=300.0
+        )
+        return
+    profile = step.get("medium_profile") or [
+        [0.0, step.get("medium_C", 20.0)],
+        [30.0, step.get("medium_C", 20.0)],
+    ]
+    step.pop("medium_C", None)
+    time_col, temp_col = f"time from the step start [{u.time}]", f"medium [{u.temperature}]"
+    shown = pd.DataFrame(
+        {
+            time_col: [round(u.minutes_to_shown(float(t)), 4) for t, _ in profile],
+            temp_col: [round(float(u.t(float(v))), 2) for _, v in profile],
+        }
+    )
+    edited = st.data_editor(
+        shown,
+        num_rows="dynamic",
+        hide_index=True,
+        key=state.key("s.prof", i),
+        column_config={
+            time_col: st.column_config.NumberColumn(format="%.1f", required=True),
+            temp_col: st.column_config.NumberColumn(format="%.1f", required=True),
+        },
+    )
+    rows = edited.dropna()
+    step["medium_profile"] = [
+        [u.shown_to_minutes(float(t)), u.t_in(float(v))]
+        for t, v in zip(rows[time_col], rows[temp_col], strict=True)
+    ]
+    st.caption("Each temperature holds until the next time; add or remove rows at the table's edge.")

@@ -127,32 +127,7 @@ def _given_h(step: dict, i: int) -> None:
             fmt="%.1f",
         )
     with c2:
-        if step.get("medium_profile"):
-            u = state.units()
-            prof = step["medium_profile"]
-            st.caption("Medium temperature profile from the plan file:")
-            st.dataframe(
-                pd.DataFrame(
-                    {
-                        f"time [{u.time}]": [u.minutes_to_shown(t) for t, _ in prof],
-                        f"medium [{u.temperature}]": [u.t(v) for _, v in prof],
-                    }
-                ),
-                hide_index=True,
-            )
-            if st.button("Use a constant medium temperature instead", key=state.key("s.noprof", i)):
-                step["medium_C"] = prof[0][1]
-                step.pop("medium_profile")
-                state.touch()
-                st.rerun()
-        else:
-            step["medium_C"] = widgets.temperature(
-                "Medium temperature",
-                step.get("medium_C", 20.0),
-                f"s.med.{i}",
-                minimum_C=-80.0,
-                maximum_C=300.0,
-            )
+        editors_plan.medium(step, i)
 
 
 def _step(step: dict, i: int, n: int, lib, errs: widgets.FieldErrors) -> str | None:

@@ -211,3 +211,42 @@ def test_custom_lethality_by_F_and_by_D_and_log_reduction(own):
     go(at, "Result")
     assert number_of(metric(at, "Required F")) == 3.0
     assert log_reduction(3.0, 0.5) == pytest.approx(6.0)
+
+
+# --- plan: the medium over time --------------------------------------------------------------------------
+
+PROFILE_PLAN = """
+title = "profile test"
+[product]
+library = "chicken-roulade"
+[start]
+temperature_C = 74
+[[steps]]
+name = "chill"
+h_W_m2K = 40
+medium_profile = [[0, -8], [60, 0]]
+duration_min = 600
+stop_when_core_C = 5
+"""
+
+
+def test_medium_profile_is_edited_and_can_become_constant(own):
+    from procplan.files.library import load_library
+    from procplan.files.plan import plan_from_toml
+    from procplan.run.engine import run_plan
+
+    at, root = own
+    go(at, "Sheet & files")
+    at.text_area(key="paste_plan").set_value(PROFILE_PLAN)
+    at.button(key="paste_btn").click().run()
+    go(at, "Process")
+    assert widget(at, "radio", "Medium temperature").value == "profile"
+    assert at.session_state["plan"]["steps"][0]["medium_profile"] == [[0.0, -8.0], [60.0, 0.0]]
+    lib = load_library(root)
+    ref = run_plan(plan_from_toml(PROFILE_PLAN, library=lib), library=lib)
+    tg = [t for t in ref.outcomes.targets if t.kind == "stop"][-1]
+    assert tg.target.reached, tg.target.reason
+    assert_allclose(number_of(metric(at, "Time to target")), tg.target.time_s / 60.0, atol=0.5)
+    widget(at, "radio", "Medium temperature").set_value("constant").run()
+    step = at.session_state["plan"]["steps"][0]
+    assert "medium_profile" not in step and step["medium_C"] == -8.0
