@@ -113,7 +113,11 @@ def _scenarios(text: str, ok: bool, u: Units) -> None:
     frame = pd.DataFrame(rows)
     if ranks:
         frame = frame.sort_values("rank")
-    st.dataframe(comparison_view(frame), width="stretch")
+    st.dataframe(
+        comparison_view(frame),
+        width="stretch",
+        column_config={"_index": st.column_config.TextColumn("figure", width="large")},
+    )
     diff = adapter_outputs.differences(tuple(texts), tuple(labels), state.generation())
     if not diff.empty:
         st.markdown("**What differs between the scenarios**")
