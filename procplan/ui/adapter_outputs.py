@@ -88,3 +88,8 @@ def calibration_xlsx(cal) -> bytes:
     from procplan.output.xlsx import calibration_workbook
 
     return calibration_workbook(cal)
+
+
+def xlsx_button(label: str, make, name: str, key: str) -> None:
+    """A download button for a workbook made by ``make()`` (on the click where Streamlit allows it)."""
+    st.download_button(label, deferred(make), file_name=f"{name}.xlsx", mime=XLSX_MIME, key=key)

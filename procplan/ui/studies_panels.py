@@ -345,13 +345,7 @@ def variability(text: str, u: Units) -> None:
             )
     for note in r.notes:
         st.caption(note)
-    st.download_button(
-        "Download the study (Excel: percentiles, probabilities, every sample)",
-        adapter_outputs.deferred(lambda: adapter_outputs.variability_xlsx(r)),
-        file_name="variability.xlsx",
-        mime=adapter_outputs.XLSX_MIME,
-        key="mc_xlsx",
-    )
+    adapter_outputs.xlsx_button("Download the study (Excel)", lambda: adapter_outputs.variability_xlsx(r), "variability", "mc_xlsx")  # fmt: skip
 
 
 def _variability_with_progress(req, plan, mod):
@@ -493,13 +487,7 @@ def logger(text: str, u: Units) -> None:
     charts.show(fig, "log_chart", "logger-fit")
     for note in cal.notes:
         st.caption(note)
-    st.download_button(
-        "Download the fit and residuals (Excel)",
-        adapter_outputs.deferred(lambda: adapter_outputs.calibration_xlsx(cal)),
-        file_name="calibration.xlsx",
-        mime=adapter_outputs.XLSX_MIME,
-        key="log_xlsx",
-    )
+    adapter_outputs.xlsx_button("Download the fit and residuals (Excel)", lambda: adapter_outputs.calibration_xlsx(cal), "calibration", "log_xlsx")  # fmt: skip
     source = st.text_input("Data source (trial, logger, date)", key="log_source", max_chars=120)
     if st.button("Save this h to the library as a measured value", key="log_save"):
         saved = adapter.save_measured_h(text, cal, source, generation=state.generation())
@@ -536,6 +524,7 @@ SWEEP_COLUMNS = {
     "energy_removed_kWh": ("Heat removed [kWh]", "%.3f"),
     "energy_added_kWh": ("Heat added [kWh]", "%.3f"),
     "peak_duty_kW": ("Peak duty [kW]", "%.2f"),
+    "capacity_shortfall_kW": ("Capacity shortfall [kW]", "%.2f"),
     "electricity_kWh": ("Electricity [kWh]", "%.3f"),
     "energy_cost": ("Energy cost", "%.2f"),
     "pieces": ("Pieces per batch", "%d"),
@@ -588,13 +577,8 @@ def catalogue_sweep() -> None:
             "Products", sorted(lib.products), default=sorted(lib.products)[:3], key="sw_products"
         )
     with c2:
-        machines = st.multiselect(
-            "Machines",
-            sorted(lib.equipment),
-            default=sorted(lib.equipment)[:3],
-            key="sw_machines",
-            format_func=lambda e: lib.equipment[e].name,
-        )
+        machines = st.multiselect("Machines", sorted(lib.equipment), default=sorted(lib.equipment)[:3],
+                                  key="sw_machines", format_func=lambda e: lib.equipment[e].name)  # fmt: skip
     if not st.button("Run the sweep", key="sw_go", disabled=not (products and machines)):
         return
     out = adapter.sweep(tuple(products), tuple(machines), generation=state.generation())
@@ -613,10 +597,4 @@ def catalogue_sweep() -> None:
         "text/csv",
         key="sw_csv",
     )
-    st.download_button(
-        "Download the sweep (Excel)",
-        adapter_outputs.deferred(lambda: adapter_outputs.sweep_xlsx(table, skipped)),
-        "sweep.xlsx",
-        adapter_outputs.XLSX_MIME,
-        key="sw_xlsx",
-    )
+    adapter_outputs.xlsx_button("Download the sweep (Excel)", lambda: adapter_outputs.sweep_xlsx(table, skipped), "sweep", "sw_xlsx")  # fmt: skip
