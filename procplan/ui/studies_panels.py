@@ -525,6 +525,8 @@ SWEEP_COLUMNS = {
     "energy_added_kWh": ("Heat added [kWh]", "%.3f"),
     "peak_duty_kW": ("Peak duty [kW]", "%.2f"),
     "capacity_shortfall_kW": ("Capacity shortfall [kW]", "%.2f"),
+    "plant_limit_min": ("Time at the plant's limit", "t"),
+    "pieces": ("Pieces per batch", "%.0f"),
     "electricity_kWh": ("Electricity [kWh]", "%.3f"),
     "energy_cost": ("Energy cost", "%.2f"),
     "pieces": ("Pieces per batch", "%d"),
