@@ -251,10 +251,18 @@ def rules_editor(lib) -> None:
               lambda ow: adapter_library.save_rule(copy.deepcopy(d), overwrite=ow))  # fmt: skip
 
 
+def _setting_label(key: str) -> str:
+    """A setting's name in words: the table above, else the library's description of it."""
+    if key in SETTING_LABELS:
+        return SETTING_LABELS[key]
+    spec = adapter_library.setting_spec(key)
+    return spec.description.capitalize()[:60] + (f" [{spec.unit}]" if spec.unit and spec.unit != "°C" else "")
+
+
 def _setting_range(key: str, rng: dict, wkey: str) -> dict:
     """min / usual / max of one setting, temperatures in the display unit, humidity in %."""
     spec = adapter_library.setting_spec(key)
-    label = SETTING_LABELS.get(key, key)
+    label = _setting_label(key)
     c = st.columns(3)
     out = {}
     for col, part, word in zip(c, ("min", "default", "max"), ("lowest", "usual", "highest"), strict=True):
@@ -339,7 +347,7 @@ def _machine_settings(d: dict, errs: widgets.FieldErrors) -> None:
     for key in (*required, *optional):
         with st.container(border=True):
             if key in optional:
-                on = st.checkbox(f"{SETTING_LABELS.get(key, key)}: the machine sets it", value=key in settings,
+                on = st.checkbox(f"{_setting_label(key)}: the machine sets it", value=key in settings,
                                  key=state.key("m.on", key))  # fmt: skip
                 if not on:
                     settings.pop(key, None)
