@@ -52,26 +52,47 @@ def _failed(result) -> bool:
 
 
 def cmd_run(args) -> int:
-    from procplan.output.report import history_dict, summary_dict, summary_text
+    from procplan.output.report import summary_text
+    from procplan.output.result_schema import result_document
     from procplan.run.engine import run_plan
 
-    if args.json and args.csv == STDOUT:
-        raise InvalidInputError("--csv", STDOUT, "a file name when --json prints to standard output")
+    if args.json and STDOUT in (args.csv, args.xlsx):
+        raise InvalidInputError(
+            "--csv" if args.csv == STDOUT else "--xlsx",
+            STDOUT,
+            "a file name when --json prints to standard output",
+        )
+    if args.csv == STDOUT and args.xlsx == STDOUT:
+        raise InvalidInputError("--xlsx", STDOUT, "a file name when --csv writes to standard output")
     lib = load_library_of(args)
     plan_path = _plan_file(args.plan, lib)
     csv = output_target("--csv", args.csv, force=args.force, inputs=[plan_path]) if args.csv else None
+    xlsx = (
+        output_target("--xlsx", args.xlsx, force=args.force, inputs=[plan_path], suffix=".xlsx")
+        if args.xlsx
+        else None
+    )
     plan = load_plan_of(args.plan, lib)
     result = run_plan(plan, library=lib, solver=args.solver)
     where = write_output(csv, result.history.to_csv(index=False), force=args.force) if args.csv else None
+    if args.xlsx:
+        from procplan.files.site import site_of_library
+        from procplan.output.xlsx import run_workbook
+
+        site = site_of_library(lib.root, library=lib)
+        book = run_workbook(result, site.temperature_unit, site.time_unit)
+        where_xlsx = write_output(xlsx, book, force=args.force)
     if args.json:
-        write_json({"history": history_dict(result), "summary": summary_dict(result)})
+        write_json(result_document(result))
     else:
         from procplan.files.site import site_of_library
 
-        out = info_stream(args.csv)
+        out = info_stream(args.csv, args.xlsx)
         print(summary_text(result, site_of_library(lib.root, library=lib)), file=out)
         if where is not None and csv is not None:
             print(f"history written to {where}", file=out)
+        if xlsx is not None:
+            print(f"workbook written to {where_xlsx}", file=out)
     return EXIT_CHECK_FAILED if (args.strict and _failed(result)) else EXIT_OK
 
 
@@ -129,7 +150,10 @@ def build_parser(full: frozenset[str] | set[str] = frozenset()) -> argparse.Argu
     r.add_argument("plan", help="plan file (TOML), or the name of a library plan")
     r.add_argument("--json", action="store_true", help="print history and summary as JSON")
     r.add_argument("--csv", metavar="FILE", help="write the history as CSV (- for standard output)")
-    r.add_argument("--force", action="store_true", help="replace an existing --csv file")
+    r.add_argument(
+        "--xlsx", metavar="FILE", help="write the key figures and the history as an Excel workbook (.xlsx)"
+    )
+    r.add_argument("--force", action="store_true", help="replace an existing --csv or --xlsx file")
     r.add_argument(
         "--solver",
         choices=list(SOLVERS),

@@ -100,11 +100,41 @@ def _csv_target(args, inputs):
     return output_target("--csv", args.csv, force=args.force, inputs=inputs)
 
 
+def _xlsx_target(args, inputs):
+    """The ``--xlsx`` file, checked before the work starts (None when not given or ``-``)."""
+    if not getattr(args, "xlsx", None):
+        return None
+    if args.xlsx == "-" and (getattr(args, "json", False) or args.csv == "-"):
+        raise InvalidInputError("--xlsx", "-", "a file name when --json or --csv writes to standard output")
+    return output_target("--xlsx", args.xlsx, force=args.force, inputs=inputs, suffix=".xlsx")
+
+
+def _write_xlsx(args, target, make) -> None:
+    """Write the workbook ``make()`` to the ``--xlsx`` file (atomically) when one was asked for."""
+    if getattr(args, "xlsx", None):
+        write_output(target, make(), force=args.force)
+
+
 def _written(args, what: str, out) -> None:
-    """The closing lines: where the CSV went and the caution."""
+    """The closing lines: where the CSV and the workbook went, and the caution."""
     if args.csv and args.csv != "-":
         print(f"{what} written to {args.csv}", file=out)
+    if getattr(args, "xlsx", None) and args.xlsx != "-":
+        print(f"workbook written to {args.xlsx}", file=out)
     print("\n" + CAUTION, file=out)
+
+
+def _xlsx_module():
+    import procplan.output.xlsx as mod
+
+    return mod
+
+
+def _differences(plans, cmp_):
+    """The inputs that differ between the compared plans (procplan.studies.compare.plan_differences)."""
+    from procplan.studies.compare import plan_differences
+
+    return plan_differences(plans, list(cmp_.table.index))
 
 
 #: Worker processes a study may start.
@@ -117,6 +147,7 @@ def cmd_compare(args) -> int:
 
     lib = load_library_of(args)
     csv = _csv_target(args, args.plans)
+    xlsx = _xlsx_target(args, args.plans)
     plans = [load_plan_of(p, lib) for p in args.plans]
     if args.vary:
         plans += variants_of(plans[0], [parse_variant(v) for v in args.vary], library=lib)
@@ -126,6 +157,7 @@ def cmd_compare(args) -> int:
     tab = cmp_.table
     if args.csv:
         write_output(csv, tab.to_csv(), force=args.force)
+    _write_xlsx(args, xlsx, lambda: _xlsx_module().comparison_workbook(cmp_, _differences(plans, cmp_)))
     if args.json:
         _dump(
             {
@@ -136,7 +168,7 @@ def cmd_compare(args) -> int:
             }
         )
         return EXIT_OK
-    out = info_stream(args.csv)
+    out = info_stream(args.csv, getattr(args, "xlsx", None))
     print(f"{len(tab)} scenarios ranked by {cmp_.criterion}:", file=out)
     for name in cmp_.ranking:
         r = tab.loc[name]
@@ -279,6 +311,7 @@ def cmd_variability(args) -> int:
     check_options(args, samples={"minimum": 1, "maximum": 1e6}, workers=_WORKERS)
     lib = load_library_of(args)
     csv = _csv_target(args, [args.plan])
+    xlsx = _xlsx_target(args, [args.plan])
     plan = load_plan_of(args.plan, lib)
     dists = {}
     for spec in args.vary or []:
@@ -304,10 +337,11 @@ def cmd_variability(args) -> int:
             ex.shutdown()
     if args.csv:
         write_output(csv, res.samples.to_csv(index=False), force=args.force)
+    _write_xlsx(args, xlsx, lambda: _xlsx_module().variability_workbook(res))
     if args.json:
         _dump({**res.to_dict(), "caution": CAUTION})
         return EXIT_OK
-    with contextlib.redirect_stdout(info_stream(args.csv)):
+    with contextlib.redirect_stdout(info_stream(args.csv, getattr(args, "xlsx", None))):
         _print_variability(res)
         _written(args, "samples", sys.stdout)
     return EXIT_OK
@@ -441,6 +475,7 @@ def cmd_calibrate(args) -> int:
         raise InvalidInputError("--plan", None, "a plan file for the recorded process (or --preview)")
     lib = load_library_of(args)
     csv = _csv_target(args, [args.plan, args.logfile])
+    xlsx = _xlsx_target(args, [args.plan, args.logfile])
     plan = load_plan_of(args.plan, lib)
     log = clean_logger(read_logger(args.logfile, **_logger_options(args)), jump_K=args.jump_K)
     cal = calibrate(
@@ -454,6 +489,7 @@ def cmd_calibrate(args) -> int:
     )
     if args.csv:
         write_output(csv, cal.residuals.to_csv(index=False), force=args.force)
+    _write_xlsx(args, xlsx, lambda: _xlsx_module().calibration_workbook(cal))
     out = cal.to_dict()
     out["flags"] = list(log.flags)
     out["logger_decisions"] = list(log.decisions)
@@ -478,10 +514,12 @@ def cmd_calibrate(args) -> int:
     if args.json:
         _dump({**out, "caution": CAUTION})
         return EXIT_OK
-    with contextlib.redirect_stdout(info_stream(args.csv)):
+    with contextlib.redirect_stdout(info_stream(args.csv, getattr(args, "xlsx", None))):
         _print_calibration(plan, cal, log, out)
         if args.csv and args.csv != "-":
             print(f"curves written to {args.csv}")
+        if args.xlsx and args.xlsx != "-":
+            print(f"workbook written to {args.xlsx}")
     return EXIT_OK
 
 
@@ -496,6 +534,7 @@ def cmd_sweep(args) -> int:
     check_options(args, workers=_WORKERS, n_nodes={"minimum": 3, "maximum": 2000}, every={"minimum": 1})
     lib = load_library_of(args)
     csv = _csv_target(args, [])
+    xlsx = _xlsx_target(args, [])
     ex = _executor(args.workers)
     try:
         res = sweep_catalogue(
@@ -514,10 +553,11 @@ def cmd_sweep(args) -> int:
     tab = res.table
     if args.csv:
         write_output(csv, res.table.to_csv(index=False), force=args.force)
+    _write_xlsx(args, xlsx, lambda: _xlsx_module().sweep_workbook(res.table, res.skipped))
     if args.json:
         _dump({"table": tab.to_dict("records"), "skipped": list(res.skipped), "caution": CAUTION})
         return EXIT_OK
-    with contextlib.redirect_stdout(info_stream(args.csv)):
+    with contextlib.redirect_stdout(info_stream(args.csv, getattr(args, "xlsx", None))):
         _print_sweep(res)
         _written(args, "table", sys.stdout)
     return EXIT_OK

@@ -15,7 +15,8 @@ from procplan.cli.studies import (
     cmd_variability,
 )
 
-_FORCE_HELP = "replace an existing --csv file"
+_FORCE_HELP = "replace an existing --csv or --xlsx file"
+_XLSX_HELP = "write the tables as an Excel workbook (.xlsx), one sheet per table"
 
 
 def _add_compare(subparsers) -> None:
@@ -43,6 +44,7 @@ def _add_compare(subparsers) -> None:
     )
     c.add_argument("--json", action="store_true", help="print the table as JSON")
     c.add_argument("--csv", metavar="FILE", help="write the table as CSV (- for standard output)")
+    c.add_argument("--xlsx", metavar="FILE", help=_XLSX_HELP)
     c.add_argument("--force", action="store_true", help=_FORCE_HELP)
     c.add_argument("--quiet", action="store_true", help="no progress on stderr")
     c.set_defaults(func=cmd_compare)
@@ -134,6 +136,7 @@ def _add_variability(subparsers) -> None:
     v.add_argument("--no-corners", action="store_true", help="skip the worst-case corner runs")
     v.add_argument("--json", action="store_true", help="print the summary as JSON")
     v.add_argument("--csv", metavar="FILE", help="write every sample as CSV (- for standard output)")
+    v.add_argument("--xlsx", metavar="FILE", help=_XLSX_HELP)
     v.add_argument("--force", action="store_true", help=_FORCE_HELP)
     v.add_argument("--quiet", action="store_true", help="no progress on stderr")
     v.set_defaults(func=cmd_variability)
@@ -185,6 +188,7 @@ def _add_calibrate(subparsers) -> None:
         metavar="FILE",
         help="write measured, fitted and predicted curves and residuals as CSV (- for standard output)",
     )
+    k.add_argument("--xlsx", metavar="FILE", help=_XLSX_HELP)
     k.add_argument("--force", action="store_true", help=_FORCE_HELP)
     k.set_defaults(func=cmd_calibrate)
 
@@ -222,6 +226,7 @@ def _add_sweep(subparsers) -> None:
     s.add_argument("--every", type=int, default=10, help="progress line every N pairs")
     s.add_argument("--json", action="store_true", help="print the table as JSON")
     s.add_argument("--csv", metavar="FILE", help="write the table as CSV (- for standard output)")
+    s.add_argument("--xlsx", metavar="FILE", help=_XLSX_HELP)
     s.add_argument("--force", action="store_true", help=_FORCE_HELP)
     s.add_argument("--quiet", action="store_true", help="no progress on stderr")
     s.set_defaults(func=cmd_sweep)

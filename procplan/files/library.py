@@ -143,6 +143,24 @@ def save_product(root: str | os.PathLike, product, *, overwrite: bool = False) -
     return _save(root, "products", product.name, data, overwrite)
 
 
+def save_rule(root: str | os.PathLike, rule, *, overwrite: bool = False) -> Path:
+    """Save a rule as ``rules/NAME.toml`` atomically; an existing rule is kept unless ``overwrite``."""
+    from procplan.files.rules import rule_from_dict, rule_to_dict
+
+    data = rule_to_dict(rule)
+    rule_from_dict(data, "rule")  # what is written must load again
+    return _save(root, "rules", rule.name, data, overwrite)
+
+
+def save_equipment(root: str | os.PathLike, equipment, *, overwrite: bool = False) -> Path:
+    """Save a machine as ``equipment/ID.toml`` atomically; an existing machine is kept unless ``overwrite``."""
+    from procplan.files.machines import equipment_from_dict, equipment_to_dict
+
+    data = equipment_to_dict(equipment)
+    equipment_from_dict(data, "equipment")
+    return _save(root, "equipment", equipment.id, data, overwrite)
+
+
 def measurement_from_dict(
     data: dict[str, Any], source: str = "measurement", library: Library | None = None
 ) -> dict[str, Any]:

@@ -419,6 +419,48 @@ def site_of_library(root: str | os.PathLike, *, library=None) -> SiteSettings:
     return SiteSettings(plant="", source="defaults")
 
 
+def site_to_dict(site: SiteSettings) -> dict[str, Any]:
+    """The mapping :func:`site_from_dict` reads (TOML-ready; an unset price is left out).
+
+    >>> s = load_site()
+    >>> site_from_dict(site_to_dict(s), source=s.source) == s
+    True
+    """
+    out: dict[str, Any] = {"plant": site.plant}
+    if site.address:
+        out["address"] = site.address
+    out["document_prefix"] = site.document_prefix
+    out["units"] = {"temperature": site.temperature_unit, "time": site.time_unit}
+    out["defaults"] = {
+        "margin_percent": site.margin_percent,
+        "margin_min": site.margin_min,
+        "rules": list(site.default_rules),
+        "paper": site.paper,
+    }
+    if site.energy_price_per_kWh is not None:
+        out["energy"] = {"price_per_kWh": site.energy_price_per_kWh, "currency": site.currency}
+    out["probe"] = {"tolerance_K": site.probe_tolerance_K}
+    out["lines"] = [
+        {
+            "name": ln.name,
+            "equipment": list(ln.equipment),
+            **({"description": ln.description} if ln.description else {}),
+        }
+        for ln in site.lines
+    ]
+    return out
+
+
+def save_site(root: str | os.PathLike, site: SiteSettings, *, library=None) -> Path:
+    """Validate and write the site settings as ``site.toml`` of a library folder, atomically (the old file is
+    replaced: a folder has one site)."""
+    from procplan.files.tomlfile import dump_toml, write_atomic
+
+    data = site_to_dict(site)
+    site_from_dict(data, source="site", library=library)  # what is written must load again
+    return write_atomic(Path(root) / "site.toml", dump_toml(data), overwrite=True)
+
+
 def site_to_text(site: SiteSettings) -> str:
     """The settings as readable lines (for ``procplan site``)."""
     price = (

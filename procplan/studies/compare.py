@@ -286,3 +286,62 @@ def compare_plans(
     ranking = tuple(names[i] for i in order)
     table["rank"] = [order.index(i) + 1 for i in range(len(rows))]
     return Comparison(table=table, results=results, criterion=criterion, ranking=ranking)
+
+
+#: Entries of a plan that are words about it, not inputs of the calculation.
+_NOT_INPUTS = {"title", "notes", "description", "library"}
+
+
+def _flat_inputs(data: Any, label: str, out: dict[str, Any]) -> None:
+    """The plan's inputs as (readable label → value), units in the labels."""
+    from procplan.output.xlsx import header
+
+    if isinstance(data, dict):
+        for k, v in data.items():
+            if k in _NOT_INPUTS:
+                continue
+            if k == "steps" and isinstance(v, list):
+                for i, step in enumerate(v):
+                    _flat_inputs(step, f"step {i + 1}", out)
+            else:
+                _flat_inputs(v, f"{label}: {header(str(k))}" if label else header(str(k)), out)
+    elif isinstance(data, list):
+        out[label] = "; ".join(
+            ", ".join(f"{header(str(k))} {x}" for k, x in item.items())
+            if isinstance(item, dict)
+            else str(item)
+            for item in data
+        )
+    else:
+        out[label] = data
+
+
+def plan_differences(plans, names) -> pd.DataFrame:
+    """The inputs that differ between plans: one row per input ("step 1: settings: air [°C]"), one column
+    per scenario name; an input a plan does not give reads "not set" (the machine's or the library's default).
+
+    >>> from procplan.files.library import load_library
+    >>> lib = load_library()
+    >>> a = lib.plan("roulade-blast-chill")
+    >>> b = a.with_step(0, settings=(("air_C", -10.0), ("air_speed_m_s", 4.0)))
+    >>> plan_differences([a, b], ["as planned", "colder air"]).to_dict("index")
+    {'step 1: settings: air [°C]': {'as planned': -6, 'colder air': -10}}
+    """
+    from procplan.files.plan import plan_to_dict
+
+    flats = []
+    for plan in plans:
+        flat: dict[str, Any] = {}
+        _flat_inputs(plan_to_dict(plan), "", flat)
+        flats.append(flat)
+    keys: list[str] = []
+    for flat in flats:
+        keys += [k for k in flat if k not in keys]
+    rows = {}
+    for k in keys:
+        values = [flat.get(k, "not set") for flat in flats]
+        if any(v != values[0] for v in values[1:]):
+            rows[k] = values
+    frame = pd.DataFrame.from_dict(rows, orient="index", columns=list(names))
+    frame.index.name = "input"
+    return frame

@@ -38,8 +38,13 @@ class Problem:
     detail: str | None
 
     def message(self) -> str:
-        text = f"**{self.field}** = {self.value!r}: allowed {self.allowed}"
-        return text + (f" ({self.detail})" if self.detail else "")
+        """The problem in plain words, the file key after it for whoever edits the file."""
+        from procplan.ui.fmt import plain_field
+
+        value = "missing" if self.value in ("", None) else f"{self.value!r} is not allowed"
+        text = f"**{plain_field(self.field)}**: {value}; allowed {self.allowed}"
+        text += f" ({self.detail})" if self.detail else ""
+        return text + f" · in the file: `{self.field}`"
 
 
 def problems_of(exc: InvalidInputError) -> tuple[Problem, ...]:
@@ -80,6 +85,20 @@ def _library(root: str, generation: int):
     from procplan.files.library import load_library
 
     return load_library(root)
+
+
+#: Library generation of this server process, raised by every save (shared by all sessions).
+_SAVED_GENERATION = [0]
+
+
+def saved_generation() -> int:
+    return _SAVED_GENERATION[0]
+
+
+def library_saved(generation: int) -> int:
+    """Record that the library folder changed; returns the new generation for every session."""
+    _SAVED_GENERATION[0] = max(_SAVED_GENERATION[0], generation) + 1
+    return _SAVED_GENERATION[0]
 
 
 def library(generation: int = 0):
@@ -185,7 +204,8 @@ def product_dict_of(name: str, generation: int = 0) -> dict:
 
 @st.cache_data(max_entries=64, show_spinner=False)
 def property_curves(product_toml: str, low_C: float = -40.0, high_C: float = 100.0) -> Outcome:
-    """k, rho, apparent cp and ice fraction against temperature for a product's [product] table.
+    """k, rho, apparent cp, enthalpy (zero at −40 °C) and ice fraction against temperature for a product's
+    [product] table.
 
     Composition products use :func:`procplan.properties.food_properties`; products with measured
     properties use their property table (no ice fraction then).
@@ -214,6 +234,7 @@ def property_curves(product_toml: str, low_C: float = -40.0, high_C: float = 100
                     "k_W_mK": fp.k_W_mK,
                     "rho_kg_m3": fp.rho_kg_m3,
                     "apparent_cp_J_kgK": fp.apparent_cp_J_kgK,
+                    "enthalpy_J_kg": fp.enthalpy_J_kg,
                     "ice_fraction": fp.ice_fraction,
                 }
             )
@@ -226,6 +247,7 @@ def property_curves(product_toml: str, low_C: float = -40.0, high_C: float = 100
                     "k_W_mK": table.conductivity(t),
                     "rho_kg_m3": table.density(t),
                     "apparent_cp_J_kgK": table.apparent_cp(t),
+                    "enthalpy_J_kg": table.enthalpy(t),
                     "ice_fraction": np.full_like(t, np.nan),
                 }
             )

@@ -9,6 +9,11 @@ from plotly.subplots import make_subplots
 from procplan.ui.fmt import Units
 
 COLOURS = {"core": "#b2182b", "surface": "#2166ac", "mean": "#4d9221", "medium": "#999999"}
+RULE_COLOUR = "#e08214"
+#: Colours of overlaid scenarios, told apart also in print (ColorBrewer Dark2, Harrower & Brewer 2003).
+SCENARIO_COLOURS = ("#1b9e77", "#d95f02", "#7570b3", "#e7298a", "#66a61e", "#e6ab02", "#a6761d", "#666666")
+#: How a chart downloads from its toolbar's camera button ("png" or "svg"); set in the sidebar.
+IMAGE_FORMATS = {"PNG": "png", "SVG": "svg"}
 LAYOUT = dict(
     margin=dict(l=10, r=10, t=40, b=10), legend=dict(orientation="h", y=-0.18), hovermode="x unified"
 )
@@ -80,49 +85,71 @@ def temperature_figure(result, u: Units, title: str = "Product temperatures") ->
             )
     oc = result.outcomes
     rc = oc.rule_check if oc is not None else None
+    end_s = float(h["time_s"].iloc[-1])
     if rc is not None:
-        rule_start = rc.stages[0].start_s if rc.stages else None
-        for st_ in rc.stages:
-            stage = st_.stage
-            fig.add_hline(
-                y=u.t(stage.to_C),
-                line=dict(color="#e08214", dash="dashdot", width=1),
-                annotation_text=f"rule stage {st_.index + 1}: {u.temp(stage.to_C, 0)}",
-                annotation_position="top right",
-            )
-            begin = rule_start if stage.clock == "rule" else st_.start_s
-            if begin is not None:
-                deadline = begin + stage.within_min * 60.0
-                fig.add_vline(
-                    x=u.time_value(deadline),
-                    line=dict(color="#e08214", dash="dashdot", width=1),
-                    annotation_text=f"stage {st_.index + 1} limit",
-                    annotation_position="top left",
-                )
-        for b in rc.bands:
-            lo = (
-                b.band.low_C
-                if b.band.low_C is not None
-                else float(h[["core_C", "surface_C"]].min().min()) - 5
-            )
-            hi = (
-                b.band.high_C
-                if b.band.high_C is not None
-                else float(h[["core_C", "surface_C"]].max().max()) + 5
-            )
-            fig.add_hrect(
-                y0=u.t(lo),
-                y1=u.t(hi),
-                fillcolor="#fdb863",
-                opacity=0.15,
-                line_width=0,
-                annotation_text=b.band.label(),
-                annotation_position="top left",
-            )
+        rule_lines(
+            fig,
+            rc,
+            u,
+            end_s,
+            (float(h[["core_C", "surface_C"]].min().min()), float(h[["core_C", "surface_C"]].max().max())),
+        )
     fig.update_layout(
         title=title, xaxis_title=f"time [{u.time}]", yaxis_title=f"temperature [{u.temperature}]", **LAYOUT
     )
+    fit_time_axis(fig, end_s, u)
     return fig
+
+
+def fit_time_axis(fig: go.Figure, end_s: float, u: Units) -> None:
+    """The time axis spans the process (0 to its end, 2 % spare), not the marks beyond it."""
+    fig.update_xaxes(range=[0.0, float(u.time_value(max(end_s, 1.0) * 1.02))])
+
+
+def rule_lines(fig: go.Figure, rc, u: Units, end_s: float, span_C: tuple[float, float]) -> None:
+    """A rule's stage temperatures and deadlines and its bands; a deadline after the process end is marked
+    by an arrow at the right edge with its time, so the axis keeps the process's length."""
+    rule_start = rc.stages[0].start_s if rc.stages else None
+    beyond = 0
+    for st_ in rc.stages:
+        stage = st_.stage
+        fig.add_hline(
+            y=u.t(stage.to_C),
+            line=dict(color=RULE_COLOUR, dash="dashdot", width=1),
+            annotation_text=f"rule stage {st_.index + 1}: {u.temp(stage.to_C, 0)}",
+            annotation_position="top right",
+        )
+        begin = rule_start if stage.clock == "rule" else st_.start_s
+        if begin is None:
+            continue
+        deadline = begin + stage.within_min * 60.0
+        if deadline <= end_s * 1.02:
+            fig.add_vline(
+                x=u.time_value(deadline),
+                line=dict(color=RULE_COLOUR, dash="dashdot", width=1),
+                annotation_text=f"stage {st_.index + 1} limit",
+                annotation_position="top left",
+            )
+        else:
+            # after the process ends: named at the top right edge, one line per stage, not drawn
+            fig.add_annotation(
+                x=1.0, xref="paper", y=1.0 - 0.06 * beyond, yref="paper", xanchor="right", yanchor="top",
+                text=f"stage {st_.index + 1} limit at {u.duration(deadline)} →", showarrow=False,
+                font=dict(size=11, color=RULE_COLOUR), bgcolor="rgba(255,255,255,0.8)",
+            )  # fmt: skip
+            beyond += 1
+    for b in rc.bands:
+        lo = b.band.low_C if b.band.low_C is not None else span_C[0] - 5
+        hi = b.band.high_C if b.band.high_C is not None else span_C[1] + 5
+        fig.add_hrect(
+            y0=u.t(lo),
+            y1=u.t(hi),
+            fillcolor="#fdb863",
+            opacity=0.15,
+            line_width=0,
+            annotation_text=b.band.label(),
+            annotation_position="top left",
+        )
 
 
 def lethality_figure(leth, u: Units) -> go.Figure:
@@ -152,23 +179,36 @@ def lethality_figure(leth, u: Units) -> go.Figure:
     return fig
 
 
-def property_figure(frame, freezing_C: float | None, u: Units) -> go.Figure:
+def property_figure(
+    frame, freezing_C: float | None, u: Units, x_range_C: tuple[float, float] | None = None
+) -> go.Figure:
+    """k, ρ, apparent cp (log scale: the latent peak and the sensible values both readable), enthalpy and
+    ice fraction against temperature; ``x_range_C`` narrows every panel to one range (e.g. freezing)."""
+    if x_range_C is not None:
+        t = frame["temperature_C"]
+        frame = frame[(t >= x_range_C[0]) & (t <= x_range_C[1])]
     x = u.t(frame["temperature_C"].to_numpy())
     fig = make_subplots(
         rows=2,
-        cols=2,
+        cols=3,
         subplot_titles=(
             "conductivity k [W/mK]",
             "density ρ [kg/m³]",
-            "apparent specific heat cp [kJ/kgK]",
             "ice fraction [kg/kg]",
+            "apparent specific heat cp [kJ/kgK]",
+            "enthalpy [kJ/kg] (zero at −40 °C)",
+            "",
         ),
+        specs=[[{}, {}, {}], [{}, {"colspan": 2}, None]],
+        horizontal_spacing=0.07,
+        vertical_spacing=0.16,
     )
     series = [
         (frame["k_W_mK"], 1, 1),
         (frame["rho_kg_m3"], 1, 2),
+        (frame["ice_fraction"], 1, 3),
         (frame["apparent_cp_J_kgK"] / 1000.0, 2, 1),
-        (frame["ice_fraction"], 2, 2),
+        (frame["enthalpy_J_kg"] / 1000.0, 2, 2),
     ]
     for y, r, c in series:
         fig.add_trace(
@@ -178,29 +218,71 @@ def property_figure(frame, freezing_C: float | None, u: Units) -> go.Figure:
         if freezing_C is not None:
             fig.add_vline(x=u.t(freezing_C), line=dict(color="#b2182b", dash="dot", width=1), row=r, col=c)
     fig.update_yaxes(type="log", dtick=1, row=2, col=1)
-    fig.update_layout(height=560, margin=dict(l=10, r=10, t=40, b=10))
+    fig.update_layout(height=620, margin=dict(l=10, r=10, t=40, b=10))
     return fig
 
 
 def overlay_figure(runs: list[tuple[str, object]], u: Units, point: str = "core") -> go.Figure:
+    """Scenarios overlaid, each its own colour; their targets at this point (dashed, the scenario's colour,
+    once per temperature) and the first scenario's rule."""
     fig = go.Figure()
-    for label, result in runs:
+    drawn: set[float] = set()
+    end_s = 1.0
+    lo, hi = np.inf, -np.inf
+    for j, (label, result) in enumerate(runs):
+        colour = SCENARIO_COLOURS[j % len(SCENARIO_COLOURS)]
         h = result.history
+        y = h[f"{point}_C"].to_numpy()
+        end_s = max(end_s, float(h["time_s"].iloc[-1]))
+        lo, hi = min(lo, float(np.min(y))), max(hi, float(np.max(y)))
         fig.add_trace(
             go.Scatter(
                 x=u.time_value(h["time_s"].to_numpy()),
-                y=u.t(h[f"{point}_C"].to_numpy()),
+                y=u.t(y),
                 mode="lines",
                 name=label,
+                line=dict(color=colour, width=2),
             )
         )
+        for tg in result.outcomes.targets if result.outcomes is not None else ():
+            temp = round(float(tg.target.target_C), 3)
+            if tg.point != point or temp in drawn:
+                continue
+            drawn.add(temp)
+            fig.add_hline(
+                y=u.t(temp),
+                line=dict(color=colour, dash="dash", width=1.2),
+                annotation_text=f"target {u.temp(temp, 1)}",
+                annotation_position="bottom right",
+            )
+    rules = [r.outcomes.rule_check for _, r in runs if r.outcomes is not None and r.outcomes.rule_check]
+    if rules and rules[0].point == point:
+        rule_lines(fig, rules[0], u, end_s, (lo, hi))
     fig.update_layout(
         title=f"{point.capitalize()} temperature, scenarios overlaid",
         xaxis_title=f"time [{u.time}]",
         yaxis_title=f"temperature [{u.temperature}]",
         **LAYOUT,
     )
+    fit_time_axis(fig, end_s, u)
     return fig
+
+
+def chart_config(name: str, image_format: str = "png") -> dict:
+    """Plotly's toolbar: the camera button downloads the chart under ``name`` as PNG (twice the screen
+    resolution) or SVG."""
+    return {
+        "displaylogo": False,
+        "toImageButtonOptions": {"format": image_format, "filename": name, "scale": 2},
+    }
+
+
+def show(fig: go.Figure, key: str, name: str | None = None) -> None:
+    """Draw a chart with its download button (format chosen in the sidebar)."""
+    import streamlit as st
+
+    fmt = IMAGE_FORMATS.get(st.session_state.get("chart_format", "PNG"), "png")
+    st.plotly_chart(fig, width="stretch", key=key, config=chart_config(name or key, fmt))
 
 
 def histogram_figure(times_s, u: Units, title: str) -> go.Figure:

@@ -119,3 +119,78 @@ def round_to(value: float, step: float, direction: str = "nearest") -> float:
     )
     digits = max(0, -math.floor(math.log10(step))) if step < 1 else 0
     return round(n * step, digits)
+
+
+#: File keys as the planner names them (the rest: the key in words with its unit, via the sheet's headers).
+PLAIN_KEYS = {
+    "steps": "step",
+    "targets": "target",
+    "stages": "stage",
+    "bands": "band",
+    "lines": "line",
+    "settings": "setting",
+    "equipment": "machine",
+    "id": "file name",
+    "temperature_C": "temperature",
+    "stop_when_core_C": "stop when the core reaches",
+    "duration_min": "step time",
+    "medium_C": "medium temperature",
+    "h_W_m2K": "surface coefficient h",
+    "reference_C": "reference temperature",
+    "z_C": "z-value",
+    "required_F_min": "required F",
+    "d_value_min": "D-value",
+    "from_C": "from",
+    "to_C": "down to",
+    "within_min": "time allowed",
+    "low_C": "lowest temperature",
+    "high_C": "highest temperature",
+    "max_outside_min": "time allowed outside",
+    "at_least_min": "at least",
+    "at_most_min": "at most",
+    "price_per_kWh": "electricity price per kWh",
+    "tolerance_K": "probe tolerance",
+    "document_prefix": "document number prefix",
+    "margin_percent": "safety margin",
+    "margin_min": "fixed margin",
+    "capacity_kW": "capacity",
+    "evaporating_C": "evaporating temperature",
+    "condensing_C": "condensing temperature",
+    "conductivity_model": "conductivity model",
+    "cooling_rule": "cooling rule",
+    "pieces_per_batch": "pieces per batch",
+    "min": "lowest setting",
+    "max": "highest setting",
+    "default": "usual setting",
+}
+
+
+def plain_field(field: str) -> str:
+    """A file key path in the planner's words.
+
+    >>> plain_field("steps[0].targets[1].temperature_C")
+    'Step 1, target 2, temperature'
+    >>> plain_field("site.energy.price_per_kWh")
+    'Energy, electricity price per kWh'
+    >>> plain_field("checks.lethality.required_F_min")
+    'Lethality, required F'
+    >>> plain_field("equipment.settings.air_C.max")
+    'Machine, setting, air [°C], highest setting'
+    """
+    import re
+
+    from procplan.output.xlsx import header
+
+    parts = []
+    path = str(field).split(".")
+    if len(path) > 1 and path[0] in ("site", "checks", "product"):
+        path = path[1:]  # the page says which record; the first word names the section
+    for part in path:
+        m = re.fullmatch(r"([A-Za-z_]\w*)\[(\d+)\]", part)
+        if m:
+            word = PLAIN_KEYS.get(m.group(1), m.group(1).replace("_", " "))
+            parts.append(f"{word} {int(m.group(2)) + 1}")
+        elif part:
+            parts.append(PLAIN_KEYS.get(part) or header(part))
+    text = ", ".join(parts)
+    return text[:1].upper() + text[1:]

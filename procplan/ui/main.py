@@ -8,6 +8,7 @@ from pathlib import Path
 import streamlit as st
 
 from procplan.ui import state, widgets
+from procplan.ui.charts import IMAGE_FORMATS
 from procplan.ui.fmt import TEMPERATURE_UNITS, TIME_UNITS
 
 PAGE_DIR = Path(__file__).resolve().parent / "pages"
@@ -18,6 +19,8 @@ PAGES = (
     ("Result", "result.py", "result", ":material/monitoring:"),
     ("Compare & studies", "studies.py", "studies", ":material/compare_arrows:"),
     ("Sheet & files", "files.py", "files", ":material/description:"),
+    ("Library", "library.py", "library", ":material/menu_book:"),
+    ("Site", "site.py", "site", ":material/factory:"),
 )
 DEFAULT_PAGE = "Result"
 
@@ -41,6 +44,13 @@ def _sidebar() -> None:
         st.caption("Thermal-process planning: chill, freeze, cook, pasteurise")
         st.radio("Temperatures in", TEMPERATURE_UNITS, horizontal=True, key="temperature_unit")
         st.radio("Times in", TIME_UNITS, horizontal=True, key="time_unit")
+        st.radio(
+            "Charts download as",
+            list(IMAGE_FORMATS),
+            horizontal=True,
+            key="chart_format",
+            help="The camera button at the top right of each chart saves it in this format.",
+        )
         st.divider()
         plan = state.plan()
         st.caption(f"Current plan: **{plan.get('title', 'untitled')}**")

@@ -6,7 +6,7 @@ import re
 
 import streamlit as st
 
-from procplan.ui import adapter, state, widgets
+from procplan.ui import adapter, adapter_outputs, state, widgets
 
 
 def _slug(title: str) -> str:
@@ -82,6 +82,47 @@ def _downloads(text: str, ok: bool) -> None:
                 file_name=f"{name}-history.csv",
                 mime="text/csv",
                 key="dl_csv",
+            )
+        else:
+            st.caption("Correct the plan's inputs first.")
+    _records(text, ok, name)
+
+
+def _records(text: str, ok: bool, name: str) -> None:
+    """The workbook and the result JSON for the plant's records (LIMS, MES)."""
+    c1, c2 = st.columns(2)
+    u = state.units()
+    with c1:
+        st.markdown("**Workbook (Excel)**")
+        st.caption("Key figures and the history, one sheet each, the unit in every header.")
+        if ok:
+            st.download_button(
+                "Download the workbook",
+                adapter_outputs.run_xlsx(text, state.generation(), "F" if u.fahrenheit else "C", u.time),
+                file_name=f"{name}.xlsx",
+                mime=adapter_outputs.XLSX_MIME,
+                key="dl_xlsx",
+            )
+        else:
+            st.caption("Correct the plan's inputs first.")
+    with c2:
+        st.markdown("**Result for LIMS or MES (JSON)**")
+        st.caption("Every figure of the run in SI units with °C, described by a versioned JSON Schema.")
+        if ok:
+            b1, b2 = st.columns(2)
+            b1.download_button(
+                "Download the result",
+                adapter_outputs.result_json(text, state.generation()),
+                file_name=f"{name}-result.json",
+                mime="application/json",
+                key="dl_json",
+            )
+            b2.download_button(
+                "Download the schema",
+                adapter_outputs.result_schema_json(),
+                file_name="procplan-result.schema.json",
+                mime="application/schema+json",
+                key="dl_schema",
             )
         else:
             st.caption("Correct the plan's inputs first.")

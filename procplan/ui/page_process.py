@@ -6,13 +6,13 @@ from __future__ import annotations
 import pandas as pd
 import streamlit as st
 
-from procplan.ui import adapter, state, widgets
+from procplan.ui import adapter, editors_plan, state, widgets
 from procplan.ui.fmt import Units, correlation_text
 
 MODES = ("machine and settings", "given h and medium temperature")
 NO_RULE = "(no cooling rule)"
 NO_LETHALITY = "(no lethality check)"
-CUSTOM_LETHALITY = "custom (from the plan file)"
+CUSTOM_LETHALITY = "custom requirement (reference temperature, z, F or D)"
 
 
 #: Short labels of machine settings (the library's description stays in the help text).
@@ -127,35 +127,10 @@ def _given_h(step: dict, i: int) -> None:
             fmt="%.1f",
         )
     with c2:
-        if step.get("medium_profile"):
-            u = state.units()
-            prof = step["medium_profile"]
-            st.caption("Medium temperature profile from the plan file:")
-            st.dataframe(
-                pd.DataFrame(
-                    {
-                        f"time [{u.time}]": [u.minutes_to_shown(t) for t, _ in prof],
-                        f"medium [{u.temperature}]": [u.t(v) for _, v in prof],
-                    }
-                ),
-                hide_index=True,
-            )
-            if st.button("Use a constant medium temperature instead", key=state.key("s.noprof", i)):
-                step["medium_C"] = prof[0][1]
-                step.pop("medium_profile")
-                state.touch()
-                st.rerun()
-        else:
-            step["medium_C"] = widgets.temperature(
-                "Medium temperature",
-                step.get("medium_C", 20.0),
-                f"s.med.{i}",
-                minimum_C=-80.0,
-                maximum_C=300.0,
-            )
+        editors_plan.medium(step, i)
 
 
-def _step(step: dict, i: int, n: int, lib) -> str | None:
+def _step(step: dict, i: int, n: int, lib, errs: widgets.FieldErrors) -> str | None:
     """Draw one step; returns an action ('up', 'down', 'remove') or None."""
     action = None
     with st.container(border=True):
@@ -206,16 +181,12 @@ def _step(step: dict, i: int, n: int, lib) -> str | None:
                 )
             else:
                 step.pop("stop_when_core_C", None)
-        if step.get("targets"):
-            u = state.units()
-            st.caption(
-                "Targets from the plan file: "
-                + ", ".join(f"{t.get('point', 'core')} {u.temp(t['temperature_C'])}" for t in step["targets"])
-            )
+        editors_plan.targets(step, i, errs)
+        errs.mark(f"steps[{i}]")
     return action
 
 
-def _checks(plan: dict, lib) -> None:
+def _checks(plan: dict, lib, errs: widgets.FieldErrors) -> None:
     from procplan.model import SOLVERS
     from procplan.outcomes import LETHALITY_PRESETS
 
@@ -235,9 +206,8 @@ def _checks(plan: dict, lib) -> None:
     else:
         ch["cooling_rule"] = rule
     leth = ch.get("lethality")
-    options = [NO_LETHALITY, *LETHALITY_PRESETS]
+    options = [NO_LETHALITY, *LETHALITY_PRESETS, CUSTOM_LETHALITY]
     if isinstance(leth, dict) and not (set(leth) <= {"preset", "point"}):
-        options.append(CUSTOM_LETHALITY)
         current = CUSTOM_LETHALITY
     elif isinstance(leth, dict):
         current = leth.get("preset", NO_LETHALITY)
@@ -260,6 +230,8 @@ def _checks(plan: dict, lib) -> None:
     elif pick != CUSTOM_LETHALITY:
         point = leth.get("point") if isinstance(leth, dict) else None
         ch["lethality"] = {"preset": pick, "point": point} if point and point != "core" else pick
+    if pick == CUSTOM_LETHALITY:
+        editors_plan.lethality(ch, errs)
     c = st.columns(4)
     with c[0]:
         ch["margin_percent"] = widgets.number(
@@ -355,10 +327,11 @@ def render() -> None:
         )
     plan["title"] = c2.text_input("Plan title", value=plan.get("title", ""), key=state.key("title"))
     st.subheader("Steps")
+    errs = widgets.FieldErrors()
     steps = plan.setdefault("steps", [])
     actions = []
     for i, step in enumerate(steps):
-        a = _step(step, i, len(steps), lib)
+        a = _step(step, i, len(steps), lib, errs)
         if a:
             actions.append((i, a))
     if st.button("Add a step", key=state.key("s.add")):
@@ -376,11 +349,14 @@ def render() -> None:
     if actions:
         state.touch()
         st.rerun()
-    _checks(plan, lib)
+    _checks(plan, lib, errs)
     st.divider()
     text, parsed = state.current()
     if not parsed.ok:
-        widgets.problems(parsed.problems, "The plan cannot be calculated until these are corrected:")
+        rest = errs.show(parsed.problems)
+        with top:
+            st.error("The plan cannot be calculated until the fields marked in red are corrected.")
+        widgets.problems(rest, "Also to correct:")
         return
     out = adapter.run(text, state.generation())
     if not out.ok:

@@ -3,6 +3,8 @@ property curves, save it as a new library product."""
 
 from __future__ import annotations
 
+import numpy as np
+import pandas as pd
 import streamlit as st
 
 from procplan.ui import adapter, charts, state, widgets
@@ -163,6 +165,7 @@ def _composition(prod: dict) -> None:
                 )
         prod["composition"] = comp
         prod.pop("fixed_properties", None)
+        _conductivity_model(prod)
         total = sum(comp.values())
         off = total - 1.0
         if abs(off) > SUM_TOLERANCE:
@@ -236,6 +239,34 @@ def _composition(prod: dict) -> None:
             prod.pop("freezing_C", None)
 
 
+#: The conductivity models of the library (procplan.properties.CONDUCTIVITY_MODELS) in words.
+CONDUCTIVITY_LABELS = {
+    "parallel": "parallel (highest k: components side by side along the heat flow)",
+    "series": "series (lowest k: layers across the heat flow; the slow, safe side)",
+    "maxwell-eucken": "Maxwell–Eucken (water continuous, the rest dispersed in it)",
+}
+
+
+def _conductivity_model(prod: dict) -> None:
+    from procplan.properties import CONDUCTIVITY_MODELS
+
+    models = list(CONDUCTIVITY_MODELS)
+    current = prod.get("conductivity_model", "parallel")
+    model = st.selectbox(
+        "Conductivity model",
+        models,
+        index=models.index(current) if current in models else 0,
+        format_func=lambda m: CONDUCTIVITY_LABELS.get(m, m),
+        key=state.key("p.kmodel"),
+        help="How the components' conductivities combine. A lower k lengthens predicted cooling and heating "
+        "times and lowers predicted lethality: the series model is the conservative bound.",
+    )
+    if model == "parallel":
+        prod.pop("conductivity_model", None)
+    else:
+        prod["conductivity_model"] = model
+
+
 def _packaging(prod: dict) -> None:
     st.subheader("Packaging layers")
     layers = [dict(x) for x in prod.get("packaging", [])]
@@ -291,6 +322,26 @@ def _packaging(prod: dict) -> None:
         st.rerun()
 
 
+def property_table(frame, freezing_C, u) -> pd.DataFrame:
+    """The property curves every 5 K (and at the initial freezing point), in the display units."""
+    t = frame["temperature_C"].to_numpy()
+    wanted = np.unique(
+        np.r_[np.arange(-40.0, 100.01, 5.0), [] if freezing_C is None else [round(freezing_C, 2)]]
+    )
+    rows = frame.iloc[[int(np.argmin(np.abs(t - w))) for w in wanted]]
+    out = pd.DataFrame(
+        {
+            f"temperature [{u.temperature}]": np.round(u.t(rows["temperature_C"].to_numpy()), 2),
+            "k [W/mK]": rows["k_W_mK"].round(3).to_numpy(),
+            "density [kg/m³]": rows["rho_kg_m3"].round(1).to_numpy(),
+            "apparent cp [kJ/kgK]": (rows["apparent_cp_J_kgK"] / 1000.0).round(3).to_numpy(),
+            "enthalpy [kJ/kg]": (rows["enthalpy_J_kg"] / 1000.0).round(2).to_numpy(),
+            "ice fraction [kg/kg]": rows["ice_fraction"].round(3).to_numpy(),
+        }
+    )
+    return out.drop_duplicates(subset=out.columns[0])
+
+
 def _curves(prod: dict) -> None:
     st.subheader("Properties against temperature")
     u = state.units()
@@ -309,7 +360,24 @@ def _curves(prod: dict) -> None:
         )
     except Exception:  # noqa: BLE001 - the curves above already validated the product
         pass
-    st.plotly_chart(charts.property_figure(frame, tf, u), width="stretch", key="property_chart")
+    ranges = {"whole": f"whole range ({u.temp(-40.0, 0)} to {u.temp(100.0, 0)})"}
+    if tf is not None:
+        ranges["freezing"] = f"freezing range ({u.temp(tf - 20.0, 0)} to {u.temp(tf + 5.0, 0)})"
+    shown = st.radio(
+        "Temperatures shown", list(ranges), format_func=ranges.get, horizontal=True, key="p.range"
+    )
+    x_range = (tf - 20.0, tf + 5.0) if shown == "freezing" and tf is not None else None
+    charts.show(charts.property_figure(frame, tf, u, x_range), "property_chart", "properties")
+    with st.expander("Property table"):
+        table = property_table(frame, tf, u)
+        st.dataframe(table, hide_index=True, width="stretch")
+        st.download_button(
+            "Download the property table (CSV)",
+            table.to_csv(index=False).encode("utf-8"),
+            file_name=f"{prod.get('name', 'product')}-properties.csv",
+            mime="text/csv",
+            key="p.props_csv",
+        )
 
 
 def _save(prod: dict) -> None:

@@ -242,7 +242,7 @@ def _lethality_block(leth, u: Units) -> None:
         st.caption(f"{leth.process_fraction:.3g} of the required process (passes at 1).")
     st.caption(f"{leth.name}: {leth.target}. Source: {leth.source}")
     if leth.time_s is not None and leth.f_cumulative_min is not None:
-        st.plotly_chart(charts.lethality_figure(leth, u), width="stretch", key=f"leth_{leth.name}")
+        charts.show(charts.lethality_figure(leth, u), f"leth_{leth.name}", f"lethality-{leth.name}")
 
 
 def _lethality(result, u: Units) -> None:
@@ -326,6 +326,26 @@ def _energy(result, u: Units) -> None:
             st.caption(f"{row['step']}: {row['basis']}")
 
 
+def _weight_loss(result) -> None:
+    """Moisture lost from an unwrapped product's surface, per step, as the library computes it."""
+    losses = result.outcomes.weight_loss_percent
+    if not losses:
+        return
+    st.subheader("Weight loss")
+    mass = result.piece_mass_kg
+    cols = st.columns(min(len(losses), 4))
+    for j, (step_name, pct) in enumerate(losses):
+        cols[j % len(cols)].metric(
+            f"{step_name}",
+            f"{pct:.2f} %",
+            help=f"about {pct / 100.0 * mass * 1000.0:.0f} g of a {mass:.3f} kg piece",
+        )
+    st.caption(
+        "Moisture evaporated from the unwrapped surface in each step, in % of the piece's mass "
+        "(surface evaporation only; the conduction model carries no moisture inside the product)."
+    )
+
+
 def render_result(result, u: Units, *, stale: bool = False) -> None:
     if stale:
         st.info(
@@ -333,9 +353,7 @@ def render_result(result, u: Units, *, stale: bool = False) -> None:
             icon=":material/history:",
         )
     headline(result, u)
-    st.plotly_chart(
-        charts.temperature_figure(result, u, result.plan.title), width="stretch", key="temperature_chart"
-    )
+    charts.show(charts.temperature_figure(result, u, result.plan.title), "temperature_chart", "temperatures")
     st.subheader("Targets and plan time")
     _targets(result, u)
     st.subheader("Rule check")
@@ -346,6 +364,7 @@ def render_result(result, u: Units, *, stale: bool = False) -> None:
     _freezing(result, u)
     st.subheader("Energy and refrigeration")
     _energy(result, u)
+    _weight_loss(result)
     if result.warnings:
         st.subheader("Warnings")
         for w in result.warnings:

@@ -8,7 +8,7 @@ import streamlit as st
 
 from procplan.outcomes.energy import PEAK_DUTY_LABEL
 from procplan.output.report import format_f
-from procplan.ui import adapter, charts, state, trial_panel, widgets
+from procplan.ui import adapter, adapter_outputs, charts, state, trial_panel, widgets
 from procplan.ui.fmt import Units
 
 
@@ -30,6 +30,31 @@ def scenario_row(label: str, result, u: Units) -> dict:
     row["heat added [kWh/batch]"] = round(oc.energy.heat_added_J_per_batch / 3.6e6, 2)
     row[f"{PEAK_DUTY_LABEL} [kW]"] = round(oc.energy.peak_duty_kW_per_batch, 1)
     return row
+
+
+def comparison_view(frame: pd.DataFrame) -> pd.DataFrame:
+    """One column per scenario, one row per figure: fits the page for any number of figures."""
+    out = frame.set_index("scenario").T.astype(str)
+    out.index.name = "figure"
+    out.columns.name = None
+    return out
+
+
+def differences_view(diff: pd.DataFrame, u: Units) -> pd.DataFrame:
+    """The differing inputs as shown: temperatures in the display unit, the input as a column."""
+    out = diff.copy()
+    machines = adapter.library(state.generation()).equipment
+    for label in out.index:
+        if label.endswith(": equipment"):
+            out.loc[label] = [machines[v].name if v in machines else v for v in out.loc[label]]
+            out = out.rename(index={label: label.replace(": equipment", ": machine")})
+        if "[°C]" in label and u.fahrenheit:
+            out.loc[label] = [
+                round(float(u.t(v)), 1) if isinstance(v, (int, float)) else v for v in out.loc[label]
+            ]
+            out = out.rename(index={label: label.replace("[°C]", f"[{u.temperature}]")})
+    out.index.name = "input"
+    return out.astype(str)
 
 
 def _scenarios(text: str, ok: bool, u: Units) -> None:
@@ -60,6 +85,7 @@ def _scenarios(text: str, ok: bool, u: Units) -> None:
     point = st.radio("Point", ["core", "surface", "mean"], horizontal=True, key="scen_point")
     compare = adapter.studies_module("compare")
     ranks = {}
+    comparison = None
     if compare is not None and hasattr(compare, "compare_plans"):
         criteria = ["time", "energy", "margin"]
         criterion = st.radio("Rank by", criteria, horizontal=True, key="scen_criterion")
@@ -67,6 +93,7 @@ def _scenarios(text: str, ok: bool, u: Units) -> None:
         if not out.ok:
             widgets.problems(out.problems, "The comparison refused these scenarios:")
             return
+        comparison = out.value
         runs = list(out.value.results.items())
         ranks = {n: int(r) for n, r in out.value.table["rank"].items()}
         st.caption(f"Ranked by {criterion}; best: {out.value.best}.")
@@ -76,7 +103,7 @@ def _scenarios(text: str, ok: bool, u: Units) -> None:
             res = adapter.run(t, state.generation())
             if res.ok:
                 runs.append((name, res.value))
-    st.plotly_chart(charts.overlay_figure(runs, u, point), width="stretch", key="scen_chart")
+    charts.show(charts.overlay_figure(runs, u, point), "scen_chart", "scenarios")
     rows = []
     for n, r in runs:
         row = scenario_row(n, r, u)
@@ -86,7 +113,31 @@ def _scenarios(text: str, ok: bool, u: Units) -> None:
     frame = pd.DataFrame(rows)
     if ranks:
         frame = frame.sort_values("rank")
-    st.dataframe(frame, hide_index=True, width="stretch")
+    st.dataframe(
+        comparison_view(frame),
+        width="stretch",
+        column_config={"_index": st.column_config.TextColumn("figure", width="large")},
+    )
+    diff = adapter_outputs.differences(tuple(texts), tuple(labels), state.generation())
+    if not diff.empty:
+        st.markdown("**What differs between the scenarios**")
+        st.dataframe(differences_view(diff, u), width="stretch")
+    if comparison is not None:
+        c1, c2, _ = st.columns([1, 1, 2])
+        c1.download_button(
+            "Download the comparison (Excel)",
+            adapter_outputs.deferred(lambda: adapter_outputs.comparison_xlsx(comparison, diff)),
+            file_name="comparison.xlsx",
+            mime=adapter_outputs.XLSX_MIME,
+            key="scen_xlsx",
+        )
+        c2.download_button(
+            "Download the comparison (CSV)",
+            adapter_outputs.comparison_csv(comparison),
+            file_name="comparison.csv",
+            mime="text/csv",
+            key="scen_csv",
+        )
     drop = st.selectbox("Remove a scenario", ["—", *[n for n, _ in scen]], key="scen_drop")
     if drop != "—" and st.button("Remove", key="scen_drop_btn"):
         st.session_state[state.SCENARIOS] = [s for s in scen if s[0] != drop]

@@ -90,11 +90,13 @@ def plan() -> dict:
 
 
 def generation() -> int:
-    return int(st.session_state.get(LIBGEN, 0))
+    """The library's generation: bumped by every save in this server process, so that every session (a
+    reload of the page included) reads the library as saved, not a cached older one."""
+    return max(int(st.session_state.get(LIBGEN, 0)), adapter.saved_generation())
 
 
 def reload_library() -> None:
-    st.session_state[LIBGEN] = generation() + 1
+    st.session_state[LIBGEN] = adapter.library_saved(generation())
 
 
 def replace_plan(new_plan: dict, notice: str | None = None) -> None:

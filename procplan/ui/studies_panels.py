@@ -9,7 +9,7 @@ import streamlit as st
 
 from procplan.errors import InvalidInputError
 from procplan.output.report import format_f
-from procplan.ui import adapter, charts, state, widgets
+from procplan.ui import adapter, adapter_outputs, charts, state, widgets
 from procplan.ui.fmt import Units, round_to
 
 
@@ -340,13 +340,12 @@ def variability(text: str, u: Units) -> None:
     if "time_to_target_min" in r.samples:
         times = r.samples["time_to_target_min"].dropna().to_numpy() * 60.0
         if times.size:
-            st.plotly_chart(
-                charts.histogram_figure(times, u, "Time to target over the samples"),
-                width="stretch",
-                key="mc_hist",
+            charts.show(
+                charts.histogram_figure(times, u, "Time to target over the samples"), "mc_hist", "variability"
             )
     for note in r.notes:
         st.caption(note)
+    adapter_outputs.xlsx_button("Download the study (Excel)", lambda: adapter_outputs.variability_xlsx(r), "variability", "mc_xlsx")  # fmt: skip
 
 
 def _variability_with_progress(req, plan, mod):
@@ -485,9 +484,10 @@ def logger(text: str, u: Units) -> None:
         line=dict(color="#1b7837", dash="dash", width=2.5),
         name=f"fitted, h = {cal.h_W_m2K:.1f} W/m²K",
     )
-    st.plotly_chart(fig, width="stretch", key="log_chart")
+    charts.show(fig, "log_chart", "logger-fit")
     for note in cal.notes:
         st.caption(note)
+    adapter_outputs.xlsx_button("Download the fit and residuals (Excel)", lambda: adapter_outputs.calibration_xlsx(cal), "calibration", "log_xlsx")  # fmt: skip
     source = st.text_input("Data source (trial, logger, date)", key="log_source", max_chars=120)
     if st.button("Save this h to the library as a measured value", key="log_save"):
         saved = adapter.save_measured_h(text, cal, source, generation=state.generation())
@@ -576,9 +576,8 @@ def catalogue_sweep() -> None:
             "Products", sorted(lib.products), default=sorted(lib.products)[:3], key="sw_products"
         )
     with c2:
-        machines = st.multiselect(
-            "Machines", sorted(lib.equipment), default=sorted(lib.equipment)[:3], key="sw_machines"
-        )
+        machines = st.multiselect("Machines", sorted(lib.equipment), default=sorted(lib.equipment)[:3],
+                                  key="sw_machines", format_func=lambda e: lib.equipment[e].name)  # fmt: skip
     if not st.button("Run the sweep", key="sw_go", disabled=not (products and machines)):
         return
     out = adapter.sweep(tuple(products), tuple(machines), generation=state.generation())
@@ -597,3 +596,4 @@ def catalogue_sweep() -> None:
         "text/csv",
         key="sw_csv",
     )
+    adapter_outputs.xlsx_button("Download the sweep (Excel)", lambda: adapter_outputs.sweep_xlsx(table, skipped), "sweep", "sw_xlsx")  # fmt: skip

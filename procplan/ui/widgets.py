@@ -110,3 +110,34 @@ def problems(items: Iterable[Problem], heading: str) -> None:
 def caution() -> None:
     """The standing caution, shown on every page."""
     st.warning(CAUTION, icon=":material/gavel:")
+
+
+class FieldErrors:
+    """Places under the fields of an editor where their problems show, once the edit is validated.
+
+    ``mark(field)`` right after a widget reserves its place; ``show(problems)`` puts each problem under the
+    field it names (the longest marked field that starts its path) and returns those with no place.
+    """
+
+    def __init__(self) -> None:
+        self._slots: dict[str, object] = {}
+
+    def mark(self, field: str) -> None:
+        self._slots[field] = st.empty()
+
+    def show(self, items: Iterable[Problem]) -> list[Problem]:
+        placed: dict[str, list[str]] = {}
+        rest: list[Problem] = []
+        for p in items:
+            keys = [
+                k
+                for k in self._slots
+                if p.field == k or p.field.startswith(k + ".") or p.field.startswith(k + "[")
+            ]
+            if keys:
+                placed.setdefault(max(keys, key=len), []).append(p.message())
+            else:
+                rest.append(p)
+        for k, messages in placed.items():
+            self._slots[k].error("\n\n".join(messages), icon=":material/error:")
+        return rest

@@ -326,9 +326,9 @@ def test_scenarios_are_overlaid_and_compared(app):
     number_input(app, "Air temperature").set_value(2.0).run()
     go(app, "Compare & studies")
     assert not app.exception
-    table = app.dataframe[0].value
-    assert list(table["scenario"]) and set(table["scenario"]) == {"scenario 1", "current plan"}
-    times = {s: number_of(t) for s, t in zip(table["scenario"], table["time to target"], strict=True)}
+    table = app.dataframe[0].value  # one column per scenario, one row per figure
+    assert set(table.columns) == {"scenario 1", "current plan"}
+    times = {s: number_of(table.loc["time to target", s]) for s in table.columns}
     assert times["current plan"] < times["scenario 1"]  # 2 °C air cools faster than 5 °C air
 
 

@@ -100,7 +100,9 @@ def _run_studies(app) -> None:
     app.button(key="scen_add").click().run()
 
 
-@pytest.mark.parametrize("page", ["Product", "Process", "Result", "Compare & studies", "Sheet & files"])
+@pytest.mark.parametrize(
+    "page", ["Product", "Process", "Result", "Compare & studies", "Sheet & files", "Library", "Site"]
+)
 def test_no_identifiers_and_no_excess_decimals(app, page):
     go(app, page)
     if page == "Compare & studies":

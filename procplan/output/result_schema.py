@@ -1,0 +1,307 @@
+"""The JSON Schema of a run's result (``procplan run --json``), versioned, for a plant's LIMS or MES.
+
+The document is ``{"schema": ..., "schema_version": ..., "history": {...}, "summary": {...}}``:
+
+- ``history``: columns of equal length, one entry per saved time point: ``time_s`` [s], ``core_C``,
+  ``surface_C``, ``mean_C`` [°C], ``heat_flow_W`` [W, positive into the product], ``step`` (step name),
+  ``step_index`` (0-based).
+- ``summary``: title, product, geometry, piece mass [kg], start temperature [°C], the end state, the property
+  source, one entry per step (solver, reason, regime, medium and h at each setting point, surface breakdown,
+  energy-balance error, warnings) and the ``outcomes``: targets with margins, the rule check per stage and
+  band, lethality and the quality indicator, freezing times, energy and refrigeration per step, weight loss,
+  the electricity price and the cost per batch, warnings.
+
+Units are in every name (``_s``, ``_min``, ``_C``, ``_W_m2K``, ``_J_per_batch``, ``_kW`` …). A value the
+run could not give (a target not reached, no price set) is ``null``; JSON has no NaN.
+
+Versioning: ``schema_version`` is "MAJOR.MINOR". A new field raises MINOR (readers that ignore unknown
+fields keep working: every object allows more properties than it lists); a field removed, renamed or given
+another unit or meaning raises MAJOR. ``python -m procplan.output.result_schema`` prints the schema.
+"""
+
+from __future__ import annotations
+
+import json
+from typing import Any
+
+#: The schema's name and version, written at the top of every result document.
+RESULT_SCHEMA_NAME = "procplan-result"
+RESULT_SCHEMA_VERSION = "1.0"
+
+_NUM = {"type": "number"}
+_NUM_OR_NULL = {"type": ["number", "null"]}
+_TEXT = {"type": "string"}
+_TEXT_OR_NULL = {"type": ["string", "null"]}
+_BOOL = {"type": "boolean"}
+_BOOL_OR_NULL = {"type": ["boolean", "null"]}
+_TEXTS = {"type": "array", "items": _TEXT}
+
+
+def _obj(props: dict[str, Any], required: tuple[str, ...] | None = None, nullable: bool = False) -> dict:
+    """An object with documented properties (all required unless listed), open to new fields."""
+    return {
+        "type": ["object", "null"] if nullable else "object",
+        "properties": props,
+        "required": list(props if required is None else required),
+        "additionalProperties": True,
+    }
+
+
+def _array(items: dict) -> dict:
+    return {"type": "array", "items": items}
+
+
+_TARGET_RESULT = _obj(
+    {
+        "reached": {**_BOOL, "description": "the point reached the target temperature"},
+        "time_s": {**_NUM_OR_NULL, "description": "time from the process start when reached [s]"},
+        "target_C": {**_NUM, "description": "target temperature [°C]"},
+        "direction": {**_TEXT, "description": '"down" when cooling to the target, "up" when heating'},
+        "start_s": _NUM_OR_NULL,
+        "closest_C": {**_NUM_OR_NULL, "description": "closest temperature reached [°C]"},
+        "reason": _TEXT,
+    },
+    required=("reached", "time_s", "target_C"),
+)
+_MARGIN = _obj(
+    {
+        "predicted_min": {**_NUM, "description": "predicted time to target [min]"},
+        "margin_percent": _NUM,
+        "fixed_min": _NUM,
+        "plan_min": {**_NUM, "description": "plan time with the safety margin [min]"},
+        "cycle_min": _NUM_OR_NULL,
+        "spare_min": _NUM_OR_NULL,
+        "cycle_too_short": _BOOL,
+        "message": _TEXT,
+    },
+    required=("predicted_min", "plan_min"),
+    nullable=True,
+)
+_LETHALITY = _obj(
+    {
+        "name": _TEXT,
+        "target": _TEXT,
+        "source": _TEXT,
+        "point": _TEXT,
+        "reference_C": {**_NUM, "description": "reference temperature of F [°C]"},
+        "z_C": {**_NUM_OR_NULL, "description": "z-value [K]; null for a tabulated lethal-rate requirement"},
+        "total_F_min": {**_NUM, "description": "accumulated F [min at the reference temperature]"},
+        "required_F_min": _NUM_OR_NULL,
+        "log_reduction": _NUM_OR_NULL,
+        "confirmed": {**_BOOL, "description": "false: an indicative preset, to be confirmed"},
+    },
+    required=("name", "point", "reference_C", "total_F_min", "required_F_min", "confirmed"),
+    nullable=True,
+)
+_RULE = _obj(
+    {
+        "rule_name": _TEXT,
+        "source": _TEXT,
+        "point": _TEXT,
+        "passed": _BOOL,
+        "stages": _array(
+            _obj(
+                {
+                    "index": {"type": "integer"},
+                    "stage": _obj({"from_C": _NUM_OR_NULL, "to_C": _NUM, "within_min": _NUM}),
+                    "passed": _BOOL_OR_NULL,
+                    "used_min": _NUM_OR_NULL,
+                    "allowed_min": _NUM_OR_NULL,
+                    "margin_min": _NUM_OR_NULL,
+                    "reason": _TEXT,
+                },
+                required=("index", "stage", "passed"),
+            )
+        ),
+        "bands": _array(
+            _obj(
+                {
+                    "index": {"type": "integer"},
+                    "band": _obj({"low_C": _NUM_OR_NULL, "high_C": _NUM_OR_NULL}),
+                    "passed": _BOOL_OR_NULL,
+                    "inside_min": _NUM,
+                    "outside_min": _NUM,
+                    "reason": _TEXT,
+                },
+                required=("index", "band", "passed"),
+            )
+        ),
+        "reasons": _TEXTS,
+    },
+    nullable=True,
+)
+_ENERGY = _obj(
+    {
+        "pieces": _NUM,
+        "heat_removed_J_per_batch": _NUM,
+        "heat_added_J_per_batch": _NUM,
+        "peak_duty_kW_per_batch": {**_NUM, "description": "largest 1-min mean duty of the batch [kW]"},
+        "peak_time_s": _NUM_OR_NULL,
+        "enthalpy_change_J_per_piece": _NUM,
+        "balance_error": _NUM_OR_NULL,
+    }
+)
+_REFRIGERATION = _obj(
+    {
+        "step": _TEXT,
+        "heat_removed_J_per_batch": _NUM,
+        "heat_added_J_per_batch": _NUM,
+        "peak_duty_kW": _NUM,
+        "mean_duty_kW": _NUM,
+        "refrigeration": _obj(
+            {"cop": _NUM, "cop_carnot": _NUM, "electricity_kWh": _NUM, "cost": _NUM_OR_NULL},
+            required=("cop", "electricity_kWh"),
+            nullable=True,
+        ),
+        "basis": _TEXT,
+    }
+)
+_OUTCOMES = _obj(
+    {
+        "targets": _array(
+            _obj(
+                {
+                    "step": _TEXT,
+                    "point": {**_TEXT, "description": "core, surface, mean or a named depth"},
+                    "kind": {"enum": ["stop", "target"]},
+                    "target": _TARGET_RESULT,
+                    "margin": _MARGIN,
+                },
+                required=("step", "point", "kind", "target", "margin"),
+            )
+        ),
+        "rule_check": _RULE,
+        "lethality": _LETHALITY,
+        "quality": _LETHALITY,
+        "freezing": {"type": ["object", "null"]},
+        "energy": _ENERGY,
+        "refrigeration": _array(_REFRIGERATION),
+        "energy_balance": _NUM_OR_NULL,
+        "weight_loss_percent": {
+            "description": "(step name, moisture loss [% of the piece's mass]) for unwrapped products",
+            "type": "array",
+            "items": {"type": "array", "prefixItems": [_TEXT, _NUM], "minItems": 2, "maxItems": 2},
+        },
+        "warnings": _TEXTS,
+        "price": _obj({"price_per_kWh": _NUM, "currency": _TEXT}, nullable=True),
+        "cost_per_batch": {**_NUM_OR_NULL, "description": "electricity cost of one batch [currency]"},
+    }
+)
+_STEP = _obj(
+    {
+        "name": _TEXT,
+        "start_min": _NUM,
+        "end_min": _NUM,
+        "solver": {**_TEXT, "description": "the solver used (exact, lumped, finite-volume)"},
+        "reason": _TEXT,
+        "regime": _obj({"bi": _NUM, "bi_lumped": _NUM, "regime": _TEXT, "reason": _TEXT}),
+        "medium_C": _array(_NUM),
+        "h_W_m2K": _array(_NUM),
+        "surface": _obj(
+            {
+                "source": _TEXT,
+                "correlation": _TEXT,
+                "h_conv_W_m2K": _NUM,
+                "h_rad_W_m2K": _NUM,
+                "packaging_resistance_m2K_W": _NUM,
+                "h_eff_W_m2K": _NUM,
+            }
+        ),
+        "stopped": _BOOL,
+        "stop_time_min": _NUM_OR_NULL,
+        "energy_balance_error": _NUM_OR_NULL,
+        "details": {"type": "object"},
+        "warnings": _TEXTS,
+        "unreliable_reason": _TEXT_OR_NULL,
+    },
+    required=("name", "start_min", "end_min", "solver", "reason", "medium_C", "h_W_m2K", "surface"),
+)
+_HISTORY_COLUMNS = {
+    "time_s": "time from the process start [s]",
+    "core_C": "core temperature [°C]",
+    "surface_C": "surface temperature [°C]",
+    "mean_C": "volume-mean temperature [°C]",
+    "heat_flow_W": "heat flow into one piece [W] (negative: heat removed)",
+}
+
+RESULT_SCHEMA: dict[str, Any] = {
+    "$schema": "https://json-schema.org/draft/2020-12/schema",
+    "$id": f"urn:procplan:{RESULT_SCHEMA_NAME}:{RESULT_SCHEMA_VERSION}",
+    "title": "procplan result",
+    "description": (
+        "One run of a thermal-process plan: the temperature history and the summary with every outcome. "
+        "SI units with °C; units are in the names."
+    ),
+    "type": "object",
+    "required": ["schema", "schema_version", "history", "summary"],
+    "properties": {
+        "schema": {"const": RESULT_SCHEMA_NAME},
+        "schema_version": {"type": "string", "pattern": r"^1\.\d+$"},
+        "history": {
+            "type": "object",
+            "required": [*_HISTORY_COLUMNS, "step", "step_index"],
+            "properties": {
+                **{k: {"description": d, **_array(_NUM_OR_NULL)} for k, d in _HISTORY_COLUMNS.items()},
+                "step": {"description": "name of the step", **_array(_TEXT)},
+                "step_index": {"description": "0-based step number", **_array({"type": "integer"})},
+            },
+            "additionalProperties": True,
+        },
+        "summary": _obj(
+            {
+                "title": _TEXT,
+                "product": _TEXT,
+                "geometry": _TEXT,
+                "piece_mass_kg": _NUM,
+                "start_temperature_C": _NUM,
+                "end": _obj({"time_s": _NUM, "core_C": _NUM, "surface_C": _NUM, "mean_C": _NUM}),
+                "properties_source": _TEXT,
+                "initial_freezing_C": _NUM_OR_NULL,
+                "steps": {**_array(_STEP), "minItems": 1},
+                "warnings": _TEXTS,
+                "unreliable_reasons": _TEXTS,
+                "procplan_version": _TEXT,
+                "caution": _TEXT,
+                "outcomes": _OUTCOMES,
+            },
+            required=(
+                "title",
+                "product",
+                "geometry",
+                "piece_mass_kg",
+                "start_temperature_C",
+                "end",
+                "steps",
+                "warnings",
+                "unreliable_reasons",
+                "procplan_version",
+                "caution",
+            ),  # fmt: skip
+        ),
+    },
+}
+
+
+def result_document(result) -> dict[str, Any]:
+    """The JSON document of a run (``procplan run --json``): schema name and version, history, summary."""
+    from procplan.output.report import history_dict, summary_dict
+
+    return {
+        "schema": RESULT_SCHEMA_NAME,
+        "schema_version": RESULT_SCHEMA_VERSION,
+        "history": history_dict(result),
+        "summary": summary_dict(result),
+    }
+
+
+def schema_text() -> str:
+    """The schema as indented JSON text.
+
+    >>> '"schema_version"' in schema_text()
+    True
+    """
+    return json.dumps(RESULT_SCHEMA, indent=2, ensure_ascii=False) + "\n"
+
+
+if __name__ == "__main__":  # pragma: no cover - prints the schema
+    print(schema_text(), end="")

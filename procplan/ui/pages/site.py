@@ -1,0 +1,9 @@
+"""The site page as a script of its own address (the frame in procplan.ui.main draws the caution).
+
+Streamlit runs it as __main__; importing it (doctest collection) does nothing.
+"""
+
+from procplan.ui import page_site
+
+if __name__ == "__main__":
+    page_site.render()
