@@ -439,6 +439,31 @@ def required_setting(
     return _required(text, step_index, parameter, goal, target_min, bounds, library_root(), generation)
 
 
+@st.cache_resource(max_entries=16, show_spinner="Trying batch sizes…")
+def _largest_batch(text: str, step_index: int, goal: str, target_min, root: str, generation: int):
+    mod = studies_module("batch_size")
+    parsed = _parse(text, root, generation)
+    if not parsed.ok:
+        return parsed
+    try:
+        return Outcome(
+            mod.largest_batch(
+                parsed.value,
+                step_index=step_index,
+                goal=goal,
+                library=_library(root, generation),
+                target_min=target_min,
+            )
+        )
+    except InvalidInputError as exc:
+        return Outcome(problems=problems_of(exc))
+
+
+def largest_batch(text: str, step_index: int, goal: str, target_min=None, generation: int = 0) -> Outcome:
+    """The largest batch that still meets a goal in a loaded machine (procplan.studies.batch_size)."""
+    return _largest_batch(text, step_index, goal, target_min, library_root(), generation)
+
+
 @st.cache_resource(max_entries=16, show_spinner="Sampling…")
 def _variability(text, specs, n_samples, seed, step_index, method, corners, root, generation):
     mod = studies_module("variability")

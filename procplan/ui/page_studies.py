@@ -8,7 +8,7 @@ import streamlit as st
 
 from procplan.outcomes.energy import PEAK_DUTY_LABEL
 from procplan.output.report import format_f
-from procplan.ui import adapter, adapter_outputs, charts, state, trial_panel, widgets
+from procplan.ui import adapter, adapter_outputs, charts, load_panel, state, trial_panel, widgets
 from procplan.ui.fmt import Units
 
 
@@ -158,6 +158,8 @@ def render() -> None:
     from procplan.ui import studies_panels
 
     studies_panels.required_setting(text, u)
+    st.divider()
+    load_panel.largest_batch(text, u)
     st.divider()
     studies_panels.variability(text, u)
     st.divider()

@@ -1,0 +1,83 @@
+"""The batch in its machines: each loaded step's peak load against the plant's capacity (Result page), the packed
+load's positions, and the largest batch that still meets a goal (studies page). Words and numbers come from the
+library (run.machine_load, run.packing, studies.batch_size); nothing is computed here."""
+
+from __future__ import annotations
+
+import streamlit as st
+
+from procplan.ui import adapter, state, widgets
+from procplan.ui.fmt import Units
+
+
+def machine_load(result, u: Units) -> None:
+    """One block per step that ran in a loaded machine: a capacity bar and the library's sentence."""
+    loaded = [(sr, sr.machine_load) for sr in result.steps if getattr(sr, "machine_load", None) is not None]
+    notes = [(sr.name, sr.load_note) for sr in result.steps if getattr(sr, "load_note", None)]
+    if not loaded and not notes and result.packing is None:
+        return
+    st.subheader("The batch in the machine")
+    for sr, ml in loaded:
+        share = ml.peak_load_kW / ml.capacity_kW if ml.capacity_kW > 0 else float("inf")
+        st.markdown(f"**{sr.name}**: {ml.machine}, {ml.pieces} pieces")
+        st.progress(
+            min(1.0, share),
+            text=f"Peak load {ml.peak_load_kW:.1f} kW against a {ml.capacity_kW:.1f} kW plant ({share:.0%} of its capacity)",
+        )
+        c = st.columns(3)
+        c[0].metric("Plant at its limit", u.duration(ml.time_at_limit_s))
+        c[1].metric("Medium furthest from the set point", u.temp(ml.worst_medium_C))
+        c[2].metric(
+            "Back at the set point after", "never" if ml.pull_down_s is None else u.duration(ml.pull_down_s)
+        )
+        (st.caption if ml.held else st.warning)(ml.describe())
+    for name, note in notes:
+        st.caption(f"{name}: {note}")
+    if result.packing is not None:
+        from procplan.run.packing import packed_lines
+
+        st.markdown("**Packed load**")
+        st.text("\n".join(line.strip() for line in packed_lines(result.packing)))
+
+
+def largest_batch(text: str, u: Units) -> None:
+    """How many pieces a loaded machine can take and still meet the time, rule or lethality goal."""
+    st.subheader("Largest batch")
+    st.caption(
+        "How many pieces can the machine take and still meet the goal? The machine's medium is solved with the "
+        "batch and limited by its plant, so a larger batch warms a chiller (or cools an oven) and takes longer."
+    )
+    parsed = adapter.parse_plan(text, state.generation())
+    if not parsed.ok:
+        widgets.problems(parsed.problems, "The plan has invalid input:")
+        return
+    plan = parsed.value
+    names = [f"{i + 1}: {s.name}" for i, s in enumerate(plan.steps)]
+    goals = {"time": "Stop temperature in time", "rule": "Cooling rule passes", "lethality": "Lethality met"}
+    c = st.columns(3)
+    step_index = names.index(c[0].selectbox("Step in the machine", names, key="lb_step"))
+    goal = c[1].selectbox("Goal", list(goals), key="lb_goal", format_func=goals.get)
+    target_min = None
+    if goal == "time":
+        with c[2]:
+            target_min = widgets.duration(
+                "Allowed time (margin included)", 240.0, "lb_target", minimum_min=1.0
+            )
+    if st.button("Find the largest batch", key="lb_go"):
+        st.session_state["lb_request"] = (text, step_index, goal, target_min)
+    req = st.session_state.get("lb_request")
+    if not req or req[0] != text:
+        return
+    out = adapter.largest_batch(*req, generation=state.generation())
+    if not out.ok:
+        widgets.problems(out.problems, "The study refused these inputs:")
+        return
+    r = out.value
+    k = st.columns(2)
+    k[0].metric("Largest batch", "none" if r.pieces is None else f"{r.pieces} pieces")
+    k[1].metric(
+        "Smallest batch that fails", "not found" if r.first_failing is None else f"{r.first_failing} pieces"
+    )
+    (st.success if r.pieces else st.warning)(r.message)
+    if r.machine_load is not None:
+        st.caption(r.machine_load.describe())
