@@ -184,8 +184,9 @@ def summary_text(result, site=None) -> str:
     oc = result.outcomes
     if oc is not None:
         lines += _target_lines(oc, site) + _rule_lines(oc, site) + _cold_thaw_lines(oc, site)
-        for part in (_lethality_lines, _freezing_lines, _energy_lines):
+        for part in (_lethality_lines, _freezing_lines):
             lines += part(oc)
+        lines += _energy_lines(oc, batch_label(result))
     for w in result.warnings:
         lines.append(f"  warning: {w}")
     lines.append("")
@@ -377,7 +378,17 @@ def price_text(price) -> str:
     return f"price {price.price_per_kWh:g} {price.currency}/kWh ({price.source})".replace(" /kWh", "/kWh")
 
 
-def _energy_lines(oc) -> list[str]:
+def batch_label(result) -> str:
+    """What one batch is, in words: "60 pieces", or for a packed load "25 cases (5000 pieces)"."""
+    n = result.outcomes.energy.pieces
+    packed = getattr(result, "packing", None)
+    if packed is None:
+        return f"{n:g} piece{'' if n == 1 else 's'}"
+    load = packed.load
+    return f"{n:g} {load.arrangement}{'' if n == 1 else 's'} ({n * load.pieces:g} pieces)"
+
+
+def _energy_lines(oc, batch: str) -> list[str]:
     """Weight loss, the batch's energy (removed and added, gross) and each step's refrigeration duty."""
     lines: list[str] = []
     for step_name, pct in oc.weight_loss_percent:
@@ -388,7 +399,7 @@ def _energy_lines(oc) -> list[str]:
         )
     en = oc.energy
     lines.append(
-        f"  energy (batch of {en.pieces:g}): heat removed {en.heat_removed_J_per_batch / 3.6e6:.2f} kWh, heat added "
+        f"  energy (batch of {batch}): heat removed {en.heat_removed_J_per_batch / 3.6e6:.2f} kWh, heat added "
         f"{en.heat_added_J_per_batch / 3.6e6:.2f} kWh; {PEAK_DUTY_LABEL} {en.peak_duty_kW_per_batch:.1f} kW; "
         f"cost {format_cost(oc.cost_per_batch, oc.price)} ({price_text(oc.price)}); "
         f"balance against the enthalpy change {oc.energy_balance:.2%}"

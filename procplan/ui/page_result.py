@@ -8,6 +8,7 @@ import streamlit as st
 
 from procplan.outcomes.energy import PEAK_DUTY_LABEL
 from procplan.output.report import (
+    batch_label,
     format_cost,
     format_f,
     indicative_text,
@@ -289,8 +290,13 @@ def _energy(result, u: Units) -> None:
     oc = result.outcomes
     en = oc.energy
     c = st.columns(5)
-    c[0].metric(f"Heat removed, batch of {en.pieces:g}", f"{en.heat_removed_J_per_batch / 3.6e6:.2f} kWh")
-    c[1].metric(f"Heat added, batch of {en.pieces:g}", f"{en.heat_added_J_per_batch / 3.6e6:.2f} kWh")
+    batch = batch_label(result)
+    c[0].metric(
+        "Heat removed per batch", f"{en.heat_removed_J_per_batch / 3.6e6:.2f} kWh", help=f"one batch: {batch}"
+    )
+    c[1].metric(
+        "Heat added per batch", f"{en.heat_added_J_per_batch / 3.6e6:.2f} kWh", help=f"one batch: {batch}"
+    )
     c[2].metric(
         PEAK_DUTY_LABEL.capitalize(),
         f"{en.peak_duty_kW_per_batch:.1f} kW",
