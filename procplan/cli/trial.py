@@ -1,7 +1,7 @@
 """Sub-command ``procplan trial``: a heat-penetration study of several logger files against a plan.
 
 ``procplan trial RUN1.csv RUN2.csv --plan PLAN [--probe-map MAP.toml] [--fit h] [--json] [--csv FILE]
-[--sheet FILE.pdf] [--force]``
+[--sheet FILE.pdf] [--xlsx FILE.xlsx] [--force]``
 
 Exit codes as for every command: 0 done (the verdict passes or there is no requirement), 1 the verdict fails,
 2 invalid input (named), 3 an internal error. Output files are written atomically, an existing file only
@@ -31,17 +31,26 @@ from procplan.errors import InvalidInputError
 
 
 def _targets(args, inputs):
-    if args.json and STDOUT in (args.csv, args.sheet):
-        raise InvalidInputError("--csv/--sheet", STDOUT, "a file name when --json prints to standard output")
-    if args.csv == STDOUT and args.sheet == STDOUT:
-        raise InvalidInputError("--sheet", STDOUT, "a file name when --csv prints to standard output")
+    if args.json and STDOUT in (args.csv, args.sheet, args.xlsx):
+        raise InvalidInputError(
+            "--csv/--sheet/--xlsx", STDOUT, "a file name when --json prints to standard output"
+        )
+    if args.csv == STDOUT and STDOUT in (args.sheet, args.xlsx):
+        raise InvalidInputError("--sheet/--xlsx", STDOUT, "a file name when --csv prints to standard output")
+    if args.sheet == STDOUT and args.xlsx == STDOUT:
+        raise InvalidInputError("--xlsx", STDOUT, "a file name when --sheet prints to standard output")
     csv = output_target("--csv", args.csv, force=args.force, inputs=inputs) if args.csv else None
     pdf = (
         output_target("--sheet", args.sheet, force=args.force, inputs=inputs, suffix=".pdf")
         if args.sheet
         else None
     )
-    return csv, pdf
+    xlsx = (
+        output_target("--xlsx", args.xlsx, force=args.force, inputs=inputs, suffix=".xlsx")
+        if args.xlsx
+        else None
+    )
+    return csv, pdf, xlsx
 
 
 def _fmt(x, spec=".3g", unit="") -> str:
@@ -123,7 +132,7 @@ def cmd_trial(args) -> int:
         required_F_min={"minimum": 0.0, "min_inclusive": False, "unit": "min"},
     )
     lib = load_library_of(args)
-    csv, pdf = _targets(args, [args.plan, args.probe_map, *args.logfiles])
+    csv, pdf, xlsx = _targets(args, [args.plan, args.probe_map, *args.logfiles])
     plan = load_plan_of(args.plan, lib)
     pmap = load_probe_map(args.probe_map) if args.probe_map else ProbeMap()
     runs = [TrialRun(Path(f).name, clean_logger(read_logger(f), jump_K=args.jump_K)) for f in args.logfiles]
@@ -146,13 +155,17 @@ def cmd_trial(args) -> int:
 
         site = load_site_of(args, lib)
         write_output(pdf, study_sheet_pdf(study, site=site, paper=site.paper), force=args.force)
+    if args.xlsx:
+        from procplan.studies.trial_workbook import trial_workbook
+
+        write_output(xlsx, trial_workbook(study), force=args.force)
     code = EXIT_CHECK_FAILED if study.passed is False else EXIT_OK
     if args.json:
         write_json({**study.to_dict(), "caution": CAUTION})
         return code
-    with contextlib.redirect_stdout(info_stream(args.csv, args.sheet)):
+    with contextlib.redirect_stdout(info_stream(args.csv, args.sheet, args.xlsx)):
         print_study(study)
-        for opt, what in ((args.csv, "probe table"), (args.sheet, "study sheet")):
+        for opt, what in ((args.csv, "probe table"), (args.sheet, "study sheet"), (args.xlsx, "workbook")):
             if opt and opt != STDOUT:
                 print(f"{what} written to {opt}")
     return code
@@ -197,6 +210,9 @@ def register(subparsers, full: frozenset[str] = frozenset()) -> None:
     t.add_argument("--json", action="store_true", help="print the study as JSON")
     t.add_argument("--csv", metavar="FILE", help="write the probe table as CSV (- for standard output)")
     t.add_argument("--sheet", metavar="FILE.pdf", help="write the study sheet (PDF)")
+    t.add_argument(
+        "--xlsx", metavar="FILE.xlsx", help="write the study as an Excel workbook, one sheet per table"
+    )
     t.add_argument("--site", default=None, metavar="FILE", help="site settings for the sheet")
     t.add_argument("--force", action="store_true", help="replace existing output files")
     t.set_defaults(func=cmd_trial)

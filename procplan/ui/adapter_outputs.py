@@ -90,6 +90,20 @@ def calibration_xlsx(cal) -> bytes:
     return calibration_workbook(cal)
 
 
+def trial_xlsx(study) -> bytes:
+    """The heat-penetration study's workbook (procplan.studies.trial_workbook)."""
+    from procplan.studies.trial_workbook import trial_workbook
+
+    return trial_workbook(study)
+
+
+def trial_json(study) -> bytes:
+    """The heat-penetration study as JSON (the same document as ``procplan trial --json``)."""
+    from procplan.caution import CAUTION
+
+    return json.dumps({**study.to_dict(), "caution": CAUTION}, ensure_ascii=False).encode("utf-8")
+
+
 def xlsx_button(label: str, make, name: str, key: str) -> None:
     """A download button for a workbook made by ``make()`` (on the click where Streamlit allows it)."""
     st.download_button(label, deferred(make), file_name=f"{name}.xlsx", mime=XLSX_MIME, key=key)

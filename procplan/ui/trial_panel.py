@@ -13,7 +13,7 @@ import plotly.graph_objects as go
 import streamlit as st
 
 from procplan.errors import InvalidInputError
-from procplan.ui import adapter, state, widgets
+from procplan.ui import adapter, adapter_outputs, state, widgets
 from procplan.ui.fmt import Units
 
 #: The synthetic demo trial shipped with the library, and the plan it was generated from.
@@ -270,6 +270,22 @@ def render(text: str, u: Units) -> None:
         widgets.problems(out.problems, "The trial could not be analysed:")
         return
     _show(out.value, u)
+    study = out.value
+    c = st.columns(2)
+    with c[0]:
+        adapter_outputs.xlsx_button(
+            "Download the study (Excel)",
+            lambda: adapter_outputs.trial_xlsx(study),
+            "heat-penetration-study",
+            "trial_xlsx",
+        )
+    c[1].download_button(
+        "Download the study (JSON)",
+        adapter_outputs.deferred(lambda: adapter_outputs.trial_json(study)),
+        file_name="heat-penetration-study.json",
+        mime="application/json",
+        key="trial_json",
+    )
     pdf = _sheet(out.value, req, state.generation())
     if pdf.ok:
         st.download_button(
