@@ -34,12 +34,14 @@ def _basis_rows(study) -> list[tuple[str, object, str]]:
     rows: list[tuple[str, object, str]] = []
     if basis.preset is not None:
         rows.append(("lethality preset", basis.preset.name, ""))
+        rows.append(("what it targets", basis.preset.target, ""))
         rows.append(("source of the preset", basis.preset.source_text, ""))
     rows.append(("reference temperature", basis.reference_C, "°C"))
     if basis.z_C is not None:
         rows.append(("z-value", basis.z_C, "°C"))
     else:
         rows.append(("z-value", "none: lethality from the preset's table", ""))
+        rows.append(("lethality F counts", "equivalent minutes at the table's reference temperature", ""))
     return rows
 
 

@@ -29,6 +29,8 @@ def _downloads(app) -> None:
     rows = list(wb["Probes"].iter_rows(values_only=True))
     col = rows[0].index("measured lethality F [min]")
     assert [f"{r[col]:.2f}" for r in rows[1:]] == list(shown["Lethality F [min]"])
+    study_rows = {r[0]: r[1] for r in wb["Study"].iter_rows(values_only=True)}
+    assert study_rows["source of the preset"] == out.value.lethality.preset.source_text
     doc = json.loads(adapter_outputs.trial_json(out.value))
     assert doc["caution"] == CAUTION
     assert [p["F_min"] for p in doc["probes"]] == pytest.approx([r[col] for r in rows[1:]], rel=1e-12)
