@@ -377,7 +377,11 @@ def salt_figure(result, sr, u: Units) -> go.Figure:
     fig.update_xaxes(title_text=f"time [{u.time}]", range=[x0, x1 + 0.02 * (x1 - x0)])
     fig.update_yaxes(title_text=f"temperature [{u.temperature}]", secondary_y=False)
     fig.update_yaxes(
-        title_text=f"{word} in the product [% of its mass]", secondary_y=True, rangemode="tozero"
+        title_text=f"{word} in the product [% of its mass]",
+        secondary_y=True,
+        rangemode="tozero",
+        tickmode="auto",
+        showgrid=False,
     )
     return fig
 
@@ -407,5 +411,10 @@ def drying_figure(sr, u: Units) -> go.Figure:
     fig.update_yaxes(
         title_text="weight lost [% of the piece at the step start]", secondary_y=False, rangemode="tozero"
     )
-    fig.update_yaxes(title_text="yield [% of the piece at the step start]", secondary_y=True)
+    fig.update_yaxes(
+        title_text="yield [% of the piece at the step start]",
+        secondary_y=True,
+        tickmode="auto",
+        showgrid=False,
+    )
     return fig

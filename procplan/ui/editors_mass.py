@@ -31,18 +31,23 @@ D_KEYS = ("diffusivity", "D_m2_s", "reference_C", "activation_kJ_mol")
 
 def step(step: dict, i: int, plan: dict, lib, errs: widgets.FieldErrors) -> None:
     """The mass-transfer editors of one step: brining for any step, drying notes for a step in dry air."""
-    brining(step, i, errs)
+    brining(step, i, lib, errs)
     drying(step, plan, lib)
 
 
-def _medium_C(step: dict) -> float | None:
-    """The brine temperature: the step's medium (a constant one, or the machine's temperature setting)."""
+def _medium_C(step: dict, lib) -> float | None:
+    """The brine temperature: the step's constant medium, or its machine's temperature setting (the machine's
+    usual setting when the plan leaves it implicit); None for a medium profile."""
     if step.get("medium_C") is not None:
         return float(step["medium_C"])
-    for k in ("brine_C", "water_C", "air_C"):
-        if k in (step.get("settings") or {}):
-            return float(step["settings"][k])
-    return None
+    eq = lib.equipment.get(step.get("equipment") or "")
+    if eq is None:
+        return None
+    settings = dict(step.get("settings") or {})
+    key = eq.temperature_key
+    if key in settings:
+        return float(settings[key])
+    return float(eq.settings[key].default) if key in eq.settings else None
 
 
 def _mode(brine: dict, i: int) -> str:
@@ -194,7 +199,7 @@ def _targets(brine: dict, i: int, errs: widgets.FieldErrors) -> None:
         errs.mark(f"steps[{i}].brine.{key}")
 
 
-def brining(step: dict, i: int, errs: widgets.FieldErrors) -> None:
+def brining(step: dict, i: int, lib, errs: widgets.FieldErrors) -> None:
     """The step's brine table: solute, surface (brine, dry cure, equalisation), concentration, diffusivity
     (registry or measured), surface coefficient and the stop or targets on the solute content."""
     on = st.checkbox(BRINING, value=isinstance(step.get("brine"), dict), key=state.key("s.br.on", i))
@@ -202,7 +207,7 @@ def brining(step: dict, i: int, errs: widgets.FieldErrors) -> None:
         step.pop("brine", None)
         return
     brine = dict(step.get("brine") or {"solute": "salt", "brine_percent": 10.0, "initial_percent": 0.0})
-    temperature_C = _medium_C(step)
+    temperature_C = _medium_C(step, lib)
     with st.container(border=True):
         c = st.columns([1, 3])
         solutes = list(SOLUTES)

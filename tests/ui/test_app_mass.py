@@ -145,6 +145,16 @@ def test_bad_brine_values_are_named_in_plain_words(app):
     assert "Step 1, brining, diffusivity record" in text and "valid from 4 to 6 °C" in text, text
 
 
+def test_brine_temperature_follows_the_machine_of_the_step(app):
+    _open(app, BRINE_PLAN)
+    _widget(app, "radio", "Surface from").set_value("machine and settings").run()
+    _widget(app, "selectbox", "Machine").set_value("brine-b1").run()
+    # the brine tank's usual setting (product_library/equipment/brine-b1.toml: brine_C default -10 °C)
+    assert any(c.value.startswith("Brine temperature: -10.0 °C") for c in app.caption)
+    assert any("outside this record's range (4 to 6 °C)" in w.value for w in app.warning)
+    assert "Step 1, brining, diffusivity record" in errors(app)
+
+
 def test_saved_plan_keeps_the_brine_settings(app, library_copy):
     from streamlit.testing.v1 import AppTest
 
