@@ -101,6 +101,11 @@ def drying(result, u: Units) -> None:
         )
         if d.time_s is not None and d.loss_percent is not None:
             charts.show(charts.drying_figure(sr, u), f"drying_{sr.index}", f"drying-{sr.name}")
+            if float(min(d.loss_percent)) < 0.0:
+                st.caption(
+                    "At first the cold surface lies below the air's dew point: water condenses on it (a small gain, "
+                    "yield above 100 %) until the surface warms past the dew point and evaporation takes over."
+                )
         st.caption(
             f"Surface moisture at the end {d.surface_moisture_kg_kg:.2f} kg water per kg dry matter (from "
             f"{d.initial_moisture_kg_kg:.2f}); {d.passes} coupling passes, moisture balance error "

@@ -220,6 +220,10 @@ def test_oven_roast_shows_its_drying_settings_and_the_library_numbers(app, libra
     # the curve ends at the loss the library reports for the step, and starts from nothing lost
     assert_allclose(lost[-1], d.weight_loss_percent, rtol=1e-9)
     assert lost[0] == pytest.approx(0.0, abs=1e-9)
+    # the joint enters at 4 °C, below the air's 45 °C dew point: water condenses before any evaporates
+    # (a surface below the dew point gains water; ASHRAE Handbook Fundamentals 2017 ch. 1, from memory)
+    assert min(lost) < 0.0
+    assert any("water condenses on it" in c.value for c in app.caption)
 
 
 # --- words ------------------------------------------------------------------------------------------------
