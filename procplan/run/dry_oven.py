@@ -36,7 +36,7 @@ of large scale integrated circuits. IEEE Trans. CAD 1(3), 131–145.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
@@ -245,6 +245,10 @@ class DryingSummary:
     passes, surface_change_K : coupling passes and the last change of the surface temperature [K]
     mass_balance_error : of the moisture problem [-]
     model : the model in words
+    time_s : times of the histories below, from the step's start [s]
+    loss_percent, yield_percent_history : water evaporated so far [% of the piece's mass at the step's start]
+        and the mass left [%], at ``time_s``
+    surface_moisture_history_kg_kg : surface moisture at ``time_s`` [kg water / kg dry matter]
     """
 
     weight_loss_kg: float
@@ -260,6 +264,10 @@ class DryingSummary:
     surface_change_K: float
     mass_balance_error: float
     model: str
+    time_s: np.ndarray | None = field(default=None, compare=False, repr=False)
+    loss_percent: np.ndarray | None = field(default=None, compare=False, repr=False)
+    yield_percent_history: np.ndarray | None = field(default=None, compare=False, repr=False)
+    surface_moisture_history_kg_kg: np.ndarray | None = field(default=None, compare=False, repr=False)
 
     @property
     def converged(self) -> bool:
@@ -278,6 +286,9 @@ class DryingSummary:
 def summarise(res: DryOvenResult, model: DryOvenModel, piece_mass_kg: float) -> DryingSummary:
     """The per-piece summary of a dry-air step."""
     pct = 100.0 * res.lost_kg / piece_mass_kg
+    per_m2 = np.asarray(res.moisture.lost_kg_m2, dtype=float)
+    # the loss so far: the same surface area throughout, so the share of the final loss per m² scales it
+    loss = pct * per_m2 / per_m2[-1] if per_m2[-1] != 0.0 else np.zeros_like(per_m2)
     return DryingSummary(
         weight_loss_kg=res.lost_kg,
         weight_loss_percent=pct,
@@ -292,6 +303,10 @@ def summarise(res: DryOvenResult, model: DryOvenModel, piece_mass_kg: float) -> 
         surface_change_K=res.surface_change_K,
         mass_balance_error=res.moisture.mass_balance_error,
         model=model.describe(),
+        time_s=np.asarray(res.moisture.time_s, dtype=float),
+        loss_percent=loss,
+        yield_percent_history=100.0 - loss,
+        surface_moisture_history_kg_kg=np.asarray(res.moisture.surface_kg_kg, dtype=float),
     )
 
 

@@ -324,3 +324,97 @@ def logger_figure(logger_time_s, logger_C, result, u: Units, point: str = "core"
         **LAYOUT,
     )
     return fig
+
+
+SALT_COLOURS = {"core": "#8c510a", "mean": "#01665e"}
+
+
+def salt_figure(result, sr, u: Units) -> go.Figure:
+    """A brining step: core temperature (left axis) beside the core and mean solute content (right axis), over
+    the step in plan time, with the step's stop and targets on the solute content as dashed lines."""
+    m = sr.mass
+    word = "salt" if m.solute == "salt" else m.solute
+    fig = make_subplots(specs=[[{"secondary_y": True}]])
+    h = result.history
+    seg = h[h["step_index"] == sr.index]
+    fig.add_trace(
+        go.Scatter(
+            x=u.time_value(seg["time_s"].to_numpy()), y=u.t(seg["core_C"].to_numpy()), mode="lines",
+            name="core temperature", line=dict(color=COLOURS["core"], width=1.5),
+        ),
+        secondary_y=False,
+    )  # fmt: skip
+    t = u.time_value(np.asarray(m.time_s, dtype=float) + sr.start_s)
+    for point, values in (("core", m.core_fraction), ("mean", m.mean_fraction)):
+        fig.add_trace(
+            go.Scatter(
+                x=t, y=100.0 * np.asarray(values, dtype=float), mode="lines", name=f"{point} {word}",
+                line=dict(color=SALT_COLOURS[point], width=2.5 if point == "core" else 1.8),
+            ),
+            secondary_y=True,
+        )  # fmt: skip
+    marks = []
+    plan_brine = result.plan.steps[sr.index].brine
+    if plan_brine is not None:
+        marks += [("stop at the core", plan_brine.stop_when_core_fraction, "core")]
+        marks += [("stop at the mean", plan_brine.stop_when_mean_fraction, "mean")]
+    marks += [
+        ("core target", m.target_core_fraction, "core"),
+        ("mean target", m.target_mean_fraction, "mean"),
+    ]
+    x0, x1 = u.time_value(sr.start_s), u.time_value(sr.end_s)
+    for label, frac, point in marks:
+        if frac is None:
+            continue
+        fig.add_trace(
+            go.Scatter(
+                x=[x0, x1], y=[100.0 * frac] * 2, mode="lines", name=f"{label} {100 * frac:.2f} %",
+                line=dict(color=SALT_COLOURS[point], dash="dash", width=1.2),
+            ),
+            secondary_y=True,
+        )  # fmt: skip
+    fig.update_layout(title=f"{sr.name}: {word} taken up and core temperature", **LAYOUT)
+    fig.update_xaxes(title_text=f"time [{u.time}]", range=[x0, x1 + 0.02 * (x1 - x0)])
+    fig.update_yaxes(title_text=f"temperature [{u.temperature}]", secondary_y=False)
+    fig.update_yaxes(
+        title_text=f"{word} in the product [% of its mass]",
+        secondary_y=True,
+        rangemode="tozero",
+        tickmode="auto",
+        showgrid=False,
+    )
+    return fig
+
+
+def drying_figure(sr, u: Units) -> go.Figure:
+    """A step in hot dry air: the weight lost so far (left axis) and the yield (right axis) over the step."""
+    d = sr.drying
+    t = u.time_value(np.asarray(d.time_s, dtype=float) + sr.start_s)
+    fig = make_subplots(specs=[[{"secondary_y": True}]])
+    fig.add_trace(
+        go.Scatter(x=t, y=np.asarray(d.loss_percent), mode="lines", name="weight lost",
+                   line=dict(color="#b35806", width=2.5)),
+        secondary_y=False,
+    )  # fmt: skip
+    fig.add_trace(
+        go.Scatter(x=t, y=np.asarray(d.yield_percent_history), mode="lines", name="yield",
+                   line=dict(color="#542788", width=1.8)),
+        secondary_y=True,
+    )  # fmt: skip
+    if d.wet_until_s is not None:
+        fig.add_vline(
+            x=u.time_value(sr.start_s + d.wet_until_s), line=dict(color="#999999", dash="dot", width=1),
+            annotation_text="surface dries into a crust", annotation_position="top right",
+        )  # fmt: skip
+    fig.update_layout(title=f"{sr.name}: weight lost and yield", **LAYOUT)
+    fig.update_xaxes(title_text=f"time [{u.time}]")
+    fig.update_yaxes(
+        title_text="weight lost [% of the piece at the step start]", secondary_y=False, rangemode="tozero"
+    )
+    fig.update_yaxes(
+        title_text="yield [% of the piece at the step start]",
+        secondary_y=True,
+        tickmode="auto",
+        showgrid=False,
+    )
+    return fig

@@ -162,6 +162,17 @@ PLAIN_KEYS = {
     "min": "lowest setting",
     "max": "highest setting",
     "default": "usual setting",
+    "brine": "brining",
+    "brine_percent": "brine concentration [%]",
+    "initial_percent": "content at the start [%]",
+    "diffusivity": "diffusivity record",
+    "D_m2_s": "diffusivity D [m²/s]",
+    "k_m_m_s": "surface mass-transfer coefficient [m/s]",
+    "stop_when_core_percent": "core content to stop at [%]",
+    "stop_when_mean_percent": "mean content to stop at [%]",
+    "target_core_percent": "core target [%]",
+    "target_mean_percent": "mean target [%]",
+    "dew_point_C": "dew point",
 }
 
 

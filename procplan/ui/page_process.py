@@ -6,7 +6,7 @@ from __future__ import annotations
 import pandas as pd
 import streamlit as st
 
-from procplan.ui import adapter, editors_plan, state, widgets
+from procplan.ui import adapter, editors_mass, editors_plan, state, widgets
 from procplan.ui.fmt import Units, correlation_text
 
 MODES = ("machine and settings", "given h and medium temperature")
@@ -26,6 +26,7 @@ SETTING_LABELS = {
     "brine_C": "Brine temperature",
     "brine_speed_m_s": "Brine speed",
     "steam_C": "Steam temperature",
+    "dew_point_C": "Dew point of the air",
 }
 #: Fractions shown in percent (relative humidity): the plan keeps the fraction.
 PERCENT_SETTINGS = {"relative_humidity"}
@@ -182,6 +183,7 @@ def _step(step: dict, i: int, n: int, lib, errs: widgets.FieldErrors) -> str | N
             else:
                 step.pop("stop_when_core_C", None)
         editors_plan.targets(step, i, errs)
+        editors_mass.step(step, i, state.plan(), lib, errs)  # brining, curing, drying
         errs.mark(f"steps[{i}]")
     return action
 

@@ -16,7 +16,7 @@ from procplan.output.report import (
     log_reduction_text,
     price_text,
 )
-from procplan.ui import charts, load_panel, state, widgets
+from procplan.ui import charts, load_panel, mass_panel, state, widgets
 from procplan.ui.fmt import Units, yes_no
 
 
@@ -371,6 +371,7 @@ def render_result(result, u: Units, *, stale: bool = False) -> None:
     st.subheader("Energy and refrigeration")
     _energy(result, u)
     _weight_loss(result)
+    mass_panel.show(result, u)
     load_panel.machine_load(result, u)
     if result.warnings:
         st.subheader("Warnings")
