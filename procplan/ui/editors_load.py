@@ -16,8 +16,8 @@ from procplan.ui import adapter_load, state, widgets
 
 #: The load models in the planner's words (keys of procplan.model.LOAD_MODELS).
 MODEL_LABELS = {
-    "loaded": "Batch in a loaded machine (the medium warms or cools with the batch, as far as the plant allows)",
-    "set-point": "Empty machine held at its set point (the batch's load is ignored)",
+    "loaded": "Batch in a loaded machine: solved with the batch, as far as the plant holds it",
+    "set-point": "Empty machine held at its set point: the batch's load is ignored",
 }
 MODEL_HELP = (
     "A loaded machine solves the medium with the batch: its plant holds the set point while it can, and "
@@ -69,7 +69,7 @@ def _model(plan: dict) -> str:
     models = list(LOAD_MODELS)
     current = load.get("model", "loaded")
     model = st.radio(
-        "The batch in its machines",
+        "Medium temperature during the batch",
         models,
         index=models.index(current) if current in models else 0,
         format_func=MODEL_LABELS.get,
