@@ -319,3 +319,18 @@ def test_medium_with_the_batch_on_the_temperature_chart(app, library_copy, name)
         assert_allclose(_values(tr["y"]), seg["medium_C"].to_numpy(), atol=1e-9)
         # the library's worst medium temperature is on the curve
         assert_allclose(np.min(np.abs(_values(tr["y"]) - sr.machine_load.worst_medium_C)), 0.0, atol=1e-6)
+
+
+# --- words -------------------------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("name", ["vial-cartons-cool-down", "lasagne-pallet-cold-room"])
+def test_load_editor_and_packed_result_speak_plain_words(app, name):
+    from .test_words import _check
+
+    _open(app, name)
+    _widget(app, "radio", LOAD_RADIO).set_value("set-point").run()
+    _widget(app, "checkbox", "Give the air fraction").check().run()
+    _check(app, f"Process page of {name}")
+    go(app, "Result")
+    _check(app, f"Result page of {name}")
