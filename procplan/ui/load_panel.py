@@ -17,9 +17,12 @@ def machine_load(result, u: Units) -> None:
     if not loaded and not notes and result.packing is None:
         return
     st.subheader("The batch in the machine")
+    from procplan.output.report import batch_label
+
+    batch = batch_label(result) if result.packing is not None else None
     for sr, ml in loaded:
         share = ml.peak_load_kW / ml.capacity_kW if ml.capacity_kW > 0 else float("inf")
-        st.markdown(f"**{sr.name}**: {ml.machine}, {ml.pieces} pieces")
+        st.markdown(f"**{sr.name}**: {ml.machine}, {batch or f'{ml.pieces} pieces'}")
         st.progress(
             min(1.0, share),
             text=f"Peak load {ml.peak_load_kW:.1f} kW against a {ml.capacity_kW:.1f} kW plant ({share:.0%} of its capacity)",
@@ -30,7 +33,7 @@ def machine_load(result, u: Units) -> None:
         c[2].metric(
             "Back at the set point after", "never" if ml.pull_down_s is None else u.duration(ml.pull_down_s)
         )
-        (st.caption if ml.held else st.warning)(ml.describe())
+        (st.caption if ml.held else st.warning)(ml.describe(batch))
     for name, note in notes:
         st.caption(f"{name}: {note}")
     if result.packing is not None:

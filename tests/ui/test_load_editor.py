@@ -182,6 +182,11 @@ def test_vial_carton_packing_edit_matches_the_library(app, library_copy):
         value = shown[pos_ref.name.capitalize()]
         # display: whole minutes above 100 min, 0.1 min below
         assert_allclose(number_of(value), pos_ref.time_to_target_s / 60.0, atol=0.5)
+    # the machine takes cases: the batch is named as the library names it (50 cases of 100 vials)
+    from procplan.output.report import batch_label
+
+    assert batch_label(ref) == "50 cases (5000 pieces)"
+    assert any(batch_label(ref) in m.value for m in app.markdown)
     # the edit moved the centre's time (one layer of vials instead of two: a thinner, lighter case)
     assert abs(ref.packing.positions[0].time_to_target_s - before.packing.positions[0].time_to_target_s) > 600
     # the load's three positions in one chart, the library's histories
