@@ -339,3 +339,23 @@ def test_load_editor_and_packed_result_speak_plain_words(app, name):
     _check(app, f"Process page of {name}")
     go(app, "Result")
     _check(app, f"Result page of {name}")
+
+
+def test_machine_thermal_view_of_the_water_bath_against_steam_tables(library_copy, monkeypatch):
+    """The bath's medium heat capacity shown on the Process page, against water's tabulated properties."""
+    from procplan.ui import adapter_load
+
+    monkeypatch.setenv("PROCPLAN_LIBRARY", str(library_copy))
+    view = adapter_load.machine_thermal("waterbath-w2", {"water_C": 92.0}).value
+    # Source: Incropera et al., Fundamentals of Heat and Mass Transfer, 7th ed., Table A.6, saturated water at
+    # 365 K: v_f = 1.038e-3 m³/kg, c_p,f = 4.209 kJ/kgK (from memory); 1 % covers 92 °C against 365 K.
+    rho, cp = 1.0 / 1.038e-3, 4.209
+    assert_allclose(view.medium_kJ_K, 1.5 * rho * cp, rtol=0.01)
+    # Source: Incropera 7th ed., Table A.1, AISI 304 at 300 K, c_p = 477 J/kgK: 500 kg of tank structure
+    assert_allclose(view.structure_kJ_K, 500.0 * 0.477, rtol=1e-9)
+    # a heater supplies its capacity at any medium temperature; the walls lose to the 20 °C room
+    assert not view.refrigerating and view.available_kW == view.capacity_kW
+    assert_allclose(view.walls_kW, 40.0 * (20.0 - 92.0) / 1e3, rtol=1e-9)
+    assert adapter_load.machine_thermal("chiller-b1", {}).value.refrigerating
+    # a continuous spiral has no [thermal] table: it runs at its set point, nothing to show
+    assert adapter_load.machine_thermal("spiral-s1", {}).value is None
