@@ -210,15 +210,10 @@ def _wall(pk: dict, errs: widgets.FieldErrors) -> None:
     from procplan.properties.packing import WALL_MATERIALS
 
     options = [*WALL_MATERIALS, OTHER_WALL, NO_WALL]
-    current = (
-        pk["wall"]
-        if pk.get("wall") in WALL_MATERIALS
-        else OTHER_WALL
-        if "wall_k_W_mK" in pk
-        else NO_WALL
-        if not pk.get("wall_thickness_mm")
-        else pk.get("wall", NO_WALL)
-    )
+    if "wall_k_W_mK" in pk:  # a conductivity given wins over a named material (as in the library)
+        current = OTHER_WALL
+    else:
+        current = pk["wall"] if pk.get("wall") in WALL_MATERIALS else NO_WALL
     c = st.columns(3)
     pick = c[0].selectbox(
         "Case wall",
@@ -235,7 +230,8 @@ def _wall(pk: dict, errs: widgets.FieldErrors) -> None:
             pk.pop(k, None)
         return
     if pick == OTHER_WALL:
-        pk.pop("wall", None)
+        if current != OTHER_WALL:  # a material just left is not this wall's name (one from the file stays)
+            pk.pop("wall", None)
         with c[2]:
             pk["wall_k_W_mK"] = widgets.number(
                 "Wall conductivity [W/mK]", pk.get("wall_k_W_mK", 0.05), "pk.wk", step=0.005, fmt="%.3f"

@@ -359,3 +359,23 @@ def test_machine_thermal_view_of_the_water_bath_against_steam_tables(library_cop
     assert adapter_load.machine_thermal("chiller-b1", {}).value.refrigerating
     # a continuous spiral has no [thermal] table: it runs at its set point, nothing to show
     assert adapter_load.machine_thermal("spiral-s1", {}).value is None
+
+
+def test_wall_of_another_material_by_its_conductivity_matches_the_library(app, library_copy):
+    edited = {**_vial_packing(library_copy), "wall_k_W_mK": 0.2}
+    edited.pop("wall")
+    ref = _library_run(library_copy, "vial-cartons-cool-down", packing=edited)
+    _open(app, "vial-cartons-cool-down")
+    _widget(app, "selectbox", "Case wall").set_value("other material (give its conductivity)").run()
+    _widget(app, "number_input", "Wall conductivity").set_value(0.2).run()
+    assert not _input_errors(app), _input_errors(app)
+    pk = app.session_state["plan"]["packing"]
+    assert "wall" not in pk and pk["wall_k_W_mK"] == 0.2
+    go(app, "Result")
+    centre = ref.packing.positions[0]
+    assert_allclose(
+        number_of(metric(app, centre.name.capitalize())), centre.time_to_target_s / 60.0, atol=0.5
+    )
+    # Invariant: a wall conducting three times better than board shortens the centre's time
+    base = _library_run(library_copy, "vial-cartons-cool-down").packing.positions[0]
+    assert centre.time_to_target_s < base.time_to_target_s
