@@ -121,8 +121,11 @@ class MachineLoadResult:
         """True when the plant held the set point throughout (never at its limit)."""
         return self.time_at_limit_s <= 0.0
 
-    def describe(self) -> str:
-        """One line for the summary text and the sheet: what the batch asked and what the plant did."""
+    def describe(self, batch: str | None = None) -> str:
+        """One line for the summary text and the sheet: what the batch asked and what the plant did.
+
+        ``batch`` names the batch in words (e.g. "25 cases (5000 pieces)" for a packed load, whose machine
+        takes cases); default "<pieces> pieces"."""
         duty = "removal" if self.refrigerating else "supply"
         if self.held:
             limit = "held the set point throughout"
@@ -135,7 +138,7 @@ class MachineLoadResult:
         else:
             back = ""
         return (
-            f"{self.machine}, {self.pieces} pieces, medium at loading {self.loading_C:g} °C: peak load "
+            f"{self.machine}, {batch or f'{self.pieces} pieces'}, medium at loading {self.loading_C:g} °C: peak load "
             f"{self.peak_load_kW:.1f} kW against {self.capacity_kW:.1f} kW {duty}; plant {limit}{back}; heat "
             f"into the pieces {self.pieces_kJ / 3600:.2f} kWh, medium and structure "
             f"{self.medium_structure_kJ / 3600:.2f} kWh, from the plant {self.plant_kJ / 3600:.2f} kWh, fixed loads "

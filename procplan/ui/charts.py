@@ -10,6 +10,8 @@ from procplan.ui.fmt import Units
 
 COLOURS = {"core": "#b2182b", "surface": "#2166ac", "mean": "#4d9221", "medium": "#999999"}
 RULE_COLOUR = "#e08214"
+#: Legend of a loaded machine's medium where it left its set point (solved with the batch).
+MEDIUM_WITH_BATCH = "medium with the batch in the machine"
 #: Colours of overlaid scenarios, told apart also in print (ColorBrewer Dark2, Harrower & Brewer 2003).
 SCENARIO_COLOURS = ("#1b9e77", "#d95f02", "#7570b3", "#e7298a", "#66a61e", "#e6ab02", "#a6761d", "#666666")
 #: How a chart downloads from its toolbar's camera button ("png" or "svg"); set in the sidebar.
@@ -23,34 +25,43 @@ def temperature_figure(result, u: Units, title: str = "Product temperatures") ->
     h = result.history
     t = u.time_value(h["time_s"].to_numpy())
     fig = go.Figure()
-    # medium temperature of each step (step function)
+    # medium temperature of each step: its settings (a step function), or in a loaded machine whose plant
+    # could not hold the set point the medium as solved with the batch
+    shown: set[str] = set()
     for sr in result.steps:
         mt = np.asarray(sr.surface.medium_time_s, dtype=float) + sr.start_s
         mv = np.asarray(sr.surface.fluid_temperature_C, dtype=float)
         xs = np.r_[mt, sr.end_s]
         ys = np.r_[mv, mv[-1]]
+        name, shape = "medium", "hv"
         ml = getattr(sr, "machine_load", None)
         if ml is not None and not ml.held and "medium_C" in h:  # a loaded machine: the medium drifts
             seg = h[h["step_index"] == sr.index]
             xs, ys = seg["time_s"].to_numpy(), seg["medium_C"].to_numpy()
+            name, shape = MEDIUM_WITH_BATCH, "linear"
         fig.add_trace(
             go.Scatter(
                 x=u.time_value(xs),
                 y=u.t(ys),
                 mode="lines",
-                line=dict(color=COLOURS["medium"], width=1, shape="hv", dash="dot"),
-                name="medium",
-                legendgroup="medium",
-                showlegend=sr.index == 0,
+                line=dict(
+                    color=COLOURS["medium"], width=1 if shape == "hv" else 1.6, shape=shape, dash="dot"
+                ),
+                name=name,
+                legendgroup=name,
+                showlegend=name not in shown,
             )
         )
+        shown.add(name)
+    packed = getattr(result, "packing", None)
+    where = "" if packed is None else f" of the {packed.load.arrangement}"
     for point in ("core", "surface", "mean"):
         fig.add_trace(
             go.Scatter(
                 x=t,
                 y=u.t(h[f"{point}_C"].to_numpy()),
                 mode="lines",
-                name=point,
+                name=("centre" if packed is not None and point == "core" else point) + where,
                 line=dict(color=COLOURS[point], width=2.5 if point == "core" else 1.8),
             )
         )
@@ -96,6 +107,57 @@ def temperature_figure(result, u: Units, title: str = "Product temperatures") ->
         )
     fig.update_layout(
         title=title, xaxis_title=f"time [{u.time}]", yaxis_title=f"temperature [{u.temperature}]", **LAYOUT
+    )
+    fit_time_axis(fig, end_s, u)
+    return fig
+
+
+def packed_figure(result, u: Units) -> go.Figure:
+    """The packed load's centre (slowest) and corner piece (fastest) beside the single free piece, with the
+    target the times are measured to (positions and histories from procplan.run.packing)."""
+    packed = result.packing
+    h = result.history
+    corner = packed.corner_history
+    curves = [
+        (packed.positions[0].name, h["time_s"], h["core_C"], COLOURS["core"], "solid"),
+        (
+            packed.positions[1].name,
+            corner["time_s"] if corner is not None else h["time_s"],
+            corner["corner_C"] if corner is not None else h["surface_C"],
+            COLOURS["surface"],
+            "solid",
+        ),
+        (
+            packed.positions[2].name,
+            packed.single.history["time_s"],
+            packed.single.history["core_C"],
+            COLOURS["mean"],
+            "dash",
+        ),
+    ]
+    fig = go.Figure()
+    for name, ts, temps, colour, dash in curves:
+        fig.add_trace(
+            go.Scatter(
+                x=u.time_value(np.asarray(ts, dtype=float)),
+                y=u.t(np.asarray(temps, dtype=float)),
+                mode="lines",
+                name=name,
+                line=dict(color=colour, width=2, dash=dash),
+            )
+        )
+    end_s = float(h["time_s"].iloc[-1])
+    if packed.target_C is not None:
+        fig.add_hline(
+            y=u.t(packed.target_C),
+            line=dict(color="#666666", dash="dot", width=1),
+            annotation_text=f"target {u.temp(packed.target_C, 0)}",
+        )
+    fig.update_layout(
+        title=f"Positions in the {packed.load.arrangement} and the single free piece",
+        xaxis_title=f"time [{u.time}]",
+        yaxis_title=f"temperature [{u.temperature}]",
+        **LAYOUT,
     )
     fit_time_axis(fig, end_s, u)
     return fig

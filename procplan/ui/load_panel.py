@@ -6,7 +6,7 @@ from __future__ import annotations
 
 import streamlit as st
 
-from procplan.ui import adapter, state, widgets
+from procplan.ui import adapter, charts, state, widgets
 from procplan.ui.fmt import Units
 
 
@@ -17,9 +17,12 @@ def machine_load(result, u: Units) -> None:
     if not loaded and not notes and result.packing is None:
         return
     st.subheader("The batch in the machine")
+    from procplan.output.report import batch_label
+
+    batch = batch_label(result) if result.packing is not None else None
     for sr, ml in loaded:
         share = ml.peak_load_kW / ml.capacity_kW if ml.capacity_kW > 0 else float("inf")
-        st.markdown(f"**{sr.name}**: {ml.machine}, {ml.pieces} pieces")
+        st.markdown(f"**{sr.name}**: {ml.machine}, {batch or f'{ml.pieces} pieces'}")
         st.progress(
             min(1.0, share),
             text=f"Peak load {ml.peak_load_kW:.1f} kW against a {ml.capacity_kW:.1f} kW plant ({share:.0%} of its capacity)",
@@ -30,14 +33,43 @@ def machine_load(result, u: Units) -> None:
         c[2].metric(
             "Back at the set point after", "never" if ml.pull_down_s is None else u.duration(ml.pull_down_s)
         )
-        (st.caption if ml.held else st.warning)(ml.describe())
+        (st.caption if ml.held else st.warning)(ml.describe(batch))
     for name, note in notes:
         st.caption(f"{name}: {note}")
     if result.packing is not None:
-        from procplan.run.packing import packed_lines
+        packed(result, u)
 
-        st.markdown("**Packed load**")
-        st.text("\n".join(line.strip() for line in packed_lines(result.packing)))
+
+def packed(result, u: Units) -> None:
+    """The packed load's slowest and fastest positions beside the single free piece: times to the target,
+    the load in words and a chart of the three (procplan.run.packing)."""
+    from procplan.properties.packing import PACKED_MODEL_LABELS
+
+    pk = result.packing
+    load = pk.load
+    g = load.geometry
+    st.markdown(f"**Packed load: {load.description}**")
+    wall = "" if load.wall is None else f"; case wall {load.wall.name} {load.wall.thickness_m * 1000:g} mm"
+    st.caption(
+        f"{load.pieces} pieces, {load.load_mass_kg:.1f} kg of product in "
+        f"{g.length_m * 1000:.0f} × {g.width_m * 1000:.0f} × {g.height_m * 1000:.0f} mm; air fraction "
+        f"{load.void_fraction:.2f} ({load.void_fraction_from}); conductivity {load.k_W_mK:.3f} W/mK "
+        f"({PACKED_MODEL_LABELS[load.conductivity_model]}; {load.k_low_W_mK:.3f} W/mK if the pieces touch "
+        f"less){wall}; air speed at the load {load.air_flow_factor:g} × the machine's setting."
+    )
+    goal = "Time to reach " + u.temp(pk.target_C) if pk.target_C is not None else "Temperature at the end"
+    st.markdown(goal)
+    cols = st.columns(len(pk.positions))
+    for col, p in zip(cols, pk.positions, strict=True):
+        if pk.target_C is None:
+            col.metric(p.name.capitalize(), u.temp(p.end_C))
+        else:
+            col.metric(
+                p.name.capitalize(),
+                "not reached" if p.time_to_target_s is None else u.duration(p.time_to_target_s),
+                help=f"At the end of its run: {u.temp(p.end_C)}",
+            )
+    charts.show(charts.packed_figure(result, u), "packed_chart", "packed-load")
 
 
 def largest_batch(text: str, u: Units) -> None:

@@ -6,7 +6,7 @@ from __future__ import annotations
 import pandas as pd
 import streamlit as st
 
-from procplan.ui import adapter, editors_mass, editors_plan, state, widgets
+from procplan.ui import adapter, editors_load, editors_mass, editors_plan, state, widgets
 from procplan.ui.fmt import Units, correlation_text
 
 MODES = ("machine and settings", "given h and medium temperature")
@@ -352,6 +352,7 @@ def render() -> None:
         state.touch()
         st.rerun()
     _checks(plan, lib, errs)
+    editors_load.editor(plan, lib, errs)
     st.divider()
     text, parsed = state.current()
     if not parsed.ok:
@@ -362,7 +363,9 @@ def render() -> None:
         return
     out = adapter.run(text, state.generation())
     if not out.ok:
-        widgets.problems(out.problems, "The calculation refused this plan:")
+        with top:
+            st.error("The calculation refused this plan: correct the fields marked in red.")
+        widgets.problems(errs.show(out.problems), "The calculation refused this plan:")
         return
     from procplan.ui.page_result import headline
 
