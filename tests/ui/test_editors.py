@@ -158,7 +158,7 @@ def test_surface_target_matches_the_library(own):
 
     at, root = own
     go(at, "Process")
-    button(at, "Add a target at the surface, mean or core").click().run()
+    button(at, "Add a target at the surface, mean, core or a depth").click().run()
     widget(at, "number_input", "Temperature to reach [°C]").set_value(10.0).run()
     assert not at.exception, at.exception
     go(at, "Result")
@@ -168,6 +168,42 @@ def test_surface_target_matches_the_library(own):
     plan = lib.plan("roulade-blast-chill").with_step(0, targets=(Target(10.0, "surface"),))
     ref = next(t for t in run_plan(plan, library=lib).outcomes.targets if t.point == "surface")
     assert_allclose(number_of(row["time in step"]), (ref.target.time_s - ref.target.start_s) / 60.0, atol=0.5)
+
+
+def test_depth_target_edit_bad_value_save_reload_and_library(own):
+    from procplan.files.library import load_library
+    from procplan.files.plan import plan_from_toml
+    from procplan.model import Target
+    from procplan.run.engine import run_plan
+
+    at, root = own
+    go(at, "Process")
+    button(at, "Add a target at the surface, mean, core or a depth").click().run()
+    widget(at, "selectbox", "Target 1 at the").set_value("depth").run()
+    # the roulade is 85 mm across: 60 mm is beyond its centre, named at its field with the allowed range
+    widget(at, "number_input", "Depth below the surface [mm]").set_value(60.0).run()
+    assert not at.exception, at.exception
+    assert "**Step 1, target 1, depth [mm]**" in errors(at) and "42.5" in errors(at), errors(at)
+    widget(at, "number_input", "Depth below the surface [mm]").set_value(10.0)
+    widget(at, "number_input", "Temperature to reach [°C]").set_value(10.0).run()
+    assert not errors(at), errors(at)
+    go(at, "Result")
+    table = at.dataframe[0].value
+    row = table[table["point"] == "10 mm below the surface"].iloc[0]
+    lib = load_library(root)
+    plan = lib.plan("roulade-blast-chill").with_step(0, targets=(Target(10.0, "depth", 0.01),))
+    ref = next(t for t in run_plan(plan, library=lib).outcomes.targets if t.point == "depth")
+    assert ref.label == "10 mm below the surface" and ref.target.reached
+    assert_allclose(number_of(row["time in step"]), (ref.target.time_s - ref.target.start_s) / 60.0, atol=0.5)
+    # saved as the plan file, and opened again: the widget shows the depth
+    text = at.session_state["last_good_toml"]
+    assert plan_from_toml(text, library=lib).steps[0].targets == (Target(10.0, "depth", 0.01),)
+    again = reopen(root, "Sheet & files")
+    again.text_area(key="paste_plan").set_value(text)
+    again.button(key="paste_btn").click().run()
+    go(again, "Process")
+    assert widget(again, "selectbox", "Target 1 at the").value == "depth"
+    assert widget(again, "number_input", "Depth below the surface [mm]").value == 10.0
 
 
 def test_custom_lethality_by_F_and_by_D_and_log_reduction(own):
@@ -250,3 +286,4 @@ def test_medium_profile_is_edited_and_can_become_constant(own):
     widget(at, "radio", "Medium temperature").set_value("constant").run()
     step = at.session_state["plan"]["steps"][0]
     assert "medium_profile" not in step and step["medium_C"] == -8.0
+
