@@ -71,6 +71,11 @@ class Product:
     description: str = ""
     library: str | None = None
     porosity: float = 0.0
+    #: emissivity of the product's outer surface (its packaging's, when packed), 0–1; None: the machine's
+    #: setting. In an air machine it replaces the machine's default emissivity; a step that sets the machine's
+    #: ``emissivity`` setting itself still wins (see ``run.step_surface``); a step with a given h adds
+    #: radiation only from its own ``emissivity`` (the given h may already hold it).
+    emissivity: float | None = None
 
     @property
     def composition_dict(self) -> dict[str, float]:

@@ -37,6 +37,7 @@ PRODUCT_KEYS = (
     "unwrapped",
     "porosity",
     "overrun_percent",
+    "emissivity",
 )
 #: Smallest piece dimension [mm] (thickness, diameter, or any side of a brick or finite cylinder): below about
 #: 1 mm a food piece is a droplet or a powder grain, whose heating is not what the plant processes, and the
@@ -335,6 +336,10 @@ def product_from_dict(
     porosity = base.porosity if base and "fixed_properties" not in data else 0.0
     with c.catch():
         porosity = _porosity(data, prefix, porosity, fixed is not None)
+    emissivity = base.emissivity if base else None
+    if data.get("emissivity") is not None:
+        with c.catch():
+            emissivity = validate.fraction(f"{prefix}emissivity", data["emissivity"])
     c.raise_if_any()
     return Product(
         name=name,
@@ -349,6 +354,7 @@ def product_from_dict(
         description=description,
         library=library,
         porosity=porosity,
+        emissivity=emissivity,
     )
 
 
@@ -392,6 +398,8 @@ def product_to_dict(p: Product) -> dict[str, Any]:
         d["unwrapped"] = True
     if p.porosity:
         d["porosity"] = file_number(p.porosity)
+    if p.emissivity is not None:
+        d["emissivity"] = file_number(p.emissivity)
     if p.composition:
         d["composition"] = {k: file_number(v) for k, v in p.composition}
     if p.fixed_properties is not None:

@@ -322,6 +322,25 @@ def _packaging(prod: dict) -> None:
         st.rerun()
 
 
+def _emissivity(prod: dict) -> None:
+    """The product's (or its outer packaging's) emissivity; without it an air machine's own setting applies."""
+    own = st.checkbox(
+        "State the surface emissivity of the product or its packaging",
+        value=prod.get("emissivity") is not None,
+        key=state.key("p.eps.on"),
+        help="Radiation to the machine's walls in air machines. Without it the machine's emissivity setting "
+        "applies; a step that sets the machine's emissivity itself still wins. Bright foil radiates far less "
+        "than a moist food surface or paper: too high a value speeds up predicted cooling and heating.",
+    )
+    if own:
+        # no limits here: a value outside 0-1 is named by the plan at its field
+        prod["emissivity"] = widgets.number(
+            "Surface emissivity", prod.get("emissivity", 0.9), "p.eps", step=0.05, fmt="%.2f"
+        )
+    else:
+        prod.pop("emissivity", None)
+
+
 def property_table(frame, freezing_C, u) -> pd.DataFrame:
     """The property curves every 5 K (and at the initial freezing point), in the display units."""
     t = frame["temperature_C"].to_numpy()
@@ -421,6 +440,7 @@ def render() -> None:
     _shape(prod)
     _composition(prod)
     _packaging(prod)
+    _emissivity(prod)
     _curves(prod)
     _save(prod)
     _, parsed = state.current()

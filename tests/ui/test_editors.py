@@ -287,3 +287,40 @@ def test_medium_profile_is_edited_and_can_become_constant(own):
     step = at.session_state["plan"]["steps"][0]
     assert "medium_profile" not in step and step["medium_C"] == -8.0
 
+
+# --- product: emissivity of the product or its packaging -----------------------------------------------
+
+
+def test_product_emissivity_edit_bad_value_save_reload_and_library(own):
+    from dataclasses import replace
+
+    from procplan.files.library import load_library
+    from procplan.run.engine import run_plan
+
+    at, root = own
+    go(at, "Product")
+    widget(at, "checkbox", "State the surface emissivity of the product or its packaging").check().run()
+    widget(at, "number_input", "Surface emissivity").set_value(1.5).run()
+    assert not at.exception, at.exception
+    assert "**Emissivity**" in errors(at) and "[0, 1]" in errors(at), errors(at)
+    widget(at, "number_input", "Surface emissivity").set_value(0.05).run()
+    assert not errors(at), errors(at)
+    go(at, "Result")
+    lib = load_library(root)
+    plan = lib.plan("roulade-blast-chill")
+    ref = run_plan(replace(plan, product=replace(plan.product, emissivity=0.05)), library=lib)
+    tg = [t for t in ref.outcomes.targets if t.kind == "stop"][-1]
+    assert_allclose(number_of(metric(at, "Time to target")), tg.target.time_s / 60.0, atol=0.5)
+    # a shiny wrap: slower than the machine's setting (0.9) gives
+    base = [t for t in run_plan(plan, library=lib).outcomes.targets if t.kind == "stop"][-1]
+    assert tg.target.time_s > base.target.time_s
+    # saved as a library product and opened again
+    go(at, "Product")
+    widget(at, "text_input", "Save under the name").set_value("roulade-foil").run()
+    button(at, "Save product").click().run()
+    assert not at.exception, at.exception
+    assert load_library(root).products["roulade-foil"].emissivity == 0.05
+    again = reopen(root, "Product")
+    again.text_input(key="product_search").set_value("roulade-foil").run()
+    again.button(key="use_product").click().run()
+    assert widget(again, "number_input", "Surface emissivity").value == 0.05
