@@ -66,6 +66,7 @@ class Product:
     freezing_C: float | None = None
     category: str = "meat"
     conductivity_model: str = "parallel"
+    ice_model: str = "chen"  # a key of procplan.properties.ICE_MODELS
     packaging: tuple[PackagingLayer, ...] = ()
     unwrapped: bool = False
     description: str = ""
@@ -104,6 +105,7 @@ class Product:
             comp,
             freezing_C=self.freezing_C,
             conductivity_model=self.conductivity_model,
+            ice_model=self.ice_model,
             category=self.category,
             porosity=self.porosity,
         )

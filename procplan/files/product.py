@@ -33,6 +33,7 @@ PRODUCT_KEYS = (
     "freezing_C",
     "category",
     "conductivity_model",
+    "ice_model",
     "packaging",
     "unwrapped",
     "porosity",
@@ -336,6 +337,11 @@ def product_from_dict(
     porosity = base.porosity if base and "fixed_properties" not in data else 0.0
     with c.catch():
         porosity = _porosity(data, prefix, porosity, fixed is not None)
+    ice_model = data.get("ice_model", base.ice_model if base else "chen")
+    with c.catch():
+        from procplan.properties import ICE_MODELS
+
+        validate.choice(f"{prefix}ice_model", ice_model, ICE_MODELS)
     emissivity = base.emissivity if base else None
     if data.get("emissivity") is not None:
         with c.catch():
@@ -355,6 +361,7 @@ def product_from_dict(
         library=library,
         porosity=porosity,
         emissivity=emissivity,
+        ice_model=ice_model,
     )
 
 
@@ -392,6 +399,8 @@ def product_to_dict(p: Product) -> dict[str, Any]:
     d["category"] = p.category
     if p.conductivity_model != "parallel":
         d["conductivity_model"] = p.conductivity_model
+    if p.ice_model != "chen":
+        d["ice_model"] = p.ice_model
     if p.freezing_C is not None:
         d["freezing_C"] = file_number(p.freezing_C)
     if p.unwrapped:

@@ -225,6 +225,7 @@ def property_curves(product_toml: str, low_C: float = -40.0, high_C: float = 100
                 t,
                 freezing_C=product.freezing_C,
                 conductivity_model=product.conductivity_model,
+                ice_model=product.ice_model,
                 category=product.category,
                 porosity=product.porosity,
             )

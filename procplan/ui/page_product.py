@@ -166,6 +166,7 @@ def _composition(prod: dict) -> None:
         prod["composition"] = comp
         prod.pop("fixed_properties", None)
         _conductivity_model(prod)
+        _ice_model(prod)
         total = sum(comp.values())
         off = total - 1.0
         if abs(off) > SUM_TOLERANCE:
@@ -265,6 +266,34 @@ def _conductivity_model(prod: dict) -> None:
         prod.pop("conductivity_model", None)
     else:
         prod["conductivity_model"] = model
+
+
+#: The ice-fraction models of the library (procplan.properties.ICE_MODELS) in words.
+ICE_LABELS = {
+    "chen": "Chen (1985): from the freezing-point depression, with bound water",
+    "tchigeov": "Tchigeov (1979): empirical curve, limited to the freezable water",
+}
+
+
+def _ice_model(prod: dict) -> None:
+    from procplan.properties import ICE_MODELS
+
+    models = list(ICE_MODELS)
+    current = prod.get("ice_model", "chen")
+    model = st.selectbox(
+        "Ice fraction model",
+        models,
+        index=models.index(current) if current in models else 0,
+        format_func=lambda m: ICE_LABELS.get(m, m),
+        key=state.key("p.icemodel"),
+        help="How much of the water is ice below the initial freezing point, which sets the latent heat still "
+        "to remove at each temperature. The models differ most just below the freezing point: compare both "
+        "for a freezing or thawing step.",
+    )
+    if model == "chen":
+        prod.pop("ice_model", None)
+    else:
+        prod["ice_model"] = model
 
 
 def _packaging(prod: dict) -> None:

@@ -324,3 +324,39 @@ def test_product_emissivity_edit_bad_value_save_reload_and_library(own):
     again.text_input(key="product_search").set_value("roulade-foil").run()
     again.button(key="use_product").click().run()
     assert widget(again, "number_input", "Surface emissivity").value == 0.05
+
+
+def test_ice_fraction_model_edit_bad_value_save_reload_and_library(own):
+    import math
+
+    from procplan.files.library import load_library
+
+    at, root = own
+    go(at, "Product")
+    widget(at, "selectbox", "Ice fraction model").set_value("tchigeov").run()
+    assert not at.exception, at.exception
+    assert at.session_state["plan"]["product"]["ice_model"] == "tchigeov"
+    # the property table on the page against the published equation
+    # Source: ASHRAE Handbook—Refrigeration (2006), ch. 9, eq. (9) (Tchigeov 1979), roulade water 0.68
+    table = next(d.value for d in at.dataframe if "ice fraction [kg/kg]" in d.value.columns)
+    captions = " ".join(c.value for c in at.caption)
+    tf = float(re.search(r"Initial freezing point (-?\d+\.\d+) °C", captions).group(1))
+    row = table[table["temperature [°C]"] == -10.0].iloc[0]
+    ref = 1.105 * 0.68 / (1.0 + 0.7138 / math.log(tf + 10.0 + 1.0))
+    assert_allclose(row["ice fraction [kg/kg]"], ref, atol=2e-3)  # the table rounds to 0.001, tf to 0.1 K
+    # saved and opened again
+    widget(at, "text_input", "Save under the name").set_value("roulade-tchigeov").run()
+    button(at, "Save product").click().run()
+    assert not at.exception, at.exception
+    assert load_library(root).products["roulade-tchigeov"].ice_model == "tchigeov"
+    again = reopen(root, "Product")
+    again.text_input(key="product_search").set_value("roulade-tchigeov").run()
+    again.button(key="use_product").click().run()
+    assert widget(again, "selectbox", "Ice fraction model").value == "tchigeov"
+    # a bad value can only come from a file: a pasted plan names the field
+    go(again, "Sheet & files")
+    text = again.session_state["last_good_toml"].replace('ice_model = "tchigeov"', 'ice_model = "linear"')
+    assert 'ice_model = "linear"' in text
+    again.text_area(key="paste_plan").set_value(text)
+    again.button(key="paste_btn").click().run()
+    assert "product.ice_model" in errors(again) and "'tchigeov'" in errors(again), errors(again)
