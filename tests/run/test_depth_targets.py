@@ -61,15 +61,15 @@ def test_exact_depth_column_follows_the_one_term_series_at_an_interior_point():
     fo = alpha * h["time_s"].to_numpy() / L**2
     theta = (h[depth_column(0.01)].to_numpy() - 2.0) / (70.0 - 2.0)
     ref, z, c1 = one_term_slab(1.0, 0.5, fo)
-    late = fo >= 0.5  # the second term is below 5e-4 of θ from here (ζ2 ≈ 3.43)
+    late = fo >= 0.5  # the second term is below 1e-4 of θ at x* = 0.5 from here (ζ2 ≈ 3.43)
     assert late.sum() > 100
-    np.testing.assert_allclose(theta[late], ref[late], atol=1e-3)
+    np.testing.assert_allclose(theta[late], ref[late], atol=2e-4)  # measured 6e-5
     # the time to the target, inverted from the one-term series
     tg = res.outcomes.targets[0]
     assert tg.point == "depth" and tg.depth_mm == 10 and tg.label == "10 mm below the surface"
     t_ref = -math.log((40.0 - 2.0) / 68.0 / (c1 * math.cos(0.5 * z))) / z**2 * L**2 / alpha
     assert 0.5 * L**2 / alpha < t_ref  # inside the one-term range
-    assert tg.target.time_s == pytest.approx(t_ref, rel=2e-3)
+    assert tg.target.time_s == pytest.approx(t_ref, rel=1e-4)  # measured 5e-6
 
 
 SHAPES = [
