@@ -115,6 +115,29 @@ class Geometry:
         """The shortest distance from the surface to the thermal centre: half-thickness or radius [m]."""
         return min(a.length_m for a in self.axes)
 
+    @property
+    def probe_axis(self) -> int:
+        """Index in :attr:`axes` of the shortest axis (the first on a tie): a probe at a stated depth goes in
+        along it from the centre of its face, the path to the thermal centre that is shortest."""
+        lengths = [a.length_m for a in self.axes]
+        return lengths.index(min(lengths))
+
+    def depth_position(self, depth_m: float, field: str = "depth_m") -> tuple[float, ...]:
+        """Dimensionless position (0 at the centre, 1 at the surface, per axis of :attr:`axes`) of the point
+        ``depth_m`` below the surface, on the line from the centre of the face on the shortest axis to the
+        thermal centre: depth 0 is that face centre, depth = :attr:`conduction_length_m` the thermal centre.
+
+        >>> Geometry("slab", thickness_m=0.04).depth_position(0.01)
+        (0.5,)
+        >>> Geometry("brick", length_m=0.2, width_m=0.1, height_m=0.05).depth_position(0.025)
+        (0.0, 0.0, 0.0)
+        """
+        length = self.conduction_length_m
+        d = validate.number(field, depth_m, minimum=0.0, maximum=length, unit="m")
+        pos = [0.0] * len(self.axes)
+        pos[self.probe_axis] = 1.0 - d / length
+        return tuple(pos)
+
     # --- size ---------------------------------------------------------------------------------
     @property
     def volume_m3(self) -> float:

@@ -21,6 +21,8 @@ DEFAULT_STOP_CAP_MIN = 72 * 60.0
 MEDIUM_RANGE_C = (-80.0, 400.0)
 SOLVERS = ("auto", "exact", "finite-volume")
 POINTS = ("core", "surface", "mean")
+#: Points a step's target can watch: those of POINTS, or a stated depth below the surface.
+TARGET_POINTS = (*POINTS, "depth")
 FOOD_CATEGORIES = ("meat", "fruit-vegetable", "juice", "other")
 #: Load models (see procplan.run.machine_load.LOAD_MODELS for their meaning).
 LOAD_MODELS = ("loaded", "set-point")
@@ -64,11 +66,17 @@ class Product:
     freezing_C: float | None = None
     category: str = "meat"
     conductivity_model: str = "parallel"
+    ice_model: str = "chen"  # a key of procplan.properties.ICE_MODELS
     packaging: tuple[PackagingLayer, ...] = ()
     unwrapped: bool = False
     description: str = ""
     library: str | None = None
     porosity: float = 0.0
+    #: emissivity of the product's outer surface (its packaging's, when packed), 0–1; None: the machine's
+    #: setting. In an air machine it replaces the machine's default emissivity; a step that sets the machine's
+    #: ``emissivity`` setting itself still wins (see ``run.step_surface``); a step with a given h adds
+    #: radiation only from its own ``emissivity`` (the given h may already hold it).
+    emissivity: float | None = None
 
     @property
     def composition_dict(self) -> dict[str, float]:
@@ -97,17 +105,45 @@ class Product:
             comp,
             freezing_C=self.freezing_C,
             conductivity_model=self.conductivity_model,
+            ice_model=self.ice_model,
             category=self.category,
             porosity=self.porosity,
         )
 
 
+def depth_column(depth_m: float) -> str:
+    """The history column of the temperature ``depth_m`` below the surface.
+
+    >>> depth_column(0.01), depth_column(0.0025)
+    ('depth_10mm_C', 'depth_2.5mm_C')
+    """
+    return f"depth_{round(depth_m * 1000.0, 6):g}mm_C"
+
+
+def depth_label(depth_m: float) -> str:
+    """The point in words: '10 mm below the surface'."""
+    return f"{round(depth_m * 1000.0, 6):g} mm below the surface"
+
+
 @dataclass(frozen=True)
 class Target:
-    """A temperature to reach at a monitored point during a step."""
+    """A temperature to reach at a monitored point during a step: the core, the surface, the mean, or
+    (point "depth") the point ``depth_m`` below the surface where a probe goes in (the centre of the face on the
+    shortest axis, on the line to the thermal centre: ``Geometry.depth_position``)."""
 
     temperature_C: float
     point: str = "core"
+    depth_m: float | None = None
+
+    @property
+    def column(self) -> str:
+        """The history column the target watches."""
+        return depth_column(self.depth_m) if self.point == "depth" else f"{self.point}_C"
+
+    @property
+    def label(self) -> str:
+        """The point in words, for reports."""
+        return depth_label(self.depth_m) if self.point == "depth" else self.point
 
 
 @dataclass(frozen=True)
@@ -244,6 +280,21 @@ class Plan:
     notes: str = ""
     packing: Packing | None = None
     load: Load = field(default_factory=Load)
+
+    @property
+    def probe_depths_m(self) -> tuple[float, ...]:
+        """The depths below the surface that the steps' targets watch [m], each once, in increasing order (the
+        history carries a column for each: :func:`depth_column`)."""
+        return tuple(
+            sorted(
+                {
+                    t.depth_m
+                    for s in self.steps
+                    for t in s.targets
+                    if t.point == "depth" and t.depth_m is not None
+                }
+            )
+        )
 
     @property
     def pieces(self) -> int:

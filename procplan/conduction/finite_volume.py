@@ -131,6 +131,7 @@ def solve_conduction(
     surface_refinement: float = 0.5,
     max_steps: int | None = None,
     tolerance_K: float | None = None,
+    probe_depths_m=(),
 ) -> ConductionResult:
     """Transient conduction with phase change in one piece of product, by implicit finite volumes on enthalpy.
 
@@ -163,6 +164,9 @@ def solve_conduction(
         time-integration error of the temperatures stays within about this; None (default) = steps by
         ``max_step_change_K`` alone. The estimates are reported in the result. (The spatial error of the grid
         is not included.)
+    probe_depths_m : depths below the surface [m], each from 0 to the half-thickness or radius of the
+        shortest axis, whose temperatures the result records (``probe_C``), read along that axis from the
+        centre of its face (``fv_grid.probe_weights``)
 
     Returns
     -------
@@ -207,7 +211,7 @@ def solve_conduction(
         tolerance=tol,
         flux_change=FLUX_CHANGE_PER_STEP if tol is None else FLUX_CHANGE_WITH_TOLERANCE,
     )
-    recorder = HistoryRecorder(grid, model.temperature)
+    recorder = HistoryRecorder(grid, model.temperature, probe_depths_m)
     stepper = TimeStepper(model, control, H, recorder)
     stepper.run()
     return recorder.result(

@@ -194,3 +194,27 @@ def build_grid(
         surface_refinement=c,
     )
     return out
+
+
+def probe_weights(grid: FVGrid, depth_m: float, field: str = "depth_m") -> tuple[int, int, float]:
+    """Where a probe ``depth_m`` below the surface reads the field: the flat indices of the two nodes around it
+    and the weight of the second, for linear interpolation along the shortest axis from the centre of its
+    face toward the thermal centre (other axes at their centre; see ``Geometry.depth_position``).
+
+    >>> g = build_grid(Geometry("slab", thickness_m=0.04), 5)  # nodes every 5 mm from the centre
+    >>> i0, i1, w = probe_weights(g, 0.0125)
+    >>> i0, i1, round(w, 9)
+    (1, 2, 0.5)
+    """
+    lengths = [ax.length_m for ax in grid.axes]
+    a = lengths.index(min(lengths))
+    ax = grid.axes[a]
+    d = validate.number(field, depth_m, minimum=0.0, maximum=ax.length_m, unit="m")
+    x = ax.length_m - d
+    j = int(np.clip(np.searchsorted(ax.x_m, x, side="right") - 1, 0, grid.shape[a] - 2))
+    w = float(np.clip((x - ax.x_m[j]) / (ax.x_m[j + 1] - ax.x_m[j]), 0.0, 1.0))
+    at = [0] * len(grid.shape)
+    at[a] = j
+    i0 = int(np.ravel_multi_index(tuple(at), grid.shape))
+    at[a] = j + 1
+    return i0, int(np.ravel_multi_index(tuple(at), grid.shape)), w

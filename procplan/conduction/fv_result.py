@@ -7,7 +7,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from procplan.conduction.fv_grid import FVGrid
+from procplan.conduction.fv_grid import FVGrid, probe_weights
 
 __all__ = ["ConductionResult", "ConductionSolverError", "HistoryRecorder"]
 
@@ -75,6 +75,10 @@ class ConductionResult:
     time_tolerance_K: float | None = None
     local_error_estimate_K: float | None = None
     core_error_sum_K: float | None = None
+    #: the probe depths asked for [m] and the temperature there [°C], one column per depth (shape: times ×
+    #: depths), linear between the two nodes around each depth (``fv_grid.probe_weights``)
+    probe_depths_m: tuple[float, ...] = ()
+    probe_C: np.ndarray | None = None
 
     def to_frame(self) -> pd.DataFrame:
         """The history as a DataFrame with unit-suffixed columns."""
@@ -95,8 +99,11 @@ class ConductionResult:
 class HistoryRecorder:
     """Collects the history of a run (one row per recorded time) and turns it into a ConductionResult."""
 
-    def __init__(self, grid: FVGrid, temperature) -> None:
+    def __init__(self, grid: FVGrid, temperature, probe_depths_m=()) -> None:
         self.grid = grid
+        self.probe_depths_m = tuple(float(d) for d in probe_depths_m)
+        self.probes = [probe_weights(grid, d, "probe_depths_m") for d in self.probe_depths_m]
+        self.probe_rows: list[list[float]] = []
         self.temperature = temperature  # T(H), the model's look-up
         self.rows: dict[str, list] = {k: [] for k in ("t", "core", "surf", "face", "mean", "vmean", "q", "e")}
         self.volume = grid.volume_m3
@@ -113,6 +120,7 @@ class HistoryRecorder:
         rec["vmean"].append(np.dot(V, T) / Vsum)
         rec["q"].append(q)
         rec["e"].append(e)
+        self.probe_rows.append([(1.0 - w) * T[i0] + w * T[i1] for i0, i1, w in self.probes])
 
     def result(
         self,
@@ -161,4 +169,6 @@ class HistoryRecorder:
             time_tolerance_K=error_estimates[0],
             local_error_estimate_K=error_estimates[1],
             core_error_sum_K=error_estimates[2],
+            probe_depths_m=self.probe_depths_m,
+            probe_C=np.asarray(self.probe_rows, dtype=float).reshape(len(self.probe_rows), len(self.probes)),
         )

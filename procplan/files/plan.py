@@ -354,6 +354,24 @@ def _check_product_range(
         if value is not None:
             with c.catch():
                 check_product_temperature(product, name, value)
+    if product.geometry is not None:
+        _check_depths(c, product, steps)
+
+
+def _check_depths(c: Collector, product: Product, steps: list[Step]) -> None:
+    """A depth target lies between the surface and the thermal centre: 0 to the half-thickness or radius of the
+    product's shortest axis."""
+    length_mm = product.geometry.conduction_length_m * 1000.0
+    for i, s in enumerate(steps):
+        for j, t in enumerate(s.targets):
+            if t.depth_m is not None and not 0.0 <= t.depth_m * 1000.0 <= length_mm + 1e-9:
+                c.add(
+                    InvalidInputError(
+                        f"steps[{i}].targets[{j}].depth_mm",
+                        file_number(t.depth_m * 1000.0),
+                        f"[0, {length_mm:g}] mm (surface to centre of the {product.geometry.describe()})",
+                    )
+                )
 
 
 def _check_frozen_storage(c: Collector, product: Product, checks: Checks, raw_checks: Any) -> None:

@@ -33,10 +33,12 @@ PRODUCT_KEYS = (
     "freezing_C",
     "category",
     "conductivity_model",
+    "ice_model",
     "packaging",
     "unwrapped",
     "porosity",
     "overrun_percent",
+    "emissivity",
 )
 #: Smallest piece dimension [mm] (thickness, diameter, or any side of a brick or finite cylinder): below about
 #: 1 mm a food piece is a droplet or a powder grain, whose heating is not what the plant processes, and the
@@ -335,6 +337,15 @@ def product_from_dict(
     porosity = base.porosity if base and "fixed_properties" not in data else 0.0
     with c.catch():
         porosity = _porosity(data, prefix, porosity, fixed is not None)
+    ice_model = data.get("ice_model", base.ice_model if base else "chen")
+    with c.catch():
+        from procplan.properties import ICE_MODELS
+
+        validate.choice(f"{prefix}ice_model", ice_model, ICE_MODELS)
+    emissivity = base.emissivity if base else None
+    if data.get("emissivity") is not None:
+        with c.catch():
+            emissivity = validate.fraction(f"{prefix}emissivity", data["emissivity"])
     c.raise_if_any()
     return Product(
         name=name,
@@ -349,6 +360,8 @@ def product_from_dict(
         description=description,
         library=library,
         porosity=porosity,
+        emissivity=emissivity,
+        ice_model=ice_model,
     )
 
 
@@ -386,12 +399,16 @@ def product_to_dict(p: Product) -> dict[str, Any]:
     d["category"] = p.category
     if p.conductivity_model != "parallel":
         d["conductivity_model"] = p.conductivity_model
+    if p.ice_model != "chen":
+        d["ice_model"] = p.ice_model
     if p.freezing_C is not None:
         d["freezing_C"] = file_number(p.freezing_C)
     if p.unwrapped:
         d["unwrapped"] = True
     if p.porosity:
         d["porosity"] = file_number(p.porosity)
+    if p.emissivity is not None:
+        d["emissivity"] = file_number(p.emissivity)
     if p.composition:
         d["composition"] = {k: file_number(v) for k, v in p.composition}
     if p.fixed_properties is not None:

@@ -17,7 +17,7 @@ from procplan.files.fields import (
     optional,
     stated_temperature,
 )
-from procplan.model import DEFAULT_STOP_CAP_MIN, MAX_STEP_MIN, MEDIUM_RANGE_C, POINTS, Step, Target
+from procplan.model import DEFAULT_STOP_CAP_MIN, MAX_STEP_MIN, MEDIUM_RANGE_C, TARGET_POINTS, Step, Target
 
 STEP_KEYS = (
     "name",
@@ -203,7 +203,8 @@ def _check_medium(
 
 
 def _targets(c: Collector, data: Mapping[str, Any], p: str) -> tuple[Target, ...]:
-    """Temperatures to reach at monitored points during the step."""
+    """Temperatures to reach at monitored points during the step; point "depth" states ``depth_mm`` below the
+    surface (checked against the product's size by the plan: ``files.plan``)."""
     targets = []
     raw_targets = data.get("targets", [])
     if not isinstance(raw_targets, list):
@@ -216,12 +217,21 @@ def _targets(c: Collector, data: Mapping[str, Any], p: str) -> tuple[Target, ...
         if not isinstance(t, Mapping) or "temperature_C" not in t:
             c.add(InvalidInputError(tp.rstrip("."), t, "a table with temperature_C and optional point"))
             continue
+        check_keys(c, t, ("point", "temperature_C", "depth_mm"), tp)
         temp = optional(c, t, "temperature_C", tp, stated_temperature)
         point = t.get("point", "core")
+        depth_mm = optional(c, t, "depth_mm", tp, validate.number, minimum=0.0, maximum=3000.0, unit="mm")
         with c.catch():
-            validate.choice(tp + "point", point, POINTS)
-            if temp is not None:
-                targets.append(Target(temp, point))
+            validate.choice(tp + "point", point, TARGET_POINTS)
+            if point == "depth" and "depth_mm" not in t:
+                raise InvalidInputError(
+                    tp + "depth_mm", None, "a depth below the surface in mm for point 'depth'"
+                )
+            if point != "depth" and "depth_mm" in t:
+                raise InvalidInputError(tp + "depth_mm", t["depth_mm"], "only with point = 'depth'")
+            if temp is not None and (point != "depth" or depth_mm is not None):
+                depth_m = None if depth_mm is None else depth_mm / 1000.0
+                targets.append(Target(temp, point, depth_m))
     return tuple(targets)
 
 
@@ -279,6 +289,13 @@ def step_from_dict(data: Mapping[str, Any], index: int, source: str = "plan") ->
     )
 
 
+def _target_to_dict(t: Target) -> dict[str, Any]:
+    d: dict[str, Any] = {"point": t.point, "temperature_C": file_number(t.temperature_C)}
+    if t.depth_m is not None:
+        d["depth_mm"] = file_number(t.depth_m * 1000.0)
+    return d
+
+
 def step_to_dict(s: Step) -> dict[str, Any]:
     """The step as a TOML-ready table in file units (the inverse of :func:`step_from_dict`)."""
     d: dict[str, Any] = {"name": s.name}
@@ -309,7 +326,7 @@ def step_to_dict(s: Step) -> dict[str, Any]:
     if s.surroundings_C is not None:
         d["surroundings_C"] = file_number(s.surroundings_C)
     if s.targets:
-        d["targets"] = [{"point": t.point, "temperature_C": file_number(t.temperature_C)} for t in s.targets]
+        d["targets"] = [_target_to_dict(t) for t in s.targets]
     if s.brine is not None:
         d["brine"] = brine_to_dict(s.brine)
     return d

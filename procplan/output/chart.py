@@ -104,7 +104,7 @@ def reference_lines(result, site) -> list[RefLine]:
         for tg in step.targets:
             refs.append(
                 RefLine(
-                    site.temperature_value(tg.temperature_C), f"step {i + 1} target: {tg.point}", "target"
+                    site.temperature_value(tg.temperature_C), f"step {i + 1} target: {tg.label}", "target"
                 )
             )
     oc = result.outcomes

@@ -6,6 +6,7 @@ from typing import Any
 
 from procplan._version import __version__
 from procplan.caution import CAUTION
+from procplan.model import depth_column, depth_label
 from procplan.outcomes import DEFAULT_MAX_LOG_REDUCTION, INDICATIVE
 from procplan.outcomes.energy import PEAK_DUTY_LABEL
 from procplan.outcomes.rules import limit_text
@@ -42,6 +43,14 @@ def summary_dict(result) -> dict[str, Any]:
         "caution": CAUTION,
         "load": {"model": plan.load.model, "pieces": plan.pieces},
     }
+    out["depths"] = [
+        {
+            "depth_mm": round(d * 1000.0, 6),
+            "label": depth_label(d),
+            "end_C": float(hist[depth_column(d)].iloc[-1]),
+        }
+        for d in plan.probe_depths_m
+    ]
     for sr in result.steps:
         out["steps"].append(
             {
@@ -246,13 +255,13 @@ def _target_lines(oc, site=None) -> list[str]:
         tr = tg.target
         if tr.reached:
             t_rel = (tr.time_s - (tr.start_s or 0.0)) / 60.0
-            line = f"  {tg.step}: {tg.point} reaches {_temp(site, tr.target_C)} after {_time(site, t_rel)}"
+            line = f"  {tg.step}: {tg.label or tg.point} reaches {_temp(site, tr.target_C)} after {_time(site, t_rel)}"
             if tg.margin is not None:
                 line += f"; plan time with margin {_time(site, tg.margin.plan_min)}; cycle {_time(site, tg.margin.cycle_min)}"
                 if tg.margin.cycle_too_short:
                     line += "  ** CYCLE SHORTER THAN PLAN TIME **"
         else:
-            line = f"  {tg.step}: {tg.point} does NOT reach {_temp(site, tr.target_C)} within the step (closest {_temp(site, tr.closest_C, 1)})"
+            line = f"  {tg.step}: {tg.label or tg.point} does NOT reach {_temp(site, tr.target_C)} within the step (closest {_temp(site, tr.closest_C, 1)})"
         lines.append(line)
     return lines
 

@@ -4,7 +4,8 @@ The document is ``{"schema": ..., "schema_version": ..., "history": {...}, "summ
 
 - ``history``: columns of equal length, one entry per saved time point: ``time_s`` [s], ``core_C``,
   ``surface_C``, ``mean_C`` [°C], ``heat_flow_W`` [W, positive into the product], ``step`` (step name),
-  ``step_index`` (0-based).
+  ``step_index`` (0-based); with depth targets, ``depth_<d>mm_C`` [°C], the temperature d mm below the
+  surface (1.1).
 - ``summary``: title, product, geometry, piece mass [kg], start temperature [°C], the end state, the property
   source, one entry per step (solver, reason, regime, medium and h at each setting point, surface breakdown,
   energy-balance error, warnings) and the ``outcomes``: targets with margins, the rule check per stage and
@@ -26,7 +27,7 @@ from typing import Any
 
 #: The schema's name and version, written at the top of every result document.
 RESULT_SCHEMA_NAME = "procplan-result"
-RESULT_SCHEMA_VERSION = "1.0"
+RESULT_SCHEMA_VERSION = "1.1"
 
 _NUM = {"type": "number"}
 _NUM_OR_NULL = {"type": ["number", "null"]}
@@ -162,7 +163,12 @@ _OUTCOMES = _obj(
             _obj(
                 {
                     "step": _TEXT,
-                    "point": {**_TEXT, "description": "core, surface, mean or a named depth"},
+                    "point": {**_TEXT, "description": "core, surface, mean or depth"},
+                    "depth_mm": {
+                        **_NUM_OR_NULL,
+                        "description": "for point depth: the depth below the surface [mm] (1.1)",
+                    },
+                    "label": {**_TEXT, "description": "the point in words (1.1)"},
                     "kind": {"enum": ["stop", "target"]},
                     "target": _TARGET_RESULT,
                     "margin": _MARGIN,
@@ -255,6 +261,10 @@ RESULT_SCHEMA: dict[str, Any] = {
                 "piece_mass_kg": _NUM,
                 "start_temperature_C": _NUM,
                 "end": _obj({"time_s": _NUM, "core_C": _NUM, "surface_C": _NUM, "mean_C": _NUM}),
+                "depths": {
+                    **_array(_obj({"depth_mm": _NUM, "label": _TEXT, "end_C": _NUM})),
+                    "description": "the depths the targets watch and their temperature at the end (1.1)",
+                },
                 "properties_source": _TEXT,
                 "initial_freezing_C": _NUM_OR_NULL,
                 "steps": {**_array(_STEP), "minItems": 1},

@@ -41,7 +41,7 @@ class Checkpoint:
 
     time_min : elapsed time from the start of the plan [min]
     step : step name
-    point : "core", "surface" or "mean"
+    point : "core", "surface", "mean" or a depth in words ("10 mm below the surface")
     expected_C : the predicted temperature at that time [°C]
     low_C, high_C : action limits [°C] (None: open); a reading outside [low, high] calls for the action
     basis : why this checkpoint and limit
@@ -96,8 +96,10 @@ def document_number(prefix: str, plan_sha256: str) -> str:
 
 
 def _interp(result, point: str, t_s: float) -> float:
+    """The history of a point ("core") or of a column ("depth_10mm_C") at ``t_s``."""
     h = result.history
-    return float(np.interp(t_s, h["time_s"].to_numpy(), h[f"{point}_C"].to_numpy()))
+    col = point if point.endswith("_C") else f"{point}_C"
+    return float(np.interp(t_s, h["time_s"].to_numpy(), h[col].to_numpy()))
 
 
 def stage_deadlines(result) -> tuple[StageDeadline, ...]:
@@ -197,18 +199,24 @@ def _step_checkpoints(result, oc, t_end: float, tolerance_K: float, fmt_T) -> li
             half = 5.0 * round(pred_min / 2.0 / 5.0)
             if half >= 5.0 and pred_min - half >= MERGE_WITHIN_MIN:
                 times.append(
-                    (sr.start_s / 60.0 + half, f"half-way to {tg.point} {fmt_T(tg.target.target_C)}")
+                    (
+                        sr.start_s / 60.0 + half,
+                        f"half-way to {tg.label or tg.point} {fmt_T(tg.target.target_C)}",
+                    )
                 )
             times.append(
-                (math.ceil(t_hit / 60.0 - 1e-9), f"predicted time of {tg.point} {fmt_T(tg.target.target_C)}")
+                (
+                    math.ceil(t_hit / 60.0 - 1e-9),
+                    f"predicted time of {tg.label or tg.point} {fmt_T(tg.target.target_C)}",
+                )
             )
-            point, mode, action = tg.point, tg.target.direction, ACTION_EXTEND
+            point, col, mode, action = tg.label or tg.point, tg.column, tg.target.direction, ACTION_EXTEND
         else:
             times = [(math.floor(sr.end_s / 60.0 + 1e-9), "end of step (no target): compare with the plan")]
-            point, mode, action = "core", "band", ACTION_CHECK
+            point, col, mode, action = "core", "core_C", "band", ACTION_CHECK
         for t_min, why in times:
             t_s = min(t_min * 60.0, t_end)
-            exp, lo, hi = _margin_limit(result, point, sr.start_s, t_s, mode, tolerance_K)
+            exp, lo, hi = _margin_limit(result, col, sr.start_s, t_s, mode, tolerance_K)
             cps.append(Checkpoint(t_s / 60.0, sr.name, point, exp, lo, hi, why, action))
     return cps
 

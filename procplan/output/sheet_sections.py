@@ -261,7 +261,7 @@ def steps_section(result, site, st, W):
                 [
                     f"{sr.index + 1} {sr.name}" if j == 0 else "",
                     run if j == 0 else "",
-                    f"{tg.point} {site.format_temperature(tg.target.target_C)}",
+                    f"{tg.label or tg.point} {site.format_temperature(tg.target.target_C)}",
                     pred,
                     plan_t,
                     cyc,

@@ -190,7 +190,7 @@ def summary_table(result) -> pd.DataFrame:
     if oc is not None:
         for tg in oc.targets:
             tr = tg.target
-            label = f"{tg.step}: {tg.point} to {tr.target_C:g} °C"
+            label = f"{tg.step}: {tg.label or tg.point} to {tr.target_C:g} °C"
             rows.append(
                 (
                     label + ", time in step",

@@ -15,7 +15,7 @@ import pandas as pd
 
 from procplan import outcomes as oc
 from procplan.errors import InvalidInputError
-from procplan.model import LethalityCheck, Plan
+from procplan.model import LethalityCheck, Plan, Target, depth_column
 from procplan.outcomes.energy import heat_by_direction_J, peak_duty_W
 from procplan.properties.table import PropertyTable
 from procplan.run.assess_phase import (
@@ -43,10 +43,12 @@ class StepTarget:
     Attributes
     ----------
     step : the step's name
-    point : the point watched: "core", "surface" or "mean"
+    point : the point watched: "core", "surface", "mean" or "depth"
     target : when the point reached the temperature (times [s] from the start of the plan)
     margin : the safety-margin check of the cycle (None when the target is not reached)
     kind : "stop" for a stop condition, "target" for a declared target
+    depth_mm : for point "depth", the depth below the surface [mm] (None otherwise)
+    label : the point in words ("core", "10 mm below the surface")
     """
 
     step: str
@@ -54,6 +56,13 @@ class StepTarget:
     target: oc.TargetResult
     margin: oc.MarginCheck | None = None
     kind: str = "target"
+    depth_mm: float | None = None
+    label: str = ""
+
+    @property
+    def column(self) -> str:
+        """The history column of the point."""
+        return f"{self.point}_C" if self.depth_mm is None else depth_column(self.depth_mm / 1000.0)
 
 
 @dataclass(frozen=True)
@@ -271,11 +280,11 @@ def _targets(run: _Run, warnings: list[str]) -> tuple[StepTarget, ...]:
         direction = _direction(float(seg["core_C"].iloc[0]), float(np.mean(sr.surface.medium_C)))
         wanted = []
         if step.stop_when_core_C is not None:
-            wanted.append(("core", step.stop_when_core_C, "stop"))
-        wanted.extend((tg.point, tg.temperature_C, "target") for tg in step.targets)
-        for point, temp, kind in wanted:
+            wanted.append((Target(step.stop_when_core_C), "stop"))
+        wanted.extend((tg, "target") for tg in step.targets)
+        for tg, kind in wanted:
             tr = oc.time_to_temperature(
-                t, seg[f"{point}_C"].to_numpy(), temp, direction=direction, start_s=sr.start_s
+                t, seg[tg.column].to_numpy(), tg.temperature_C, direction=direction, start_s=sr.start_s
             )
             margin = None
             if tr.reached:
@@ -284,7 +293,8 @@ def _targets(run: _Run, warnings: list[str]) -> tuple[StepTarget, ...]:
                 margin = oc.check_cycle(max(predicted_min, 1e-9), cycle, ch.margin_percent, ch.margin_min)
                 if step.duration_given and margin.cycle_too_short:
                     warnings.append(f"{step.name}: {margin.message}")
-            targets.append(StepTarget(step.name, point, tr, margin, kind))
+            depth_mm = None if tg.depth_m is None else round(tg.depth_m * 1000.0, 6)
+            targets.append(StepTarget(step.name, tg.point, tr, margin, kind, depth_mm, tg.label))
     return tuple(targets)
 
 

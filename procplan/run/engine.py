@@ -19,10 +19,10 @@ from scipy.optimize import brentq
 
 from procplan import validate
 from procplan.conduction.finite_volume import solve_conduction
-from procplan.conduction.product import exact_history
+from procplan.conduction.product import exact_history, exact_temperature_at_C
 from procplan.conduction.regime import classify_regime
 from procplan.errors import InvalidInputError
-from procplan.model import SOLVERS, Plan, Step
+from procplan.model import SOLVERS, TARGET_POINTS, Plan, Step, depth_column
 from procplan.properties.table import PropertyTable
 from procplan.run import machine_load as ml
 from procplan.run.assess import assess_plan
@@ -106,8 +106,11 @@ def _exact_stop(run, times: np.ndarray, hist, step: Step):
     return stop_time, times
 
 
-def _exact_step(geometry, props: PropertyTable, start_C: float, surface: StepSurface, step: Step) -> _StepRun:
-    """Run the product (series) solution for one step with effective constant properties."""
+def _exact_step(
+    geometry, props: PropertyTable, start_C: float, surface: StepSurface, step: Step, depths=()
+) -> _StepRun:
+    """Run the product (series) solution for one step with effective constant properties; ``depths`` [m]
+    below the surface get a column each, from the same series at that point."""
     medium = surface.medium_C[0]
     h = surface.h_W_m2K[0]
     k, rho, cp, t_mid = exact_properties(props, start_C, medium)  # secant cp: exact energy
@@ -139,13 +142,22 @@ def _exact_step(geometry, props: PropertyTable, start_C: float, surface: StepSur
             "heat_flow_W": -np.asarray(hist.heat_flow_W, dtype=float),
         }
     )
+    for d in depths:
+        at = geometry.depth_position(d)
+        frame[depth_column(d)] = exact_temperature_at_C(
+            geometry, k, rho, cp, h, start_C, medium, hist.time_s, at
+        )
     return _StepRun(frame, stop_time, 0.0, details, None)
 
 
-def _fv_step(geometry, props, initial, surface, step: Step, n_nodes, time_settings, load=None) -> _StepRun:
+def _fv_step(
+    geometry, props, initial, surface, step: Step, n_nodes, time_settings, load=None, depths=()
+) -> _StepRun:
     """Run the finite-volume solver for one step; ``time_settings`` holds dt_s (and, for a refined rerun,
-    the adaptive step's aim and cap); ``load`` (a machine_load.StepLoad) solves the medium with the batch."""
+    the adaptive step's aim and cap); ``load`` (a machine_load.StepLoad) solves the medium with the batch;
+    ``depths`` [m] below the surface get a column each, read from the field as it is solved."""
     boundary, node = ml.with_medium_node(surface.boundary(), load)
+    time_settings = {**time_settings, "probe_depths_m": tuple(depths)}
     dried = (
         dry_oven_step(geometry, props, initial, surface, step, n_nodes, time_settings) if not load else None
     )
@@ -173,6 +185,8 @@ def _fv_step(geometry, props, initial, surface, step: Step, n_nodes, time_settin
             "heat_flow_W": res.heat_flow_W,
         }
     )
+    for j, d in enumerate(res.probe_depths_m):
+        frame[depth_column(d)] = res.probe_C[:, j]
     machine, balance = ml.coupled_frame(load, node, res, frame, boundary.medium)
     details = StepSolverDetails(
         grid=res.grid.describe() if hasattr(res.grid, "describe") else str(res.grid.shape),
@@ -231,13 +245,16 @@ def _surface(
 
 def _solve(ctx: _Context, chosen: str, carried: _Carried, step: Step, surface: StepSurface) -> _StepRun:
     geometry = ctx.plan.product.geometry
+    depths = ctx.plan.probe_depths_m
     if chosen == "exact":
-        return _exact_step(geometry, ctx.props, carried.start_C, surface, step)
+        return _exact_step(geometry, ctx.props, carried.start_C, surface, step, depths)
     timing = (
         ctx.refined if ctx.refined is not None else {"dt_s": ctx.dt_s, "tolerance_K": ctx.time_tolerance_K}
     )
     try:
-        return _fv_step(geometry, ctx.props, carried.field, surface, step, ctx.n_nodes, timing, ctx.load)
+        return _fv_step(
+            geometry, ctx.props, carried.field, surface, step, ctx.n_nodes, timing, ctx.load, depths
+        )
     except InvalidInputError as exc:
         if exc.field == "max_steps":
             raise step_limit_error(f"{step.name}", exc) from exc
@@ -441,6 +458,23 @@ def _run_packed(plan: Plan, **kw) -> PlanResult:
     return replace(result, packing=packed, warnings=load.warnings + result.warnings)
 
 
+def check_targets(plan: Plan) -> None:
+    """Every step target watches a known point; a depth target states a depth from 0 to the half-thickness or
+    radius of the product's shortest axis (InvalidInputError naming the target otherwise)."""
+    for i, step in enumerate(plan.steps):
+        for j, tg in enumerate(step.targets):
+            where = f"steps[{i}].targets[{j}]."
+            validate.choice(where + "point", tg.point, TARGET_POINTS)
+            if tg.point == "depth":
+                if tg.depth_m is None:
+                    raise InvalidInputError(
+                        where + "depth_m", None, "a depth below the surface [m] for a depth target"
+                    )
+                plan.product.geometry.depth_position(tg.depth_m, where + "depth_m")
+            elif tg.depth_m is not None:
+                raise InvalidInputError(where + "depth_m", tg.depth_m, 'only with point "depth"')
+
+
 def run_plan(
     plan: Plan,
     *,
@@ -468,6 +502,7 @@ def run_plan(
     """
     requested = solver or plan.solver
     validate.choice("solver", requested, SOLVERS)
+    check_targets(plan)
     if library is None and (any(s.equipment for s in plan.steps) or plan.checks.cooling_rule):
         from procplan.files.library import load_library
 

@@ -273,6 +273,19 @@ def _breakdown(res, source: str, **more: Any) -> SurfaceBreakdown:
     )
 
 
+def product_emissivity(step, product, eq) -> float | None:
+    """The product's (or its packaging's) emissivity where it applies in this step, None where the machine's
+    setting does. Which wins: a step that sets the machine's ``emissivity`` setting (in ``settings`` or its
+    ``settings_profile``) > the product's ``emissivity`` > the machine's default setting. Only air machines
+    radiate; in water, brine and steam the product's emissivity plays no part. Plans and machines written
+    before products carried an emissivity run as before (the machine's setting)."""
+    if product.emissivity is None or eq.medium != "air":
+        return None
+    if "emissivity" in step.settings_dict or any("emissivity" in dict(s) for _, s in step.settings_profile):
+        return None
+    return product.emissivity
+
+
 def _setting_rows(step, index: int, eq) -> list[tuple[float, dict]]:
     """The machine's settings at the start of the step and at each change of the settings profile."""
     from procplan.surface.machines import resolve_settings
@@ -323,6 +336,7 @@ def _equipment(
         raise InvalidInputError(f"steps[{index}].equipment", step.equipment, f"one of {names}")
     eq = library.equipment[step.equipment]
     rows = _setting_rows(step, index, eq)
+    eps = product_emissivity(step, product, eq)
     times, fluids, temps, hs, warnings = [], [], [], [], []
     measured_used: list[MeasuredH] = []
     first = None
@@ -337,6 +351,7 @@ def _equipment(
                 surface_C=t_s,
                 packaging=product.packaging,
                 surroundings_C=step.surroundings_C,
+                emissivity=eps,
             )
 
         res = _at_surface(evaluate, surface_C, start_mean_C, medium)
@@ -369,13 +384,14 @@ def _equipment(
                 "which already carries the radiation of the trial"
             )
     evaporation, drying = _evaporation(product, eq, rows[0][1], first.h_conv_W_m2K, warnings)
+    shown = rows[0][1] if eps is None else {**rows[0][1], "emissivity": eps}  # the emissivity used
     if len(times) > 1 and times[-1] < step.duration_s:  # the last setting holds to the end of the step
         times.append(step.duration_s)
         fluids.append(fluids[-1])
         temps.append(temps[-1])
         hs.append(hs[-1])
     breakdown = replace(
-        _breakdown(first, source, machine=MachineUsed.of(eq, rows[0][1]), measured=tuple(measured_used)),
+        _breakdown(first, source, machine=MachineUsed.of(eq, shown), measured=tuple(measured_used)),
         h_eff_W_m2K=h_eff,
         evaporation=drying.describe()
         if drying is not None

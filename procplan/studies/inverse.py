@@ -34,7 +34,7 @@ from scipy.optimize import brentq
 
 from procplan import validate
 from procplan.errors import InvalidInputError
-from procplan.model import Plan
+from procplan.model import Plan, Target
 from procplan.outcomes import plan_time_min
 from procplan.output.json_safe import json_safe
 from procplan.studies.inverse_parameters import PARAMETERS, current_value
@@ -51,23 +51,24 @@ def estimated_runs(n_scan: int = 5) -> int:
 
 
 # --- goals ---------------------------------------------------------------------------------------------
-def _step_target(plan: Plan, i: int) -> tuple[str, float]:
+def _step_target(plan: Plan, i: int) -> Target:
     step = plan.steps[i]
     if step.stop_when_core_C is not None:
-        return "core", step.stop_when_core_C
+        return Target(step.stop_when_core_C)
     if step.targets:
-        return step.targets[0].point, step.targets[0].temperature_C
+        return step.targets[0]
     raise InvalidInputError(
         "goal", "time", "a step with a stop condition or a target", f"step {i} ({step.name}) has neither"
     )
 
 
 def _measure_time(result, plan: Plan, i: int, target_min: float | None) -> float:
-    point, temp = _step_target(plan, i)
+    want = _step_target(plan, i)
+    temp = want.temperature_C
     tg = next(
         t
         for t in result.outcomes.targets
-        if t.step == plan.steps[i].name and t.point == point and t.target.target_C == temp
+        if t.step == plan.steps[i].name and t.column == want.column and t.target.target_C == temp
     )
     ch = plan.checks
     tr = tg.target
@@ -80,7 +81,7 @@ def _measure_time(result, plan: Plan, i: int, target_min: float | None) -> float
         sr = result.steps[i]
         hist = result.history
         seg = hist[hist["step_index"] == i]
-        start = float(seg[f"{point}_C"].iloc[0])
+        start = float(seg[want.column].iloc[0])
         span = max(abs(start - temp), 1e-9)
         gap = abs(tr.closest_C - temp) / span
         predicted = (sr.end_s - sr.start_s) / 60.0 * (1.0 + gap)

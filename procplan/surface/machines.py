@@ -201,8 +201,12 @@ def equipment_h(
     surface_C: float,
     packaging: Iterable[Any] = (),
     surroundings_C: float | None = None,
+    emissivity: float | None = None,
 ) -> SurfaceResult:
     """Surface coefficient of a product in this machine at the given (or default) settings.
+
+    ``emissivity`` (0–1) is the product's (or its packaging's) own, which replaces the machine's emissivity
+    setting in an air machine (None: the setting).
 
     ``surroundings_C`` is the temperature of the walls the product radiates to in an air machine (default the
     air temperature); the result's ``sink_C`` is then the temperature the product exchanges heat with.
@@ -223,7 +227,7 @@ def equipment_h(
     if equipment.medium == "air":
         kw["air_speed_m_s"] = s["air_speed_m_s"]
         kw["relative_humidity"] = s.get("relative_humidity")
-        kw["emissivity"] = s.get("emissivity")
+        kw["emissivity"] = s.get("emissivity") if emissivity is None else emissivity
         kw["surroundings_C"] = surroundings_C
     elif equipment.medium in ("water", "brine"):
         kw["liquid_speed_m_s"] = s[f"{equipment.medium}_speed_m_s"]

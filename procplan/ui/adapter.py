@@ -225,6 +225,7 @@ def property_curves(product_toml: str, low_C: float = -40.0, high_C: float = 100
                 t,
                 freezing_C=product.freezing_C,
                 conductivity_model=product.conductivity_model,
+                ice_model=product.ice_model,
                 category=product.category,
                 porosity=product.porosity,
             )
@@ -552,20 +553,24 @@ def calibrate(
 
 
 @st.cache_data(max_entries=8, show_spinner="Running the catalogue sweep…")
-def _sweep(products: tuple[str, ...], equipment: tuple[str, ...], root: str, generation: int) -> Outcome:
-    mod = studies_module("sweep")
+def _sweep(products: tuple[str, ...], equipment: tuple[str, ...], root: str, generation: int, _progress=None):
+    mod = studies_module(
+        "sweep"
+    )  # _progress(done, total), not part of the cache key, is called on a miss only
     try:
         res = mod.sweep_catalogue(
-            _library(root, generation), products=list(products), equipment=list(equipment)
+            _library(root, generation), products=list(products), equipment=list(equipment), progress=_progress
         )
     except InvalidInputError as exc:
         return Outcome(problems=problems_of(exc))
     return Outcome((res.table, tuple(res.skipped)))
 
 
-def sweep(products: tuple[str, ...], equipment: tuple[str, ...], generation: int = 0) -> Outcome:
+def sweep(
+    products: tuple[str, ...], equipment: tuple[str, ...], generation: int = 0, progress=None
+) -> Outcome:
     """Every chosen product in every chosen suitable machine (procplan.studies.sweep): (table, skipped)."""
-    return _sweep(tuple(products), tuple(equipment), library_root(), generation)
+    return _sweep(tuple(products), tuple(equipment), library_root(), generation, progress)
 
 
 def save_measured_h(plan_text: str, calibration, data_source: str, generation: int = 0) -> Outcome:

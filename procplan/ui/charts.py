@@ -6,9 +6,16 @@ import numpy as np
 import plotly.graph_objects as go
 from plotly.subplots import make_subplots
 
+from procplan.model import depth_column, depth_label
 from procplan.ui.fmt import Units
 
-COLOURS = {"core": "#b2182b", "surface": "#2166ac", "mean": "#4d9221", "medium": "#999999"}
+COLOURS = {
+    "core": "#b2182b",
+    "surface": "#2166ac",
+    "mean": "#4d9221",
+    "medium": "#999999",
+    "depth": "#762a83",
+}
 RULE_COLOUR = "#e08214"
 #: Legend of a loaded machine's medium where it left its set point (solved with the batch).
 MEDIUM_WITH_BATCH = "medium with the batch in the machine"
@@ -65,6 +72,16 @@ def temperature_figure(result, u: Units, title: str = "Product temperatures") ->
                 line=dict(color=COLOURS[point], width=2.5 if point == "core" else 1.8),
             )
         )
+    for d in result.plan.probe_depths_m:  # the points the depth targets watch
+        fig.add_trace(
+            go.Scatter(
+                x=t,
+                y=u.t(h[depth_column(d)].to_numpy()),
+                mode="lines",
+                name=depth_label(d),
+                line=dict(color=COLOURS["depth"], width=1.5, dash="dash"),
+            )
+        )
     # step boundaries and stop temperatures
     for sr in result.steps[:-1]:
         fig.add_vline(x=u.time_value(sr.end_s), line=dict(color="#bbbbbb", width=1))
@@ -82,15 +99,15 @@ def temperature_figure(result, u: Units, title: str = "Product temperatures") ->
             )
     for sr, step in zip(result.steps, result.plan.steps, strict=True):
         x0, x1 = u.time_value(sr.start_s), u.time_value(sr.end_s)
-        targets = [("core", step.stop_when_core_C)] if step.stop_when_core_C is not None else []
-        targets += [(tg.point, tg.temperature_C) for tg in step.targets]
-        for point, temp in targets:
+        targets = [("core", "core", step.stop_when_core_C)] if step.stop_when_core_C is not None else []
+        targets += [(tg.point, tg.label, tg.temperature_C) for tg in step.targets]
+        for colour, point, temp in targets:
             fig.add_trace(
                 go.Scatter(
                     x=[x0, x1],
                     y=[u.t(temp)] * 2,
                     mode="lines",
-                    line=dict(color=COLOURS[point], dash="dash", width=1.2),
+                    line=dict(color=COLOURS[colour], dash="dash", width=1.2),
                     name=f"target {point} {u.temp(temp, 0)} ({sr.name})",
                 )
             )

@@ -1,4 +1,5 @@
-"""Editors inside the plan: a step's targets at the core, surface or mean, and a custom lethality requirement
+"""Editors inside the plan: a step's targets at the core, surface, mean or a depth below the surface (where a
+probe goes in), and a custom lethality requirement
 (reference temperature, z-value, and the required F, or a D-value with the log reduction wanted).
 
 They edit the plan dict in file units; the plan's parser (procplan.files.plan) judges the edit, and its
@@ -12,7 +13,12 @@ import streamlit as st
 
 from procplan.ui import state, widgets
 
-POINT_LABELS = {"core": "core", "surface": "surface", "mean": "mean (volume average)"}
+POINT_LABELS = {
+    "core": "core",
+    "surface": "surface",
+    "mean": "mean (volume average)",
+    "depth": "depth below the surface",
+}
 REQUIREMENT_FORMS = {
     "F": "a required F",
     "D": "a D-value and the log reduction wanted",
@@ -26,7 +32,7 @@ def targets(step: dict, i: int, errs: widgets.FieldErrors | None = None) -> None
     remove = None
     points = list(POINT_LABELS)
     for j, t in enumerate(rows):
-        c = st.columns([2, 2, 1], vertical_alignment="bottom")
+        c = st.columns([2, 2, 2, 1], vertical_alignment="bottom")
         t["point"] = c[0].selectbox(
             f"Target {j + 1} at the",
             points,
@@ -34,15 +40,28 @@ def targets(step: dict, i: int, errs: widgets.FieldErrors | None = None) -> None
             format_func=POINT_LABELS.get,
             key=state.key("s.tg.pt", i, j),
         )
-        with c[1]:
+        if t["point"] == "depth":
+            # no upper limit here: the plan names a depth beyond the centre at its field, with the allowed range
+            with c[1]:
+                t["depth_mm"] = widgets.number(
+                    "Depth below the surface [mm]",
+                    t.get("depth_mm", 10.0),
+                    f"s.tg.d.{i}.{j}",
+                    step=1.0,
+                    help="Where the probe tip sits, measured from the centre of the face on the product's "
+                    "shortest side toward its centre",
+                )
+        else:
+            t.pop("depth_mm", None)
+        with c[2]:
             t["temperature_C"] = widgets.temperature(
                 "Temperature to reach", t.get("temperature_C", 5.0), f"s.tg.t.{i}.{j}"
             )
-        if c[2].button("✕", key=state.key("s.tg.rm", i, j), help=f"Remove target {j + 1}"):
+        if c[3].button("✕", key=state.key("s.tg.rm", i, j), help=f"Remove target {j + 1}"):
             remove = j
         if errs is not None:
             errs.mark(f"steps[{i}].targets[{j}]")
-    if st.button("Add a target at the surface, mean or core", key=state.key("s.tg.add", i)):
+    if st.button("Add a target at the surface, mean, core or a depth", key=state.key("s.tg.add", i)):
         rows.append({"point": "surface", "temperature_C": 5.0})
         remove = -1
     if remove is not None and remove >= 0:

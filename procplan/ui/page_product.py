@@ -166,6 +166,7 @@ def _composition(prod: dict) -> None:
         prod["composition"] = comp
         prod.pop("fixed_properties", None)
         _conductivity_model(prod)
+        _ice_model(prod)
         total = sum(comp.values())
         off = total - 1.0
         if abs(off) > SUM_TOLERANCE:
@@ -267,6 +268,34 @@ def _conductivity_model(prod: dict) -> None:
         prod["conductivity_model"] = model
 
 
+#: The ice-fraction models of the library (procplan.properties.ICE_MODELS) in words.
+ICE_LABELS = {
+    "chen": "Chen (1985): from the freezing-point depression, with bound water",
+    "tchigeov": "Tchigeov (1979): empirical curve, limited to the freezable water",
+}
+
+
+def _ice_model(prod: dict) -> None:
+    from procplan.properties import ICE_MODELS
+
+    models = list(ICE_MODELS)
+    current = prod.get("ice_model", "chen")
+    model = st.selectbox(
+        "Ice fraction model",
+        models,
+        index=models.index(current) if current in models else 0,
+        format_func=lambda m: ICE_LABELS.get(m, m),
+        key=state.key("p.icemodel"),
+        help="How much of the water is ice below the initial freezing point, which sets the latent heat still "
+        "to remove at each temperature. The models differ most just below the freezing point: compare both "
+        "for a freezing or thawing step.",
+    )
+    if model == "chen":
+        prod.pop("ice_model", None)
+    else:
+        prod["ice_model"] = model
+
+
 def _packaging(prod: dict) -> None:
     st.subheader("Packaging layers")
     layers = [dict(x) for x in prod.get("packaging", [])]
@@ -320,6 +349,25 @@ def _packaging(prod: dict) -> None:
     if added or remove is not None:
         state.touch()
         st.rerun()
+
+
+def _emissivity(prod: dict) -> None:
+    """The product's (or its outer packaging's) emissivity; without it an air machine's own setting applies."""
+    own = st.checkbox(
+        "State the surface emissivity of the product or its packaging",
+        value=prod.get("emissivity") is not None,
+        key=state.key("p.eps.on"),
+        help="Radiation to the machine's walls in air machines. Without it the machine's emissivity setting "
+        "applies; a step that sets the machine's emissivity itself still wins. Bright foil radiates far less "
+        "than a moist food surface or paper: too high a value speeds up predicted cooling and heating.",
+    )
+    if own:
+        # no limits here: a value outside 0-1 is named by the plan at its field
+        prod["emissivity"] = widgets.number(
+            "Surface emissivity", prod.get("emissivity", 0.9), "p.eps", step=0.05, fmt="%.2f"
+        )
+    else:
+        prod.pop("emissivity", None)
 
 
 def property_table(frame, freezing_C, u) -> pd.DataFrame:
@@ -421,6 +469,7 @@ def render() -> None:
     _shape(prod)
     _composition(prod)
     _packaging(prod)
+    _emissivity(prod)
     _curves(prod)
     _save(prod)
     _, parsed = state.current()

@@ -37,11 +37,11 @@ def headline(result, u: Units) -> None:
     if tg is not None and tg.target.reached:
         tr = tg.target
         c[0].metric(
-            f"Time to target ({tg.point} {u.temp(tr.target_C, 1)}, {tg.step})",
+            f"Time to target ({tg.label or tg.point} {u.temp(tr.target_C, 1)}, {tg.step})",
             u.duration(tr.time_s - (tr.start_s or 0.0)),
         )
     elif tg is not None:
-        c[0].metric(f"Time to target ({tg.point} {u.temp(tg.target.target_C, 1)})", "not reached")
+        c[0].metric(f"Time to target ({tg.label or tg.point} {u.temp(tg.target.target_C, 1)})", "not reached")
     else:
         c[0].metric("Process time", u.duration(float(result.history["time_s"].iloc[-1])))
     if tg is not None and tg.margin is not None:
@@ -80,7 +80,7 @@ def _targets(result, u: Units) -> None:
         tr = tg.target
         row = {
             "step": tg.step,
-            "point": tg.point,
+            "point": tg.label or tg.point,
             "target": u.temp(tr.target_C),
             "reached": "yes" if tr.reached else f"no (closest {u.temp(tr.closest_C)})",
             "time in step": u.duration(tr.time_s - (tr.start_s or 0.0)) if tr.reached else "—",

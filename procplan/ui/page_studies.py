@@ -155,7 +155,7 @@ def render() -> None:
         text = state.last_good()
     _scenarios(text, parsed.ok, u)
     st.divider()
-    from procplan.ui import studies_panels
+    from procplan.ui import studies_panels, sweep_panel
 
     studies_panels.required_setting(text, u)
     st.divider()
@@ -167,4 +167,4 @@ def render() -> None:
     st.divider()
     trial_panel.render(text, u)
     st.divider()
-    studies_panels.catalogue_sweep()
+    sweep_panel.catalogue_sweep()

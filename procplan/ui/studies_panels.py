@@ -9,7 +9,7 @@ import streamlit as st
 
 from procplan.errors import InvalidInputError
 from procplan.output.report import format_f
-from procplan.ui import adapter, adapter_outputs, charts, state, widgets
+from procplan.ui import adapter, adapter_outputs, charts, state, study_progress, widgets
 from procplan.ui.fmt import Units, round_to
 
 
@@ -370,33 +370,33 @@ def _variability_with_progress(req, plan, mod):
         f"(one run of this plan takes {per_run:.2g} s; {n} samples, {workers} cores; much less when the "
         f"exact series applies)"
     )
-    if st.button("Stop the study", key="mc_stop"):
-        st.session_state.pop("mc_request", None)
-        st.info("The study was stopped. Change the inputs or run it again.")
-        return None
-    bar = st.progress(0.0, text="Starting…")
 
-    def progress(done: int, total: int) -> None:
-        bar.progress(done / total, text=f"{done} of {total} samples")
+    def run(progress):
+        try:
+            return adapter.Outcome(
+                mod.monte_carlo(
+                    plan,
+                    dists,
+                    n_samples=n,
+                    seed=req[3],
+                    library=lib,
+                    step_index=req[4],
+                    method=req[5],
+                    corners=False,
+                    progress=progress,
+                )
+            )
+        except InvalidInputError as exc:
+            return adapter.Outcome(problems=adapter.problems_of(exc))
 
-    try:
-        result = mod.monte_carlo(
-            plan,
-            dists,
-            n_samples=n,
-            seed=req[3],
-            library=lib,
-            step_index=req[4],
-            method=req[5],
-            corners=False,
-            progress=progress,
-        )
-        out = adapter.Outcome(result)
-    except InvalidInputError as exc:
-        out = adapter.Outcome(problems=adapter.problems_of(exc))
-    bar.empty()
-    st.session_state["mc_result"] = (req, out)
-    return out
+    return study_progress.run_kept(
+        "mc",
+        req,
+        run,
+        what="samples",
+        stop_label="Stop the study",
+        stopped_text="The study was stopped. Change the inputs or run it again.",
+    )
 
 
 def _seconds_text(seconds: float) -> str:
@@ -561,39 +561,3 @@ def sweep_view(table: pd.DataFrame, u: Units) -> tuple[pd.DataFrame, dict]:
             config[labels[col]] = st.column_config.NumberColumn(format=kind)
     frame = frame.rename(columns={c: labels.get(c, c.replace("_", " ")) for c in frame.columns})
     return frame, config
-
-
-def catalogue_sweep() -> None:
-    st.subheader("Catalogue sweep")
-    st.caption(
-        "Every chosen product in every chosen suitable machine, each with its machine kind's task "
-        "(chillers 74 → 5 °C under the two-stage cooling rule, freezers to −18 °C, ovens and baths to a cooked core)."
-    )
-    lib = adapter.library(state.generation())
-    c1, c2 = st.columns(2)
-    with c1:
-        products = st.multiselect(
-            "Products", sorted(lib.products), default=sorted(lib.products)[:3], key="sw_products"
-        )
-    with c2:
-        machines = st.multiselect("Machines", sorted(lib.equipment), default=sorted(lib.equipment)[:3],
-                                  key="sw_machines", format_func=lambda e: lib.equipment[e].name)  # fmt: skip
-    if not st.button("Run the sweep", key="sw_go", disabled=not (products and machines)):
-        return
-    out = adapter.sweep(tuple(products), tuple(machines), generation=state.generation())
-    if not out.ok:
-        widgets.problems(out.problems, "The sweep could not run:")
-        return
-    table, skipped = out.value
-    frame, config = sweep_view(table, state.units())
-    st.dataframe(frame, hide_index=True, width="stretch", column_config=config)
-    if skipped:
-        st.caption("Machines without a sweep task, skipped: " + ", ".join(skipped))
-    st.download_button(
-        "Download the sweep (CSV)",
-        table.to_csv(index=False).encode("utf-8"),
-        "sweep.csv",
-        "text/csv",
-        key="sw_csv",
-    )
-    adapter_outputs.xlsx_button("Download the sweep (Excel)", lambda: adapter_outputs.sweep_xlsx(table, skipped), "sweep", "sw_xlsx")  # fmt: skip

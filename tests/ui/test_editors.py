@@ -158,7 +158,7 @@ def test_surface_target_matches_the_library(own):
 
     at, root = own
     go(at, "Process")
-    button(at, "Add a target at the surface, mean or core").click().run()
+    button(at, "Add a target at the surface, mean, core or a depth").click().run()
     widget(at, "number_input", "Temperature to reach [°C]").set_value(10.0).run()
     assert not at.exception, at.exception
     go(at, "Result")
@@ -168,6 +168,42 @@ def test_surface_target_matches_the_library(own):
     plan = lib.plan("roulade-blast-chill").with_step(0, targets=(Target(10.0, "surface"),))
     ref = next(t for t in run_plan(plan, library=lib).outcomes.targets if t.point == "surface")
     assert_allclose(number_of(row["time in step"]), (ref.target.time_s - ref.target.start_s) / 60.0, atol=0.5)
+
+
+def test_depth_target_edit_bad_value_save_reload_and_library(own):
+    from procplan.files.library import load_library
+    from procplan.files.plan import plan_from_toml
+    from procplan.model import Target
+    from procplan.run.engine import run_plan
+
+    at, root = own
+    go(at, "Process")
+    button(at, "Add a target at the surface, mean, core or a depth").click().run()
+    widget(at, "selectbox", "Target 1 at the").set_value("depth").run()
+    # the roulade is 85 mm across: 60 mm is beyond its centre, named at its field with the allowed range
+    widget(at, "number_input", "Depth below the surface [mm]").set_value(60.0).run()
+    assert not at.exception, at.exception
+    assert "**Step 1, target 1, depth [mm]**" in errors(at) and "42.5" in errors(at), errors(at)
+    widget(at, "number_input", "Depth below the surface [mm]").set_value(10.0)
+    widget(at, "number_input", "Temperature to reach [°C]").set_value(10.0).run()
+    assert not errors(at), errors(at)
+    go(at, "Result")
+    table = at.dataframe[0].value
+    row = table[table["point"] == "10 mm below the surface"].iloc[0]
+    lib = load_library(root)
+    plan = lib.plan("roulade-blast-chill").with_step(0, targets=(Target(10.0, "depth", 0.01),))
+    ref = next(t for t in run_plan(plan, library=lib).outcomes.targets if t.point == "depth")
+    assert ref.label == "10 mm below the surface" and ref.target.reached
+    assert_allclose(number_of(row["time in step"]), (ref.target.time_s - ref.target.start_s) / 60.0, atol=0.5)
+    # saved as the plan file, and opened again: the widget shows the depth
+    text = at.session_state["last_good_toml"]
+    assert plan_from_toml(text, library=lib).steps[0].targets == (Target(10.0, "depth", 0.01),)
+    again = reopen(root, "Sheet & files")
+    again.text_area(key="paste_plan").set_value(text)
+    again.button(key="paste_btn").click().run()
+    go(again, "Process")
+    assert widget(again, "selectbox", "Target 1 at the").value == "depth"
+    assert widget(again, "number_input", "Depth below the surface [mm]").value == 10.0
 
 
 def test_custom_lethality_by_F_and_by_D_and_log_reduction(own):
@@ -250,3 +286,77 @@ def test_medium_profile_is_edited_and_can_become_constant(own):
     widget(at, "radio", "Medium temperature").set_value("constant").run()
     step = at.session_state["plan"]["steps"][0]
     assert "medium_profile" not in step and step["medium_C"] == -8.0
+
+
+# --- product: emissivity of the product or its packaging -----------------------------------------------
+
+
+def test_product_emissivity_edit_bad_value_save_reload_and_library(own):
+    from dataclasses import replace
+
+    from procplan.files.library import load_library
+    from procplan.run.engine import run_plan
+
+    at, root = own
+    go(at, "Product")
+    widget(at, "checkbox", "State the surface emissivity of the product or its packaging").check().run()
+    widget(at, "number_input", "Surface emissivity").set_value(1.5).run()
+    assert not at.exception, at.exception
+    assert "**Emissivity**" in errors(at) and "[0, 1]" in errors(at), errors(at)
+    widget(at, "number_input", "Surface emissivity").set_value(0.05).run()
+    assert not errors(at), errors(at)
+    go(at, "Result")
+    lib = load_library(root)
+    plan = lib.plan("roulade-blast-chill")
+    ref = run_plan(replace(plan, product=replace(plan.product, emissivity=0.05)), library=lib)
+    tg = [t for t in ref.outcomes.targets if t.kind == "stop"][-1]
+    assert_allclose(number_of(metric(at, "Time to target")), tg.target.time_s / 60.0, atol=0.5)
+    # a shiny wrap: slower than the machine's setting (0.9) gives
+    base = [t for t in run_plan(plan, library=lib).outcomes.targets if t.kind == "stop"][-1]
+    assert tg.target.time_s > base.target.time_s
+    # saved as a library product and opened again
+    go(at, "Product")
+    widget(at, "text_input", "Save under the name").set_value("roulade-foil").run()
+    button(at, "Save product").click().run()
+    assert not at.exception, at.exception
+    assert load_library(root).products["roulade-foil"].emissivity == 0.05
+    again = reopen(root, "Product")
+    again.text_input(key="product_search").set_value("roulade-foil").run()
+    again.button(key="use_product").click().run()
+    assert widget(again, "number_input", "Surface emissivity").value == 0.05
+
+
+def test_ice_fraction_model_edit_bad_value_save_reload_and_library(own):
+    import math
+
+    from procplan.files.library import load_library
+
+    at, root = own
+    go(at, "Product")
+    widget(at, "selectbox", "Ice fraction model").set_value("tchigeov").run()
+    assert not at.exception, at.exception
+    assert at.session_state["plan"]["product"]["ice_model"] == "tchigeov"
+    # the property table on the page against the published equation
+    # Source: ASHRAE Handbook—Refrigeration (2006), ch. 9, eq. (9) (Tchigeov 1979), roulade water 0.68
+    table = next(d.value for d in at.dataframe if "ice fraction [kg/kg]" in d.value.columns)
+    captions = " ".join(c.value for c in at.caption)
+    tf = float(re.search(r"Initial freezing point (-?\d+\.\d+) °C", captions).group(1))
+    row = table[table["temperature [°C]"] == -10.0].iloc[0]
+    ref = 1.105 * 0.68 / (1.0 + 0.7138 / math.log(tf + 10.0 + 1.0))
+    assert_allclose(row["ice fraction [kg/kg]"], ref, atol=2e-3)  # the table rounds to 0.001, tf to 0.1 K
+    # saved and opened again
+    widget(at, "text_input", "Save under the name").set_value("roulade-tchigeov").run()
+    button(at, "Save product").click().run()
+    assert not at.exception, at.exception
+    assert load_library(root).products["roulade-tchigeov"].ice_model == "tchigeov"
+    again = reopen(root, "Product")
+    again.text_input(key="product_search").set_value("roulade-tchigeov").run()
+    again.button(key="use_product").click().run()
+    assert widget(again, "selectbox", "Ice fraction model").value == "tchigeov"
+    # a bad value can only come from a file: a pasted plan names the field
+    go(again, "Sheet & files")
+    text = again.session_state["last_good_toml"].replace('ice_model = "tchigeov"', 'ice_model = "linear"')
+    assert 'ice_model = "linear"' in text
+    again.text_area(key="paste_plan").set_value(text)
+    again.button(key="paste_btn").click().run()
+    assert "product.ice_model" in errors(again) and "'tchigeov'" in errors(again), errors(again)

@@ -42,3 +42,68 @@ def test_stop_leaves_the_page_usable(app):
     app.button(key="mc_go").click().run()
     assert not app.exception, app.exception
     assert "4 samples, method run" in _captions(app)
+
+
+# --- the catalogue sweep: the same progress and stop -------------------------------------------------------
+
+
+def _sweep_choice(app, machines):
+    app.multiselect(key="sw_products").set_value(["soup-pouch"])
+    app.multiselect(key="sw_machines").set_value(machines)
+
+
+def _machines_shown(app):
+    return [list(d.value["Machine"]) for d in app.dataframe if "Machine" in d.value.columns]
+
+
+def test_sweep_result_is_kept_and_its_stop_leaves_the_page_usable(app):
+    from .test_app import go
+
+    go(app, "Compare & studies")
+    _sweep_choice(app, ["chiller-b1"])
+    app.button(key="sw_go").click().run()
+    assert not app.exception, app.exception
+    assert _machines_shown(app) == [["chiller-b1"]]
+    # a new sweep asked for and stopped before it runs
+    _sweep_choice(app, ["chiller-b2"])
+    app.button(key="sw_go").click()
+    app.button(key="sw_stop").click().run()
+    assert not app.exception, app.exception
+    assert any("sweep was stopped" in i.value for i in app.info)
+    assert _machines_shown(app) == []
+    # it runs again when asked, and another widget's change keeps its table (saying it is of the last sweep)
+    app.button(key="sw_go").click().run()
+    assert not app.exception, app.exception
+    assert _machines_shown(app) == [["chiller-b2"]]
+    _sweep_choice(app, ["chiller-b1"])
+    app.run()
+    assert _machines_shown(app) == [["chiller-b2"]]
+    assert "table is of the last sweep run" in _captions(app)
+
+
+def test_run_kept_reports_progress_and_keeps_the_result():
+    from streamlit.testing.v1 import AppTest
+
+    def script():
+        import streamlit as st
+
+        from procplan.ui import study_progress
+
+        calls = st.session_state.setdefault("calls", [])
+
+        def run(progress):
+            calls.append("run")
+            for i in range(1, 4):
+                progress(i, 3)
+            return 42
+
+        st.session_state["out"] = study_progress.run_kept(
+            "x", ("a",), run, what="runs", stop_label="Stop", stopped_text="stopped"
+        )
+
+    at = AppTest.from_function(script)
+    at.run()
+    at.run()  # the second run takes the kept result
+    assert not at.exception, at.exception
+    assert at.session_state["out"] == 42 and at.session_state["calls"] == ["run"]
+    assert at.session_state["x_result"] == (("a",), 42)
