@@ -541,15 +541,11 @@ def bench_app_recompute(repeats: int = 3) -> list[tuple[str, float, str]]:
     ]
 
 
-#: What a run of the vial plan cannot start without (the history, the series' Bessel functions, the air's
-#: properties): the floor of ``procplan run vial-cool-down`` below which only these libraries could go.
-RUN_FLOOR_IMPORTS = "import numpy, pandas, scipy.special, CoolProp.CoolProp"
-
-
 def bench_cli_startup(repeats: int = 3) -> list[tuple[str, float, str]]:
     """Wall time of ``procplan --help``, ``procplan run vial-cool-down`` (exact series) and ``procplan run
     roulade-blast-chill`` (finite volume) in a fresh interpreter (medians), beside the bare interpreter and
-    the libraries a run cannot do without."""
+    the libraries the vial run cannot start without (history, Bessel functions, air properties)."""
+    floor = "import numpy, pandas, scipy.special, CoolProp.CoolProp"
     import subprocess
     import sys
 
@@ -567,11 +563,8 @@ def bench_cli_startup(repeats: int = 3) -> list[tuple[str, float, str]]:
         lambda: subprocess.run([sys.executable, "-c", "pass"], capture_output=True, check=False), repeats
     )
     rows.append(("  bare interpreter start (floor)", t, "python -c pass"))
-    t, _ = _median_time(
-        lambda: subprocess.run([sys.executable, "-c", RUN_FLOOR_IMPORTS], capture_output=True, check=False),
-        repeats,
-    )
-    rows.append(("  libraries a run needs (floor of a run)", t, RUN_FLOOR_IMPORTS))
+    t, _ = _median_time(lambda: subprocess.run([sys.executable, "-c", floor], capture_output=True), repeats)
+    rows.append(("  libraries a run needs (floor of a run)", t, floor))
     return rows
 
 
