@@ -542,12 +542,15 @@ def bench_app_recompute(repeats: int = 3) -> list[tuple[str, float, str]]:
 
 
 def bench_cli_startup(repeats: int = 3) -> list[tuple[str, float, str]]:
-    """Wall time of ``procplan --help`` and ``procplan run vial-cool-down`` in a fresh interpreter (medians)."""
+    """Wall time of ``procplan --help``, ``procplan run vial-cool-down`` (exact series) and ``procplan run
+    roulade-blast-chill`` (finite volume) in a fresh interpreter (medians), beside the bare interpreter and
+    the libraries the vial run cannot start without (history, Bessel functions, air properties)."""
+    floor = "import numpy, pandas, scipy.special, CoolProp.CoolProp"
     import subprocess
     import sys
 
     rows = []
-    for args in (["--help"], ["run", "vial-cool-down"]):
+    for args in (["--help"], ["run", "vial-cool-down"], ["run", "roulade-blast-chill"]):
 
         def call(a=args):
             subprocess.run([sys.executable, "-m", "procplan.cli.main", *a], capture_output=True, check=False)
@@ -560,6 +563,8 @@ def bench_cli_startup(repeats: int = 3) -> list[tuple[str, float, str]]:
         lambda: subprocess.run([sys.executable, "-c", "pass"], capture_output=True, check=False), repeats
     )
     rows.append(("  bare interpreter start (floor)", t, "python -c pass"))
+    t, _ = _median_time(lambda: subprocess.run([sys.executable, "-c", floor], capture_output=True), repeats)
+    rows.append(("  libraries a run needs (floor of a run)", t, floor))
     return rows
 
 

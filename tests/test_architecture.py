@@ -233,3 +233,50 @@ def test_importing_procplan_loads_no_numerical_library():
     code = "import procplan; print(procplan.run_plan.__module__, procplan.Plan.__name__)"
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.split() == ["procplan.run.engine", "Plan"]
+
+
+#: What `procplan run` of a plan on the exact series solution must not load: the optimisers, the finite
+#: volume's sparse and dense solvers, brining (salt and its CoolProp brine curve only through the air), packed
+#: loads and the output files; each model is imported where it is used.
+NOT_FOR_AN_EXACT_RUN = (
+    "scipy.optimize",
+    "scipy.sparse",
+    "scipy.linalg",
+    "scipy.integrate",
+    "scipy.stats",
+    "procplan.conduction.finite_volume",
+    "procplan.conduction.fv_linear",
+    "procplan.run.mass_step",
+    "procplan.run.packing",
+    "procplan.studies",
+    "procplan.output.xlsx",
+    "procplan.output.sheet",
+)
+
+
+def test_running_a_plan_on_the_exact_solution_loads_only_what_it_needs():
+    # The vial demo plan (one step in an air cold room, exact series solution) in a fresh interpreter, as the
+    # command line runs it. It needs pandas (the history), scipy.special (the series' Bessel functions) and
+    # CoolProp (the air's properties); the modules below are for other plans and must load only when used.
+    import json
+    import subprocess
+    import sys
+
+    code = (
+        "import contextlib, io, json, sys\n"
+        "from procplan.cli.main import main\n"
+        "out = io.StringIO()\n"
+        "with contextlib.redirect_stdout(out):\n"
+        "    rc = main(['run', 'vial-cool-down', '--json'])\n"
+        "doc = json.loads(out.getvalue())\n"
+        "print(json.dumps({'rc': rc, 'solvers': [s['solver'] for s in doc['summary']['steps']],"
+        " 'loaded': sorted(sys.modules)}))\n"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    found = json.loads(out.stdout.strip().splitlines()[-1])
+    assert found["rc"] == 0
+    assert found["solvers"] == ["exact"], "the demo plan no longer runs on the exact solution; pick another"
+    loaded = set(found["loaded"])
+    assert {"pandas", "scipy.special", "procplan.conduction.series"} <= loaded  # the check can see imports
+    leaked = [p for p in NOT_FOR_AN_EXACT_RUN if any(m.startswith(p) for m in loaded)]
+    assert not leaked, f"loaded although the plan does not use them: {leaked}"

@@ -8,6 +8,7 @@ import json
 import pytest
 
 from procplan import cli
+from procplan.conduction import finite_volume
 from procplan.errors import InvalidInputError
 from procplan.files.library import load_library
 from procplan.files.plan import load_plan, plan_from_dict, save_plan
@@ -39,7 +40,8 @@ def _no_solve(*args, **kwargs):
 
 
 def test_a_plan_over_the_work_budget_is_refused_by_name_before_any_solve(monkeypatch):
-    monkeypatch.setattr(engine, "solve_conduction", _no_solve)
+    # the engine imports the solver where it runs it, so the solver is replaced where it is defined
+    monkeypatch.setattr(finite_volume, "solve_conduction", _no_solve)
     plan = _plan(BRICK)
     # 41³ = 68 921 cells × 1000 expected adaptive steps = 6.9e7 cell-steps > 2e7
     with pytest.raises(InvalidInputError) as err:

@@ -43,7 +43,6 @@ from dataclasses import dataclass
 import numpy as np
 
 from procplan import validate
-from procplan.conduction.finite_volume import solve_conduction
 from procplan.conduction.fv_boundary import SurfaceBoundary, TimeProfile
 from procplan.conduction.fv_grid import FVGrid, build_grid
 from procplan.errors import InvalidInputError
@@ -424,6 +423,8 @@ class _Solver:
         return SurfaceBoundary(medium, h, q)
 
     def __call__(self, u0, t0: float, t1: float, outs, stops):
+        from procplan.conduction.finite_volume import solve_conduction
+
         stop_u = None if stops is None or stops[0] != "centre" else float(self.scale.to_u(stops[1]))
         kwargs = dict(
             output_time_s=outs,

@@ -34,7 +34,6 @@ from __future__ import annotations
 from functools import lru_cache
 
 import numpy as np
-from CoolProp.CoolProp import PropsSI
 
 from procplan import validate
 from procplan.errors import InvalidInputError
@@ -90,6 +89,9 @@ def water_phase_fraction(solute_fraction, water_fraction: float) -> np.ndarray:
 
 @lru_cache(maxsize=512)
 def _mna_freezing_C(x: float) -> float:
+    # CoolProp loads on first use: reading a plan needs only this module's tables
+    from CoolProp.CoolProp import PropsSI
+
     return PropsSI("T_freeze", "T", 293.15, "P", 101325.0, f"INCOMP::MNA[{x}]") - _KELVIN
 
 

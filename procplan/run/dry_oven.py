@@ -41,7 +41,6 @@ from typing import Any
 
 import numpy as np
 
-from procplan.conduction.finite_volume import solve_conduction
 from procplan.conduction.fv_boundary import SurfaceBoundary
 from procplan.conduction.moisture import MoistureHistory, arrhenius_m2_s, layer_depth_m, solve_moisture
 from procplan.geometry import Geometry
@@ -186,6 +185,8 @@ def solve_dry_oven(
     moisture_nodes : nodes of the moisture problem
     heat_settings : passed on to solve_conduction (n_nodes, dt_s, stop_when_core_C, max_steps, …)
     """
+    from procplan.conduction.finite_volume import solve_conduction
+
     air, iso = model.air, model.isotherm
     # a history on a fixed grid: the moisture pass lands on the heat pass's times, and few times keep both fast
     heat_settings.setdefault("output_time_s", np.linspace(0.0, end_time_s, HISTORY_POINTS))

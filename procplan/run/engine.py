@@ -15,11 +15,8 @@ from typing import Any
 
 import numpy as np
 import pandas as pd
-from scipy.optimize import brentq
 
 from procplan import validate
-from procplan.conduction.finite_volume import solve_conduction
-from procplan.conduction.product import exact_history, exact_temperature_at_C
 from procplan.conduction.regime import classify_regime
 from procplan.errors import InvalidInputError
 from procplan.model import SOLVERS, TARGET_POINTS, Plan, Step, depth_column
@@ -35,7 +32,6 @@ from procplan.run.budget import (
     unreliable_reason,
 )
 from procplan.run.dry_oven import carried_field, dry_oven_step, range_warnings
-from procplan.run.mass_step import brine_first, brine_until, salt_columns, salted_properties
 from procplan.run.results import PlanResult, StepResult, StepSolverDetails
 from procplan.run.solver import PROPERTY_SPREAD_LIMIT, choose_solver, exact_properties, exact_sample_times
 from procplan.run.step_surface import StepSurface, resolve_step_surface
@@ -93,6 +89,8 @@ def _exact_stop(run, times: np.ndarray, hist, step: Step):
     if j == 0:
         stop_time = 0.0
     else:
+        from scipy.optimize import brentq
+
         f = lambda t: float(run(np.array([t])).core_C[0]) - target  # noqa: E731
         lo_t, hi_t = times[j - 1], times[j]
         stop_time = brentq(f, lo_t, hi_t, xtol=1e-9 * step.duration_s + 1e-12)
@@ -111,6 +109,8 @@ def _exact_step(
 ) -> _StepRun:
     """Run the product (series) solution for one step with effective constant properties; ``depths`` [m]
     below the surface get a column each, from the same series at that point."""
+    from procplan.conduction.product import exact_history, exact_temperature_at_C
+
     medium = surface.medium_C[0]
     h = surface.h_W_m2K[0]
     k, rho, cp, t_mid = exact_properties(props, start_C, medium)  # secant cp: exact energy
@@ -156,6 +156,8 @@ def _fv_step(
     """Run the finite-volume solver for one step; ``time_settings`` holds dt_s (and, for a refined rerun,
     the adaptive step's aim and cap); ``load`` (a machine_load.StepLoad) solves the medium with the batch;
     ``depths`` [m] below the surface get a column each, read from the field as it is solved."""
+    from procplan.conduction.finite_volume import solve_conduction
+
     boundary, node = ml.with_medium_node(surface.boundary(), load)
     time_settings = {**time_settings, "probe_depths_m": tuple(depths)}
     dried = (
@@ -358,6 +360,8 @@ def _run_step(
         )
     mass = None
     if step.brine is not None:
+        from procplan.run.mass_step import brine_first
+
         mass, step = brine_first(step, i, product, ctx.props, surface, carried.salt)
     ctx, held, load_note = ml.step_loads(ctx, step, i, surface, carried.field)
     ctx = ctx if surface.drying_air is None else replace(ctx, load=None)  # dry air: the set point held
@@ -383,6 +387,8 @@ def _run_step(
     details = replace(run.details, regime=regime.regime)
     frame = _place_frame(run.frame, step, i, run, carried.t_offset_s, first=i == 0)
     if mass is not None:
+        from procplan.run.mass_step import brine_until
+
         end = float(run.frame["time_s"].iloc[-1]) - carried.t_offset_s
         mass = brine_until(mass, step, i, product, ctx.props, surface, carried.salt, end)
     stop = run.stop_time_s
@@ -421,6 +427,8 @@ def _run_steps(ctx: _Context) -> tuple[pd.DataFrame, list[StepResult], list[str]
         frame, result, run = _run_step(ctx, i, step, carried)
         salt = carried.salt
         if result.mass is not None:
+            from procplan.run.mass_step import salted_properties
+
             salt = result.mass.state
             props, note = salted_properties(ctx.plan.product, base, salt)
             ctx = replace(ctx, props=props)
@@ -442,6 +450,8 @@ def _run_steps(ctx: _Context) -> tuple[pd.DataFrame, list[StepResult], list[str]
     history = pd.concat(frames, ignore_index=True)
     brines = [s.brine for s in ctx.plan.steps if s.brine is not None]
     if brines:
+        from procplan.run.mass_step import salt_columns
+
         for name, col in salt_columns(history, steps, brines[0].initial_fraction or 0.0).items():
             history[name] = col
     return history, steps, warnings, ctx.props

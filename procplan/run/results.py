@@ -4,17 +4,19 @@ history, properties and outcomes, with a short repr and an HTML view for noteboo
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import pandas as pd
 
-from procplan.conduction.product import ExactProvenance
 from procplan.conduction.regime import Regime
 from procplan.model import Plan
 from procplan.properties.table import PropertyTable
 from procplan.run import machine_load as ml
 from procplan.run.assess import Outcomes
 from procplan.run.step_surface import StepSurface
+
+if TYPE_CHECKING:  # the series' provenance, named in an annotation only (a finite-volume run needs no series)
+    from procplan.conduction.product import ExactProvenance
 
 __all__ = ["PlanResult", "StepResult", "StepSolverDetails"]
 

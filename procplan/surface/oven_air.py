@@ -35,7 +35,6 @@ from dataclasses import dataclass
 from functools import cached_property, lru_cache
 
 import numpy as np
-from scipy.optimize import brentq
 
 from procplan import validate
 from procplan.surface.media import air_properties, latent_heat_J_kg, saturation_pressure_Pa
@@ -152,6 +151,8 @@ class DryingAir:
         >>> round(DryingAir(30.0, 15.0, 20.0).wet_bulb_C(), 1)  # CoolProp HAPropsSI('B'): 20.09 °C
         20.1
         """
+
+        from scipy.optimize import brentq
 
         def balance(ts: float) -> float:
             return self.h_conv_W_m2K * (self.air_C - ts) + float(self.heat_flux_into_W_m2(ts))
