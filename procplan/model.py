@@ -161,6 +161,8 @@ class Step:
     brine: Brine | None = None
     #: the machine's medium temperature when the batch is loaded [°C] (None: at its set point)
     loading_medium_C: float | None = None
+    #: end the step when the piece has lost this share of its mass at the step's start [-] (drying steps)
+    stop_when_weight_loss_fraction: float | None = None
 
     @property
     def settings_dict(self) -> dict[str, Any]:

@@ -53,6 +53,7 @@ from procplan.properties.sorption import (
     MoistureDiffusivity,
     dry_basis,
 )
+from procplan.run.dry_stop import solve_to_weight_loss, weight_checkpoints
 from procplan.surface.oven_air import DryingAir, latent_heat
 
 #: Passes of the waveform relaxation at most, and the change of the surface-temperature history [K] below
@@ -109,6 +110,7 @@ class DryOvenResult:
     wet_bulb_C : wet-bulb temperature of the air [°C]
     wet_until_s : time the surface water activity falls below :data:`DRY_SURFACE_WATER_ACTIVITY` [s] (None:
         it stays wet)
+    weight_stop_s : time the step's weight-loss stop ended it [s] (None: no such stop, or not reached)
     """
 
     heat: Any
@@ -118,6 +120,7 @@ class DryOvenResult:
     lost_kg: float
     wet_bulb_C: float
     wet_until_s: float | None
+    weight_stop_s: float | None = None
 
 
 def _moisture_geometry(geometry: Geometry, D_m2_s: float, end_s: float) -> Geometry:
@@ -245,6 +248,10 @@ class DryingSummary:
     passes, surface_change_K : coupling passes and the last change of the surface temperature [K]
     mass_balance_error : of the moisture problem [-]
     model : the model in words
+    stop_weight_loss_percent : the step's weight-loss stop [%] (None: none)
+    weight_stop_s : time from the step's start the weight loss was reached and ended the step [s] (None: no
+        stop, or not reached within the step)
+    weight_checkpoints : (time from the step's start [s], predicted weight loss [%]) for weighing pieces
     """
 
     weight_loss_kg: float
@@ -260,6 +267,9 @@ class DryingSummary:
     surface_change_K: float
     mass_balance_error: float
     model: str
+    stop_weight_loss_percent: float | None = None
+    weight_stop_s: float | None = None
+    weight_checkpoints: tuple[tuple[float, float], ...] = ()
 
     @property
     def converged(self) -> bool:
@@ -275,8 +285,14 @@ class DryingSummary:
         )
 
 
-def summarise(res: DryOvenResult, model: DryOvenModel, piece_mass_kg: float) -> DryingSummary:
-    """The per-piece summary of a dry-air step."""
+def summarise(
+    res: DryOvenResult,
+    model: DryOvenModel,
+    piece_mass_kg: float,
+    area_m2: float,
+    stop_fraction: float | None = None,
+) -> DryingSummary:
+    """The per-piece summary of a dry-air step (``stop_fraction``: the step's weight-loss stop [-])."""
     pct = 100.0 * res.lost_kg / piece_mass_kg
     return DryingSummary(
         weight_loss_kg=res.lost_kg,
@@ -292,6 +308,9 @@ def summarise(res: DryOvenResult, model: DryOvenModel, piece_mass_kg: float) -> 
         surface_change_K=res.surface_change_K,
         mass_balance_error=res.moisture.mass_balance_error,
         model=model.describe(),
+        stop_weight_loss_percent=None if stop_fraction is None else 100.0 * stop_fraction,
+        weight_stop_s=res.weight_stop_s,
+        weight_checkpoints=weight_checkpoints(res, area_m2, piece_mass_kg),
     )
 
 
@@ -314,19 +333,29 @@ def dry_oven_step(geometry, props, initial, surface, step, n_nodes, time_setting
     model = getattr(surface, "drying_air", None)
     if model is None:
         return None
-    res = solve_dry_oven(
-        geometry,
-        props,
-        initial,
-        surface.boundary(),
-        model,
-        step.duration_s,
-        n_nodes=n_nodes,
-        stop_when_core_C=step.stop_when_core_C,
-        max_steps=MAX_TIME_STEPS_PER_STEP,
-        **time_settings,
-    )
-    return res.heat, summarise(res, model, props.mass_density_kg_m3 * geometry.volume_m3)
+    boundary = surface.boundary()
+
+    def solve(end_s: float) -> DryOvenResult:
+        return solve_dry_oven(
+            geometry,
+            props,
+            initial,
+            boundary,
+            model,
+            end_s,
+            n_nodes=n_nodes,
+            stop_when_core_C=step.stop_when_core_C,
+            max_steps=MAX_TIME_STEPS_PER_STEP,
+            **time_settings,
+        )
+
+    mass = props.mass_density_kg_m3 * geometry.volume_m3
+    loss = step.stop_when_weight_loss_fraction
+    if loss is None:
+        res = solve(step.duration_s)
+    else:
+        res = solve_to_weight_loss(solve, geometry, step.duration_s, loss * mass)
+    return res.heat, summarise(res, model, mass, geometry.area_m2, loss)
 
 
 def carried_field(run, props):
