@@ -138,6 +138,8 @@ class Brine:
     stop_when_mean_fraction: float | None = None
     target_core_fraction: float | None = None
     target_mean_fraction: float | None = None
+    #: factor on the diffusivity (a study's sampled uncertainty; 1 in a plan file)
+    D_factor: float = 1.0
 
 
 @dataclass(frozen=True)
