@@ -1,6 +1,7 @@
 """Variability: Monte Carlo over uncertain inputs, percentiles of time to target and lethality.
 
-Inputs (:data:`VARIABLES`) are drawn from distributions (:mod:`procplan.studies.distributions`: normal,
+Inputs (:data:`VARIABLES`; on a brining plan also the salt diffusivity and brine strength of
+:mod:`procplan.studies.variability_brine`) are drawn from distributions (:mod:`procplan.studies.distributions`: normal,
 uniform, triangular, lognormal, each optionally truncated to bounds) with a seeded
 ``numpy.random.Generator``, so the same seed gives the same numbers. Two paths:
 
