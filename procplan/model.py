@@ -174,6 +174,8 @@ class Brine:
     stop_when_mean_fraction: float | None = None
     target_core_fraction: float | None = None
     target_mean_fraction: float | None = None
+    #: factor on the diffusivity (a study's sampled uncertainty; 1 in a plan file)
+    D_factor: float = 1.0
 
 
 @dataclass(frozen=True)
@@ -197,6 +199,8 @@ class Step:
     brine: Brine | None = None
     #: the machine's medium temperature when the batch is loaded [°C] (None: at its set point)
     loading_medium_C: float | None = None
+    #: end the step when the piece has lost this share of its mass at the step's start [-] (drying steps)
+    stop_when_weight_loss_fraction: float | None = None
 
     @property
     def settings_dict(self) -> dict[str, Any]:

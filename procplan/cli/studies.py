@@ -353,6 +353,9 @@ def _print_variability(res) -> None:
     for key, label, unit in (
         ("time_to_target_min", "time to target", " min"),
         ("lethality_F_min", "lethality F (low tail)", " min"),
+        ("salt_core_percent", "core salt at the end of brining (low tail)", " %"),
+        ("salt_mean_percent", "mean salt at the end of brining (low tail)", " %"),
+        ("salt_time_min", "time to the salt stop or core target", " min"),
     ):
         if key in res.percentiles:
             p = res.percentiles[key]
@@ -368,7 +371,10 @@ def _print_variability(res) -> None:
     if res.worst:
         w = res.worst
         inputs = ", ".join(f"{k} = {v:.4g}" for k, v in w["inputs"].items())
-        print(f"  worst corner ({inputs}): time to target {_fmt(w['metrics'].get('time_to_target_min'))}")
+        key, what = "time_to_target_min", "time to target"
+        if not w["metrics"].get("target_step") and "salt_time_min" in w["metrics"]:
+            key, what = "salt_time_min", "time to the salt"
+        print(f"  worst corner ({inputs}): {what} {_fmt(w['metrics'].get(key))}")
     for n in res.notes:
         print(f"  note: {n}")
 

@@ -116,7 +116,8 @@ def _add_variability(subparsers) -> None:
         "--vary",
         action="append",
         metavar="VAR=KIND:P1,P2[@LOW,HIGH]",
-        help="e.g. start_C=normal:74,2@68,80, h_factor=lognormal:1,0.15, size_factor=triangular:0.9,1,1.1; variables: "
+        help="e.g. start_C=normal:74,2@68,80, h_factor=lognormal:1,0.15, size_factor=triangular:0.9,1,1.1; on a "
+        "brining plan salt_D_factor=lognormal:1,0.2, brine_percent=normal:10,0.5; variables: "
         + ", ".join(VARIABLES),
     )
     v.add_argument("--samples", type=int, default=1000, help="number of samples (default 1000)")

@@ -133,8 +133,9 @@ def solve_moisture(
         surface_refinement=0.8,
     )
     axis = geometry.axes[0]
-    # the amount lost per m² of exposed surface (the transport core reports per m² of face for a slab)
-    per_area = 1.0 / geometry.faces if geometry.shape == "slab" else 1.0 / geometry.area_m2
+    # the amount lost per m² of exposed surface (the transport core reports per piece: per m² of face for an
+    # unbounded slab, per metre of an unbounded cylinder, the whole piece of a slab with its length and width)
+    per_area = 1.0 / geometry.area_m2
     x_nodes = np.asarray(res.grid.axes[0].x_m)
     return MoistureHistory(
         time_s=np.asarray(res.time_s, dtype=float),

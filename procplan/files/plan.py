@@ -287,6 +287,7 @@ def plan_from_dict(data: Mapping[str, Any], source: str = "plan", library=None) 
     if product is not None:
         _check_frozen_storage(c, product, checks, data.get("checks"))
     _check_product_range(c, product, data.get("product"), t0, steps)
+    _check_weight_loss(c, product, steps)
     if t0 is not None and steps:
         _check_first_stop(c, steps[0], t0, library)
     c.raise_if_any()
@@ -372,6 +373,21 @@ def _check_depths(c: Collector, product: Product, steps: list[Step]) -> None:
                         f"[0, {length_mm:g}] mm (surface to centre of the {product.geometry.describe()})",
                     )
                 )
+
+
+def _check_weight_loss(c: Collector, product: Product | None, steps: list[Step]) -> None:
+    """A weight-loss stop below the product's water content (only water evaporates)."""
+    water = None if product is None else product.composition_dict.get("water")
+    for i, s in enumerate(steps):
+        loss = s.stop_when_weight_loss_fraction
+        if loss is not None and water is not None and loss >= water:
+            c.add(
+                InvalidInputError(
+                    f"steps[{i}].stop_when_weight_loss_percent",
+                    round(100.0 * loss, 6),
+                    f"(0, {100.0 * water:g}) %, below the product's water content",
+                )
+            )
 
 
 def _check_frozen_storage(c: Collector, product: Product, checks: Checks, raw_checks: Any) -> None:

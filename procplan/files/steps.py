@@ -9,6 +9,7 @@ from procplan import validate
 from procplan.errors import Collector, InvalidInputError
 from procplan.files.brine import brine_from_dict, brine_to_dict
 from procplan.files.fields import (
+    _inverse,
     check_keys,
     file_minutes,
     file_number,
@@ -34,7 +35,10 @@ STEP_KEYS = (
     "targets",
     "brine",
     "loading_medium_C",
+    "stop_when_weight_loss_percent",
 )
+#: Range of a weight-loss stop [%] before the product is known (the plan checks it against the product's water).
+WEIGHT_LOSS_RANGE_PERCENT = (0.0, 100.0)
 
 
 def _duration(c: Collector, data: Mapping[str, Any], p: str) -> tuple[float, float | None, bool]:
@@ -55,13 +59,14 @@ def _duration(c: Collector, data: Mapping[str, Any], p: str) -> tuple[float, flo
     brine_stop = isinstance(brine, Mapping) and any(
         k in brine for k in ("stop_when_core_percent", "stop_when_mean_percent")
     )
-    if "duration_min" not in data and "stop_when_core_C" not in data and not brine_stop:
+    stops = ("duration_min", "stop_when_core_C", "stop_when_weight_loss_percent")
+    if not any(k in data for k in stops) and not brine_stop:
         c.add(
             InvalidInputError(
                 p + "duration_min",
                 None,
                 f"(0, {MAX_STEP_MIN:g}] min",
-                "a step needs a duration_min, a stop_when_core_C or a brine stop",
+                "a step needs a duration_min, a stop_when_core_C, a stop_when_weight_loss_percent or a brine stop",
             )
         )
     duration_s = (duration_min if duration_min is not None else DEFAULT_STOP_CAP_MIN) * 60.0
@@ -267,6 +272,19 @@ def step_from_dict(data: Mapping[str, Any], index: int, source: str = "plan") ->
     targets = _targets(c, data, p)
     brine = brine_from_dict(c, data["brine"], p + "brine.") if "brine" in data else None
     loading = optional(c, data, "loading_medium_C", p, medium_temperature)
+    lo, hi = WEIGHT_LOSS_RANGE_PERCENT
+    loss = optional(
+        c,
+        data,
+        "stop_when_weight_loss_percent",
+        p,
+        validate.number,
+        minimum=lo,
+        min_inclusive=False,
+        maximum=hi,
+        max_inclusive=False,
+        unit="%",
+    )
     if loading is not None and equipment is None:
         c.add(InvalidInputError(p + "loading_medium_C", loading, "only with an equipment name"))
     c.raise_if_any()
@@ -286,6 +304,7 @@ def step_from_dict(data: Mapping[str, Any], index: int, source: str = "plan") ->
         duration_given=duration_given,
         brine=brine,
         loading_medium_C=loading,
+        stop_when_weight_loss_fraction=None if loss is None else loss / 100.0,
     )
 
 
@@ -303,6 +322,8 @@ def step_to_dict(s: Step) -> dict[str, Any]:
         d["duration_min"] = file_minutes(s.duration_s)
     if s.stop_when_core_C is not None:
         d["stop_when_core_C"] = file_number(s.stop_when_core_C)
+    if s.stop_when_weight_loss_fraction is not None:
+        d["stop_when_weight_loss_percent"] = _inverse(s.stop_when_weight_loss_fraction, lambda x: x / 100.0)
     if s.equipment is not None:
         d["equipment"] = s.equipment
         if s.settings:

@@ -74,6 +74,7 @@ def summary_dict(result) -> dict[str, Any]:
         )
         if getattr(sr, "drying", None) is not None:
             out["steps"][-1]["drying"] = _plain(sr.drying)
+            out["steps"][-1]["weight_loss_stop"] = weight_stop_dict(sr)
         if getattr(sr, "mass", None) is not None:
             out["steps"][-1]["brine"] = brine_dict(sr.mass)
     if result.outcomes is not None:
@@ -225,12 +226,49 @@ def _step_lines(result, site=None) -> list[str]:
             )
         if getattr(sr, "drying", None) is not None:
             lines.append(_drying_line(sr.drying, site))
+            lines += [w for w in [_weight_stop_line(sr, site)] if w]
         if getattr(sr, "mass", None) is not None:
             lines += brine_lines(sr.mass)
         ml = _machine_load_dict(sr)
         if ml is not None:
             lines.append(f"    machine: {ml['summary']}")
     return lines
+
+
+def weight_stop_dict(sr) -> dict[str, Any] | None:
+    """A drying step's weight-loss stop as plain data (None without one): the loss asked and reached [%], the
+    time to it from the step's start and on the plan's clock [min] (None: not reached), the yield [%] and the
+    weighing checkpoints."""
+    d = sr.drying
+    if d is None or d.stop_weight_loss_percent is None:
+        return None
+    return {
+        "target_percent": d.stop_weight_loss_percent,
+        "reached": d.weight_stop_s is not None,
+        "weight_loss_percent": d.weight_loss_percent,
+        "yield_percent": d.yield_percent,
+        "time_in_step_min": _minutes(d.weight_stop_s),
+        "time_min": None if d.weight_stop_s is None else _minutes(sr.start_s + d.weight_stop_s),
+        "checkpoints": [
+            {"time_min": _minutes(sr.start_s + t), "weight_loss_percent": pct}
+            for t, pct in d.weight_checkpoints
+        ],
+    }
+
+
+def _weight_stop_line(sr, site=None) -> str | None:
+    ws = weight_stop_dict(sr)
+    if ws is None:
+        return None
+    if not ws["reached"]:
+        return (
+            f"    weight-loss stop {ws['target_percent']:g} %: not reached in the step (loss "
+            f"{ws['weight_loss_percent']:.1f} %, yield {ws['yield_percent']:.1f} %)"
+        )
+    return (
+        f"    weight-loss stop {ws['target_percent']:g} %: reached after {_time(site, ws['time_in_step_min'])} in the "
+        f"step (plan time {_time(site, ws['time_min'])}); yield {ws['yield_percent']:.1f} % of the piece's mass"
+    )
 
 
 def _drying_line(d, site=None) -> str:

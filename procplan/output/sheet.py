@@ -49,6 +49,7 @@ from procplan.output.sheet_sections import (
     product_section,
     salt_section,
     steps_section,
+    weight_section,
 )
 
 __all__ = ["DENSITIES", "MAX_PAGES", "batch_sheet_pdf", "printable"]
@@ -89,6 +90,7 @@ def _build(result, site, *, size, chart_h, paper, lot_id, revision, date, prepar
     story += chart_section(result, site, st, W, chart_h)
     story += checkpoints_section(result, site, st, W)
     story += salt_section(result, site, st, W)
+    story += weight_section(result, site, st, W)
     story += rules_section(result, site, st, W)
     story += lethality_section(result, site, st, W)
     story += freezing_section(result, site, st, W)

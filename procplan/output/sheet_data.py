@@ -377,3 +377,46 @@ def salt_checkpoints(result) -> tuple[SaltCheckpoint, ...]:
                 )
             )
     return tuple(out)
+
+
+@dataclass(frozen=True)
+class WeightCheckpoint:
+    """One weighing in a drying step: the predicted weight loss [% of the piece's mass at the step's start]
+    and the expected weight of a piece of the plan's size [kg]."""
+
+    time_min: float
+    step: str
+    weight_loss_percent: float
+    piece_kg: float
+    basis: str
+
+
+def weight_checkpoints(result) -> tuple[WeightCheckpoint, ...]:
+    """Pieces to weigh in each drying step, at a quarter, half, three quarters and the end of the step (the
+    weight-loss stop when it ends it); the values are the run's own loss history."""
+    out: list[WeightCheckpoint] = []
+    for sr in result.steps:
+        d = getattr(sr, "drying", None)
+        if d is None or not d.weight_checkpoints:
+            continue
+        start_kg = d.weight_loss_kg / (d.weight_loss_percent / 100.0) if d.weight_loss_percent > 0 else None
+        start_kg = result.piece_mass_kg if start_kg is None else start_kg
+        last = len(d.weight_checkpoints) - 1
+        for j, (t, pct) in enumerate(d.weight_checkpoints):
+            basis = "loss on course"
+            if j == last:
+                basis = (
+                    f"the {d.stop_weight_loss_percent:g} % weight-loss stop ends the step"
+                    if d.weight_stop_s is not None
+                    else "end of the step"
+                )
+            out.append(
+                WeightCheckpoint(
+                    time_min=(sr.start_s + t) / 60.0,
+                    step=sr.name,
+                    weight_loss_percent=pct,
+                    piece_kg=start_kg * (1.0 - pct / 100.0),
+                    basis=basis,
+                )
+            )
+    return tuple(out)

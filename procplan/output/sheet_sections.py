@@ -11,7 +11,13 @@ from reportlab.platypus import (
 
 from procplan.files.site import SiteSettings
 from procplan.output.chart import history_chart
-from procplan.output.sheet_data import ACTION_IF_MISSED, checkpoints, margin_note, salt_checkpoints
+from procplan.output.sheet_data import (
+    ACTION_IF_MISSED,
+    checkpoints,
+    margin_note,
+    salt_checkpoints,
+    weight_checkpoints,
+)
 from procplan.output.sheet_layout import (
     BOLD,
     FONT,
@@ -360,3 +366,43 @@ def salt_section(result, site, st, W):
         st.small,
     )
     return [*st.h("Salt checkpoints (samples)"), t, Spacer(1, 1), note]
+
+
+def weight_section(result, site, st, W):
+    """Pieces to weigh in the drying steps, with the predicted weight loss and piece weight; empty without."""
+    cps = weight_checkpoints(result)
+    if not cps:
+        return []
+    rows = [
+        [
+            "#",
+            "When (elapsed)",
+            "Step",
+            "Expected loss",
+            "Expected piece",
+            "Basis",
+            "Weighed",
+            "Time / initials",
+        ]
+    ]
+    for i, c in enumerate(cps, start=1):
+        rows.append(
+            [
+                str(i),
+                site.format_time_hm(c.time_min),
+                c.step,
+                f"{c.weight_loss_percent:.1f} %",
+                f"{c.piece_kg * 1000:.0f} g",
+                c.basis,
+                "",
+                "",
+            ]
+        )
+    t = table(rows, cols(W, [0.03, 0.1, 0.12, 0.1, 0.1, 0.27, 0.12, 0.16]), st)
+    note = st.p(
+        "Weigh the same marked pieces each time; loss = (weight at the step's start − weight now) / weight at the "
+        "step's start. A loss below the expected one: extend the step and weigh again. Evaporation only: drip "
+        "and fat running out are not in the prediction.",
+        st.small,
+    )
+    return [*st.h("Weight checkpoints (weigh pieces)"), t, Spacer(1, 1), note]

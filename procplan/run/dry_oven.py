@@ -52,6 +52,7 @@ from procplan.properties.sorption import (
     MoistureDiffusivity,
     dry_basis,
 )
+from procplan.run.dry_stop import solve_to_weight_loss, weight_checkpoints
 from procplan.surface.oven_air import DryingAir, latent_heat
 
 #: Passes of the waveform relaxation at most, and the change of the surface-temperature history [K] below
@@ -108,6 +109,7 @@ class DryOvenResult:
     wet_bulb_C : wet-bulb temperature of the air [°C]
     wet_until_s : time the surface water activity falls below :data:`DRY_SURFACE_WATER_ACTIVITY` [s] (None:
         it stays wet)
+    weight_stop_s : time the step's weight-loss stop ended it [s] (None: no such stop, or not reached)
     """
 
     heat: Any
@@ -117,6 +119,7 @@ class DryOvenResult:
     lost_kg: float
     wet_bulb_C: float
     wet_until_s: float | None
+    weight_stop_s: float | None = None
 
 
 def _moisture_geometry(geometry: Geometry, D_m2_s: float, end_s: float) -> Geometry:
@@ -250,6 +253,10 @@ class DryingSummary:
     loss_percent, yield_percent_history : water evaporated so far [% of the piece's mass at the step's start]
         and the mass left [%], at ``time_s``
     surface_moisture_history_kg_kg : surface moisture at ``time_s`` [kg water / kg dry matter]
+    stop_weight_loss_percent : the step's weight-loss stop [%] (None: none)
+    weight_stop_s : time from the step's start the weight loss was reached and ended the step [s] (None: no
+        stop, or not reached within the step)
+    weight_checkpoints : (time from the step's start [s], predicted weight loss [%]) for weighing pieces
     """
 
     weight_loss_kg: float
@@ -269,6 +276,9 @@ class DryingSummary:
     loss_percent: np.ndarray | None = field(default=None, compare=False, repr=False)
     yield_percent_history: np.ndarray | None = field(default=None, compare=False, repr=False)
     surface_moisture_history_kg_kg: np.ndarray | None = field(default=None, compare=False, repr=False)
+    stop_weight_loss_percent: float | None = None
+    weight_stop_s: float | None = None
+    weight_checkpoints: tuple[tuple[float, float], ...] = ()
 
     @property
     def converged(self) -> bool:
@@ -284,8 +294,14 @@ class DryingSummary:
         )
 
 
-def summarise(res: DryOvenResult, model: DryOvenModel, piece_mass_kg: float) -> DryingSummary:
-    """The per-piece summary of a dry-air step."""
+def summarise(
+    res: DryOvenResult,
+    model: DryOvenModel,
+    piece_mass_kg: float,
+    area_m2: float,
+    stop_fraction: float | None = None,
+) -> DryingSummary:
+    """The per-piece summary of a dry-air step (``stop_fraction``: the step's weight-loss stop [-])."""
     pct = 100.0 * res.lost_kg / piece_mass_kg
     per_m2 = np.asarray(res.moisture.lost_kg_m2, dtype=float)
     # the loss so far: the same surface area throughout, so the share of the final loss per m² scales it
@@ -308,6 +324,9 @@ def summarise(res: DryOvenResult, model: DryOvenModel, piece_mass_kg: float) -> 
         loss_percent=loss,
         yield_percent_history=100.0 - loss,
         surface_moisture_history_kg_kg=np.asarray(res.moisture.surface_kg_kg, dtype=float),
+        stop_weight_loss_percent=None if stop_fraction is None else 100.0 * stop_fraction,
+        weight_stop_s=res.weight_stop_s,
+        weight_checkpoints=weight_checkpoints(res, area_m2, piece_mass_kg),
     )
 
 
@@ -330,19 +349,29 @@ def dry_oven_step(geometry, props, initial, surface, step, n_nodes, time_setting
     model = getattr(surface, "drying_air", None)
     if model is None:
         return None
-    res = solve_dry_oven(
-        geometry,
-        props,
-        initial,
-        surface.boundary(),
-        model,
-        step.duration_s,
-        n_nodes=n_nodes,
-        stop_when_core_C=step.stop_when_core_C,
-        max_steps=MAX_TIME_STEPS_PER_STEP,
-        **time_settings,
-    )
-    return res.heat, summarise(res, model, props.mass_density_kg_m3 * geometry.volume_m3)
+    boundary = surface.boundary()
+
+    def solve(end_s: float) -> DryOvenResult:
+        return solve_dry_oven(
+            geometry,
+            props,
+            initial,
+            boundary,
+            model,
+            end_s,
+            n_nodes=n_nodes,
+            stop_when_core_C=step.stop_when_core_C,
+            max_steps=MAX_TIME_STEPS_PER_STEP,
+            **time_settings,
+        )
+
+    mass = props.mass_density_kg_m3 * geometry.volume_m3
+    loss = step.stop_when_weight_loss_fraction
+    if loss is None:
+        res = solve(step.duration_s)
+    else:
+        res = solve_to_weight_loss(solve, geometry, step.duration_s, loss * mass)
+    return res.heat, summarise(res, model, mass, geometry.area_m2, loss)
 
 
 def carried_field(run, props):

@@ -32,6 +32,7 @@ from procplan.run.budget import (
     unreliable_reason,
 )
 from procplan.run.dry_oven import carried_field, dry_oven_step, range_warnings
+from procplan.run.dry_stop import check_weight_stop
 from procplan.run.results import PlanResult, StepResult, StepSolverDetails
 from procplan.run.solver import PROPERTY_SPREAD_LIMIT, choose_solver, exact_properties, exact_sample_times
 from procplan.run.step_surface import StepSurface, resolve_step_surface
@@ -200,7 +201,8 @@ def _fv_step(
         time_tolerance_K=res.time_tolerance_K,
         local_error_estimate_K=res.local_error_estimate_K,
     )
-    return _StepRun(frame, res.stopped_at_s, balance, details, res, machine, dried and dried[1])
+    stop = dried[1].weight_stop_s if dried and dried[1].weight_stop_s is not None else res.stopped_at_s
+    return _StepRun(frame, stop, balance, details, res, machine, dried and dried[1])
 
 
 @dataclass(frozen=True)
@@ -325,6 +327,12 @@ def _step_warnings(
         out.append(
             f"{step.name}: the core did not reach {step.stop_when_core_C:g} °C within {step.duration_s / 60:g} min"
         )
+    d = run.drying
+    if d is not None and d.stop_weight_loss_percent is not None and d.weight_stop_s is None:
+        out.append(
+            f"{step.name}: the predicted weight loss reached {d.weight_loss_percent:.1f} %, not the "
+            f"{d.stop_weight_loss_percent:g} % asked, by the end of the step"
+        )
     out.extend(w for w in [run.machine and run.machine.warning(step.name)] if w)
     if unreliable is not None:
         out.append(unreliable)
@@ -358,6 +366,7 @@ def _run_step(
         surface = replace(
             surface, evaporation=None, warnings=(*surface.warnings, CRUST_NOTE.format(step.name))
         )
+    check_weight_stop(step, i, surface)
     mass = None
     if step.brine is not None:
         from procplan.run.mass_step import brine_first

@@ -128,7 +128,14 @@ def _water_fraction(brine: Brine, product: Product, label: str) -> float:
 
 
 def _diffusivity(brine: Brine, temperature_C: float, label: str) -> tuple[float, str]:
-    """D [m²/s] at the brine temperature and where it came from."""
+    """D [m²/s] at the brine temperature and where it came from, times the brine's study factor."""
+    d, source = _base_diffusivity(brine, temperature_C, label)
+    if brine.D_factor == 1.0:
+        return d, source
+    return d * brine.D_factor, f"{source}; × {brine.D_factor:.3g} (sampled in a study)"
+
+
+def _base_diffusivity(brine: Brine, temperature_C: float, label: str) -> tuple[float, str]:
     if brine.diffusivity is not None:
         rec = registry.DIFFUSIVITIES[brine.diffusivity]
         lo, hi = rec.range_C

@@ -42,6 +42,41 @@ METRIC_COLUMNS: dict[str, str] = {
 }
 
 
+#: Columns added to a metrics row when the plan has a brining (or curing) step, from its last such step.
+SALT_METRIC_COLUMNS: dict[str, str] = {
+    "salt_core_percent": "solute content at the core at the end of the last brining step [%]",
+    "salt_mean_percent": "mean solute content of the piece at the end of the last brining step [%]",
+    "salt_time_min": "time from the start of that step to its solute stop, or else to its core target [min] "
+    "(NaN when not reached; the step's duration without a stop or core target)",
+}
+
+
+def salt_metrics(result) -> dict[str, float]:
+    """The solute figures of the last brining step (:data:`SALT_METRIC_COLUMNS`); empty without one."""
+    ms = [
+        s.mass for s in result.steps if getattr(s, "mass", None) is not None and s.mass.mode != "equalisation"
+    ]
+    if not ms:
+        return {}
+    sr = [s for s in result.steps if getattr(s, "mass", None) is not None and s.mass.mode != "equalisation"][
+        -1
+    ]
+    m, b = sr.mass, result.plan.steps[sr.index].brine
+    if m.stopped_on is not None:
+        t = m.stopped_at_s
+    elif b.stop_when_core_fraction is not None or b.stop_when_mean_fraction is not None:
+        t = None  # the solute stop was not reached in the step
+    elif m.target_core_fraction is not None:
+        t = m.target_core_reached_s
+    else:
+        t = float(m.time_s[-1])
+    return {
+        "salt_core_percent": 100.0 * float(m.core_fraction[-1]),
+        "salt_mean_percent": 100.0 * float(m.mean_fraction[-1]),
+        "salt_time_min": math.nan if t is None else float(t) / 60.0,
+    }
+
+
 def _nan(x: float | None) -> float:
     return math.nan if x is None else float(x)
 
@@ -135,6 +170,7 @@ def result_metrics(result) -> dict[str, Any]:
     row["plant_limit_min"] = sum(m.time_at_limit_s for m in loaded) / 60.0
     row["solvers"] = ", ".join(s.solver for s in result.steps)
     row["warnings"] = len(result.warnings)
+    row.update(salt_metrics(result))
     return row
 
 

@@ -1,6 +1,7 @@
 """Variability: Monte Carlo over uncertain inputs, percentiles of time to target and lethality.
 
-Inputs (:data:`VARIABLES`) are drawn from distributions (:mod:`procplan.studies.distributions`: normal,
+Inputs (:data:`VARIABLES`; on a brining plan also the salt diffusivity and brine strength of
+:mod:`procplan.studies.variability_brine`) are drawn from distributions (:mod:`procplan.studies.distributions`: normal,
 uniform, triangular, lognormal, each optionally truncated to bounds) with a seeded
 ``numpy.random.Generator``, so the same seed gives the same numbers. Two paths:
 
@@ -43,6 +44,7 @@ from procplan.outcomes.rules import RULE_KINDS, check_rule
 from procplan.output.json_safe import json_safe
 from procplan.run.solver import SolverChoice, choose_solver, exact_properties
 from procplan.studies.distributions import DISTRIBUTIONS, Distribution, distribution, parse_distribution
+from procplan.studies.variability_brine import BRINE_VARIABLES, SALT_SUMMARY
 
 __all__ = [
     "DISTRIBUTIONS",
@@ -122,6 +124,7 @@ VARIABLES: dict[str, tuple[str, Callable[..., Plan]]] = {
         "water mass fraction, the other components scaled to keep the sum 1 [-]",
         _apply_water,
     ),
+    **BRINE_VARIABLES,
 }
 
 
@@ -205,6 +208,8 @@ def _fast_path_blockers(plan: Plan, nominal, names: set[str], solver: str | None
         why.append("the machine cannot hold its set point with this batch (the medium is solved with it)")
     if "water_fraction" in names:
         why.append("the composition varies")
+    if any(s.brine is not None for s in plan.steps) or names & set(BRINE_VARIABLES):
+        why.append("salt uptake in a brining step")
     step = plan.steps[0]
     tgt = step.stop_when_core_C is not None or any(t.point == "core" for t in step.targets)
     if not tgt and plan.checks.lethality is None:
@@ -402,6 +407,9 @@ def _run_path(plan, samples, step_index, ctx, library, run_opts, running, frame)
     frame["lethality_F_min"] = [r.get("lethality_F_min", math.nan) for r in rows]
     frame["lethality_passed"] = [r.get("lethality_passed") for r in rows]
     frame["rule_passed"] = [r.get("rule_passed") for r in rows]
+    for col, _ in SALT_SUMMARY:
+        if any(col in r for r in rows):
+            frame[col] = [r.get(col, math.nan) for r in rows]
     return [f"{len(errors)} sample(s) invalid, e.g. {errors[0]}"] if errors else []
 
 
@@ -418,6 +426,10 @@ def _summarise(plan: Plan, frame: pd.DataFrame):
         pct["lethality_F_min"] = _percentiles(fl, low=True)
     lp = frame["lethality_passed"].dropna()
     p_leth = float(1.0 - lp.astype(bool).mean()) if len(lp) else None
+    for col, low in SALT_SUMMARY:  # brining plans: contents by their low tail, the time by its high tail
+        if col in frame:
+            x = frame[col].to_numpy(dtype=float)
+            pct[col] = _percentiles(x if low else np.where(np.isnan(x), np.inf, x), low=low)
     rp = frame["rule_passed"].dropna()
     p_rule = float(1.0 - rp.astype(bool).mean()) if len(rp) else None
     return pct, p_not, p_leth, p_rule
@@ -508,7 +520,9 @@ def _corners(plan, distributions, step_index, ctx, library, solver, n_nodes, dt_
     def badness(r):
         if r.get("error"):
             return -math.inf
-        t = r.get("time_to_target_min")
+        t, salt = r.get("time_to_target_min"), r.get("salt_time_min")
+        if not r.get("target_step") and salt is not None:  # a brining plan: the longest time to the salt
+            return math.inf if not math.isfinite(salt) else salt
         if r.get("target_step"):
             return math.inf if t is None or not math.isfinite(t) else t
         f = r.get("lethality_F_min")

@@ -123,6 +123,16 @@ class DryingAir:
         return humidity_ratio(self.dew_point_C, self.pressure_Pa)
 
     @cached_property
+    def relative_humidity(self) -> float:
+        """p_sat(T_dew)/p_sat(T_air) [-]: the water activity of a product in equilibrium with the air at its
+        temperature (relative humidity, ASHRAE Fundamentals 2017, ch. 1).
+
+        >>> round(DryingAir(20.0, 20.0, 10.0).relative_humidity, 6)
+        1.0
+        """
+        return float(_psat_hfg(self.dew_point_C)[0] / _psat_hfg(self.air_C)[0])
+
+    @cached_property
     def humid_cp_J_kgK(self) -> float:
         """c_p,a + W c_p,v [J/(kg dry air · K)], dry air at the air temperature."""
         return air_properties(self.air_C).cp_J_kgK + self.humidity_ratio * CP_VAPOUR_J_KGK
