@@ -26,6 +26,7 @@ pivoting of a tridiagonal matrix).
 
 from __future__ import annotations
 
+import math
 from dataclasses import replace
 
 import numpy as np
@@ -75,32 +76,36 @@ class BatchModel:
         self.S = size_factor.size
         self.medium_C, self.h = medium_C, h_W_m2K
         self.fk, self.fc, self.fr = factors
-        grids = {}
-        for f in np.unique(size_factor):
-            grids[f] = build_grid(scaled_geometry(geometry, float(f)), n_nodes, surface_refinement)
-        rows = [grids[f] for f in size_factor]
-        first = rows[0]
-        self.grid = first  # the grid of the first sample (its layout is every sample's)
-        self.n = first.n_cells
-        self.piece_factor = first.piece_factor
-        self.volume = np.stack([g.volume_m3 for g in rows])
-        self.fg = np.stack([g.face_geometry_m for g in rows])
-        self.area = np.array([g.surface_area_m2[0] for g in rows])
+        self.unit_c = bool(np.all(self.fc == 1.0))  # no enthalpy factor: H is the table's own
+        # one grid, scaled to each size: cell measures go as f^p, face measures over node distances as
+        # f^(p-2) and the surface as f^(p-1), p = 1, 2, 3 for slab, cylinder, sphere (fv_grid's measures)
+        grid = build_grid(geometry, n_nodes, surface_refinement)
+        p = {"slab": 1, "cylinder": 2, "sphere": 3}[grid.axes[0].kind]
+        f = size_factor[:, None]
+        self.grid = grid
+        self.n = grid.n_cells
+        self.volume = grid.volume_m3[None, :] * f**p
+        self.fg = grid.face_geometry_m[None, :] * f ** (p - 2)
+        self.area = grid.surface_area_m2[0] * size_factor ** (p - 1)
+        q = round(math.log2(scaled_geometry(geometry, 2.0).volume_m3 / geometry.volume_m3))
+        self.piece_factor = geometry.volume_m3 * size_factor**q / self.volume.sum(axis=1)
         # the table's arrays, as the single-sample solver builds them
-        base = FVModel(first, props, SurfaceBoundary.constant(0.0, 1.0))
+        base = FVModel(grid, props, SurfaceBoundary.constant(0.0, 1.0))
         self.base = base
         self.mass = (props.mass_density_kg_m3 * self.fr)[:, None] * self.volume
         self.cp_min = base.cp_min * self.fc  # smallest sensible specific heat of each sample [J/kgK]
 
     def temperature(self, H: np.ndarray, rows=slice(None)) -> np.ndarray:
         """T(H) [°C] of the rows' fields (shape (rows, nodes) or (rows,))."""
+        if self.unit_c:
+            return np.interp(H, self.base._hx, self.base._tx)
         fc = self.fc[rows]
         return np.interp(H / (fc[:, None] if H.ndim == 2 else fc), self.base._hx, self.base._tx)
 
     def surface_heat_W(self, T_surface: np.ndarray, rows=slice(None)) -> np.ndarray:
         """Heat into each piece [W] at the rows' surface temperatures (the single solver's order of operations)."""
         q = self.h[rows] * (self.medium_C[rows] - T_surface)
-        return self.area[rows] * q * self.piece_factor
+        return self.area[rows] * q * self.piece_factor[rows]
 
     def mean_C(self, H: np.ndarray) -> np.ndarray:
         """Each sample's mass-weighted mean temperature [°C]: T at the volume-mean enthalpy."""
@@ -178,6 +183,7 @@ class _Rows:
         self.fg, self.area, self.h, self.tm = bm.fg[rows], bm.area[rows], bm.h[rows], bm.medium_C[rows]
         self.tol = 1e-6 * bm.cp_min[rows]
         self.unit_k = bool(np.all(self.fk == 1.0))
+        self.unit_c = bm.unit_c
 
     def take(self, keep: np.ndarray) -> _Rows:
         return _Rows(self.bm, self.rows[keep], self.md[keep], self.rhs0[keep], self.Hn[keep])
@@ -188,7 +194,7 @@ def _newton_update(st: _Rows, H: np.ndarray):
     converged after the update (the linear shortcut), H after the update)."""
     base = st.bm.base
     hg, slope, nseg, ksl = base.h_grid, base.slope, base.nseg, base._kslope
-    u = H / st.fc
+    u = H if st.unit_c else H / st.fc
     T = np.interp(u, base._hx, base._tx)
     k = np.interp(T, base._tk, base._kk)
     if not st.unit_k:
@@ -210,7 +216,8 @@ def _newton_update(st: _Rows, H: np.ndarray):
         return done, nothing, nothing, H[:0]
     if done.any():  # the rest of the iteration for the others only
         st, sel = st.take(np.nonzero(~done)[0]), ~done
-        H, u, T, k, G, dT, R = H[sel], u[sel], T[sel], k[sel], G[sel], dT[sel], R[sel]
+        H, T, k, G, dT, R = H[sel], T[sel], k[sel], G[sel], dT[sel], R[sel]
+        u = H if st.unit_c else u[sel]
         ki, kj, ssum = k[:, :-1], k[:, 1:], k[:, :-1] + k[:, 1:]
     # dT/dH on the segment H moves into
     idx = np.searchsorted(hg, u, side="right") - 1
@@ -219,7 +226,7 @@ def _newton_update(st: _Rows, H: np.ndarray):
     if at_point.any():
         moving_down = np.where(H != st.Hn, H < st.Hn, R > 0)
         idx = np.clip(idx - (at_point & moving_down), 0, nseg - 1)
-    D = slope[idx] / st.fc
+    D = slope[idx] if st.unit_c else slope[idx] / st.fc
     if ksl.size:
         seg = np.searchsorted(base._tk, T, side="right") - 1
         dk = np.where((seg >= 0) & (seg < ksl.size), ksl[np.clip(seg, 0, ksl.size - 1)], 0.0)
@@ -237,11 +244,19 @@ def _newton_update(st: _Rows, H: np.ndarray):
     delta, failed = stacked_tridiagonal(af * D[:, :-1], st.md - dd * D, -bf * D[:, 1:], -R)
     cut = np.zeros(H.shape, dtype=bool)
     if base.kinks.size:
-        d_u, cut = _stop_on_kinks(base.kinks, u.ravel(), (delta / st.fc).ravel())
-        delta = d_u.reshape(H.shape) * st.fc  # (a failed row is not updated)
+        if st.unit_c:
+            d_u, cut = _stop_on_kinks(base.kinks, u.ravel(), delta.ravel())
+            delta = d_u.reshape(H.shape)  # (a failed row is not updated)
+        else:
+            d_u, cut = _stop_on_kinks(base.kinks, u.ravel(), (delta / st.fc).ravel())
+            delta = d_u.reshape(H.shape) * st.fc
         cut = cut.reshape(H.shape)
     H_new = H + delta
-    nonlinear_k = ksl[idx].any(axis=1)
-    new_idx = np.clip(np.searchsorted(hg, H_new / st.fc, side="right") - 1, 0, nseg - 1)
-    linear_done = ~failed & ~cut.any(axis=1) & ~nonlinear_k & np.all(new_idx == idx, axis=1)
+    # the linear shortcut: every cell stayed on its table segment, where k is constant
+    linear_done = ~failed & ~cut.any(axis=1) & ~ksl[idx].any(axis=1)
+    if linear_done.any():
+        c = np.nonzero(linear_done)[0]
+        u_new = H_new[c] if st.unit_c else H_new[c] / st.fc[c]
+        new_idx = np.clip(np.searchsorted(hg, u_new, side="right") - 1, 0, nseg - 1)
+        linear_done[c] = np.all(new_idx == idx[c], axis=1)
     return done, failed, linear_done, H_new

@@ -268,7 +268,7 @@ class _BatchStepper:
         return 1.0, H, H
 
     def attempt(self, dtn: float):
-        """Every sample's step of dtn [s] as ``TimeStepper.attempt`` takes it. Returns (H, converged)."""
+        """Every sample's step of dtn [s] as ``TimeStepper.attempt`` takes it. Returns (H, T, converged)."""
         bm, H, S = self.bm, self.H, self.bm.S
         a, hist, guess = self._coefficients(dtn)
         every = np.arange(S)
@@ -277,20 +277,21 @@ class _BatchStepper:
         if bad.size:  # the extrapolated guess may sit past a kink; retry from the old state
             H1[bad], it2, ok[bad] = solve_rows(bm, bad, dtn, np.full(bad.size, a), hist[bad], H[bad], H[bad])
             it[bad] += it2
+        T1 = bm.temperature(H1)
         if a != 1.0:
             # BDF2 is not monotone: a sample overshooting the range of its old field and its medium is redone
             # by backward Euler
             lo = np.minimum(self.T_cur.min(axis=1), bm.medium_C)
             hi = np.maximum(self.T_cur.max(axis=1), bm.medium_C)
-            T1 = bm.temperature(H1)
             slack = 1e-6 * (hi - lo) + 1e-9
             over = np.nonzero(ok & ((T1.min(axis=1) < lo - slack) | (T1.max(axis=1) > hi + slack)))[0]
             if over.size:
                 Ho = H[over]
                 H1[over], it2, ok[over] = solve_rows(bm, over, dtn, np.ones(over.size), Ho, Ho, Ho)
                 it[over] += it2
+                T1[over] = bm.temperature(H1[over], over)
         self.n_it += int(it.sum())
-        return H1, ok
+        return H1, T1, ok
 
     def run(self, stop: np.ndarray | None) -> None:
         """Advance to the end, or until every core has crossed its stop temperature."""
@@ -303,7 +304,7 @@ class _BatchStepper:
                     "max_steps", self.max_steps, f"enough time steps to reach {self.end:g} s"
                 )
             step = self._next_step()
-            H1, ok = self.attempt(step)
+            H1, T1, ok = self.attempt(step)
             if not ok.all():
                 if not s.adaptive:
                     raise ConductionSolverError(f"no convergence at t = {self.t:g} s with dt = {step:g} s")
@@ -314,7 +315,6 @@ class _BatchStepper:
                         f"no convergence at t = {self.t:g} s even with dt = {step:g} s"
                     )
                 continue
-            T1 = self.bm.temperature(H1)
             change = np.max(np.abs(T1 - self.T_cur), axis=1)
             over = change > 1.5 * self.target
             if s.adaptive and over.any() and step > 1e-7 * self.end:
