@@ -25,10 +25,14 @@ from procplan.conduction.fv_batch_run import BatchConductionResult, solve_conduc
 from procplan.outcomes.rules import check_rule
 from procplan.run.budget import ENERGY_BALANCE_LIMIT
 
-__all__ = ["batch_blockers", "batch_run"]
+__all__ = ["batch_blockers", "batch_count", "batch_run"]
 
-#: Fewest samples per thread: below it one batch in this thread (the threads would only add overhead).
-MIN_SAMPLES_PER_THREAD = 200
+
+def batch_count(n_samples: int) -> int:
+    """Batches of a study: one below 1,000 samples, else one per 2,500 samples, 2 to 4. Fixed by the number of
+    samples, not the machine's cores, so that the same seed gives the same numbers everywhere (each batch
+    chooses its own common steps); they run on threads, up to the machine's cores."""
+    return 1 if n_samples < 1000 else min(4, max(2, n_samples // 2500))
 
 
 def batch_blockers(plan, nominal, fast_blockers: list[str]) -> list[str]:
@@ -60,7 +64,7 @@ def _histories(plan, nominal, samples: dict, ctx, h: np.ndarray, n_nodes, dt_s, 
     n = len(h)
     start = np.broadcast_to(samples.get("start_C", plan.start_temperature_C), (n,)).astype(float)
     size = np.asarray(samples.get("size_factor", np.ones(n)), dtype=float)
-    parts = np.array_split(np.arange(n), max(1, min(workers, n // MIN_SAMPLES_PER_THREAD)))
+    parts = np.array_split(np.arange(n), batch_count(n))
 
     def run(ix):
         return ix, solve_conduction_batch(
@@ -78,7 +82,7 @@ def _histories(plan, nominal, samples: dict, ctx, h: np.ndarray, n_nodes, dt_s, 
 
     if len(parts) == 1:
         return [run(parts[0])]
-    with ThreadPoolExecutor(max_workers=len(parts)) as pool:
+    with ThreadPoolExecutor(max_workers=min(len(parts), max(1, workers))) as pool:
         return list(pool.map(run, parts))
 
 
