@@ -91,3 +91,21 @@ def test_falls_back_with_the_reason_and_refuses_batch():
     with pytest.raises(InvalidInputError) as e:
         monte_carlo(plan, {"start_C": distribution("uniform", 60.0, 70.0)}, n_samples=2, method="batch")
     assert e.value.field == "method"
+
+
+def test_batches_on_threads_repeat_and_agree(monkeypatch):
+    # Source: the study's contract (same seed, same numbers) and, for the split into batches that each choose
+    # their own steps, the finite-volume accuracy as above (0.3 %) between one batch and two.
+    import procplan.studies.variability_batch as vb
+
+    plan = _beef_plan([Step("chill", 8 * 3600.0, 5.0, medium_C=0.0, h_W_m2K=25.0)])
+    kw = {"n_samples": 40, "seed": 2, "corners": False}
+    assert vb.batch_count(999) == 1 and vb.batch_count(10_000) == 4
+    one = monte_carlo(plan, DISTS, **kw)
+    monkeypatch.setattr(vb, "batch_count", lambda n: 2)
+    two = monte_carlo(plan, DISTS, **kw)
+    again = monte_carlo(plan, DISTS, **kw)
+    assert "2 batch(es)" in two.notes[0]
+    assert two.samples.equals(again.samples)
+    t1, t2 = (r.samples["time_to_target_min"].to_numpy() for r in (one, two))
+    assert_allclose(t2, t1, rtol=3e-3)
