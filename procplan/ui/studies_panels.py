@@ -295,16 +295,10 @@ def variability(text: str, u: Units) -> None:
         seed = int(widgets.number("Seed", 0, "mc_seed", minimum=0, maximum=2**31 - 1, step=1, fmt="%.0f"))
     method = c[2].selectbox(
         "Method",
-        ["auto", "exact", "batch", "run"],
+        ["auto", "exact", "run"],
         key="mc_method",
-        format_func={
-            "auto": "automatic",
-            "exact": "exact series (fast)",
-            "batch": "full model, all samples together",
-            "run": "full model per sample",
-        }.get,
-        help="exact: vectorised series (one step, constant properties); batch: the full model for all samples "
-        "at once (one step, slab, cylinder or sphere, constant surroundings); run: the full model per sample",
+        format_func={"auto": "automatic", "exact": "exact series (fast)", "run": "full model per sample"}.get,
+        help="exact: vectorised series (one step, constant properties); run: the full model per sample",
     )
     names = _step_names(plan)
     step_index = names.index(c[3].selectbox("Step whose h varies", names, key="mc_step"))
