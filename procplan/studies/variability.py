@@ -326,6 +326,8 @@ def monte_carlo(
 
         h = _fast_h(plan, samples, ctx, n)
         notes = batch_run(plan, nominal, samples, ctx, h, library, frame, (n_nodes, dt_s, default_workers()))
+        if progress is not None:
+            progress(n, n)
     else:
         run_opts = {"solver": solver, "n_nodes": n_nodes, "dt_s": dt_s}
         notes += _run_path(
