@@ -171,3 +171,14 @@ def test_refuses_a_2d_shape_and_bad_samples():
     with pytest.raises(InvalidInputError) as e:
         solve_conduction_batch(SHAPES["slab"], BEEF, [20.0, 20.0], 0.0, [10.0, -1.0], 60.0)
     assert e.value.field == "h_W_m2K"
+
+
+def test_refuses_step_times_that_miss_the_end_and_too_few_steps():
+    # Source: project rule (procplan/errors.py): invalid input raises InvalidInputError naming the field.
+    g = SHAPES["slab"]
+    with pytest.raises(InvalidInputError) as e:
+        solve_conduction_batch(g, BEEF, 20.0, 0.0, 10.0, 600.0, step_times_s=[100.0, 300.0])
+    assert e.value.field == "step_times_s"
+    with pytest.raises(InvalidInputError) as e:
+        solve_conduction_batch(g, BEEF, 20.0, 0.0, 10.0, 3600.0, max_steps=3)
+    assert e.value.field == "max_steps"
