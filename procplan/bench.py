@@ -305,16 +305,24 @@ def bench_finite_cylinder(repeats: int = 3) -> list[tuple[str, float, str]]:
 
 
 def bench_studies() -> list[tuple[str, float, str]]:
-    """Monte Carlo of a series case: the vectorised exact path against one engine run per sample (baseline)."""
+    """Monte Carlo against one engine run per sample: exact path (series case), batched FV (1-D T-dependent)."""
     from procplan.studies.variability import bench_variability
+    from procplan.studies.variability_bench import bench_batch_chill
 
-    b = bench_variability()
-    n = int(b["n_samples"])
+    b, c = bench_variability(), bench_batch_chill()
+    n, m = int(b["n_samples"]), int(c["n_samples"])
     baseline = b["run_per_sample_s"] * n
     return [
         (f"variability, {n} samples, vectorised series", b["fast_s"], "exact fast path"),
         (f"  baseline: {n} engine runs (extrapolated from 20)", baseline, "run_plan per sample"),
         ("  ratio baseline / vectorised", baseline / b["fast_s"], "(times faster)"),
+        (f"variability, {m} samples, 1-D T-dependent chill, batched", c["batch_s"], "threads on the cores"),
+        (f"  baseline: {m} engine runs (extrapolated from 10)", c["one_at_a_time_s"], "run_plan per sample"),
+        (
+            "  ratio baseline / batched",
+            c["ratio"],
+            f"time to 5 °C within {c['max_time_difference_min']:.3f} min",
+        ),
     ]
 
 

@@ -124,9 +124,9 @@ def _add_variability(subparsers) -> None:
     v.add_argument("--seed", type=int, default=0, help="random seed (default 0)")
     v.add_argument(
         "--method",
-        choices=["auto", "exact", "run"],
+        choices=["auto", "exact", "batch", "run"],
         default="auto",
-        help="fast exact path, run_plan per sample, or automatic",
+        help="fast exact path, batched full model (1-D, one step), run_plan per sample, or automatic",
     )
     v.add_argument(
         "--workers",

@@ -10,6 +10,9 @@ uniform, triangular, lognormal, each optionally truncated to bounds) with a seed
   :func:`procplan.conduction.product.centre_series` (Incropera §5.5–5.8), with properties taken as the
   engine takes them (:func:`procplan.run.solver.exact_properties`), and the cooling rule checked by
   :func:`procplan.outcomes.rules.check_rule` on each sample's core history;
+* ``"batch"``: one step on a 1-D product that the engine solves by finite volumes (temperature-dependent
+  properties) in a constant medium: all samples stacked in one batched finite-volume run
+  (:mod:`procplan.studies.variability_batch`);
 * ``"run"`` (general): :func:`procplan.run.engine.run_plan` for every sample, optionally through any
   ``concurrent.futures.Executor``.
 
@@ -281,8 +284,9 @@ def monte_carlo(
     seed : seed of ``numpy.random.default_rng``; the same seed gives the same samples and results
     library : resolves machines and rules
     step_index : the step whose h the h variables change
-    method : "auto" (the exact fast path when it applies), "exact" (fast path; refused when it does not
-        apply) or "run" (run_plan per sample)
+    method : "auto" (the exact fast path when it applies, else the batched finite-volume path when it
+        applies, else run_plan per sample), "exact" (fast path; refused when it does not apply), "batch"
+        (batched finite volumes; refused when they do not apply) or "run" (run_plan per sample)
     executor : for the "run" path: "auto" (default: a process pool on the machine's cores when it pays,
         see :func:`procplan.studies.runner.run_jobs`), None (in this process) or any concurrent.futures.Executor
     corners : also run the worst-case corners (2^k runs for k variables)
@@ -318,8 +322,17 @@ def monte_carlo(
     samples = {k: distributions[k].sample(rng, n) for k in names}
     fast, notes = _choose_path(plan, nominal, names, step_index, ctx, method, solver)
     frame = pd.DataFrame(samples)
+    path = "exact" if fast else _batch_or_run(plan, nominal, names, step_index, method, solver, notes)
     if fast:
         _fast_run(plan, nominal, samples, ctx, library, frame)
+    elif path == "batch":
+        from procplan.studies.runner import default_workers
+        from procplan.studies.variability_batch import batch_run
+
+        h = _fast_h(plan, samples, ctx, n)
+        notes = batch_run(plan, nominal, samples, ctx, h, library, frame, (n_nodes, dt_s, default_workers()))
+        if progress is not None:
+            progress(n, n)
     else:
         run_opts = {"solver": solver, "n_nodes": n_nodes, "dt_s": dt_s}
         notes += _run_path(
@@ -332,7 +345,7 @@ def monte_carlo(
         )
     pct, p_not, p_leth, p_rule = _summarise(plan, frame)
     return VariabilityResult(
-        method="exact" if fast else "run",
+        method=path,
         n_samples=n,
         seed=int(seed),
         samples=frame,
@@ -350,7 +363,7 @@ def monte_carlo(
 
 def _check_inputs(plan: Plan, distributions, n_samples, seed, method: str, step_index: int) -> int:
     """Validate the study's inputs; return the number of samples."""
-    validate.choice("method", method, ("auto", "exact", "run"))
+    validate.choice("method", method, ("auto", "exact", "batch", "run"))
     n = int(validate.number("n_samples", n_samples, minimum=1, maximum=1e6))
     if isinstance(seed, bool) or not isinstance(seed, int | np.integer):
         raise InvalidInputError("seed", seed, "an integer")
@@ -370,11 +383,7 @@ def _check_inputs(plan: Plan, distributions, n_samples, seed, method: str, step_
 def _choose_path(plan: Plan, nominal, names, step_index, ctx, method: str, solver) -> tuple[bool, list[str]]:
     """Whether the exact fast path runs, and the notes that say why (not)."""
     blockers = _fast_path_blockers(plan, nominal, set(names), solver)
-    machine = plan.steps[step_index].equipment is not None
-    if machine and not ("h_W_m2K" in names or set(names) <= {"h_factor"}):
-        machine_block = "the machine's h depends on the sampled size or start temperature"
-    else:
-        machine_block = None
+    machine_block = _machine_block(plan, names, step_index)
     notes: list[str] = []
     if method == "exact" and blockers:
         raise InvalidInputError("method", "exact", "auto or run for this plan", "; ".join(blockers))
@@ -386,6 +395,31 @@ def _choose_path(plan: Plan, nominal, names, step_index, ctx, method: str, solve
             "run_plan per sample: " + "; ".join(blockers + ([machine_block] if machine_block else []))
         )
     return fast, notes
+
+
+def _machine_block(plan: Plan, names, step_index: int) -> str | None:
+    machine = plan.steps[step_index].equipment is not None
+    if machine and not ("h_W_m2K" in names or set(names) <= {"h_factor"}):
+        return "the machine's h depends on the sampled size or start temperature"
+    return None
+
+
+def _batch_or_run(plan, nominal, names, step_index, method: str, solver, notes: list[str]) -> str:
+    """ "batch" when the batched finite-volume path runs the samples, else "run" (with the reason in the notes)."""
+    from procplan.studies.variability_batch import batch_blockers
+
+    if method not in ("auto", "batch"):
+        return "run"
+    block = _machine_block(plan, names, step_index)
+    fast = _fast_path_blockers(plan, nominal, set(names), solver) + ([block] if block else [])
+    why = batch_blockers(plan, nominal, fast)
+    if method == "batch" and why:
+        raise InvalidInputError("method", "batch", "auto or run for this plan", "; ".join(why))
+    if why:
+        notes.append("not batched: " + "; ".join(why))
+        return "run"
+    notes.clear()
+    return "batch"
 
 
 def _run_path(plan, samples, step_index, ctx, library, run_opts, running, frame) -> list[str]:
