@@ -289,7 +289,13 @@ def _targets(run: _Run, warnings: list[str]) -> tuple[StepTarget, ...]:
             margin = None
             if tr.reached:
                 predicted_min = (tr.time_s - sr.start_s) / 60.0
-                cycle = step.duration_s / 60.0 if step.duration_given else predicted_min
+                # the step's cycle: its given duration, else how long it ran (to its stop condition), so a
+                # target reached before the stop is measured against the step's real length, not itself
+                cycle = (
+                    step.duration_s / 60.0
+                    if step.duration_given
+                    else max(sr.duration_s / 60.0, predicted_min)
+                )
                 margin = oc.check_cycle(max(predicted_min, 1e-9), cycle, ch.margin_percent, ch.margin_min)
                 if step.duration_given and margin.cycle_too_short:
                     warnings.append(f"{step.name}: {margin.message}")

@@ -189,3 +189,18 @@ def test_the_sheet_asks_for_the_probe_at_its_depth():
         assert c.expected_C == pytest.approx(ref, abs=1e-9)
     assert batch_sheet_pdf(res, site=SiteSettings("Test plant")).startswith(b"%PDF")
     assert "depth 10mm [°C]" in history_table(res).columns
+
+
+def test_a_target_reached_before_the_stop_is_measured_against_the_steps_real_length():
+    # Invariant: a step that runs to its stop condition has the stop's time as its cycle; a target reached
+    # earlier (the surface before the core) is checked against that length, not against its own time.
+    d = plan_dict(SLAB, [{"point": "surface", "temperature_C": 20.0}])
+    del d["steps"][0]["duration_min"]
+    d["steps"][0]["stop_when_core_C"] = 10.0
+    res = run_plan(plan_from_dict(d), solver="exact")
+    stop = next(t for t in res.outcomes.targets if t.kind == "stop")
+    surf = next(t for t in res.outcomes.targets if t.kind == "target")
+    step_min = res.steps[0].duration_s / 60.0
+    assert stop.margin.cycle_min == pytest.approx(step_min, rel=1e-9)
+    assert surf.margin.cycle_min == pytest.approx(step_min, rel=1e-9)
+    assert (surf.target.time_s - res.steps[0].start_s) / 60.0 < 0.5 * step_min
