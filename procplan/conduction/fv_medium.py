@@ -121,6 +121,16 @@ class MediumNode:
         w = (a - 1.0) / (2.0 - a)
         return (1.0 + w) * E - (w * w / (1.0 + w)) * self._previous_E
 
+    def second_change_K(self, Hn: np.ndarray, H1: np.ndarray) -> float:
+        """The largest temperature change [K] of the second product's field over the step Hn → H1 (0 without
+        one), so that the time steps follow the faster-changing of the two fields."""
+        if self.partner is None:
+            return 0.0
+        p = self.partner
+        return float(
+            np.max(np.abs(p.model.temperature(p.field_of(H1)) - p.model.temperature(p.field_of(Hn))))
+        )
+
     # -- one step -------------------------------------------------------------------------------
     def solve_step(self, model, newton, t1: float, dt: float, a: float, hist, Hn, H0):
         """One implicit step of pieces + medium; returns (H, iterations) like ``newton(model, ...)``.
