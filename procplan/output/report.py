@@ -171,15 +171,17 @@ def second_product_dict(result) -> dict[str, Any] | None:
     }
 
 
-def second_product_lines(result, site=None) -> list[str]:
-    """The second product beside the main one in the summary text (nothing without one)."""
+def second_product_texts(result, site=None) -> tuple[str, list[str]] | None:
+    """The second product in words: what was loaded with the batch, and per loaded step its end temperatures and
+    time to the step's stop temperature (None without one). The summary text and the sheet both use it."""
     sp = result.plan.load.second_product
     if sp is None:
-        return []
-    lines = [
-        f"  second product in the load: {sp.pieces} × {sp.product.name}, {sp.product.geometry.describe()}, "
-        f"loaded at {_temp(site, sp.initial_temperature_C)} ({SECOND_PRODUCT_NOTE})"
-    ]
+        return None
+    what = (
+        f"{sp.pieces} × {sp.product.name}, {sp.product.geometry.describe()}, loaded at "
+        f"{_temp(site, sp.initial_temperature_C)} ({SECOND_PRODUCT_NOTE})"
+    )
+    ends = []
     for sr in result.steps:
         second = sr.machine_load.second if sr.machine_load is not None else None
         if second is None:
@@ -187,14 +189,24 @@ def second_product_lines(result, site=None) -> list[str]:
         if second.stop_C is None:
             stop = ""
         elif second.stop_time_s is None:
-            stop = f"; core not at {_temp(site, second.stop_C)} by the end of the step"
+            stop = (
+                f"; core not at {_temp(site, second.stop_C)} when the step ended (on the main product's core)"
+            )
         else:
             stop = f"; core at {_temp(site, second.stop_C)} after {_time(site, second.stop_time_s / 60)}"
-        lines.append(
-            f"    step {sr.index + 1} '{sr.name}' end: core {_temp(site, second.core_C[-1], 1)}, surface "
+        ends.append(
+            f"step {sr.index + 1} '{sr.name}' end: core {_temp(site, second.core_C[-1], 1)}, surface "
             f"{_temp(site, second.surface_C[-1], 1)}, mean {_temp(site, second.mean_C[-1], 1)}{stop}"
         )
-    return lines
+    return what, ends
+
+
+def second_product_lines(result, site=None) -> list[str]:
+    """The second product beside the main one in the summary text (nothing without one)."""
+    texts = second_product_texts(result, site)
+    if texts is None:
+        return []
+    return [f"  second product in the load: {texts[0]}", *(f"    {e}" for e in texts[1])]
 
 
 def history_dict(result) -> dict[str, list]:

@@ -91,3 +91,14 @@ def test_the_report_gives_the_second_product_beside_the_main_one():
     json.dumps(d, allow_nan=False)
     # the plan's targets and rule check stay on the main product's history
     assert res.outcomes is not None and len(res.history) > 10
+
+
+def test_the_demo_plan_chills_roulades_with_sauce_tubs_and_closes_its_balance():
+    # Invariant: the demo's loaded step balances over both products, medium, structure, plant and fixed loads
+    # (< 0.5 %); the tubs (82 °C, in the same air) cool.
+    plan = LIB.plan("roulade-sauce-blast-chill")
+    assert plan.load.second_product.pieces == 60
+    res = run_plan(plan, library=LIB)
+    ml = res.steps[0].machine_load
+    assert ml.energy_balance_error < 0.005 and ml.second is not None
+    assert ml.second.core_C[-1] < 10.0 < ml.second.core_C[0]
