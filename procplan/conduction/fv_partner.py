@@ -30,8 +30,9 @@ __all__ = ["SecondField"]
 
 #: Step in E [K] of the finite-difference derivative of the second product's heat flow.
 _DELTA_E_K = 1e-3
-#: States remembered (main field → second field).
-_KEEP = 24
+#: States remembered (main field → second field): more than the attempts of one step (a located stop takes up
+#: to 16, each possibly redone), so the state a step starts from is still known.
+_KEEP = 96
 
 
 @dataclass

@@ -102,3 +102,24 @@ def test_the_demo_plan_chills_roulades_with_sauce_tubs_and_closes_its_balance():
     ml = res.steps[0].machine_load
     assert ml.energy_balance_error < 0.005 and ml.second is not None
     assert ml.second.core_C[-1] < 10.0 < ml.second.core_C[0]
+
+
+def test_the_second_product_carries_through_the_steps_and_an_uncoupled_step_says_so():
+    # Method: the beef joints' cook, rest and chill with 40 pork steaks loaded too: the steaks are solved in
+    # the two loaded steps, their field carries from the cook into the chill across the rest (given h, no
+    # medium node), which warns; both loaded steps balance within 0.5 %.
+    d = read_toml(LIB.root / "plans" / "beef-joint-roast-chill.toml")
+    d["load"] = {"second_product": {"product": "pork-loin-steak", "pieces": 40, "initial_temperature_C": 4}}
+    res = run_plan(plan_from_dict(d, library=LIB), library=LIB, assess=False)
+    cook, rest, chill = res.steps
+    assert rest.machine_load is None
+    assert any("second product (pork-loin-steak) is not solved" in w for w in res.warnings)
+    a, b = cook.machine_load.second, chill.machine_load.second
+    assert abs(a.core_C[0] - 4.0) < 1e-9 and abs(b.core_C[0] - a.core_C[-1]) < 1e-9
+    assert abs(b.mean_C[0] - a.mean_C[-1]) < 1e-9
+    assert a.core_C[-1] > 70.0 and b.core_C[-1] < 10.0
+    for sr in (cook, chill):
+        assert sr.machine_load.energy_balance_error < 0.005
+    hist = summary_dict(res)["load"]["second_product"]["history"]
+    assert hist["step"][0] == "steam cook" and hist["step"][-1] == "blast chill"
+    assert np.all(np.diff(hist["time_s"]) >= 0)
