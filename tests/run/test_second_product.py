@@ -6,6 +6,7 @@ import functools
 import json
 
 import numpy as np
+import pytest
 
 from procplan.files.library import load_library
 from procplan.files.plan import plan_from_dict
@@ -102,6 +103,13 @@ def test_the_demo_plan_chills_roulades_with_sauce_tubs_and_closes_its_balance():
     ml = res.steps[0].machine_load
     assert ml.energy_balance_error < 0.005 and ml.second is not None
     assert ml.second.core_C[-1] < 10.0 < ml.second.core_C[0]
+    # the result document, second product included, follows its published schema (jsonschema validates it)
+    from procplan.output.result_schema import RESULT_SCHEMA, result_document
+
+    jsonschema = pytest.importorskip("jsonschema")
+    doc = json.loads(json.dumps(result_document(res), allow_nan=False))
+    jsonschema.validate(doc, RESULT_SCHEMA)
+    assert doc["summary"]["load"]["second_product"]["pieces"] == 60
 
 
 def test_the_second_product_carries_through_the_steps_and_an_uncoupled_step_says_so():
