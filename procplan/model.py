@@ -263,12 +263,24 @@ PACKING_ARRANGEMENTS = ("tray", "case", "stack", "pallet")
 
 
 @dataclass(frozen=True)
+class SecondProduct:
+    """A second product loaded with the batch: ``pieces`` pieces of ``product`` (a library product, its shape
+    and size from the record) at ``initial_temperature_C`` [°C], sharing the medium in the loaded steps."""
+
+    product: Product
+    pieces: int
+    initial_temperature_C: float
+    library_name: str = ""  # the library product it names
+
+
+@dataclass(frozen=True)
 class Load:
     """How the batch loads its machines: ``"loaded"`` (the medium solved with the pieces, limited by the plant,
     where the machine has a thermal description) or ``"set-point"`` (an empty-machine run). The number of
-    pieces is ``Checks.pieces_per_batch``."""
+    pieces is ``Checks.pieces_per_batch``. ``second_product`` (optional) shares the medium with the batch."""
 
     model: str = "loaded"
+    second_product: SecondProduct | None = None
 
 
 @dataclass(frozen=True)

@@ -36,13 +36,18 @@ class MediumCoupling:
     hist_W: float  # C hist_E/Δt [W]
     plant: object
     mode: str = "hold"
+    partner: object = None  # a second product's field (procplan.conduction.fv_partner.SecondField)
 
     def residual(self, Qs_W: float, hA_W_K: float) -> tuple[float, float]:
         """R_E [W] at the iterate E with Q_s [W] into one grid's surface and Σ h A [W/K], and dR_E/dE at fixed H."""
         P, dP = self.duty(self.E)
         L, dL = self.plant.fixed(self.E)
         R = self.a_C_dt * self.E - self.hist_W + self.weight * Qs_W - P - L
-        return R, self.a_C_dt + self.weight * hA_W_K - dP - dL
+        dR = self.a_C_dt + self.weight * hA_W_K - dP - dL
+        if self.partner is not None:  # the second product's field eliminated at this E (total derivative)
+            Q2, dQ2 = self.partner.flow(self.E)
+            R, dR = R + Q2, dR + dQ2
+        return R, dR
 
     def duty(self, E: float) -> tuple[float, float]:
         """Plant duty [W into the medium] in the current mode and its derivative [W/K]."""
@@ -62,6 +67,8 @@ class MediumRecord:
     fixed_W: float
     pieces_W: float
     mode: str
+    second_W: float = 0.0
+    second_C: tuple[float, float, float] | None = None  # the second product's core, surface, mean [°C]
 
 
 class MediumNode:
@@ -72,10 +79,12 @@ class MediumNode:
     plant : :class:`procplan.surface.plant.Plant` (heat capacity, duty at its limit, fixed loads, modes)
     pieces : number of pieces N in the medium
     initial_C : medium temperature at loading [°C]
+    partner : optional second product in the same medium (:class:`procplan.conduction.fv_partner.SecondField`)
     """
 
-    def __init__(self, plant, pieces: float, initial_C: float) -> None:
+    def __init__(self, plant, pieces: float, initial_C: float, partner=None) -> None:
         self.plant = plant
+        self.partner = partner
         self.pieces = float(pieces)
         self.initial_C = float(initial_C)
         self.latest_C = float(initial_C)
@@ -112,6 +121,16 @@ class MediumNode:
         w = (a - 1.0) / (2.0 - a)
         return (1.0 + w) * E - (w * w / (1.0 + w)) * self._previous_E
 
+    def second_change_K(self, Hn: np.ndarray, H1: np.ndarray) -> float:
+        """The largest temperature change [K] of the second product's field over the step Hn → H1 (0 without
+        one), so that the time steps follow the faster-changing of the two fields."""
+        if self.partner is None:
+            return 0.0
+        p = self.partner
+        return float(
+            np.max(np.abs(p.model.temperature(p.field_of(H1)) - p.model.temperature(p.field_of(Hn))))
+        )
+
     # -- one step -------------------------------------------------------------------------------
     def solve_step(self, model, newton, t1: float, dt: float, a: float, hist, Hn, H0):
         """One implicit step of pieces + medium; returns (H, iterations) like ``newton(model, ...)``.
@@ -124,7 +143,11 @@ class MediumNode:
         C = self.plant.heat_capacity_J_K
         weight = self.pieces * model.grid.piece_factor
         set_point = float(model.boundary.medium(t1))
-        cp = MediumCoupling(set_point, False, weight, a * C / dt, C * self.history_E(a) / dt, self.plant)
+        cp = MediumCoupling(
+            set_point, False, weight, a * C / dt, C * self.history_E(a) / dt, self.plant, partner=self.partner
+        )
+        if self.partner is not None:
+            self.partner.begin(t1, dt, a, hist, Hn)
         its = 0
         last = self.records[-1].mode if self.records else "hold"
         if last != "hold":
@@ -139,7 +162,10 @@ class MediumNode:
             return None, its
         Qs = model.heat_flow_W(t1, H1, set_point) / model.grid.piece_factor
         L, _ = self.plant.fixed(set_point)
-        required = cp.a_C_dt * set_point - cp.hist_W + weight * Qs - L
+        Q2 = self.partner.flow(set_point)[0] if self.partner is not None else 0.0
+        if not np.isfinite(Q2):
+            return None, its
+        required = cp.a_C_dt * set_point - cp.hist_W + weight * Qs + Q2 - L
         mode = self.plant.mode(required, set_point)
         if mode == "hold":
             return self._keep(H1, t1, set_point, required, L, weight * Qs, "hold"), its
@@ -164,6 +190,12 @@ class MediumNode:
 
     def _keep(self, H, t1, E, P, L, Q, mode):
         self.latest_C = float(E)
-        self._pending.append((H, MediumRecord(float(t1), float(E), float(P), float(L), float(Q), mode)))
+        Q2, second = 0.0, None
+        if self.partner is not None:
+            Q2 = self.partner.flow(float(E))[0]
+            second = self.partner.state()
+            self.partner.remember(H, self.partner.last)
+        rec = MediumRecord(float(t1), float(E), float(P), float(L), float(Q), mode, float(Q2), second)
+        self._pending.append((H, rec))
         del self._pending[:-8]
         return H

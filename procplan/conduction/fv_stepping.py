@@ -313,6 +313,8 @@ class TimeStepper:
                 continue
             T1 = model.temperature(H1)
             change = float(np.max(np.abs(T1 - self.T_cur)))
+            if model.medium_node is not None:  # a second product in the medium: its change counts too
+                change = max(change, model.medium_node.second_change_K(self.H, H1))
             if c.dt_s is None and change > 1.5 * c.target and step > 1e-7 * c.end:
                 self.n_rej += 1
                 self.dt = step * max(0.2, 0.9 * c.target / change)

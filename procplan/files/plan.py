@@ -22,6 +22,7 @@ from procplan.files.fields import (
     check_product_temperature,
     file_number,
     optional,
+    product_range_C,
     product_temperature,
     stated_temperature,
 )
@@ -39,6 +40,7 @@ from procplan.model import (
     Load,
     Plan,
     Product,
+    SecondProduct,
     Step,
 )
 
@@ -60,7 +62,8 @@ CHECK_KEYS = (
 MAX_BUDGET_USED_H = 1.0e5
 LETHALITY_KEYS = ("preset", "reference_C", "z_C", "required_F_min", "d_value_min", "point")
 PLAN_KEYS = ("title", "notes", "solver", "product", "start", "steps", "checks", "packing", "load")
-LOAD_KEYS = ("pieces", "model")
+LOAD_KEYS = ("pieces", "model", "second_product")
+SECOND_PRODUCT_KEYS = ("product", "pieces", "initial_temperature_C")
 
 
 def _lethality_table(c: Collector, raw: Mapping[str, Any], lp: str) -> LethalityCheck:
@@ -276,7 +279,7 @@ def plan_from_dict(data: Mapping[str, Any], source: str = "plan", library=None) 
     t0 = _start(c, data)
     steps = _steps(c, data, source, library)
     checks = _plan_checks(c, data, source, library)
-    load, pieces = _load(c, data, checks)
+    load, pieces = _load(c, data, checks, library)
     if checks is not None and pieces is not None:
         checks = replace(checks, pieces_per_batch=pieces)
     notes = str(data.get("notes", ""))
@@ -304,7 +307,9 @@ def plan_from_dict(data: Mapping[str, Any], source: str = "plan", library=None) 
     )
 
 
-def _load(c: Collector, data: Mapping[str, Any], checks: Checks | None) -> tuple[Load, int | None]:
+def _load(
+    c: Collector, data: Mapping[str, Any], checks: Checks | None, library=None
+) -> tuple[Load, int | None]:
     """The ``[load]`` table: the load model and the pieces per batch (the same number as
     ``checks.pieces_per_batch``, which older plans give; both given must agree)."""
     raw = data.get("load", {})
@@ -333,7 +338,41 @@ def _load(c: Collector, data: Mapping[str, Any], checks: Checks | None) -> tuple
                     f"checks.pieces_per_batch = {checks.pieces_per_batch} (one batch size)",
                 )
             )
-    return Load(model if model in LOAD_MODELS else "loaded"), pieces
+    second = _second_product(c, raw.get("second_product"), library)
+    return Load(model if model in LOAD_MODELS else "loaded", second), pieces
+
+
+def _second_product(c: Collector, raw: Any, library) -> SecondProduct | None:
+    """``[load.second_product]``: a library product, its piece count and its temperature at loading."""
+    if raw is None:
+        return None
+    p = "load.second_product."
+    if not isinstance(raw, Mapping):
+        c.add(InvalidInputError("load.second_product", raw, 'a table such as { product = "x", pieces = 20 }'))
+        return None
+    check_keys(c, raw, SECOND_PRODUCT_KEYS, p)
+    ref, pieces = raw.get("product"), raw.get("pieces")
+    product = None
+    if library is None:
+        c.add(InvalidInputError(p + "product", ref, "a library product name, with a library loaded"))
+    elif not isinstance(ref, str) or ref not in library.products:
+        c.add(InvalidInputError(p + "product", ref, "one of " + ", ".join(sorted(library.products))))
+    else:
+        product = library.products[ref]
+    if isinstance(pieces, bool) or not isinstance(pieces, int) or not (0 <= pieces <= 10_000_000):
+        c.add(InvalidInputError(p + "pieces", pieces, "a whole number from 0 to 10 000 000"))
+        pieces = None
+    if "initial_temperature_C" not in raw:
+        c.add(InvalidInputError(p + "initial_temperature_C", None, f"[{T_LO:g}, {T_HI:g}] °C"))
+    t0 = optional(c, raw, "initial_temperature_C", p, stated_temperature)
+    if product is not None and t0 is not None:
+        lo, hi, _ = product_range_C(product)
+        if not lo <= t0 <= hi:
+            c.add(InvalidInputError(p + "initial_temperature_C", t0, f"[{lo:g}, {hi:g}] °C for {ref}"))
+            return None
+    if product is None or pieces is None or t0 is None:
+        return None
+    return SecondProduct(product, pieces, t0, ref)
 
 
 def _check_product_range(
@@ -517,6 +556,13 @@ def plan_to_dict(plan: Plan) -> dict[str, Any]:
         d["packing"] = packing_to_dict(plan.packing)
     if plan.load != Load():
         d["load"] = {"model": plan.load.model}
+        sp = plan.load.second_product
+        if sp is not None:
+            d["load"]["second_product"] = {
+                "product": sp.library_name,
+                "pieces": sp.pieces,
+                "initial_temperature_C": file_number(sp.initial_temperature_C),
+            }
     return d
 
 

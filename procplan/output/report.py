@@ -43,6 +43,9 @@ def summary_dict(result) -> dict[str, Any]:
         "caution": CAUTION,
         "load": {"model": plan.load.model, "pieces": plan.pieces},
     }
+    second = second_product_dict(result)
+    if second is not None:
+        out["load"]["second_product"] = second
     out["depths"] = [
         {
             "depth_mm": round(d * 1000.0, 6),
@@ -104,9 +107,106 @@ def _machine_load_dict(sr) -> dict[str, Any] | None:
     """How the machine carried the batch (loaded step), or the note of an empty-machine run, or None."""
     ml = getattr(sr, "machine_load", None)
     if ml is not None:
-        return {**_plain(ml), "held": ml.held, "summary": ml.describe()}
+        plain = {k: v for k, v in _plain(ml).items() if k != "second"}
+        return {
+            **plain,
+            "held": ml.held,
+            "summary": ml.describe(),
+            "second_product": _second_step_dict(ml.second),
+        }
     note = getattr(sr, "load_note", None)
     return None if note is None else {"empty_machine": True, "summary": note}
+
+
+SECOND_PRODUCT_NOTE = "the plan's checks (targets, rules, lethality) apply to the main product only"
+
+
+def _second_step_dict(second) -> dict[str, Any] | None:
+    """The second product over one loaded step: end temperatures, heat, time to the step's stop temperature."""
+    if second is None:
+        return None
+    return {
+        "product": second.name,
+        "pieces": second.pieces,
+        "end": {"core_C": second.core_C[-1], "surface_C": second.surface_C[-1], "mean_C": second.mean_C[-1]},
+        "heat_kJ": second.heat_kJ,
+        "stop_C": second.stop_C,
+        "time_to_stop_min": _minutes(second.stop_time_s),
+    }
+
+
+def second_product_history(result) -> dict[str, list] | None:
+    """The second product's history on the plan's clock over the loaded steps (``time_s``, ``core_C``,
+    ``surface_C``, ``mean_C``, ``step``), or None without one."""
+    rows: dict[str, list] = {"time_s": [], "core_C": [], "surface_C": [], "mean_C": [], "step": []}
+    for sr in result.steps:
+        second = getattr(sr.machine_load, "second", None) if sr.machine_load is not None else None
+        if second is None:
+            continue
+        first = 1 if rows["time_s"] else 0  # a step's first row repeats the previous step's last state
+        rows["time_s"] += [sr.start_s + t for t in second.time_s[first:]]
+        for k in ("core_C", "surface_C", "mean_C"):
+            rows[k] += [float(v) for v in getattr(second, k)[first:]]
+        rows["step"] += [sr.name] * (len(second.time_s) - first)
+    return rows if rows["time_s"] else None
+
+
+def second_product_dict(result) -> dict[str, Any] | None:
+    """The plan's second product (``[load.second_product]``) as plain data, with its history and per step its
+    end temperatures and time to the step's stop temperature; None without one."""
+    sp = result.plan.load.second_product
+    if sp is None:
+        return None
+    return {
+        "product": sp.product.name,
+        "pieces": sp.pieces,
+        "initial_temperature_C": sp.initial_temperature_C,
+        "note": SECOND_PRODUCT_NOTE,
+        "steps": [
+            {"name": sr.name, **(_second_step_dict(sr.machine_load.second) or {})}
+            for sr in result.steps
+            if sr.machine_load is not None and sr.machine_load.second is not None
+        ],
+        "history": second_product_history(result),
+    }
+
+
+def second_product_texts(result, site=None) -> tuple[str, list[str]] | None:
+    """The second product in words: what was loaded with the batch, and per loaded step its end temperatures and
+    time to the step's stop temperature (None without one). The summary text and the sheet both use it."""
+    sp = result.plan.load.second_product
+    if sp is None:
+        return None
+    what = (
+        f"{sp.pieces} × {sp.product.name}, {sp.product.geometry.describe()}, loaded at "
+        f"{_temp(site, sp.initial_temperature_C)} ({SECOND_PRODUCT_NOTE})"
+    )
+    ends = []
+    for sr in result.steps:
+        second = sr.machine_load.second if sr.machine_load is not None else None
+        if second is None:
+            continue
+        if second.stop_C is None:
+            stop = ""
+        elif second.stop_time_s is None:
+            stop = (
+                f"; core not at {_temp(site, second.stop_C)} when the step ended (on the main product's core)"
+            )
+        else:
+            stop = f"; core at {_temp(site, second.stop_C)} after {_time(site, second.stop_time_s / 60)}"
+        ends.append(
+            f"step {sr.index + 1} '{sr.name}' end: core {_temp(site, second.core_C[-1], 1)}, surface "
+            f"{_temp(site, second.surface_C[-1], 1)}, mean {_temp(site, second.mean_C[-1], 1)}{stop}"
+        )
+    return what, ends
+
+
+def second_product_lines(result, site=None) -> list[str]:
+    """The second product beside the main one in the summary text (nothing without one)."""
+    texts = second_product_texts(result, site)
+    if texts is None:
+        return []
+    return [f"  second product in the load: {texts[0]}", *(f"    {e}" for e in texts[1])]
 
 
 def history_dict(result) -> dict[str, list]:
@@ -191,6 +291,7 @@ def summary_text(result, site=None) -> str:
     lines.append(f"  properties: {result.properties.source}")
     lines.append(f"  start {_temp(site, plan.start_temperature_C)}")
     lines += _step_lines(result, site)
+    lines += second_product_lines(result, site)
     oc = result.outcomes
     if oc is not None:
         lines += _target_lines(oc, site) + _rule_lines(oc, site) + _cold_thaw_lines(oc, site)

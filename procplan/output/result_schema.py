@@ -27,7 +27,7 @@ from typing import Any
 
 #: The schema's name and version, written at the top of every result document.
 RESULT_SCHEMA_NAME = "procplan-result"
-RESULT_SCHEMA_VERSION = "1.1"
+RESULT_SCHEMA_VERSION = "1.2"
 
 _NUM = {"type": "number"}
 _NUM_OR_NULL = {"type": ["number", "null"]}
@@ -142,6 +142,44 @@ _ENERGY = _obj(
         "balance_error": _NUM_OR_NULL,
     }
 )
+_SECOND_END = _obj({"core_C": _NUM, "surface_C": _NUM, "mean_C": _NUM})
+_SECOND_PRODUCT = _obj(
+    {
+        "product": _TEXT,
+        "pieces": {"type": "integer"},
+        "initial_temperature_C": _NUM,
+        "note": _TEXT,
+        "steps": _array(
+            _obj(
+                {
+                    "name": _TEXT,
+                    "product": _TEXT,
+                    "pieces": {"type": "integer"},
+                    "end": _SECOND_END,
+                    "heat_kJ": {**_NUM, "description": "heat into all its pieces over the step [kJ]"},
+                    "stop_C": _NUM_OR_NULL,
+                    "time_to_stop_min": _NUM_OR_NULL,
+                }
+            )
+        ),
+        "history": {
+            "type": ["object", "null"],
+            "description": "its core, surface and mean over the loaded steps on the plan's clock",
+            "properties": {
+                **{k: _array(_NUM) for k in ("time_s", "core_C", "surface_C", "mean_C")},
+                "step": _array(_TEXT),
+            },
+            "additionalProperties": True,
+        },
+    }
+)
+_LOAD = {
+    **_obj(
+        {"model": _TEXT, "pieces": {"type": ["integer", "null"]}, "second_product": _SECOND_PRODUCT},
+        required=("model",),
+    ),
+    "description": "the load model, the pieces and a second product in the same load (1.2)",
+}
 _REFRIGERATION = _obj(
     {
         "step": _TEXT,
@@ -273,6 +311,7 @@ RESULT_SCHEMA: dict[str, Any] = {
                 "procplan_version": _TEXT,
                 "caution": _TEXT,
                 "outcomes": _OUTCOMES,
+                "load": _LOAD,
             },
             required=(
                 "title",

@@ -162,7 +162,7 @@ def product_section(result, site, st, W):
                 st.p("unwrapped (moisture loss)" if prod.unwrapped else "wrapped"),
             ]
         )
-    rows += _packed_rows(result, site, st)
+    rows += _packed_rows(result, site, st) + _second_rows(result, site, st)
     t1 = table(rows, cols(W, [0.15, 0.47, 0.17, 0.21]), st, header=False)
     eq_rows = [["Step", "Machine", "Settings", "Medium", "h [W/m²K]"]]
     for sr, step in zip(result.steps, plan.steps, strict=True):
@@ -177,6 +177,16 @@ def product_section(result, site, st, W):
         )
     t2 = table(eq_rows, cols(W, [0.15, 0.27, 0.34, 0.13, 0.11]), st)
     return [*st.h("Product and equipment"), t1, Spacer(1, 3), t2]
+
+
+def _second_rows(result, site, st) -> list:
+    """A second product in the load: what it is, and its temperatures at the end of each loaded step."""
+    from procplan.output.report import second_product_texts
+
+    texts = second_product_texts(result, site)
+    if texts is None:
+        return []
+    return [[st.b("Second product"), st.p(texts[0]), st.b("At the step ends"), st.p("; ".join(texts[1]))]]
 
 
 def _packed_rows(result, site, st) -> list:

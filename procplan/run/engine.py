@@ -34,6 +34,8 @@ from procplan.run.budget import (
 from procplan.run.dry_oven import carried_field, dry_oven_step, range_warnings
 from procplan.run.dry_stop import check_weight_stop
 from procplan.run.results import PlanResult, StepResult, StepSolverDetails
+from procplan.run.second_product import carried as carried_second
+from procplan.run.second_product import initial_state
 from procplan.run.solver import PROPERTY_SPREAD_LIMIT, choose_solver, exact_properties, exact_sample_times
 from procplan.run.step_surface import StepSurface, resolve_step_surface
 
@@ -218,6 +220,7 @@ class _Context:
     refined: dict | None = None  # the finer time settings of an energy-balance rerun (None: as asked)
     load: Any = None  # the step's machine load (machine_load.StepLoad), None: the medium at its set point
     time_tolerance_K: float | None = None  # the finite volume's time-integration tolerance (None: by change)
+    second: Any = None  # run.second_product.SecondState: a second product in the load (None: none)
 
 
 @dataclass
@@ -445,6 +448,9 @@ def _run_steps(ctx: _Context) -> tuple[pd.DataFrame, list[StepResult], list[str]
         frames.append(frame)
         steps.append(result)
         warnings.extend(result.warnings)
+        second, note = carried_second(ctx.second, result.machine_load, step.name)
+        ctx = replace(ctx, second=second)
+        warnings.extend([note] if note else [])
         last = frame.iloc[-1] if len(frame) else frames[-2].iloc[-1]
         carried = _Carried(
             start_C=float(last["core_C"]),
@@ -535,7 +541,9 @@ def run_plan(
     piece_mass_kg = props.mass_density_kg_m3 * plan.product.geometry.volume_m3
     check_work_budget(plan, requested, n_nodes, dt_s)
     tol = None if time_tolerance_K is None else validate.positive("time_tolerance_K", time_tolerance_K, "K")
-    ctx = _Context(plan, library, props, requested, n_nodes, dt_s, time_tolerance_K=tol)
+    ctx = _Context(
+        plan, library, props, requested, n_nodes, dt_s, time_tolerance_K=tol, second=initial_state(plan)
+    )
     history, steps, warnings, props = _run_steps(ctx)
     warnings.extend(range_warnings(history, props, dried=any(s.drying is not None for s in steps)))
     outcomes = (

@@ -23,6 +23,7 @@ cannot hold the set point.
 from __future__ import annotations
 
 from dataclasses import dataclass, replace
+from typing import Any
 
 import numpy as np
 
@@ -67,9 +68,12 @@ class StepLoad:
     loading_C: float
     set_point_C: float
     medium: str = ""
+    second: Any = None  # procplan.run.second_product.SecondLoad: a second product in the same medium
+    stop_C: float | None = None  # the step's stop temperature of the core [°C]
 
     def node(self) -> MediumNode:
-        return MediumNode(self.plant, self.pieces, self.loading_C)
+        partner = self.second.partner() if self.second is not None else None
+        return MediumNode(self.plant, self.pieces, self.loading_C, partner)
 
 
 @dataclass(frozen=True)
@@ -93,8 +97,10 @@ class MachineLoadResult:
     end_medium_C : the medium at the end of the step [°C]
     pieces_kJ, medium_structure_kJ, plant_kJ, fixed_kJ : heat into the pieces, into the medium and structure,
         from the plant and from the fixed loads over the step [kJ] (plant and fixed loads into the medium)
-    energy_balance_error : |pieces + medium and structure − plant − fixed| / the largest of them [-]
+    energy_balance_error : |pieces (both products) + medium and structure − plant − fixed| / the largest [-]
     steam : True for a steam medium (whose drop below the set point means air in the cabinet)
+    second : the second product in the same medium (:class:`procplan.run.second_product.SecondProductStep`),
+        None without one; ``pieces_kJ`` is the main product's heat, the second's is ``second.heat_kJ``
     """
 
     machine: str
@@ -115,6 +121,7 @@ class MachineLoadResult:
     fixed_kJ: float
     energy_balance_error: float
     steam: bool = False
+    second: Any = None
 
     @property
     def held(self) -> bool:
@@ -138,12 +145,17 @@ class MachineLoadResult:
         else:
             back = ""
         return (
-            f"{self.machine}, {batch or f'{self.pieces} pieces'}, medium at loading {self.loading_C:g} °C: peak load "
+            f"{self.machine}, {batch or f'{self.pieces} pieces'}{self._with_second()}, medium at loading {self.loading_C:g} °C: peak load "
             f"{self.peak_load_kW:.1f} kW against {self.capacity_kW:.1f} kW {duty}; plant {limit}{back}; heat "
             f"into the pieces {self.pieces_kJ / 3600:.2f} kWh, medium and structure "
             f"{self.medium_structure_kJ / 3600:.2f} kWh, from the plant {self.plant_kJ / 3600:.2f} kWh, fixed loads "
             f"{self.fixed_kJ / 3600:.2f} kWh (balance {self.energy_balance_error:.2%})"
         )
+
+    def _with_second(self) -> str:
+        """ " with M × second product" when a second product shares the medium ("" otherwise)."""
+        s = self.second
+        return "" if s is None else f" and {s.pieces} × {s.name} ({s.heat_kJ / 3600:.2f} kWh into them)"
 
     def warning(self, step_name: str) -> str | None:
         """The capacity warning of the step (None when the plant held the set point)."""
@@ -162,7 +174,8 @@ class MachineLoadResult:
             else ""
         )
         return (
-            f"{step_name}: {self.machine} cannot hold {self.set_point_C:g} °C with {self.pieces} pieces: the batch "
+            f"{step_name}: {self.machine} cannot hold {self.set_point_C:g} °C with {self.pieces} pieces"
+            f"{self._with_second()}: the batch "
             f"draws up to {self.peak_load_kW:.1f} kW against a {self.capacity_kW:.1f} kW plant, which ran at its "
             f"limit for {self.time_at_limit_s / 60:.0f} min; the medium {what} to {self.worst_medium_C:.1f} °C, "
             f"{back}{steam}"
@@ -254,6 +267,10 @@ def coupled_frame(load: StepLoad | None, node, res, frame, set_point):
     machine, frame["medium_C"], frame["plant_W"] = load_result(
         load, node, res.time_s, res.heat_flow_W, set_point
     )
+    if node.partner is not None:
+        from procplan.run.second_product import second_step
+
+        machine = replace(machine, second=second_step(node, load.stop_C, res.final_enthalpy_J_kg))
     return machine, max(res.energy_balance_error, machine.energy_balance_error)
 
 
@@ -273,6 +290,11 @@ def step_loads(ctx, step: Step, index: int, surface, field_C):
     (:func:`holds_throughout`), and the note of an empty-machine run."""
     plan = ctx.plan
     load, note = step_load(plan, step, index, ctx.library, surface.medium_C[0])
+    if load is not None and ctx.second is not None:
+        from procplan.run.second_product import second_load
+
+        second = second_load(ctx.second, step, index, ctx.library)
+        return replace(ctx, load=replace(load, second=second, stop_C=step.stop_when_core_C)), None, note
     if load is not None and holds_throughout(load, surface, field_C, plan.product.geometry.area_m2):
         return replace(ctx, load=None), load, note
     return replace(ctx, load=load), None, note
@@ -302,12 +324,17 @@ def _rows(node: MediumNode, q0_W: float) -> list[MediumRecord]:
     """The accepted states of the medium with the loading state at t = 0 in front (the plant in the first
     step's mode: holding, it takes what the batch and the fixed loads give the medium)."""
     mode = node.records[0].mode if node.records else "hold"
+    from procplan.run.second_product import second_flow_at_start
+
     L0, _ = node.plant.fixed(node.initial_C)
     Q0 = q0_W * node.pieces
+    Q2 = second_flow_at_start(node)
     P0 = (
-        {"hold": Q0 - L0, "off": 0.0}.get(mode) if mode != "limit" else node.plant.at_limit(node.initial_C)[0]
+        {"hold": Q0 + Q2 - L0, "off": 0.0}.get(mode)
+        if mode != "limit"
+        else node.plant.at_limit(node.initial_C)[0]
     )
-    start = MediumRecord(0.0, node.initial_C, P0, L0, Q0, mode)
+    start = MediumRecord(0.0, node.initial_C, P0, L0, Q0, mode, Q2)
     return [start, *node.records]
 
 
@@ -336,6 +363,7 @@ def load_result(load: StepLoad, node: MediumNode, time_s: np.ndarray, heat_flow_
     E = np.array([r.medium_C for r in rows])
     P = np.array([r.plant_W for r in rows])
     L = np.array([r.fixed_W for r in rows])
+    Q2 = np.array([r.second_W for r in rows])
     medium = np.interp(time_s, t, E)
     plant = np.interp(time_s, t, P)
     sp = np.asarray(set_point(t), dtype=float) * np.ones_like(t)
@@ -346,11 +374,14 @@ def load_result(load: StepLoad, node: MediumNode, time_s: np.ndarray, heat_flow_
     pieces_J = load.pieces * float(np.trapezoid(heat_flow_W, time_s)) if time_s.size > 1 else 0.0
     plant_J = float(np.trapezoid(P, t)) if t.size > 1 else 0.0
     fixed_J = float(np.trapezoid(L, t)) if t.size > 1 else 0.0
+    second_J = float(np.trapezoid(Q2, t)) if t.size > 1 else 0.0
     medium_J = load.plant.heat_capacity_J_K * (E[-1] - E[0])
-    scale = max(abs(pieces_J), abs(plant_J), abs(fixed_J), abs(medium_J), 1e-300)
-    error = abs(pieces_J + medium_J - plant_J - fixed_J) / scale
+    scale = max(abs(pieces_J), abs(second_J), abs(plant_J), abs(fixed_J), abs(medium_J), 1e-300)
+    error = abs(pieces_J + second_J + medium_J - plant_J - fixed_J) / scale
     # what the batch and the fixed loads ask of the plant, as a 1-min mean like the energy outcome's peak duty
-    loads = -sign * (-load.pieces * np.asarray(heat_flow_W) + np.interp(time_s, t, L))
+    loads = -sign * (
+        -load.pieces * np.asarray(heat_flow_W) - np.interp(time_s, t, Q2) + np.interp(time_s, t, L)
+    )
     peak_load_W = peak_duty_W(time_s, np.maximum(loads, 0.0))[0] if time_s.size > 1 else float(loads[0])
     dev = np.abs(E - sp)
     res = MachineLoadResult(
