@@ -347,10 +347,67 @@ def _packing(plan: dict, errs: widgets.FieldErrors) -> None:
         _air_and_model(pk, errs)
 
 
+SECOND_HELP = (
+    "Another product loaded into the same machine at the same time (e.g. a trolley of hot sauce tubs beside "
+    "the batch). It warms the shared medium, which lengthens the batch's time; leaving it out is the unsafe "
+    "side. Its temperatures are reported beside the batch; the plan's rules and targets apply to the batch."
+)
+
+
+def _second_product(plan: dict, lib, loaded: bool, errs: widgets.FieldErrors) -> None:
+    """``[load.second_product]``: a library product sharing the loaded machines' medium."""
+    load = plan.get("load") if isinstance(plan.get("load"), dict) else {}
+    sp = load.get("second_product") if isinstance(load.get("second_product"), dict) else None
+    on = st.checkbox(
+        "A second product shares the machine",
+        value=sp is not None,
+        key=state.key("ld.sp.on"),
+        help=SECOND_HELP,
+    )
+    if not on:
+        if sp is not None:
+            load.pop("second_product", None)
+            if load:
+                plan["load"] = load
+            else:
+                plan.pop("load", None)
+        return
+    names = sorted(lib.products)
+    sp = dict(sp or {"product": names[0], "pieces": 10, "initial_temperature_C": 20.0})
+    c = st.columns(3)
+    current = sp.get("product")
+    sp["product"] = c[0].selectbox(
+        "Second product",
+        names,
+        index=names.index(current) if current in names else 0,
+        format_func=lambda n: f"{n} — {lib.products[n].description}" if lib.products[n].description else n,
+        key=state.key("ld.sp.product"),
+    )
+    with c[1]:
+        sp["pieces"] = _count("Its pieces in the batch", sp.get("pieces", 10), "ld.sp.pieces")
+    with c[2]:
+        from procplan.model import MEDIUM_RANGE_C
+
+        sp["initial_temperature_C"] = widgets.temperature(
+            "Its temperature at loading",
+            sp.get("initial_temperature_C", 20.0),
+            "ld.sp.t0",
+            minimum_C=MEDIUM_RANGE_C[0],
+            maximum_C=MEDIUM_RANGE_C[1],
+        )
+    for f in ("product", "pieces", "initial_temperature_C"):
+        errs.mark(f"load.second_product.{f}")
+    errs.mark("load.second_product")
+    plan.setdefault("load", {})["second_product"] = sp
+    if not loaded:
+        st.caption("Not used by the empty-machine run: the medium is held at its set point.")
+
+
 def editor(plan: dict, lib, errs: widgets.FieldErrors) -> None:
-    """The load model, the machines' state at loading and the packing of the plan dict ``plan``."""
+    """The load model, the machines' state at loading, a second product and the packing of the plan dict."""
     st.subheader("The batch in its machines")
     loaded = _model(plan) == "loaded"
     _machines(plan, lib, loaded, errs)
+    _second_product(plan, lib, loaded, errs)
     st.markdown("**Packing**")
     _packing(plan, errs)

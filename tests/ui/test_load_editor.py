@@ -379,3 +379,52 @@ def test_wall_of_another_material_by_its_conductivity_matches_the_library(app, l
     # Invariant: a wall conducting three times better than board shortens the centre's time
     base = _library_run(library_copy, "vial-cartons-cool-down").packing.positions[0]
     assert centre.time_to_target_s < base.time_to_target_s
+
+
+# --- a second product in the load -------------------------------------------------------------------------
+
+
+def test_second_product_is_edited_and_its_effect_matches_the_library(app, library_copy):
+    # The demo roulade chill with sauce tubs: shown time equals the library's run of the same plan; removing
+    # the second product in the app equals the library's run without it, which is shorter (the tubs warm the
+    # shared air: leaving them out is the unsafe side).
+    from procplan.model import Load
+
+    with_tubs = _library_run(library_copy, "roulade-sauce-blast-chill")
+    _open(app, "roulade-sauce-blast-chill")
+    box = _widget(app, "checkbox", "A second product shares the machine")
+    assert box.value
+    assert _widget(app, "number_input", "Its pieces in the batch").value == 60
+    go(app, "Result")
+    # shown to the minute past an hour ("3:10 h")
+    assert _shown_time_to_target_min(app) == pytest.approx(_library_time_to_target_min(with_tubs), abs=0.51)
+
+    from procplan.files.library import load_library
+    from procplan.run.engine import run_plan
+
+    lib = load_library(library_copy)
+    plan = lib.plan("roulade-sauce-blast-chill")
+    alone = run_plan(replace(plan, load=Load(plan.load.model)), library=lib)
+    go(app, "Process")
+    assert app.session_state["plan"]["load"]["second_product"]["product"] == "tomato-sauce-tub"
+    _widget(app, "number_input", "Its pieces in the batch").set_value(400).run()
+    assert app.session_state["plan"]["load"]["second_product"]["pieces"] == 400
+    go(app, "Result")
+    more = run_plan(
+        replace(plan, load=Load(plan.load.model, replace(plan.load.second_product, pieces=400))), library=lib
+    )
+    assert _shown_time_to_target_min(app) == pytest.approx(_library_time_to_target_min(more), abs=0.51)
+    assert _library_time_to_target_min(more) > _library_time_to_target_min(with_tubs) + 1.0
+    go(app, "Process")
+    _widget(app, "checkbox", "A second product shares the machine").uncheck().run()
+    assert "second_product" not in app.session_state["plan"].get("load", {})
+    go(app, "Result")
+    assert _shown_time_to_target_min(app) == pytest.approx(_library_time_to_target_min(alone), abs=0.51)
+    assert _library_time_to_target_min(alone) < _library_time_to_target_min(with_tubs)
+
+
+def test_second_product_bad_count_is_named_at_its_field(app):
+    _open(app, "roulade-sauce-blast-chill")
+    _widget(app, "number_input", "Its pieces in the batch").set_value(-3).run()
+    text = _input_errors(app)
+    assert "second product" in text.lower() and "pieces" in text.lower(), text
