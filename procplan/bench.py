@@ -306,8 +306,7 @@ def bench_finite_cylinder(repeats: int = 3) -> list[tuple[str, float, str]]:
 
 def bench_studies() -> list[tuple[str, float, str]]:
     """Monte Carlo against one engine run per sample: exact path (series case), batched FV (1-D T-dependent)."""
-    from procplan.studies.variability import bench_variability
-    from procplan.studies.variability_bench import bench_batch_chill
+    from procplan.studies.variability_bench import bench_batch_chill, bench_variability
 
     b, c = bench_variability(), bench_batch_chill()
     n, m = int(b["n_samples"]), int(c["n_samples"])
