@@ -3,7 +3,9 @@
 
 Both end every step on the same Newton test, a scaled residual below 1e-6 c_p,min J/kg (about a micro-kelvin
 of sensible heat), so their histories may differ only by that tolerance carried through the steps: checked to
-1e-4 K, a hundred times the per-step tolerance, far below the step-control target (0.1 K or more).
+1e-4 K, a hundred times the per-step tolerance, far below the step-control target (0.1 K or more). The same
+check holds the present solver's exact solves (banded LU in 2-D, the kept LU used directly in 3-D) to a new
+sparse LU at every Newton iteration.
 """
 
 from __future__ import annotations
