@@ -5,8 +5,7 @@
     tridiagonal Jacobian sparsity) at several rtol, and the time ratio at equal error, interpolated in
     log(error)-log(time) between measured pairs (never extrapolated);
 (b) the 2-D demo plan (roulade blast chill, in-process ``run_plan``) and (c) a 3-D brick at 15³ nodes, each
-    with the sparse LU kept across Newton iterations and steps and with a new LU at every Newton iteration
-    (the earlier solver), with the number of factorisations;
+    under the solver settings of :data:`SOLVER_SETTINGS` (present and earlier), with their factorisations;
 (d) a brick history at 500 times from the exact series, (e) 2-D finite-cylinder chilling, (f) variability.
 
 Error of (a): the largest core-temperature difference at 97 times over 24 h from a reference run of the same
@@ -19,7 +18,6 @@ it is not imported by the library.
 from __future__ import annotations
 
 import contextlib
-import importlib
 import statistics
 import time
 
@@ -152,11 +150,21 @@ def bench_freezing(repeats: int = 5) -> list[tuple[str, float, str]]:
     return rows
 
 
+#: The solver settings compared by (b) and (c): (label, exact solves, LU reuse). Exact solves (a banded LU per
+#: Newton iteration on narrow 2-D grids, a kept LU used directly when it is of the very matrix) are the
+#: present solver; without them, the kept LU serves as GMRES preconditioner (the solver before them), and
+#: without reuse every Newton iteration factorises anew (the solver before the kept LU).
+SOLVER_SETTINGS = (
+    ("new LU every Newton iteration", False, False),
+    ("LU kept, GMRES (before exact solves)", False, True),
+    ("exact solves (present)", True, True),
+)
+
+
 @contextlib.contextmanager
-def _factorisations(reuse: bool):
-    """Collect the Factorisation of every finite-volume model built inside; without ``reuse``, every Newton
-    iteration factorises anew (the solver before the kept LU)."""
-    kept = dict(fv_linear.REUSE_SCALE_CHANGE)
+def _solver_setting(exact: bool, reuse: bool):
+    """Collect the Factorisation of every finite-volume model built inside, with the solver set as given."""
+    kept, kept_exact = dict(fv_linear.REUSE_SCALE_CHANGE), fv_linear.EXACT_SOLVES
     made: list = []
     init = FVModel.__init__
 
@@ -165,6 +173,7 @@ def _factorisations(reuse: bool):
         made.append(self.factors)
 
     FVModel.__init__ = recording_init
+    fv_linear.EXACT_SOLVES = exact
     if not reuse:
         fv_linear.REUSE_SCALE_CHANGE.update({d: -1.0 for d in kept})
     try:
@@ -172,27 +181,32 @@ def _factorisations(reuse: bool):
     finally:
         FVModel.__init__ = init
         fv_linear.REUSE_SCALE_CHANGE.update(kept)
+        fv_linear.EXACT_SOLVES = kept_exact
 
 
-def _with_and_without_reuse(name: str, fn, repeats: int) -> list[tuple[str, float, str]]:
-    rows, times = [], {}
-    for reuse in (False, True):
-        with _factorisations(reuse) as made:
-            t, _ = _median_time(fn, repeats)
-        last = made[-1]
-        label = "LU kept across steps" if reuse else "new LU every Newton iteration"
-        times[reuse] = t
-        rows.append(
-            (
-                f"{name}, {label}",
-                t,
-                f"{last.n_factorisations} factorisations, {last.n_reused} reused-LU solves "
-                f"({last.n_gmres_iterations} GMRES iterations), {last.n_iterative} BiCGSTAB solves per run",
-            )
+def _solver_settings(name: str, fn, repeats: int) -> list[tuple[str, float, str]]:
+    """``fn`` timed under each of :data:`SOLVER_SETTINGS`, the settings interleaved run by run (medians), so
+    that a shared machine's load falls alike on each; the ratios to the present solver."""
+    times: dict[str, list[float]] = {label: [] for label, *_ in SOLVER_SETTINGS}
+    counts: dict[str, object] = {}
+    for _ in range(repeats):
+        for label, exact, reuse in SOLVER_SETTINGS:
+            with _solver_setting(exact, reuse) as made:
+                t, _ = _median_time(fn, 1)
+            times[label].append(t)
+            counts[label] = made[-1]
+    rows = []
+    for label, *_ in SOLVER_SETTINGS:
+        last = counts[label]
+        note = (
+            f"{last.n_factorisations} factorisations, {last.n_reused} reused-LU solves "
+            f"({last.n_gmres_iterations} GMRES iterations), {last.n_iterative} BiCGSTAB solves per run"
         )
-    rows.append(
-        (f"  ratio {name}: new LU / kept LU", times[False] / times[True], "(times faster, in-process)")
-    )
+        rows.append((f"{name}, {label}", statistics.median(times[label]), note))
+    now = rows[-1][1]
+    rows += [
+        (f"  ratio {name}: {r[0].split(', ', 1)[1]} / present", r[1] / now, "(in-process)") for r in rows[:-1]
+    ]
     return rows
 
 
@@ -203,9 +217,7 @@ def bench_roulade(repeats: int = 5) -> list[tuple[str, float, str]]:
 
     lib = load_library()
     plan = lib.plan("roulade-blast-chill")
-    return _with_and_without_reuse(
-        "2-D plan roulade-blast-chill", lambda: run_plan(plan, library=lib), repeats
-    )
+    return _solver_settings("2-D plan roulade-blast-chill", lambda: run_plan(plan, library=lib), repeats)
 
 
 def bench_loaded_batch(repeats: int = 3) -> list[tuple[str, float, str]]:
@@ -233,60 +245,39 @@ def bench_loaded_batch(repeats: int = 3) -> list[tuple[str, float, str]]:
     return rows
 
 
+def _brick_run(n_nodes: int):
+    """The 3-D brick case of (c): 4 h chilling with 500 output times on an n³ grid."""
+    times = np.linspace(0.0, 4 * 3600.0, 500)
+    g = Geometry("brick", length_m=0.04, width_m=0.05, height_m=0.06)
+    props, bc = PropertyTable.constant(0.5, 1050.0, 3600.0), SurfaceBoundary.constant(2.0, 25.0)
+    return solve_conduction(g, props, 60.0, bc, times[-1], n_nodes=n_nodes, output_time_s=times)
+
+
 def bench_brick_15(repeats: int = 3) -> list[tuple[str, float, str]]:
     """3-D brick, 15³ nodes, 4 h chilling with 500 output times."""
-    g = Geometry("brick", length_m=0.04, width_m=0.05, height_m=0.06)
-    times = np.linspace(0.0, 4 * 3600.0, 500)
-
-    def run():
-        return solve_conduction(
-            g,
-            PropertyTable.constant(0.5, 1050.0, 3600.0),
-            60.0,
-            SurfaceBoundary.constant(2.0, 25.0),
-            times[-1],
-            n_nodes=15,
-            output_time_s=times,
-        )
-
-    return _with_and_without_reuse("3-D brick 15^3", run, repeats)
+    return _solver_settings("3-D brick 15^3", lambda: _brick_run(15), repeats)
 
 
 def bench_brick(repeats: int = 3) -> list[tuple[str, float, str]]:
+    from procplan.conduction.product import exact_history
+
     g = Geometry("brick", length_m=0.04, width_m=0.05, height_m=0.06)
     k, rho, cp, h = 0.5, 1050.0, 3600.0, 25.0
     times = np.linspace(0.0, 4 * 3600.0, 500)
-    rows = []
+    props, bc = PropertyTable.constant(k, rho, cp), SurfaceBoundary.constant(2.0, h)
     t_fv, fv = _median_time(
-        lambda: solve_conduction(
-            g,
-            PropertyTable.constant(k, rho, cp),
-            60.0,
-            SurfaceBoundary.constant(2.0, h),
-            times[-1],
-            output_time_s=times,
-        ),
-        repeats,
+        lambda: solve_conduction(g, props, 60.0, bc, times[-1], output_time_s=times), repeats
     )
-    try:
-        product = importlib.import_module("procplan.conduction.product")
-        exact_history = product.exact_history
-    except (ImportError, AttributeError):
-        rows.append(
-            (
-                "brick, exact series",
-                float("nan"),
-                "skipped: procplan.conduction.product.exact_history not available",
-            )
-        )
-    else:
-        t_ex, ex = _median_time(lambda: exact_history(g, k, rho, cp, h, 60.0, 2.0, times), repeats)
-        core = np.asarray(ex.core_C)
-        diff = float(np.max(np.abs(core - fv.core_C)))
-        rows.append(("brick, exact series (500 times)", t_ex, "product.exact_history"))
-        rows.append(("  FV vs series, max |core difference|", diff, "K"))
-    rows.insert(0, ("brick, finite volume 15^3 (500 output times)", t_fv, f"{fv.n_steps} steps"))
-    return rows
+    t_ex, ex = _median_time(lambda: exact_history(g, k, rho, cp, h, 60.0, 2.0, times), repeats)
+    return [
+        ("brick, finite volume 15^3 (500 output times)", t_fv, f"{fv.n_steps} steps"),
+        ("brick, exact series (500 times)", t_ex, "product.exact_history"),
+        (
+            "  FV vs series, max |core difference|",
+            float(np.max(np.abs(np.asarray(ex.core_C) - fv.core_C))),
+            "K",
+        ),
+    ]
 
 
 def bench_finite_cylinder(repeats: int = 3) -> list[tuple[str, float, str]]:
@@ -306,8 +297,7 @@ def bench_finite_cylinder(repeats: int = 3) -> list[tuple[str, float, str]]:
 
 def bench_studies() -> list[tuple[str, float, str]]:
     """Monte Carlo against one engine run per sample: exact path (series case), batched FV (1-D T-dependent)."""
-    from procplan.studies.variability import bench_variability
-    from procplan.studies.variability_bench import bench_batch_chill
+    from procplan.studies.variability_bench import bench_batch_chill, bench_variability
 
     b, c = bench_variability(), bench_batch_chill()
     n, m = int(b["n_samples"]), int(c["n_samples"])
@@ -452,27 +442,9 @@ def bench_error_control(repeats: int = 3) -> list[tuple[str, float, str]]:
 
 def bench_brick_31(repeats: int = 1) -> list[tuple[str, float, str]]:
     """3-D brick at 31³ nodes (the case of :func:`bench_brick_15`), the solver as it chooses."""
-    g = Geometry("brick", length_m=0.04, width_m=0.05, height_m=0.06)
-    times = np.linspace(0.0, 4 * 3600.0, 500)
-    t, r = _median_time(
-        lambda: solve_conduction(
-            g,
-            PropertyTable.constant(0.5, 1050.0, 3600.0),
-            60.0,
-            SurfaceBoundary.constant(2.0, 25.0),
-            times[-1],
-            n_nodes=31,
-            output_time_s=times,
-        ),
-        repeats,
-    )
-    return [
-        (
-            "3-D brick 31^3 (500 output times)",
-            t,
-            f"{r.n_steps} steps, {r.n_factorisations} LU factorisations, {r.n_reused_factorisations} reused",
-        )
-    ]
+    t, r = _median_time(lambda: _brick_run(31), repeats)
+    note = f"{r.n_steps} steps, {r.n_factorisations} LU factorisations, {r.n_reused_factorisations} reused"
+    return [("3-D brick 31^3 (500 output times)", t, note)]
 
 
 def bench_roulade_variability(n_samples: int = 40) -> list[tuple[str, float, str]]:
@@ -501,9 +473,12 @@ def bench_roulade_variability(n_samples: int = 40) -> list[tuple[str, float, str
 
 
 #: The app timing, run in its own interpreter (the package below the app never imports streamlit): the median
-#: seconds of ``repeats`` changes of the air temperature on the Process page (roulade plan) under AppTest.
+#: seconds of ``repeats`` changes of the air temperature on the Process page (roulade plan) under AppTest,
+#: with the solver's exact solves on (argument "present") or off ("before").
 _APP_TIMING = """
 import statistics, sys, time
+import procplan.conduction.fv_linear as fv_linear
+fv_linear.EXACT_SOLVES = sys.argv[3] == "present"
 from streamlit.testing.v1 import AppTest
 from procplan.ui.main import PAGES
 at = AppTest.from_file(sys.argv[1], default_timeout=300)
@@ -523,9 +498,10 @@ print(statistics.median(times), repr(boxes[0].label))
 """
 
 
-def bench_app_recompute(repeats: int = 3) -> list[tuple[str, float, str]]:
+def bench_app_recompute(repeats: int = 5) -> list[tuple[str, float, str]]:
     """The app's recompute after a setting change of the roulade plan (the default plan of the app; streamlit
-    AppTest in a separate interpreter): the median over ``repeats`` changes of the first air temperature."""
+    AppTest in a separate interpreter): the median over ``repeats`` changes of the first air temperature, with
+    the present solver and with the solver before its exact solves (the two interpreters one after the other)."""
     import os
     import subprocess
     import sys
@@ -533,20 +509,24 @@ def bench_app_recompute(repeats: int = 3) -> list[tuple[str, float, str]]:
     app_file = os.path.join(os.path.dirname(os.path.dirname(os.path.abspath(__file__))), "app.py")
     if not os.path.exists(app_file):
         return [("app recompute after a setting change", float("nan"), "app.py not found beside the package")]
-    out = subprocess.run(
-        [sys.executable, "-c", _APP_TIMING, app_file, str(repeats)],
-        capture_output=True,
-        text=True,
-        check=False,
-    )
-    value, _, label = (out.stdout.strip().splitlines() or ["nan"])[-1].partition(" ")
-    return [
-        (
-            "app recompute after a setting change (AppTest, roulade)",
-            float(value) if value.replace(".", "", 1).isdigit() else float("nan"),
-            f"median of {repeats}, input {label}" if label else out.stderr.strip()[-200:],
+    rows = []
+    for setting in ("before", "present"):
+        out = subprocess.run(
+            [sys.executable, "-c", _APP_TIMING, app_file, str(repeats), setting],
+            capture_output=True,
+            text=True,
+            check=False,
         )
-    ]
+        value, _, label = (out.stdout.strip().splitlines() or ["nan"])[-1].partition(" ")
+        rows.append(
+            (
+                f"app recompute after a setting change (AppTest, roulade), {setting} solver",
+                float(value) if value.replace(".", "", 1).isdigit() else float("nan"),
+                f"median of {repeats}, input {label}" if label else out.stderr.strip()[-200:],
+            )
+        )
+    rows.append(("  ratio app recompute: before / present", rows[0][1] / rows[1][1], "(same run)"))
+    return rows
 
 
 def bench_cli_startup(repeats: int = 3) -> list[tuple[str, float, str]]:

@@ -1,13 +1,17 @@
-"""The linear systems of the Newton iteration: tridiagonal (1-D), sparse LU kept across iterations and steps
-(2-D and 3-D up to ``DIRECT_MAX_CELLS`` cells), BiCGSTAB (larger 3-D grids).
+"""The linear systems of the Newton iteration: tridiagonal (1-D), a new banded LU at every Newton iteration
+(2-D grids whose shorter side is at most ``BANDED_MAX_BANDWIDTH`` cells), sparse LU kept across iterations and
+steps (other 2-D and 3-D grids up to ``DIRECT_MAX_CELLS`` cells), BiCGSTAB (larger 3-D grids).
 
 A sparse LU of the Newton matrix is kept in a :class:`Factorisation` and reused across Newton iterations and
 time steps as the preconditioner of GMRES on the current Newton matrix (an inexact Newton method with a
 frozen-factorisation preconditioner: Kelley, C. T., Solving Nonlinear Equations with Newton's Method, SIAM
 2003, §3.2 and §5.3; GMRES: Saad, Y. & Schultz, M. H. (1986), SIAM J. Sci. Stat. Comput. 7:856–869) while
 the time-step coefficient a/Δt has changed little; when GMRES does not converge within a few iterations the
-matrix is factorised anew. The Newton convergence test is on the residual in every case, so a reused
-factorisation changes the cost of a step, not the tolerance its answer meets.
+matrix is factorised anew; when the Newton matrix is the very one factorised (a linear problem at an unchanged
+time step), the kept LU solves it directly. The Newton convergence test is on the residual in every case, so a
+reused factorisation changes the cost of a step, not the tolerance its answer meets. A banded LU (LAPACK
+gbsv: Anderson, E. et al., LAPACK Users' Guide, 3rd ed., SIAM 1999, §2.4.2) of a narrow 2-D grid costs less
+than the GMRES iterations it would save, so those grids solve every Newton system exactly.
 """
 
 from __future__ import annotations
@@ -24,9 +28,11 @@ if TYPE_CHECKING:
     from procplan.conduction.fv_model import FVModel
 
 __all__ = [
+    "BANDED_MAX_BANDWIDTH",
     "DIRECT_MAX_CELLS",
     "REUSE_SCALE_CHANGE",
     "Factorisation",
+    "band_pattern",
     "gmres_right",
     "linear_solve",
     "newton_matrix",
@@ -43,7 +49,18 @@ DIRECT_MAX_CELLS = 8000
 REUSE_SCALE_CHANGE: dict[int, float] = {2: 0.1, 3: 0.5}
 #: Most GMRES iterations with a kept factorisation before the matrix is factorised anew.
 GMRES_MAX_ITERATIONS = 12
+#: Widest band [cells] (the shorter side of a 2-D grid in the solver's numbering) solved by a new banded LU at
+#: every Newton iteration instead of the kept sparse LU with GMRES: at 25 × 25 cells a banded LU took a fifth
+#: of a sparse one, about the Python cost of one GMRES iteration (measured; ``python -m procplan.bench``
+#: compares the two on the roulade plan). 0 turns the banded path off.
+BANDED_MAX_BANDWIDTH = 40
+#: False: the solver as it was before exact solves were added (every 2-D grid on the kept sparse LU with
+#: GMRES, a kept LU never used directly, every Newton step confirmed by a further residual); kept so that
+#: ``python -m procplan.bench`` can time both in the same run.
+EXACT_SOLVES = True
 _gtsv = scipy.linalg.lapack.dgtsv
+_gbsv = scipy.linalg.lapack.dgbsv
+_gbtrs = scipy.linalg.lapack.dgbtrs
 
 
 def sparse_pattern(fi: np.ndarray, fj: np.ndarray, n: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -55,6 +72,19 @@ def sparse_pattern(fi: np.ndarray, fj: np.ndarray, n: int) -> tuple[np.ndarray, 
     cols = np.concatenate([fj, fi, diag])
     pos = sp.coo_matrix((np.arange(1, rows.size + 1, dtype=float), (rows, cols)), shape=(n, n)).tocsc()
     return pos.data.astype(np.int64) - 1, pos.indices.copy(), pos.indptr.copy()
+
+
+def band_pattern(fi: np.ndarray, fj: np.ndarray, n: int, dim: int):
+    """The LAPACK band storage of the Newton matrix of a 2-D grid: (flat Fortran-order positions of the entries
+    [face (i, j) ..., face (j, i) ..., diagonal ...] in the (3 kl + 1) × n array, kl = ku, rows); None in 3-D
+    and when the band is wider than ``BANDED_MAX_BANDWIDTH``."""
+    kl = int(np.max(np.abs(fi - fj))) if fi.size else 0
+    if dim != 2 or kl > BANDED_MAX_BANDWIDTH:
+        return None
+    rows = 3 * kl + 1
+    diag = np.arange(n)
+    r, c = np.concatenate([fi, fj, diag]), np.concatenate([fj, fi, diag])
+    return (2 * kl + r - c) + c * rows, kl, rows
 
 
 class Factorisation:
@@ -73,16 +103,29 @@ class Factorisation:
         self.n_reused = 0
         self.n_gmres_iterations = 0
         self.n_iterative = 0
+        self.exact = False  # the last solve was direct (an LU of the very Newton matrix)
+        self.key: tuple = ()  # the (md, af, bf, dqs, D) of the kept LU's matrix
+        self.previous: tuple = ()  # those of the last system solved
+        self.band = None  # the last banded LU: (its key, LU, pivots)
 
     def usable(self, scale: float) -> bool:
         """True when a kept LU exists and a/Δt has changed little since it was built."""
         return self.lu is not None and abs(scale / self.scale - 1.0) <= self.reuse_change
 
-    def factor(self, A: sp.csc_matrix, scale: float) -> None:
-        """Factorise A (built for a/Δt = scale) and keep the LU."""
+    def factor(self, A: sp.csc_matrix, scale: float, key: tuple = ()) -> None:
+        """Factorise A (built for a/Δt = scale from the arrays ``key``) and keep the LU."""
         self.lu = spla.splu(A, permc_spec="MMD_AT_PLUS_A")
         self.scale = scale
+        self.key = key
         self.n_factorisations += 1
+
+    def same_matrix(self, key: tuple, kept: tuple | None = None) -> bool:
+        """True when the Newton matrix of ``key`` = (md, af, bf, dqs, D) is that of ``kept`` (default: the kept
+        LU's) to within 1e-12 of each array's largest entry (time steps meant equal may differ in the last
+        digits; an LU that close solves the system to the same rounding level)."""
+        kept = self.key if kept is None else kept
+        # md first: it differs whenever the time step does
+        return len(kept) == len(key) and all(_close(a, b) for a, b in zip(key, kept, strict=True))
 
     def preconditioned_solve(self, matvec, rhs: np.ndarray, md: np.ndarray, rtol: float) -> np.ndarray | None:
         """GMRES on ``matvec`` x = rhs with the kept LU as right preconditioner, to ||diag(md)⁻¹ (rhs − J x)||₂
@@ -96,6 +139,14 @@ class Factorisation:
         if x is not None:
             self.n_reused += 1
         return x
+
+
+def _close(a: np.ndarray, b: np.ndarray) -> bool:
+    if a is b:
+        return True
+    if a.shape != b.shape:
+        return False
+    return a.size == 0 or float(np.max(np.abs(a - b))) <= 1e-12 * float(np.max(np.abs(b)))
 
 
 def gmres_right(matvec, precondition, rhs: np.ndarray, rtol: float, max_it: int):
@@ -165,19 +216,53 @@ def linear_solve(model: FVModel, md, af, bf, dqs, D, rhs, scale: float = 0.0, rt
 
     ``af``, ``bf`` are the derivatives of each face flux (from cell i to cell j, positive into i) with
     respect to T_i and T_j; ``dqs`` the derivative of each surface cell's inflow with respect to its T;
-    ``scale`` the a/Δt [1/s] of md. 2-D and 3-D: with the LU kept in ``model.factors`` as preconditioner
-    to a relative (md-scaled) residual ``rtol`` when it is usable, else (or if that fails) by a new LU, which
-    is kept.
+    ``scale`` the a/Δt [1/s] of md. Narrow 2-D grids: by a new banded LU. Other 2-D and 3-D grids: directly
+    by the LU kept in ``model.factors`` when it is of this very matrix; by GMRES with it as preconditioner to
+    a relative (md-scaled) residual ``rtol`` when it is usable; else (or if that fails, or when the matrix is
+    that of the previous solve) by a new LU, which is kept. ``model.factors.exact`` tells whether the solve
+    was direct.
     """
-    n = model.n
     if model.dim == 1:
         return _tridiagonal_solve(model, md, af, bf, dqs, D, rhs)
     factors = model.factors
-    if factors.usable(scale):
-        x = factors.preconditioned_solve(newton_product(model, md, af, bf, dqs, D), rhs, md, rtol)
+    key = (md, af, bf, dqs, D)
+    if not EXACT_SOLVES:
+        return _kept_lu_solve(model, key, rhs, scale, rtol)
+    if model.band is not None:
+        x = _banded_solve(model, key, rhs)
         if x is not None:
             return x
-    A, diag = newton_matrix(model, md, af, bf, dqs, D)
+    factors.exact = False
+    # the matrix of the previous solve again (a linear problem at a settled time step): factorise it, so that
+    # the steps that follow solve directly
+    previous, factors.previous = factors.previous, key
+    if factors.usable(scale):
+        if factors.same_matrix(key):
+            factors.exact = True
+            factors.n_reused += 1
+            return factors.lu.solve(rhs)
+        if not factors.same_matrix(key, previous):
+            x = factors.preconditioned_solve(newton_product(model, md, af, bf, dqs, D), rhs, md, rtol)
+            if x is not None:
+                return x
+    return _new_lu_solve(model, key, rhs, scale)
+
+
+def _kept_lu_solve(model: FVModel, key: tuple, rhs: np.ndarray, scale: float, rtol: float) -> np.ndarray:
+    """The Newton system with the kept LU as GMRES preconditioner when it is usable, else by a new LU."""
+    factors = model.factors
+    factors.exact = False
+    if factors.usable(scale):
+        x = factors.preconditioned_solve(newton_product(model, *key), rhs, key[0], rtol)
+        if x is not None:
+            return x
+    return _new_lu_solve(model, key, rhs, scale)
+
+
+def _new_lu_solve(model: FVModel, key: tuple, rhs: np.ndarray, scale: float) -> np.ndarray:
+    """The Newton system by a new sparse LU, which is kept (BiCGSTAB first above ``DIRECT_MAX_CELLS``)."""
+    n, factors = model.n, model.factors
+    A, diag = newton_matrix(model, *key)
     if n > DIRECT_MAX_CELLS:
         # large 3-D grids: direct LU fills in badly, so BiCGSTAB with a Jacobi preconditioner (the Newton
         # matrix is diagonally dominant: m/dt on the diagonal plus an M-matrix-like conduction part)
@@ -186,8 +271,30 @@ def linear_solve(model: FVModel, md, af, bf, dqs, D, rhs, scale: float = 0.0, rt
         x, info = spla.bicgstab(A, rhs, x0=rhs / diag, rtol=1e-12, atol=0.0, maxiter=500, M=pre)
         if info == 0:
             return x
-    factors.factor(A, scale)
+    factors.factor(A, scale, key)
+    factors.exact = EXACT_SOLVES
     return factors.lu.solve(rhs)
+
+
+def _banded_solve(model: FVModel, key: tuple, rhs: np.ndarray) -> np.ndarray | None:
+    """The Newton system of a narrow 2-D grid by a banded LU of its matrix (kept for a second right-hand side
+    of the same matrix, the free medium's column); None when LAPACK reports a zero pivot."""
+    factors = model.factors
+    flat, kl, rows = model.band
+    kept = factors.band
+    if kept is not None and all(a is b for a, b in zip(kept[0], key, strict=True)):
+        x, info = _gbtrs(kept[1], kl, kl, rhs, kept[2])
+    else:
+        md, af, bf, dqs, D = key
+        dd = np.bincount(model.fi, af, model.n) - np.bincount(model.fj, bf, model.n)
+        dd[model.sc] += dqs
+        buf = np.zeros(rows * model.n)
+        buf[flat] = np.concatenate([-bf * D[model.fj], af * D[model.fi], md - dd * D])
+        lub, piv, x, info = _gbsv(kl, kl, buf.reshape(model.n, rows).T, rhs, overwrite_ab=1)
+        factors.band = (key, lub, piv) if info == 0 else None
+        factors.n_factorisations += info == 0
+    factors.exact = info == 0
+    return x if info == 0 else None
 
 
 def _tridiagonal_solve(model: FVModel, md, af, bf, dqs, D, rhs):

@@ -10,7 +10,7 @@ import numpy as np
 
 from procplan.conduction.fv_boundary import SurfaceBoundary
 from procplan.conduction.fv_grid import FVGrid
-from procplan.conduction.fv_linear import Factorisation, sparse_pattern
+from procplan.conduction.fv_linear import Factorisation, band_pattern, sparse_pattern
 from procplan.conduction.fv_newton import solve_step
 from procplan.properties.table import PropertyTable
 
@@ -52,6 +52,8 @@ class FVModel:
         self.kinks = kinks if kinks.size <= 16 else kinks[:0]
         if self.dim > 1:
             self._perm, self._indices, self._indptr = sparse_pattern(self.fi, self.fj, self.n)
+        #: the banded storage of the Newton matrix of a narrow 2-D grid (fv_linear.band_pattern), else None
+        self.band = band_pattern(self.fi, self.fj, self.n, self.dim)
         self.has_q = boundary.q_extra_W_m2 is not None
         #: the medium solved with the pieces (procplan.conduction.fv_medium.MediumNode), None: a given medium
         self.medium_node = boundary.medium_node
@@ -66,11 +68,15 @@ class FVModel:
 
     def dT_dH(self, H: np.ndarray, direction: np.ndarray) -> np.ndarray:
         """Slope of T(H) on the table segment H lies in; at a table point, the segment H moves into."""
+        return self.slope[self.segment(H, direction)]
+
+    def segment(self, H: np.ndarray, direction: np.ndarray) -> np.ndarray:
+        """The table segment of each cell: the one H lies in; at a table point, the one H moves into."""
         hg = self.h_grid
         i = np.searchsorted(hg, H, side="right") - 1
         at_point = hg[np.minimum(np.maximum(i, 0), hg.size - 1)] == H
         i = i - (at_point & (direction < 0))
-        return self.slope[np.minimum(np.maximum(i, 0), self.nseg - 1)]
+        return np.minimum(np.maximum(i, 0), self.nseg - 1)
 
     def conductance(self, T: np.ndarray, derivatives: bool = False):
         """Face conductances G = k_f A/Δx [W/K] with the harmonic mean k_f = 2 k_i k_j/(k_i + k_j);

@@ -39,6 +39,9 @@ def solve_step(
 
     2-D and 3-D: each Newton system is solved with a kept factorisation as preconditioner where it serves
     (:func:`procplan.conduction.fv_linear.linear_solve`), to a linear residual well below the Newton tolerance.
+    After a direct solve that kept every cell on its table segment, with k constant there, no surface flux
+    beyond h and a given medium, the discrete problem was linear over the update and the step ends without the
+    residual that would confirm it (as in 1-D).
     ``coupling`` (a :class:`procplan.conduction.fv_medium.MediumCoupling`) gives the medium temperature; when
     it is free, the medium balance is solved with the pieces by the bordered Newton system (Schur complement:
     a second solve with the same matrix for the column of the medium).
@@ -64,7 +67,8 @@ def solve_step(
             return H, it - 1
         direction = np.sign(H - Hn)
         direction = np.where(direction == 0, -np.sign(R), direction)
-        D = model.dT_dH(H, direction)
+        idx = model.segment(H, direction)
+        D = model.slope[idx]
         if it > _SECANT_AFTER and Hold is not None:
             dH = H - Hold
             ok = np.abs(dH) > 1e-9 * (1.0 + np.abs(H))
@@ -85,9 +89,14 @@ def solve_step(
             coupling.E += dE
         if not np.all(np.isfinite(delta)):
             return None, it
+        cut = False
         if model.kinks.size and it <= _SECANT_AFTER:
-            delta = _stop_on_kinks(model.kinks, H, delta)[0]
+            delta, cells = _stop_on_kinks(model.kinks, H, delta)
+            cut = bool(cells.any())
         H = H + delta
+        exact = model.factors.exact and not free and not cut and it <= _SECANT_AFTER
+        if exact and linear_on(model, idx, H, model.has_q):  # the residual would vanish: the step is done
+            return H, it
     return None, _MAX_NEWTON
 
 

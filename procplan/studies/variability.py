@@ -54,7 +54,6 @@ __all__ = [
     "VARIABLES",
     "Distribution",
     "VariabilityResult",
-    "bench_variability",
     "distribution",
     "monte_carlo",
     "parse_distribution",
@@ -291,9 +290,10 @@ def monte_carlo(
         see :func:`procplan.studies.runner.run_jobs`), None (in this process) or any concurrent.futures.Executor
     corners : also run the worst-case corners (2^k runs for k variables)
     solver, n_nodes, dt_s : passed to run_plan
-    progress : progress(done, total) for the "run" path
+    progress : progress(done, total) for the "run" path (after each run) and the "batch" path (after each batch)
     stop : a ``threading.Event`` (or see :func:`procplan.studies.runner.stop_requested`); when set, the "run"
-        path ends between runs with :class:`procplan.studies.runner.StudyStopped`
+        path ends between runs with :class:`procplan.studies.runner.StudyStopped`; the "batch" path ends
+        after the batches then finished, with the samples done (and a note saying so), without corner runs
 
     Returns
     -------
@@ -330,9 +330,10 @@ def monte_carlo(
         from procplan.studies.variability_batch import batch_run
 
         h = _fast_h(plan, samples, ctx, n)
-        notes = batch_run(plan, nominal, samples, ctx, h, library, frame, (n_nodes, dt_s, default_workers()))
-        if progress is not None:
-            progress(n, n)
+        opts = (n_nodes, dt_s, default_workers())
+        notes, kept = batch_run(plan, nominal, samples, ctx, h, library, frame, opts, (progress, stop))
+        if kept is not None:  # stopped: the samples done, no corner runs
+            frame, n, corners = frame[kept].reset_index(drop=True), int(kept.sum()), False
     else:
         run_opts = {"solver": solver, "n_nodes": n_nodes, "dt_s": dt_s}
         notes += _run_path(
@@ -568,41 +569,3 @@ def _corners(plan, distributions, step_index, ctx, library, solver, n_nodes, dt_
         "metrics": {k: v for k, v in rows[j].items() if k not in names},
     }
     return worst, results[j], pd.DataFrame(rows)
-
-
-def bench_variability(n_samples: int = 10_000, seed: int = 1) -> dict[str, float]:
-    """Timings of the Monte Carlo paths on a series case (a 60 mm cylinder of fixed properties chilled to
-    5 °C with a given h, start temperature, size and h varying).
-
-    Returns seconds of the exact fast path for ``n_samples`` samples (``fast_s``, without the corner runs),
-    the per-sample cost of the run_plan path (``run_per_sample_s``, from 20 samples) and the samples per
-    second of the fast path.
-    """
-    from procplan.geometry import Geometry
-    from procplan.model import FixedProperties, Product, Step
-
-    prod = Product(
-        "bench cylinder",
-        Geometry("cylinder", diameter_m=0.06),
-        fixed_properties=FixedProperties(0.5, 1050.0, 3600.0),
-    )
-    plan = Plan("bench", prod, 70.0, (Step("chill", 6 * 3600.0, 5.0, medium_C=0.0, h_W_m2K=25.0),))
-    dists = {
-        "start_C": distribution("normal", 70.0, 2.0, low=60.0, high=80.0),
-        "size_factor": distribution("triangular", 0.9, 1.0, 1.15),
-        "h_W_m2K": distribution("lognormal", 25.0, 0.2),
-    }
-    monte_carlo(plan, dists, n_samples=100, seed=seed, corners=False)  # warm caches and imports
-    t = time.perf_counter()
-    r = monte_carlo(plan, dists, n_samples=n_samples, seed=seed, corners=False)
-    fast_s = time.perf_counter() - t
-    t = time.perf_counter()
-    monte_carlo(plan, dists, n_samples=20, seed=seed, method="run", corners=False)
-    run_s = (time.perf_counter() - t) / 20
-    return {
-        "n_samples": float(n_samples),
-        "fast_s": fast_s,
-        "fast_samples_per_s": n_samples / fast_s,
-        "run_per_sample_s": run_s,
-        "p50_min": r.percentiles["time_to_target_min"]["P50"],
-    }

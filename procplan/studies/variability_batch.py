@@ -25,7 +25,7 @@ Bigelow et al. (1920), general method for F (procplan.outcomes.lethality).
 
 from __future__ import annotations
 
-from concurrent.futures import ThreadPoolExecutor
+from concurrent.futures import ThreadPoolExecutor, as_completed
 
 import numpy as np
 
@@ -35,6 +35,7 @@ from procplan.errors import InvalidInputError
 from procplan.files.product import check_proportions
 from procplan.outcomes.rules import check_rule
 from procplan.run.budget import ENERGY_BALANCE_LIMIT
+from procplan.studies.runner import stop_requested
 
 __all__ = ["batch_blockers", "batch_count", "batch_run"]
 
@@ -69,8 +70,12 @@ def batch_blockers(plan, nominal, fast_blockers: list[str]) -> list[str]:
     return why
 
 
-def _histories(plan, nominal, samples: dict, ctx, h: np.ndarray, n_nodes, dt_s, workers: int):
-    """The batched runs of all samples (split over ``workers`` threads): a list of (indices, result)."""
+def _histories(plan, nominal, samples: dict, ctx, h: np.ndarray, n_nodes, dt_s, workers: int, running):
+    """The batched runs of the samples (split over ``workers`` threads): a list of (indices, result) of the
+    batches that ran, which samples are valid, the first refusal in words and whether the stop flag ended
+    the study early.
+    ``running`` = (progress, stop): progress(done, total) after each batch; a set stop ends the study after
+    the batches then finished (batches not yet started are dropped)."""
     step = plan.steps[0]
     n = len(h)
     start = np.broadcast_to(samples.get("start_C", plan.start_temperature_C), (n,)).astype(float)
@@ -92,10 +97,42 @@ def _histories(plan, nominal, samples: dict, ctx, h: np.ndarray, n_nodes, dt_s, 
             stop_when_core_C=_target(plan),
         )
 
-    if len(parts) <= 1:
-        return [run(ix) for ix in parts], error
-    with ThreadPoolExecutor(max_workers=min(len(parts), max(1, workers))) as pool:
-        return list(pool.map(run, parts)), error
+    done, stopped = _run_parts(run, parts, min(len(parts), max(1, workers)), n - int(ok.sum()), n, running)
+    return done, ok, error, stopped
+
+
+def _run_parts(run, parts: list, workers: int, done: int, n: int, running):
+    """``run`` on each part (on ``workers`` threads), progress and the stop flag after each: (results in the
+    order of ``parts``, stopped early)."""
+    progress, stop = running
+    out: dict[int, tuple] = {}
+
+    def finished(i: int, res) -> bool:
+        nonlocal done
+        out[i] = res
+        done += res[0].size
+        if progress is not None:
+            progress(done, n)
+        return len(out) < len(parts) and stop_requested(stop)
+
+    if workers <= 1:
+        for i, ix in enumerate(parts):
+            if finished(i, run(ix)):
+                break
+    else:
+        with ThreadPoolExecutor(max_workers=workers) as pool:
+            futures = {pool.submit(run, ix): i for i, ix in enumerate(parts)}
+            try:
+                for f in as_completed(futures):
+                    if finished(futures[f], f.result()):
+                        break
+            finally:  # a stop (or an error) drops the batches not started; the running ones end first
+                for f in futures:
+                    f.cancel()
+        for f, i in futures.items():  # those that were running when the stop came are done too
+            if i not in out and not f.cancelled() and f.exception() is None:
+                out[i] = f.result()
+    return [out[i] for i in sorted(out)], len(out) < len(parts)
 
 
 def _valid(plan, props, start: np.ndarray, size: np.ndarray) -> tuple[np.ndarray, str | None]:
@@ -145,15 +182,20 @@ def _until(res: BatchConductionResult, t_end: np.ndarray, stop_C: np.ndarray):
     return np.where(inside, t, t_end[:, None]), np.where(inside, res.core_C, core_end[:, None])
 
 
-def batch_run(plan, nominal, samples: dict, ctx, h: np.ndarray, library, frame, options) -> list[str]:
-    """Every sample on the batched path; fills the frame's metrics and returns the notes.
-    ``options`` = (n_nodes, dt_s, workers)."""
+def batch_run(
+    plan, nominal, samples: dict, ctx, h: np.ndarray, library, frame, options, running=(None, None)
+) -> tuple[list[str], np.ndarray | None]:
+    """Every sample on the batched path; fills the frame's metrics and returns the notes and, when the stop
+    flag ended the study early, which samples were done (None when all were). ``options`` = (n_nodes, dt_s,
+    workers); ``running`` = (progress, stop), see :func:`_histories`."""
     n_nodes, dt_s, workers = options
     step = plan.steps[0]
     n = len(h)
     tt, t_end = np.full(n, np.nan), np.full(n, float(step.duration_s))
     f_min, rule_ok = np.full(n, np.nan), np.full(n, None, dtype=object)
-    parts, error = _histories(plan, nominal, samples, ctx, h, n_nodes, dt_s, workers)
+    parts, ok, error, ended_early = _histories(
+        plan, nominal, samples, ctx, h, n_nodes, dt_s, workers, running
+    )
     target, le, rule_name = _target(plan), plan.checks.lethality, plan.checks.cooling_rule
     basis = None
     if le is not None:
@@ -186,14 +228,23 @@ def batch_run(plan, nominal, samples: dict, ctx, h: np.ndarray, library, frame, 
         f"batched finite volumes: {n} samples in {len(parts)} batch(es) of {', '.join(map(str, n_steps))} "
         f"common time steps; largest energy-balance error {worst_balance:.2%}"
     ]
-    n_bad = n - sum(ix.size for ix, _ in parts)
+    kept = None
+    if ended_early:  # the invalid samples and those of the finished batches
+        kept = ~ok
+        for ix, _ in parts:
+            kept[ix] = True
+        notes.append(
+            f"stopped: {int(kept.sum())} of {n} samples done ({len(parts)} batch(es) finished); the results "
+            "are those of the samples done"
+        )
+    n_bad = int((~ok).sum())
     if n_bad:
         notes.append(f"{n_bad} sample(s) invalid, e.g. {error}")
     if worst_balance > ENERGY_BALANCE_LIMIT:
         notes.append(
             f"some samples' energy balance is off by more than {ENERGY_BALANCE_LIMIT:.0%}: give a smaller dt_s"
         )
-    return notes
+    return notes, kept
 
 
 def _distinct(t: np.ndarray, c: np.ndarray):

@@ -1,5 +1,6 @@
-"""The benchmark of the batched variability path: 10,000 samples of a 1-D temperature-dependent chill, batched
-against one engine run per sample (``python -m procplan.bench`` prints it)."""
+"""The benchmarks of the variability paths (``python -m procplan.bench`` prints them): the exact series path
+on a fixed-property cylinder, and the batched path (10,000 samples of a 1-D temperature-dependent chill)
+against one engine run per sample."""
 
 from __future__ import annotations
 
@@ -11,7 +12,7 @@ from procplan.geometry import Geometry
 from procplan.model import Plan, Product, Step
 from procplan.studies.variability import distribution, monte_carlo
 
-__all__ = ["bench_batch_chill"]
+__all__ = ["bench_batch_chill", "bench_variability"]
 
 
 def bench_batch_chill(n_samples: int = 10_000, seed: int = 1, n_single: int = 10) -> dict[str, float]:
@@ -48,4 +49,41 @@ def bench_batch_chill(n_samples: int = 10_000, seed: int = 1, n_single: int = 10
         "ratio": single_s * n_samples / batch_s,
         "max_time_difference_min": diff,
         "p50_min": batched.percentiles["time_to_target_min"]["P50"],
+    }
+
+
+def bench_variability(n_samples: int = 10_000, seed: int = 1) -> dict[str, float]:
+    """Timings of the Monte Carlo paths on a series case (a 60 mm cylinder of fixed properties chilled to
+    5 °C with a given h, start temperature, size and h varying).
+
+    Returns seconds of the exact fast path for ``n_samples`` samples (``fast_s``, without the corner runs),
+    the per-sample cost of the run_plan path (``run_per_sample_s``, from 20 samples) and the samples per
+    second of the fast path.
+    """
+    from procplan.model import FixedProperties
+
+    prod = Product(
+        "bench cylinder",
+        Geometry("cylinder", diameter_m=0.06),
+        fixed_properties=FixedProperties(0.5, 1050.0, 3600.0),
+    )
+    plan = Plan("bench", prod, 70.0, (Step("chill", 6 * 3600.0, 5.0, medium_C=0.0, h_W_m2K=25.0),))
+    dists = {
+        "start_C": distribution("normal", 70.0, 2.0, low=60.0, high=80.0),
+        "size_factor": distribution("triangular", 0.9, 1.0, 1.15),
+        "h_W_m2K": distribution("lognormal", 25.0, 0.2),
+    }
+    monte_carlo(plan, dists, n_samples=100, seed=seed, corners=False)  # warm caches and imports
+    t = time.perf_counter()
+    r = monte_carlo(plan, dists, n_samples=n_samples, seed=seed, corners=False)
+    fast_s = time.perf_counter() - t
+    t = time.perf_counter()
+    monte_carlo(plan, dists, n_samples=20, seed=seed, method="run", corners=False)
+    run_s = (time.perf_counter() - t) / 20
+    return {
+        "n_samples": float(n_samples),
+        "fast_s": fast_s,
+        "fast_samples_per_s": n_samples / fast_s,
+        "run_per_sample_s": run_s,
+        "p50_min": r.percentiles["time_to_target_min"]["P50"],
     }

@@ -18,11 +18,11 @@ from procplan.geometry import Geometry
 from procplan.studies.variability import (
     DISTRIBUTIONS,
     VARIABLES,
-    bench_variability,
     distribution,
     monte_carlo,
     parse_distribution,
 )
+from procplan.studies.variability_bench import bench_variability
 
 from .conftest import cylinder_plan, lumped_sphere_plan
 

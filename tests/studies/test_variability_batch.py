@@ -127,3 +127,38 @@ def test_invalid_samples_are_left_out_as_on_the_run_path():
     tb, tr = (r.samples["time_to_target_min"].to_numpy() for r in (batch, run))
     assert np.all(np.isnan(tb[bad])) and np.all(np.isnan(tr[bad]))
     assert_allclose(tb[~bad], tr[~bad], rtol=3e-3)
+
+
+def test_stop_after_the_first_batch_keeps_the_samples_done(monkeypatch):
+    # Source: the study's contract (procplan/studies/variability.py, stop): progress after each batch; a stop
+    # set then ends the study with the samples done and a note. The kept samples must be exactly the first
+    # batch of the same study run to the end (same seed, same batch, same steps).
+    import threading
+
+    import procplan.studies.runner as runner
+    import procplan.studies.variability_batch as vb
+
+    plan = _beef_plan([Step("chill", 8 * 3600.0, 5.0, medium_C=0.0, h_W_m2K=25.0)])
+    kw = {"n_samples": 40, "seed": 2, "corners": False}
+    monkeypatch.setattr(vb, "batch_count", lambda n: 2)
+    monkeypatch.setattr(runner, "default_workers", lambda: 1)
+    full = monte_carlo(plan, DISTS, **kw)
+    stop, seen = threading.Event(), []
+
+    def progress(done, total):
+        seen.append((done, total))
+        stop.set()
+
+    part = monte_carlo(plan, DISTS, progress=progress, stop=stop, **kw)
+    assert seen == [(20, 40)]
+    assert part.method == "batch" and part.n_samples == 20 and len(part.samples) == 20
+    assert any(n.startswith("stopped: 20 of 40 samples done") for n in part.notes)
+    assert part.samples.equals(full.samples.iloc[:20])
+    assert np.all(np.isfinite(part.samples["time_to_target_min"].to_numpy()))
+    assert part.percentiles["time_to_target_min"]["P50"] <= full.samples["time_to_target_min"].max()
+    monkeypatch.setattr(runner, "default_workers", lambda: 2)  # on threads: the same first batch is kept
+    stop.clear()
+    seen.clear()
+    threaded = monte_carlo(plan, DISTS, progress=progress, stop=stop, **kw)
+    assert seen[0] == (20, 40)
+    assert threaded.samples.equals(full.samples.iloc[: threaded.n_samples])
