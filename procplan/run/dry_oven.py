@@ -13,7 +13,10 @@ Coupling: Gauss–Seidel waveform relaxation over the step. Pass 1 runs the heat
 heat pass, and the next heat pass with the surface water-activity history of that moisture pass, until the
 surface-temperature histories of two heat passes differ by less than :data:`SURFACE_TOLERANCE_K` (at most
 :data:`MAX_PASSES` passes; each sub-problem is solved implicitly, so each pass is stable, and the iteration
-converges to the coupled solution of the two time-discretised problems; tests/run/test_dry_oven.py).
+converges to the coupled solution of the two time-discretised problems; tests/run/test_dry_oven.py). The
+exchanged waveform is under-relaxed and Anderson-accelerated (:class:`_Anderson`); a rerun of the same step
+(h evaluated again, a shorter span for a weight stop) starts from the waveform an earlier solve converged to
+(``guess``), and its first heat pass is compared with that solve's last one.
 
 Modelling choices (each on the side stated):
 
