@@ -145,10 +145,10 @@ def solve_to_weight_loss(solve, geometry, end_time_s: float, loss_kg: float, fir
         tried.append((t_stop, res.lost_kg))
         t_next = _next_stop_s(tried, res, geometry.area_m2, loss_kg, end_time_s, first_stop)
         if t_next is None or len(tried) > MAX_STOP_PASSES:
-            if not res.settled:
-                res = solve(t_stop, guess=res)
             break
         t_stop = t_next
+    if not res.settled:  # the corrections ran out on a trial span: settle the last span run
+        res = solve(float(res.heat.time_s[-1]), guess=res)
     return replace(res, weight_stop_s=float(res.heat.time_s[-1]))
 
 
