@@ -447,31 +447,6 @@ def bench_brick_31(repeats: int = 1) -> list[tuple[str, float, str]]:
     return [("3-D brick 31^3 (500 output times)", t, note)]
 
 
-def bench_roulade_variability(n_samples: int = 40) -> list[tuple[str, float, str]]:
-    """Variability of the roulade plan on the full-model path (start temperature sampled): ``n_samples`` runs
-    in one process and with the default (a process pool when it pays), and the 1,000-sample time extrapolated
-    from them."""
-    from procplan.files.library import load_library
-    from procplan.studies.runner import default_workers
-    from procplan.studies.variability import distribution, monte_carlo
-
-    lib = load_library()
-    plan = lib.plan("roulade-blast-chill")
-    dist = {"start_C": distribution("uniform", 70.0, 78.0)}
-    rows = []
-    for executor, label in ((None, "one process"), ("auto", f"default ({default_workers()} cores)")):
-        t0 = time.perf_counter()
-        monte_carlo(
-            plan, dist, n_samples=n_samples, library=lib, method="run", corners=False, executor=executor
-        )
-        t = time.perf_counter() - t0
-        rows.append(
-            (f"variability roulade, {n_samples} samples, {label}", t, f"{t / n_samples:.2f} s per sample")
-        )
-        rows.append((f"  1,000 samples extrapolated, {label}", t / n_samples * 1000, "from the run above"))
-    return rows
-
-
 #: The app timing, run in its own interpreter (the package below the app never imports streamlit): the median
 #: seconds of ``repeats`` changes of the air temperature on the Process page (roulade plan) under AppTest,
 #: with the solver's exact solves on (argument "present") or off ("before").
@@ -557,6 +532,9 @@ def bench_cli_startup(repeats: int = 3) -> list[tuple[str, float, str]]:
 
 
 def main() -> None:
+    from procplan.run.dry_bench import bench_dry_air
+    from procplan.studies.variability_bench import bench_roulade_variability
+
     rows = (
         bench_freezing()
         + bench_roulade()
@@ -571,6 +549,7 @@ def main() -> None:
         + bench_roulade_variability()
         + bench_app_recompute()
         + bench_cli_startup()
+        + bench_dry_air()
     )
     width = max(len(r[0]) for r in rows)
     print(f"{'case':<{width}}  {'value':>10}  notes")

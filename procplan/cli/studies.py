@@ -571,6 +571,8 @@ def cmd_sweep(args) -> int:
 
 def _print_sweep(res) -> None:
     """The sweep's table as readable lines."""
+    from procplan.studies.sweep import row_mass_text
+
     tab = res.table
     print(f"{len(tab)} product × machine pairs")
     for _, r in tab.iterrows():
@@ -584,7 +586,7 @@ def _print_sweep(res) -> None:
         )
         print(
             f"  {r['product']:<24} {r['equipment']:<16} {r['process']:<8} {r['start_C']:g}→{r['target_C']:g} °C: "
-            f"{_fmt(r['time_to_target_min'])} (plan {_fmt(r['plan_time_min'])}){rule}{short}"
+            f"{_fmt(r['time_to_target_min'])} (plan {_fmt(r['plan_time_min'])}){rule}{short}{row_mass_text(r)}"
         )
     if res.skipped:
         print("  skipped machines: " + ", ".join(res.skipped))

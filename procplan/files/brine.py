@@ -10,6 +10,7 @@ h_W_m2K = 150
 brine_percent = 18              # or dry_cure = true, or equalise = true (no exchange at the surface)
 diffusivity = "salt-pork-loin"  # a registry key, or D_m2_s (with reference_C, activation_kJ_mol)
 stop_when_core_percent = 1.5    # or stop_when_mean_percent; target_core_percent, target_mean_percent
+diffusivity_factor = 1.0        # optional factor on the diffusivity (> 0; a sampled plan saved keeps it)
 ```
 """
 
@@ -42,6 +43,7 @@ BRINE_KEYS = (
     "stop_when_mean_percent",
     "target_core_percent",
     "target_mean_percent",
+    "diffusivity_factor",
 )
 #: Largest solute mass fraction of a brine or syrup by solute [%] (saturated NaCl at 20 °C; a heavy syrup).
 MAX_BRINE_PERCENT = {"salt": 100 * NACL_SATURATED_FRACTION, "sugar": 70.0}
@@ -49,6 +51,8 @@ MAX_BRINE_PERCENT = {"salt": 100 * NACL_SATURATED_FRACTION, "sugar": 70.0}
 PRODUCT_PERCENT_RANGE = (0.0, 30.0)
 #: Range of a given effective diffusivity [m²/s].
 D_GIVEN_RANGE = (1e-13, 1e-8)
+#: Largest factor on the diffusivity (a study's sampled factor, saved with the plan; above 0).
+MAX_DIFFUSIVITY_FACTOR = 1e4
 
 
 def _percent(c: Collector, data: Mapping[str, Any], key: str, p: str, lo: float, hi: float) -> float | None:
@@ -169,6 +173,17 @@ def brine_from_dict(c: Collector, data: Any, p: str) -> Brine | None:
         stop_when_mean_fraction=t["stop_when_mean"],
         target_core_fraction=t["target_core"],
         target_mean_fraction=t["target_mean"],
+        D_factor=optional(
+            c,
+            data,
+            "diffusivity_factor",
+            p,
+            validate.number,
+            minimum=0.0,
+            min_inclusive=False,
+            maximum=MAX_DIFFUSIVITY_FACTOR,
+            default=1.0,
+        ),
     )
 
 
@@ -199,4 +214,6 @@ def brine_to_dict(b: Brine) -> dict[str, Any]:
             d[key] = _inverse(value, lambda x, f=per_unit: x * f)
     if b.partition != 1.0:
         d["partition"] = file_number(b.partition)
+    if b.D_factor != 1.0:
+        d["diffusivity_factor"] = file_number(b.D_factor)
     return d

@@ -13,7 +13,10 @@ Coupling: Gauss–Seidel waveform relaxation over the step. Pass 1 runs the heat
 heat pass, and the next heat pass with the surface water-activity history of that moisture pass, until the
 surface-temperature histories of two heat passes differ by less than :data:`SURFACE_TOLERANCE_K` (at most
 :data:`MAX_PASSES` passes; each sub-problem is solved implicitly, so each pass is stable, and the iteration
-converges to the coupled solution of the two time-discretised problems; tests/run/test_dry_oven.py).
+converges to the coupled solution of the two time-discretised problems; tests/run/test_dry_oven.py). The
+exchanged waveform is under-relaxed and Anderson-accelerated (:class:`_Anderson`); a rerun of the same step
+(h evaluated again, a shorter span for a weight stop) starts from the waveform an earlier solve converged to
+(``guess``), and its first heat pass is compared with that solve's last one.
 
 Modelling choices (each on the side stated):
 
@@ -52,8 +55,8 @@ from procplan.properties.sorption import (
     MoistureDiffusivity,
     dry_basis,
 )
-from procplan.run.dry_stop import solve_to_weight_loss, weight_checkpoints
-from procplan.surface.oven_air import DryingAir, latent_heat
+from procplan.run.dry_stop import crossing_s, solve_to_weight_loss, weight_checkpoints
+from procplan.surface.oven_air import DryingAir
 
 #: Passes of the waveform relaxation at most, and the change of the surface-temperature history [K] below
 #: which the coupled solution is taken as converged.
@@ -65,6 +68,8 @@ DRY_SURFACE_WATER_ACTIVITY = 0.98
 RELAXATION = 0.5
 #: Points of the histories exchanged between the heat and the moisture passes.
 HISTORY_POINTS = 241
+#: Earlier passes whose residuals the Anderson acceleration of the exchanged waveform combines.
+ANDERSON_DEPTH = 2
 
 
 @dataclass(frozen=True)
@@ -110,6 +115,9 @@ class DryOvenResult:
     wet_until_s : time the surface water activity falls below :data:`DRY_SURFACE_WATER_ACTIVITY` [s] (None:
         it stays wet)
     weight_stop_s : time the step's weight-loss stop ended it [s] (None: no such stop, or not reached)
+    settle_K : the settling tolerance the solve ran to [K]
+    exchange : the surface waveform the last heat pass ran with (times [s], evaporation the moisture inside
+        supplied [kg/m²s], share of the air's drive on a wet surface [-]), to start a later solve of the step
     """
 
     heat: Any
@@ -120,6 +128,13 @@ class DryOvenResult:
     wet_bulb_C: float
     wet_until_s: float | None
     weight_stop_s: float | None = None
+    exchange: tuple[np.ndarray, np.ndarray, np.ndarray] | None = field(default=None, repr=False)
+    settle_K: float = SURFACE_TOLERANCE_K
+
+    @property
+    def settled(self) -> bool:
+        """Whether the coupling settled within :data:`SURFACE_TOLERANCE_K` (not only a trial's looser one)."""
+        return self.surface_change_K < SURFACE_TOLERANCE_K
 
 
 def _moisture_geometry(geometry: Geometry, D_m2_s: float, end_s: float) -> Geometry:
@@ -141,9 +156,11 @@ def _moisture_pass(model: DryOvenModel, geometry: Geometry, heat, n_nodes: int) 
     iso, air = model.isotherm, model.air
 
     def flux(time_s, x_surface):
-        return air.mass_flux_kg_m2s(
-            np.interp(time_s, t, ts), iso._water_activity(np.asarray(x_surface, dtype=float))
-        )
+        x = np.asarray(x_surface, dtype=float)
+        if x.size == 1:  # the 1-D moisture problem has one surface node: floats cost less than arrays
+            surface_C = float(np.interp(time_s, t, ts))
+            return np.full(x.shape, air.mass_flux_one(surface_C, iso.water_activity_one(float(x.flat[0]))))
+        return air.mass_flux_kg_m2s(np.interp(time_s, t, ts), iso._water_activity(x))
 
     return solve_moisture(
         _moisture_geometry(geometry, D, end),
@@ -166,6 +183,49 @@ def _history_change(a, b) -> float:
     )
 
 
+def _start_waveform(end_time_s: float, guess) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The exchanged surface waveform (times [s], flux [kg/m²s], wet share [-]) the first heat pass runs with:
+    a wet surface throughout, or the converged waveform of an earlier solve of the same step (``guess``, a
+    :class:`DryOvenResult`; held at its last value beyond its end)."""
+    if guess is None or guess.exchange is None:
+        return np.array([0.0, end_time_s]), np.zeros(2), np.ones(2)
+    t, n, wet = guess.exchange
+    grid = np.linspace(0.0, end_time_s, HISTORY_POINTS)
+    return grid, np.interp(grid, t, n), np.interp(grid, t, wet)
+
+
+class _Anderson:
+    """Anderson acceleration of the relaxed fixed-point iteration x ← x + β (G(x) − x) on the exchanged
+    waveform, on a fixed time grid (Walker, H.F., Ni, P. (2011). Anderson acceleration for fixed-point
+    iterations. SIAM J. Numer. Anal. 49(4), 1715–1735, Alg. AA with depth m): the least-squares combination of
+    the last :data:`ANDERSON_DEPTH` residual differences. A step that makes the residual grow is dropped
+    for the plain relaxed step (the switch from wet to dry makes G only piecewise smooth)."""
+
+    def __init__(self, grid: np.ndarray, flux_scale: float) -> None:
+        self.grid, self.scale = grid, max(flux_scale, 1e-12)
+        self.xs: list[np.ndarray] = []
+        self.fs: list[np.ndarray] = []
+
+    def vector(self, t, n, wet) -> np.ndarray:
+        return np.concatenate([np.interp(self.grid, t, n) / self.scale, np.interp(self.grid, t, wet)])
+
+    def next(self, x: np.ndarray, gx: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        f = gx - x
+        if self.fs and np.linalg.norm(f) > np.linalg.norm(self.fs[-1]):
+            self.xs, self.fs = [], []  # the residual grew: restart from the plain relaxed step
+        self.xs.append(x)
+        self.fs.append(f)
+        self.xs, self.fs = self.xs[-ANDERSON_DEPTH - 1 :], self.fs[-ANDERSON_DEPTH - 1 :]
+        new = x + RELAXATION * f
+        if len(self.fs) > 1:
+            dF = np.diff(np.array(self.fs), axis=0).T
+            dX = np.diff(np.array(self.xs), axis=0).T
+            gamma = np.linalg.lstsq(dF, f, rcond=None)[0]
+            new = new - (dX + RELAXATION * dF) @ gamma
+        m = self.grid.size
+        return self.grid, new[:m] * self.scale, np.clip(new[m:], 0.0, 1.0)
+
+
 def solve_dry_oven(
     geometry: Geometry,
     props,
@@ -175,6 +235,8 @@ def solve_dry_oven(
     end_time_s: float,
     *,
     moisture_nodes: int = 41,
+    guess: DryOvenResult | None = None,
+    settle_K: float = SURFACE_TOLERANCE_K,
     **heat_settings: Any,
 ) -> DryOvenResult:
     """Heat and moisture of one step in hot dry air, coupled by waveform relaxation (see the module note).
@@ -186,6 +248,10 @@ def solve_dry_oven(
     model : the air and the product's moisture properties
     end_time_s : the step's duration [s]
     moisture_nodes : nodes of the moisture problem
+    guess : an earlier result of the same step (another span or h): its converged surface waveform starts the
+        iteration (None: a wet surface)
+    settle_K : change of the surface-temperature history [K] below which the coupling counts as settled
+        (:data:`SURFACE_TOLERANCE_K`; a looser value only for a trial span, e.g. while a weight stop is sought)
     heat_settings : passed on to solve_conduction (n_nodes, dt_s, stop_when_core_C, max_steps, …)
     """
     from procplan.conduction.finite_volume import solve_conduction
@@ -193,16 +259,18 @@ def solve_dry_oven(
     air, iso = model.air, model.isotherm
     # a history on a fixed grid: the moisture pass lands on the heat pass's times, and few times keep both fast
     heat_settings.setdefault("output_time_s", np.linspace(0.0, end_time_s, HISTORY_POINTS))
-    aw_t, aw_v = np.array([0.0, end_time_s]), np.ones(2)
-    n_t, n_v, wet_v = np.array([0.0, end_time_s]), np.zeros(2), np.ones(2)
-    heat = moisture = None
+    n_t, n_v, wet_v = _start_waveform(end_time_s, guess)
+    accel = _Anderson(np.linspace(0.0, end_time_s, HISTORY_POINTS), air.mass_flux_kg_m2s(air.wet_bulb_C()))
+    # from a guess the iteration goes on: its last heat pass is the one the first pass here is compared with
+    heat, moisture = (guess.heat if guess is not None else None), None
     change, passes = float("inf"), 0
     for passes in range(1, MAX_PASSES + 1):
 
         def q_extra(t, ts, n_t=n_t, n_v=n_v, wet_v=wet_v):
             # wet on the last pass: the air's drive on a wet surface; dried: the flux the moisture inside supplied
             w = np.interp(t, n_t, wet_v)
-            return -(w * air.mass_flux_kg_m2s(ts) + (1.0 - w) * np.interp(t, n_t, n_v)) * latent_heat(ts)
+            wet_flux, hfg = air.wet_flux_and_latent(ts)
+            return -(w * wet_flux + (1.0 - w) * np.interp(t, n_t, n_v)) * hfg
 
         bnd = SurfaceBoundary(boundary.medium_C, boundary.h_W_m2K, q_extra)
         new = solve_conduction(geometry, props, initial, bnd, end_time_s, **heat_settings)
@@ -213,12 +281,13 @@ def solve_dry_oven(
         aw_t, aw_v = moisture.time_s, np.asarray(iso.water_activity(moisture.surface_kg_kg), dtype=float)
         n_new = air.mass_flux_kg_m2s(np.interp(aw_t, heat.time_s, heat.face_surface_C), aw_v)
         wet_new = (aw_v >= DRY_SURFACE_WATER_ACTIVITY).astype(float)
-        if passes > 1:  # under-relaxed: the switch from wet to dry moves back and forth otherwise
-            n_new = RELAXATION * n_new + (1.0 - RELAXATION) * np.interp(aw_t, n_t, n_v)
-            wet_new = RELAXATION * wet_new + (1.0 - RELAXATION) * np.interp(aw_t, n_t, wet_v)
-        n_t, n_v, wet_v = aw_t, n_new, wet_new
-        if change < SURFACE_TOLERANCE_K:
+        if change < settle_K:
+            n_t, n_v, wet_v = aw_t, n_new, wet_new
             break
+        if passes == 1 and guess is None:  # from the wet start the whole new waveform is taken
+            n_t, n_v, wet_v = aw_t, n_new, wet_new
+        else:  # under-relaxed and accelerated: the switch from wet to dry moves back and forth otherwise
+            n_t, n_v, wet_v = accel.next(accel.vector(n_t, n_v, wet_v), accel.vector(aw_t, n_new, wet_new))
     dried = np.nonzero(aw_v < DRY_SURFACE_WATER_ACTIVITY)[0]
     return DryOvenResult(
         heat=heat,
@@ -228,6 +297,8 @@ def solve_dry_oven(
         lost_kg=float(moisture.lost_kg_m2[-1]) * geometry.area_m2,
         wet_bulb_C=air.wet_bulb_C(),
         wet_until_s=float(aw_t[dried[0]]) if dried.size else None,
+        exchange=(n_t, n_v, wet_v),
+        settle_K=settle_K,
     )
 
 
@@ -342,8 +413,30 @@ def yield_percent(losses) -> float | None:
     return 100.0 * float(np.prod([1.0 - pct / 100.0 for _, pct in losses]))
 
 
-def dry_oven_step(geometry, props, initial, surface, step, n_nodes, time_settings: dict):
-    """The engine's dry-air step: (heat result, DryingSummary), or None for a step without drying."""
+def first_stop_s(res: DryOvenResult, model: DryOvenModel, area_m2: float, loss_kg: float) -> float | None:
+    """A first estimate of the time a shorter span of the step reaches ``loss_kg`` [kg], from a solve over
+    the whole step (None: not reached in it).
+
+    D follows the span's mean surface temperature (module note), so a shorter span runs with a smaller D
+    than the whole step's. Where diffusion inside limits the drying, the loss depends on D t (Crank 1975,
+    ch. 4: the loss of a plane sheet is a function of D t / l²): the span t is taken to lose what the whole
+    step's history lost at t D(t)/D(end). It only starts the search; the stop is then solved on its span."""
+    t = np.asarray(res.heat.time_s, dtype=float)
+    ts = np.asarray(res.heat.face_surface_C, dtype=float)
+    area = np.concatenate([[0.0], np.cumsum(0.5 * (ts[1:] + ts[:-1]) * np.diff(t))])
+    mean = np.where(t > 0.0, area / np.where(t > 0.0, t, 1.0), ts[0])
+    d = model.diffusivity
+    D = arrhenius_m2_s(mean, d.D_ref_m2_s, d.activation_J_mol, d.reference_C)
+    tau = t * D / D[-1]
+    lost = np.interp(tau, res.moisture.time_s, np.asarray(res.moisture.lost_kg_m2) * area_m2)
+    return crossing_s(t, lost, loss_kg)
+
+
+def dry_oven_step(geometry, props, initial, surface, step, n_nodes, time_settings: dict, guesses=None):
+    """The engine's dry-air step: (heat result, DryingSummary), or None for a step without drying.
+
+    ``guesses`` (a dict kept by the run, or None) holds the step's last coupled result: a rerun of the step
+    (h evaluated again, a finer time step) starts its coupling from that result's surface waveform."""
     from procplan.run.budget import MAX_TIME_STEPS_PER_STEP
 
     model = getattr(surface, "drying_air", None)
@@ -351,8 +444,10 @@ def dry_oven_step(geometry, props, initial, surface, step, n_nodes, time_setting
         return None
     boundary = surface.boundary()
 
-    def solve(end_s: float) -> DryOvenResult:
-        return solve_dry_oven(
+    kept = {} if guesses is None else guesses
+
+    def solve(end_s: float, guess: DryOvenResult | None = None, **coupling) -> DryOvenResult:
+        res = solve_dry_oven(
             geometry,
             props,
             initial,
@@ -362,15 +457,25 @@ def dry_oven_step(geometry, props, initial, surface, step, n_nodes, time_setting
             n_nodes=n_nodes,
             stop_when_core_C=step.stop_when_core_C,
             max_steps=MAX_TIME_STEPS_PER_STEP,
+            guess=guess if guess is not None else kept.get(id(step)),
+            **coupling,
             **time_settings,
         )
+        kept[id(step)] = res
+        return res
 
     mass = props.mass_density_kg_m3 * geometry.volume_m3
     loss = step.stop_when_weight_loss_fraction
     if loss is None:
         res = solve(step.duration_s)
     else:
-        res = solve_to_weight_loss(solve, geometry, step.duration_s, loss * mass)
+        res = solve_to_weight_loss(
+            solve,
+            geometry,
+            step.duration_s,
+            loss * mass,
+            first_stop=lambda r, kg: first_stop_s(r, model, geometry.area_m2, kg),
+        )
     return res.heat, summarise(res, model, mass, geometry.area_m2, loss)
 
 

@@ -3,11 +3,15 @@
 A technologist dries a product (a jerky strip in a drying oven, a sausage in a drying room) until it has lost,
 say, 35 % of its weight, and weighs pieces to follow it. The step key ``stop_when_weight_loss_percent`` asks
 for that: the coupled heat and moisture solution (:func:`procplan.run.dry_oven.solve_dry_oven`) runs over
-the step, the time the predicted loss reaches the target is interpolated in its loss history, and the step
+the step, the time the predicted loss reaches the target is estimated from its loss history, and the step
 is solved again on the shortened span, so that the coupled waveform relaxation converges on the step as it is
-run (the moisture diffusivity follows the step's mean surface temperature, which depends on its length). The
-stop time is corrected from the loss rate at the end until the loss lies within
-:data:`WEIGHT_STOP_TOLERANCE` of the target (at most :data:`MAX_STOP_PASSES` reruns).
+run (the moisture diffusivity follows the step's mean surface temperature, which depends on its length: on
+the jerky demo, the crossing read in the 6 h history lies 17 % before the stop of the step run to it, so
+the history alone cannot end the step). The stop time is corrected (secant, or the loss rate at the end)
+until the loss lies within :data:`WEIGHT_STOP_TOLERANCE` of the target (at most :data:`MAX_STOP_PASSES`
+corrections). The whole step and the trial spans are settled only to :data:`TRIAL_SURFACE_TOLERANCE_K`,
+each starting from the previous solve's surface waveform; the span that meets the loss is settled to the
+coupling's own tolerance, and corrected again if that moved the loss out of the tolerance.
 
 The largest loss a product can reach in the air is its water down to the equilibrium moisture content with
 the air: (X₀ − X_e)/(1 + X₀) of the mass, X_e the GAB isotherm at the air's relative humidity
@@ -36,6 +40,9 @@ from procplan.errors import InvalidInputError
 #: scale shows on a piece); reruns of the shortened step at most.
 WEIGHT_STOP_TOLERANCE = 2e-3
 MAX_STOP_PASSES = 4
+#: Settling tolerance of the coupling [K] on trial spans while the stop time is sought (the span found is
+#: then settled to the coupling's own tolerance, :data:`procplan.run.dry_oven.SURFACE_TOLERANCE_K`).
+TRIAL_SURFACE_TOLERANCE_K = 1.0
 #: Shares of the step's end at which the sheet lists the predicted weight loss for weighing pieces.
 CHECKPOINT_SHARES = (0.25, 0.5, 0.75, 1.0)
 
@@ -96,38 +103,69 @@ def crossing_s(time_s, lost_kg, loss_kg: float) -> float | None:
     return float(np.interp(loss_kg, lost[j - 1 : j + 1], t[j - 1 : j + 1]))
 
 
-def solve_to_weight_loss(solve, geometry, end_time_s: float, loss_kg: float):
+def solve_to_weight_loss(solve, geometry, end_time_s: float, loss_kg: float, first_stop=None):
     """Run ``solve(end_time_s)`` (a dry-air solve over a span) and end it at the weight loss ``loss_kg`` [kg]
     (see the module note); the result carries ``weight_stop_s`` (None: the loss is not reached in the step, or
-    the core stop came first)."""
-    res = solve(end_time_s)
+    the core stop came first).
+
+    ``solve(span_s, guess=None, settle_K=...)``: each rerun starts its coupling from the previous run's
+    surface waveform (``guess``); the trial spans are settled only to :data:`TRIAL_SURFACE_TOLERANCE_K`, and
+    the span that meets the loss is then settled to the coupling's own tolerance (and corrected again if
+    that moved the loss beyond :data:`WEIGHT_STOP_TOLERANCE`). ``first_stop(result, loss_kg)`` may give a
+    better first span than the crossing in the whole step's loss history."""
+    res = solve(end_time_s, settle_K=TRIAL_SURFACE_TOLERANCE_K)
     t_stop = crossing_s(*loss_history_kg(res, geometry.area_m2), loss_kg)
     if t_stop is None:
-        return res
+        res = res if res.settled else solve(end_time_s, guess=res)
+        t_stop = crossing_s(*loss_history_kg(res, geometry.area_m2), loss_kg)
+        if t_stop is None:
+            return res
+    if first_stop is not None:
+        t_stop = first_stop(res, loss_kg) or t_stop
     t_stop = max(t_stop, 1e-6 * end_time_s)
     tried: list[tuple[float, float]] = []
-    for _ in range(MAX_STOP_PASSES):
-        res = solve(t_stop)
-        if res.heat.stopped_at_s is not None:
-            return res  # the core stop ends the shortened step first
-        if abs(res.lost_kg - loss_kg) <= WEIGHT_STOP_TOLERANCE * loss_kg:
+    settle = False
+    for _ in range(2 * MAX_STOP_PASSES):
+        res = (
+            solve(t_stop, guess=res)
+            if settle
+            else solve(t_stop, guess=res, settle_K=TRIAL_SURFACE_TOLERANCE_K)
+        )
+        if res.heat.stopped_at_s is not None:  # the core stop ends the shortened step first
+            if settle or res.settled:
+                return res
+            settle = True
+            continue
+        close = abs(res.lost_kg - loss_kg) <= WEIGHT_STOP_TOLERANCE * loss_kg
+        if close and res.settled:
             break
+        settle = settle or close
+        if close:
+            continue  # the same span, settled
         tried.append((t_stop, res.lost_kg))
-        t_stop = _next_stop_s(tried, res, geometry.area_m2, loss_kg, end_time_s)
-        if t_stop is None:
+        t_next = _next_stop_s(tried, res, geometry.area_m2, loss_kg, end_time_s, first_stop)
+        if t_next is None or len(tried) > MAX_STOP_PASSES:
             break
+        t_stop = t_next
+    if not res.settled:  # the corrections ran out on a trial span: settle the last span run
+        res = solve(float(res.heat.time_s[-1]), guess=res)
     return replace(res, weight_stop_s=float(res.heat.time_s[-1]))
 
 
-def _next_stop_s(tried, res, area_m2: float, loss_kg: float, end_time_s: float) -> float | None:
+def _next_stop_s(
+    tried, res, area_m2: float, loss_kg: float, end_time_s: float, first_stop=None
+) -> float | None:
     """The next stop time: the secant through the last two (stop time, loss) pairs, or from the first the
-    crossing in its own history (too long) or its loss rate at the end (too short); None: no way on."""
+    crossing in its own history (too long; ``first_stop(res, loss_kg)`` when given) or its loss rate at the
+    end (too short); None: no way on."""
     (t1, l1) = tried[-1]
     if len(tried) > 1 and tried[-2][1] != l1:
         t0, l0 = tried[-2]
         t_next = t1 + (loss_kg - l1) * (t1 - t0) / (l1 - l0)
     elif l1 > loss_kg:
-        t_next = crossing_s(*loss_history_kg(res, area_m2), loss_kg)
+        t_next = (first_stop and first_stop(res, loss_kg)) or crossing_s(
+            *loss_history_kg(res, area_m2), loss_kg
+        )
     else:
         t, lost = loss_history_kg(res, area_m2)
         rate = (lost[-1] - lost[-2]) / (t[-1] - t[-2])

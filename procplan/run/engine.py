@@ -10,7 +10,7 @@ The solver choice and its reasons live in :mod:`procplan.run.solver`.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
@@ -154,17 +154,20 @@ def _exact_step(
 
 
 def _fv_step(
-    geometry, props, initial, surface, step: Step, n_nodes, time_settings, load=None, depths=()
+    geometry, props, initial, surface, step: Step, n_nodes, time_settings, load=None, depths=(), guesses=None
 ) -> _StepRun:
     """Run the finite-volume solver for one step; ``time_settings`` holds dt_s (and, for a refined rerun,
     the adaptive step's aim and cap); ``load`` (a machine_load.StepLoad) solves the medium with the batch;
-    ``depths`` [m] below the surface get a column each, read from the field as it is solved."""
+    ``depths`` [m] below the surface get a column each, read from the field as it is solved; ``guesses``
+    keeps a dry-air step's coupled result for its reruns."""
     from procplan.conduction.finite_volume import solve_conduction
 
     boundary, node = ml.with_medium_node(surface.boundary(), load)
     time_settings = {**time_settings, "probe_depths_m": tuple(depths)}
     dried = (
-        dry_oven_step(geometry, props, initial, surface, step, n_nodes, time_settings) if not load else None
+        dry_oven_step(geometry, props, initial, surface, step, n_nodes, time_settings, guesses)
+        if not load
+        else None
     )
     res = (
         dried[0]
@@ -221,6 +224,9 @@ class _Context:
     load: Any = None  # the step's machine load (machine_load.StepLoad), None: the medium at its set point
     time_tolerance_K: float | None = None  # the finite volume's time-integration tolerance (None: by change)
     second: Any = None  # run.second_product.SecondState: a second product in the load (None: none)
+    #: the last coupled heat-and-moisture result of each dry-air step (by the step's identity), so that a
+    #: rerun of the step (h at the surface temperature, a finer time step) starts from its surface waveform
+    dry_guesses: dict = field(default_factory=dict)
 
 
 @dataclass
@@ -260,7 +266,16 @@ def _solve(ctx: _Context, chosen: str, carried: _Carried, step: Step, surface: S
     )
     try:
         return _fv_step(
-            geometry, ctx.props, carried.field, surface, step, ctx.n_nodes, timing, ctx.load, depths
+            geometry,
+            ctx.props,
+            carried.field,
+            surface,
+            step,
+            ctx.n_nodes,
+            timing,
+            ctx.load,
+            depths,
+            ctx.dry_guesses,
         )
     except InvalidInputError as exc:
         if exc.field == "max_steps":

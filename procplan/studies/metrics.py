@@ -1,4 +1,5 @@
-"""Key figures of one run, shared by every study: time to target, plan time, rule, lethality, energy.
+"""Key figures of one run, shared by every study: time to target, plan time, rule, lethality, energy; the salt
+of a brining run and the weight loss of a drying run.
 
 A study runs the engine many times and compares runs by a few numbers. :func:`result_metrics` reads them
 from a :class:`procplan.run.engine.PlanResult` (its assessed outcomes) into a flat dict with unit-suffixed keys,
@@ -74,6 +75,38 @@ def salt_metrics(result) -> dict[str, float]:
         "salt_core_percent": 100.0 * float(m.core_fraction[-1]),
         "salt_mean_percent": 100.0 * float(m.mean_fraction[-1]),
         "salt_time_min": math.nan if t is None else float(t) / 60.0,
+    }
+
+
+#: Columns added to a metrics row when the run dried an unwrapped product (a dry-air step, or surface
+#: evaporation in an air machine with a humidity setting): the figures of the run's outcomes and of the last
+#: step with a weight-loss stop, as the summary and the sheet show them.
+DRYING_METRIC_COLUMNS: dict[str, str] = {
+    "weight_loss_percent": "mass lost by surface evaporation over the run, share of the starting mass [%] "
+    "(100 − yield)",
+    "yield_percent": "mass at the end over the mass at the start [%] (evaporation only: drip is not modelled)",
+    "weight_stop_min": "time from the start of the last step with a weight-loss stop to that stop [min] (NaN "
+    "when not reached or without such a stop)",
+}
+
+
+def drying_metrics(result) -> dict[str, float]:
+    """The weight-loss figures of a run (:data:`DRYING_METRIC_COLUMNS`); empty when nothing evaporated.
+    The yield is the assessed outcome (:attr:`procplan.run.assess.Outcomes.yield_percent`, every step's loss
+    compounded); the stop time is the last weight-stop step's (``DryingSummary.weight_stop_s``)."""
+    oc = result.outcomes
+    if oc is None or oc.yield_percent is None:
+        return {}
+    stops = [
+        s.drying
+        for s in result.steps
+        if getattr(s, "drying", None) is not None and s.drying.stop_weight_loss_percent is not None
+    ]
+    stop_s = stops[-1].weight_stop_s if stops else None
+    return {
+        "weight_loss_percent": 100.0 - float(oc.yield_percent),
+        "yield_percent": float(oc.yield_percent),
+        "weight_stop_min": math.nan if stop_s is None else float(stop_s) / 60.0,
     }
 
 
@@ -171,6 +204,7 @@ def result_metrics(result) -> dict[str, Any]:
     row["solvers"] = ", ".join(s.solver for s in result.steps)
     row["warnings"] = len(result.warnings)
     row.update(salt_metrics(result))
+    row.update(drying_metrics(result))
     return row
 
 

@@ -17,7 +17,7 @@ import pandas as pd
 from procplan import validate
 from procplan.errors import InvalidInputError
 from procplan.model import Checks, Plan, Step
-from procplan.studies.metrics import METRIC_COLUMNS
+from procplan.studies.metrics import DRYING_METRIC_COLUMNS, METRIC_COLUMNS, SALT_METRIC_COLUMNS
 from procplan.studies.runner import make_job, run_jobs
 
 
@@ -160,7 +160,9 @@ def sweep_catalogue(
 
     Returns
     -------
-    SweepResult; pairs that fail validation keep their row with the error text
+    SweepResult; pairs that fail validation keep their row with the error text. Where a run took up salt or
+    dried an unwrapped product, the table gains the salt and weight-loss columns of
+    :mod:`procplan.studies.metrics` (empty in the other rows)
     """
     pieces = int(validate.number("pieces", pieces, minimum=1, maximum=10_000_000))
     prods = sorted(library.products) if products is None else list(products)
@@ -200,5 +202,43 @@ def sweep_catalogue(
         }
         m = out["metrics"] or {k: None for k in METRIC_COLUMNS}
         rows.append({**base, **m, "error": out["error"] or ""})
-    cols = ["product", "equipment", "kind", "process", "start_C", *METRIC_COLUMNS, "error"]
+    cols = [
+        "product",
+        "equipment",
+        "kind",
+        "process",
+        "start_C",
+        *METRIC_COLUMNS,
+        *extra_columns(rows),
+        "error",
+    ]
     return SweepResult(pd.DataFrame(rows, columns=cols), plans, tuple(skipped))
+
+
+def extra_columns(rows) -> list[str]:
+    """The salt (:data:`SALT_METRIC_COLUMNS`) and weight-loss (:data:`DRYING_METRIC_COLUMNS`) columns of a
+    table, where any of its rows has them (a brining or drying run); the other rows leave them empty."""
+    return [k for k in (*SALT_METRIC_COLUMNS, *DRYING_METRIC_COLUMNS) if any(k in r for r in rows)]
+
+
+def _present(row, key: str) -> bool:
+    v = row.get(key)
+    return v is not None and v == v
+
+
+def row_mass_text(row) -> str:
+    """A sweep row's salt and weight loss in words, where its run had them (empty otherwise).
+
+    >>> row_mass_text({"weight_loss_percent": 11.7, "yield_percent": 88.3, "weight_stop_min": float("nan")})
+    '; weight loss 11.7 %, yield 88.3 %'
+    """
+    out = ""
+    if _present(row, "salt_core_percent"):
+        t = row.get("salt_time_min")
+        out += f"; salt at the core {row['salt_core_percent']:.2f} %"
+        out += f" after {t:.1f} min" if _present(row, "salt_time_min") and t is not None else ""
+    if _present(row, "yield_percent"):
+        out += f"; weight loss {row['weight_loss_percent']:.1f} %, yield {row['yield_percent']:.1f} %"
+        if _present(row, "weight_stop_min"):
+            out += f", weight stop after {row['weight_stop_min']:.1f} min"
+    return out

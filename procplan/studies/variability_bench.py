@@ -1,6 +1,6 @@
-"""The benchmarks of the variability paths (``python -m procplan.bench`` prints them): the exact series path
-on a fixed-property cylinder, and the batched path (10,000 samples of a 1-D temperature-dependent chill)
-against one engine run per sample."""
+"""The benchmarks of the variability study (``python -m procplan.bench`` prints them): the exact series path
+on a fixed-property cylinder, the roulade plan on the full-model path, and the batched path (10,000 samples
+of a 1-D temperature-dependent chill, batched against one engine run per sample)."""
 
 from __future__ import annotations
 
@@ -12,7 +12,7 @@ from procplan.geometry import Geometry
 from procplan.model import Plan, Product, Step
 from procplan.studies.variability import distribution, monte_carlo
 
-__all__ = ["bench_batch_chill", "bench_variability"]
+__all__ = ["bench_batch_chill", "bench_roulade_variability", "bench_variability"]
 
 
 def bench_batch_chill(n_samples: int = 10_000, seed: int = 1, n_single: int = 10) -> dict[str, float]:
@@ -87,3 +87,28 @@ def bench_variability(n_samples: int = 10_000, seed: int = 1) -> dict[str, float
         "run_per_sample_s": run_s,
         "p50_min": r.percentiles["time_to_target_min"]["P50"],
     }
+
+
+def bench_roulade_variability(n_samples: int = 40) -> list[tuple[str, float, str]]:
+    """Variability of the roulade plan on the full-model path (start temperature sampled): ``n_samples`` runs
+    in one process and with the default (a process pool when it pays), and the 1,000-sample time extrapolated
+    from them."""
+    from procplan.files.library import load_library
+    from procplan.studies.runner import default_workers
+    from procplan.studies.variability import distribution, monte_carlo
+
+    lib = load_library()
+    plan = lib.plan("roulade-blast-chill")
+    dist = {"start_C": distribution("uniform", 70.0, 78.0)}
+    rows = []
+    for executor, label in ((None, "one process"), ("auto", f"default ({default_workers()} cores)")):
+        t0 = time.perf_counter()
+        monte_carlo(
+            plan, dist, n_samples=n_samples, library=lib, method="run", corners=False, executor=executor
+        )
+        t = time.perf_counter() - t0
+        rows.append(
+            (f"variability roulade, {n_samples} samples, {label}", t, f"{t / n_samples:.2f} s per sample")
+        )
+        rows.append((f"  1,000 samples extrapolated, {label}", t / n_samples * 1000, "from the run above"))
+    return rows

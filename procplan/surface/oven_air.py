@@ -31,6 +31,7 @@ Incropera, DeWitt, Bergman, Lavine, Fundamentals of Heat and Mass Transfer, 7th 
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from functools import cached_property, lru_cache
 
@@ -65,6 +66,16 @@ def _psat_hfg(surface_C):
     grid, lnp, hfg = _tables()
     t = np.clip(np.asarray(surface_C, dtype=float), grid[0], grid[-1])
     return np.exp(np.interp(t, grid, lnp)), np.interp(t, grid, hfg)
+
+
+def _psat_hfg_one(surface_C: float) -> tuple[float, float]:
+    """:func:`_psat_hfg` of one temperature (a float: the same table and interpolation, without arrays)."""
+    grid, lnp, hfg = _tables()
+    lo, step, last = float(grid[0]), 0.25, grid.size - 1
+    u = (min(max(surface_C, lo), float(grid[-1])) - lo) / step
+    i = min(int(u), last - 1)
+    f = u - i
+    return math.exp(lnp[i] + f * (lnp[i + 1] - lnp[i])), float(hfg[i] + f * (hfg[i + 1] - hfg[i]))
 
 
 def latent_heat(surface_C):
@@ -148,6 +159,33 @@ class DryingAir:
     def mass_flux_kg_m2s(self, surface_C, water_activity=1.0):
         """Evaporated mass flux n″ [kg/m²s] (negative: condensation on a surface below the dew point)."""
         ws = self.surface_humidity_ratio(surface_C, water_activity)
+        return self.h_conv_W_m2K * (ws - self.humidity_ratio) / (self.humid_cp_J_kgK * LEWIS_FACTOR)
+
+    def wet_flux_and_latent(self, surface_C):
+        """(n″ of a wet surface [kg/m²s], h_fg [J/kg]) at surface temperatures, from one table look-up (the
+        heat problem's surface flux on every Newton iteration).
+
+        >>> air = DryingAir(180.0, 45.0, 30.0)
+        >>> n, hfg = air.wet_flux_and_latent(60.0)
+        >>> bool(n == air.mass_flux_kg_m2s(60.0) and hfg == latent_heat(60.0))
+        True
+        """
+        psat, hfg = _psat_hfg(surface_C)
+        pv = np.minimum(psat, _MAX_VAPOUR_FRACTION * self.pressure_Pa)
+        ws = MOLAR_MASS_RATIO * pv / (self.pressure_Pa - pv)
+        return self.h_conv_W_m2K * (ws - self.humidity_ratio) / (self.humid_cp_J_kgK * LEWIS_FACTOR), hfg
+
+    def mass_flux_one(self, surface_C: float, water_activity: float = 1.0) -> float:
+        """:meth:`mass_flux_kg_m2s` at one surface temperature and water activity (floats, for the solvers'
+        inner loop on a 1-D surface).
+
+        >>> air = DryingAir(70.0, 20.0, 16.0)
+        >>> abs(air.mass_flux_one(41.3, 0.93) - float(air.mass_flux_kg_m2s(41.3, 0.93))) < 1e-15
+        True
+        """
+        psat, _ = _psat_hfg_one(surface_C)
+        pv = min(water_activity * psat, _MAX_VAPOUR_FRACTION * self.pressure_Pa)
+        ws = MOLAR_MASS_RATIO * pv / (self.pressure_Pa - pv)
         return self.h_conv_W_m2K * (ws - self.humidity_ratio) / (self.humid_cp_J_kgK * LEWIS_FACTOR)
 
     def heat_flux_into_W_m2(self, surface_C, water_activity=1.0):

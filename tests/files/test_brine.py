@@ -87,3 +87,36 @@ def test_a_salt_stop_alone_is_a_duration():
         0,
     )
     assert s.brine.stop_when_core_fraction == pytest.approx(0.01) and not s.duration_given
+
+
+def test_diffusivity_factor_is_read_and_kept_in_a_round_trip():
+    s = _step({"brine_percent": 10, "D_m2_s": 2e-10, "diffusivity_factor": 1.37})
+    assert s.brine.D_factor == pytest.approx(1.37)
+    assert step_from_dict(step_to_dict(s), 0) == s
+    # the default factor is not written, so files without the key stay as they were
+    plain = _step({"brine_percent": 10, "D_m2_s": 2e-10})
+    assert plain.brine.D_factor == 1.0 and "diffusivity_factor" not in step_to_dict(plain)["brine"]
+
+
+@pytest.mark.parametrize("bad", [0, -0.5, "fast", True, 1e9])
+def test_diffusivity_factor_outside_its_range_names_the_field(bad):
+    with pytest.raises(InvalidInputError) as err:
+        _step({"brine_percent": 10, "D_m2_s": 2e-10, "diffusivity_factor": bad})
+    problems = getattr(err.value, "problems", [err.value])
+    assert "steps[0].brine.diffusivity_factor" in [p.field for p in problems]
+
+
+def test_a_sampled_plan_saved_to_a_file_keeps_its_diffusivity_factor(tmp_path):
+    # a study samples the factor (apply_salt_D_factor); the plan saved and read again runs with the same D
+    from procplan.files.library import load_library
+    from procplan.files.plan import load_plan, save_plan
+    from procplan.studies.variability_brine import apply_salt_D_factor
+
+    library = load_library()
+    plan = load_plan("product_library/plans/pork-loin-brine-freeze.toml", library=library)
+    sampled = apply_salt_D_factor(plan, 0.8125, 0, None)
+    path = save_plan(sampled, tmp_path / "sampled.toml")
+    again = load_plan(path, library=library)
+    factors = [s.brine.D_factor for s in again.steps if s.brine is not None and not s.brine.equalise]
+    assert factors and all(f == pytest.approx(0.8125, rel=1e-12) for f in factors)
+    assert again.steps == sampled.steps

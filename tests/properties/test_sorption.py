@@ -59,3 +59,19 @@ def test_bad_input_names_the_field():
         GABIsotherm("x", 0.1, 10.0, 1.2, (20.0, 20.0), "test")
     with pytest.raises(InvalidInputError, match="water_activity"):
         ISOTHERMS["beef"].moisture_kg_kg(1.5)
+
+
+def test_the_one_point_water_activity_is_the_array_one():
+    # Invariant: the float path of the drying solver's inner loop gives the array path's root
+    import numpy as np
+
+    from procplan.properties.sorption import ISOTHERMS
+
+    for iso in ISOTHERMS.values():
+        xs = np.concatenate(
+            [[0.0, 1e-9], np.linspace(0.001, 4.0, 400), [iso.saturated_moisture_kg_kg * 1.01]]
+        )
+        xs = xs[np.isfinite(xs)]
+        arr = iso._water_activity(xs)
+        one = np.array([iso.water_activity_one(float(x)) for x in xs])
+        assert np.allclose(one, arr, rtol=1e-12, atol=1e-14)

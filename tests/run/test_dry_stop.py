@@ -55,7 +55,7 @@ def _to_loss(fraction, n_nodes=21, moisture_nodes=41, end_s=5400.0):
     props = PropertyTable.constant(0.5, RHO, 3500.0)
     mass = RHO * STRIP.volume_m3
 
-    def solve(span_s):
+    def solve(span_s, guess=None, **coupling):
         return solve_dry_oven(
             STRIP,
             props,
@@ -65,6 +65,8 @@ def _to_loss(fraction, n_nodes=21, moisture_nodes=41, end_s=5400.0):
             span_s,
             n_nodes=n_nodes,
             moisture_nodes=moisture_nodes,
+            guess=guess,
+            **coupling,
         )
 
     return solve_to_weight_loss(solve, STRIP, end_s, fraction * mass), model, mass

@@ -44,6 +44,24 @@ def test_rows_equal_single_runs(lib, sequential):
     assert oven["process"] == "heating" and oven["target_C"] == KIND_TASKS["convection-oven"].target_C
 
 
+def test_a_drying_pair_reports_the_weight_loss_of_its_single_run(lib, sequential):
+    # the unwrapped meatball in the convection oven (dew point set) dries: the sweep's weight loss and yield are
+    # the single run's outcomes, and 100 − yield; pairs that dry nothing leave the columns empty
+    tab = sequential.table
+    row = tab[(tab["product"] == "beef-meatball") & (tab["equipment"] == "oven-c1")].iloc[0]
+    plan = pair_plan(lib.products["beef-meatball"], lib.equipment["oven-c1"], lib)
+    res = run_plan(plan, library=lib, n_nodes=8)
+    assert row["yield_percent"] == pytest.approx(res.outcomes.yield_percent, rel=1e-12)
+    # Invariant (mass balance of one step): the yield is the mass left after the step's evaporated water
+    drying = res.steps[0].drying
+    assert row["weight_loss_percent"] == pytest.approx(drying.weight_loss_percent, rel=1e-9)
+    assert row["weight_loss_percent"] + row["yield_percent"] == pytest.approx(100.0)
+    assert 0.0 < row["weight_loss_percent"] < 30.0 and row["weight_stop_min"] != row["weight_stop_min"]
+    vial = tab[tab["product"] == "vaccine-vial-10ml"]
+    assert vial["yield_percent"].isna().all()
+    assert list(tab.columns)[-4:] == ["weight_loss_percent", "yield_percent", "weight_stop_min", "error"]
+
+
 def test_process_pool_gives_the_same_table(lib, sequential):
     with ProcessPoolExecutor(max_workers=2) as ex:
         par = sweep_catalogue(lib, products=PRODUCTS, equipment=MACHINES, n_nodes=8, executor=ex)

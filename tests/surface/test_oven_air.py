@@ -40,3 +40,16 @@ def test_bad_air_state_names_the_field():
         DryingAir(60.0, 80.0, 20.0)
     with pytest.raises(InvalidInputError, match="h_conv_W_m2K"):
         DryingAir(180.0, 40.0, 0.0)
+
+
+def test_the_one_point_flux_is_the_array_flux():
+    # Invariant: the float path of the solvers' inner loop gives the array path's value (same table)
+    import numpy as np
+
+    from procplan.surface.oven_air import DryingAir
+
+    air = DryingAir(70.0, 20.0, 16.0)
+    for ts in np.linspace(-45.0, 210.0, 517):
+        for aw in (0.0, 0.3, 0.93, 1.0):
+            one, arr = air.mass_flux_one(float(ts), aw), float(air.mass_flux_kg_m2s(ts, aw))
+            assert abs(one - arr) <= 1e-12 * max(abs(arr), 1e-9)
