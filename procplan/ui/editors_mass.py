@@ -94,6 +94,7 @@ def _concentration(brine: dict, i: int, mode: str, errs: widgets.FieldErrors) ->
 
 def _diffusivity(brine: dict, i: int, temperature_C: float | None, errs: widgets.FieldErrors) -> None:
     records = {r.key: r for r in adapter_mass.diffusivities(brine.get("solute", "salt"))}
+    u = state.units()
     options = [*records, MEASURED]
     current = brine.get("diffusivity") if brine.get("diffusivity") in records else MEASURED
     if "diffusivity" not in brine and "D_m2_s" not in brine and records:
@@ -102,7 +103,7 @@ def _diffusivity(brine: dict, i: int, temperature_C: float | None, errs: widgets
         "Diffusivity of the solute in the product",
         options,
         index=options.index(current),
-        format_func=lambda k: k if k == MEASURED else f"{records[k].product} ({records[k].low_C:g} to {records[k].high_C:g} °C)",
+        format_func=lambda k: k if k == MEASURED else f"{records[k].product} ({u.temp(records[k].low_C, 0)} to {u.temp(records[k].high_C, 0)})",
         key=state.key("s.br.d", i),
     )  # fmt: skip
     if pick == MEASURED:
@@ -119,15 +120,16 @@ def _diffusivity(brine: dict, i: int, temperature_C: float | None, errs: widgets
     rec = records[pick]
     d = None if temperature_C is None else adapter_mass.diffusivity_at(pick, temperature_C)
     st.caption(
-        f"Source: {rec.source}. Valid from {rec.low_C:g} to {rec.high_C:g} °C"
+        f"Source: {rec.source}. Valid from {u.temp(rec.low_C, 0)} to {u.temp(rec.high_C, 0)}"
         + (" (Arrhenius fit of the published values)" if rec.temperature_dependent else " (a single published value)")
         + f"; measured under: {rec.conditions}."
     )  # fmt: skip
     if d is not None:
-        st.caption(f"D at the brine temperature {temperature_C:g} °C: {d:.3g} m²/s.")
+        st.caption(f"D at the brine temperature {u.temp(temperature_C)}: {d:.3g} m²/s.")
     elif temperature_C is not None:
         st.warning(
-            f"The brine at {temperature_C:g} °C is outside this record's range ({rec.low_C:g} to {rec.high_C:g} °C): "
+            f"The brine at {u.temp(temperature_C)} is outside this record's range ({u.temp(rec.low_C, 0)} to "
+            f"{u.temp(rec.high_C, 0)}): "
             "choose another record or give a measured value for this temperature.",
             icon=":material/error:",
         )

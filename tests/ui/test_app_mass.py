@@ -83,7 +83,7 @@ def test_brine_demo_plan_shows_its_settings_and_the_library_numbers(app, library
     rec = DIFFUSIVITIES["salt-pork-loin"]
     captions = " ".join(c.value for c in app.caption)
     assert rec.source in captions
-    assert f"Valid from {rec.range_C[0]:g} to {rec.range_C[1]:g} °C" in captions
+    assert f"Valid from {rec.range_C[0]:g} °C to {rec.range_C[1]:g} °C" in captions
     assert f"{rec.D_ref_m2_s:.3g} m²/s" in captions
     assert not errors(app), errors(app)
 
@@ -140,7 +140,7 @@ def test_bad_brine_values_are_named_in_plain_words(app):
     assert not errors(app), errors(app)
     # a brine warmer than the record was measured at: the record's range is named, the run refuses it
     number_input(app, "Medium temperature").set_value(15.0).run()
-    assert any("outside this record's range (4 to 6 °C)" in w.value for w in app.warning)
+    assert any("outside this record's range (4 °C to 6 °C)" in w.value for w in app.warning)
     text = errors(app)
     assert "Step 1, brining, diffusivity record" in text and "valid from 4 to 6 °C" in text, text
 
@@ -151,7 +151,7 @@ def test_brine_temperature_follows_the_machine_of_the_step(app):
     _widget(app, "selectbox", "Machine").set_value("brine-b1").run()
     # the brine tank's usual setting (product_library/equipment/brine-b1.toml: brine_C default -10 °C)
     assert any(c.value.startswith("Brine temperature: -10.0 °C") for c in app.caption)
-    assert any("outside this record's range (4 to 6 °C)" in w.value for w in app.warning)
+    assert any("outside this record's range (4 °C to 6 °C)" in w.value for w in app.warning)
     assert "Step 1, brining, diffusivity record" in errors(app)
 
 
