@@ -170,6 +170,8 @@ KIND_FIELDS = {
     "triangular": (("Lowest", "value"), ("Most likely", "value"), ("Highest", "value")),
     "lognormal": (("Median", "value"), ("Spread of the logarithm", "ratio")),
 }
+#: How the study ran its samples, as the caption says it.
+METHOD_TEXT = {"exact": "exact series", "batch": "batched full model", "run": "full model per sample"}
 QUANTITY_LABELS = {
     "time_to_target_min": "Time to target",
     "lethality_F_min": "Lethality F",
@@ -333,7 +335,8 @@ def variability(text: str, u: Units) -> None:
         widgets.problems(out.problems, "The study refused these inputs:")
         return
     r = out.value
-    st.caption(f"{r.n_samples} samples, method {r.method}, seed {r.seed}, {r.seconds:.1f} s")
+    method_text = METHOD_TEXT.get(r.method, r.method)
+    st.caption(f"{r.n_samples} samples, {method_text}, seed {r.seed}, {r.seconds:.1f} s")
     rows = []
     for metric, pct in r.percentiles.items():
         row = {"quantity": QUANTITY_LABELS.get(metric, metric.replace("_", " "))}

@@ -92,6 +92,6 @@ def test_long_study_shows_progress_stops_and_page_stays_usable(tmp_path):
         samples.press("Enter")
         idle(page)
         page.get_by_role("button", name="Run the variability study").click()
-        page.wait_for_selector("text=/^4 samples, method /", timeout=90_000)
+        page.wait_for_selector("text=/^4 samples, full model per sample/", timeout=90_000)
         assert page.get_by_text("Target not reached").count() >= 1
     assert time.time() - t0 < 120
