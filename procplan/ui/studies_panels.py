@@ -572,6 +572,10 @@ def sweep_view(table: pd.DataFrame, u: Units) -> tuple[pd.DataFrame, dict]:
     """The sweep table in display units with readable headers, and its column formats (values unrounded)."""
     labels = sweep_columns(u)
     frame = table.copy()
+    if "kind" in frame:
+        frame["kind"] = (
+            frame["kind"].astype(str).str.replace("-", " ")
+        )  # "blast-chiller" reads "blast chiller"
     config = {}
     for col in frame.columns:
         label, kind = SWEEP_COLUMNS.get(col, (col.replace("_", " "), None))
