@@ -248,8 +248,14 @@ def indicative_text(leth) -> str:
 
 
 def format_f(f_min: float) -> str:
-    """F-values beyond 10 000 min are shown as such: the number itself says only 'far beyond any target'."""
-    return "> 10 000" if f_min > 1e4 else f"{f_min:.3g}"
+    """F-values beyond 10 000 min are shown as such: the number itself says only 'far beyond any target'.
+
+    >>> format_f(3531.7), format_f(2.345), format_f(25000.0)
+    ('3532', '2.35', '> 10 000')
+    """
+    if f_min > 1e4:
+        return "> 10 000"
+    return f"{f_min:.0f}" if f_min >= 100.0 else f"{f_min:.3g}"
 
 
 def _fmt_min(t_min: float | None) -> str:

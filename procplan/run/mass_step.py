@@ -194,8 +194,8 @@ def _surface_coefficient(brine: Brine, surface, temperature_C: float, c_eq: floa
     h_m = surface.breakdown.h_conv_W_m2K / (b.rho_kg_m3 * b.cp_J_kgK * lewis ** (2.0 / 3.0))
     km = h_m * b.rho_kg_m3 * brine.brine_fraction / (c_eq * rho_kg_m3)
     return km, (
-        f"heat–mass analogy (Chilton–Colburn, Incropera eq. 6.92) from h_conv {surface.breakdown.h_conv_W_m2K:.0f} "
-        f"W/m²K: h_m {h_m:.3g} m/s in the brine (Le {lewis:.0f}), {km:.3g} m/s on the product side"
+        f"heat–mass analogy (Chilton–Colburn, Incropera eq. 6.92) from the convection h {surface.breakdown.h_conv_W_m2K:.0f} "
+        f"W/m²K: mass-transfer coefficient {h_m:.3g} m/s in the brine (Le {lewis:.0f}), {km:.3g} m/s on the product side"
     )
 
 

@@ -127,8 +127,8 @@ class SurfaceBreakdown:
         if self.sink_C is None:
             return None
         return (
-            f"convection h_conv {self.h_conv_W_m2K:.1f} W/m²K to air at {self.fluid_C:g} °C and radiation "
-            f"h_rad {self.h_rad_W_m2K:.1f} W/m²K to walls at {self.surroundings_C:g} °C: the product exchanges "
+            f"convection h {self.h_conv_W_m2K:.1f} W/m²K to air at {self.fluid_C:g} °C and radiation "
+            f"h {self.h_rad_W_m2K:.1f} W/m²K to walls at {self.surroundings_C:g} °C: the product exchanges "
             f"heat with the sink temperature {self.sink_C:.1f} °C"
         )
 

@@ -393,7 +393,8 @@ def _choose_path(plan: Plan, nominal, names, step_index, ctx, method: str, solve
         notes.append(f"machine h held at its nominal {ctx['h_W_m2K']:.3g} W/m²K for every sample")
     if not fast and method == "auto" and (blockers or machine_block):
         notes.append(
-            "run_plan per sample: " + "; ".join(blockers + ([machine_block] if machine_block else []))
+            "the full model runs per sample: "
+            + "; ".join(blockers + ([machine_block] if machine_block else []))
         )
     return fast, notes
 

@@ -255,6 +255,16 @@ def lethality_figure(leth, u: Units) -> go.Figure:
         yaxis_title=f"F [min at {u.temp(leth.reference_C, 1)}]",
         **LAYOUT,
     )
+    top = float(np.nanmax(leth.f_cumulative_min)) if len(leth.f_cumulative_min) else 0.0
+    if leth.required_F_min and top > 100.0 * leth.required_F_min:
+        # F far beyond the requirement: a log axis keeps the requirement line and the rise both readable
+        low = leth.required_F_min / 1000.0
+        fig.update_yaxes(type="log", range=[np.log10(low), np.log10(top * 2.0)])
+        # an annotation on a log axis is placed by the logarithm of its value
+        fig.update_annotations(
+            selector=lambda a: str(a.text).startswith("required"), y=float(np.log10(leth.required_F_min))
+        )
+        fig.update_layout(yaxis_title=f"F [min at {u.temp(leth.reference_C, 1)}], log scale")
     return fig
 
 

@@ -35,7 +35,7 @@ def machine_load(result, u: Units) -> None:
         )
         (st.caption if ml.held else st.warning)(ml.describe(batch))
     for name, note in notes:
-        st.caption(f"{name}: {note}")
+        st.caption(note if note.startswith(f"{name}:") else f"{name}: {note}")
     if result.packing is not None:
         packed(result, u)
 

@@ -296,10 +296,10 @@ def _provenance(result, u: Units) -> None:
             rows = [
                 ("source", bd.source),
                 ("correlation", correlation_text(bd.correlation)),
-                ("convection h_conv", f"{bd.h_conv_W_m2K:.1f} W/m²K"),
-                ("radiation h_rad", f"{bd.h_rad_W_m2K:.1f} W/m²K"),
+                ("convection h", f"{bd.h_conv_W_m2K:.1f} W/m²K"),
+                ("radiation h", f"{bd.h_rad_W_m2K:.1f} W/m²K"),
                 ("packaging resistance", f"{bd.packaging_resistance_m2K_W * 1000:.2f} m²K/kW"),
-                ("effective h_eff", f"{bd.h_eff_W_m2K:.1f} W/m²K"),
+                ("effective h (with the packaging)", f"{bd.h_eff_W_m2K:.1f} W/m²K"),
                 ("medium", " → ".join(u.temp(m) for m in dict.fromkeys(sr.surface.fluid_temperature_C))),
                 *([("radiation to the walls", bd.sink_note)] if sr.surface.radiates_to_other_walls else []),
                 ("Biot number", f"Bi = {sr.regime.bi:.3g} (lumped Bi = {sr.regime.bi_lumped:.3g})"),

@@ -37,8 +37,9 @@ def headline(result, u: Units) -> None:
     if tg is not None and tg.target.reached:
         tr = tg.target
         c[0].metric(
-            f"Time to target ({tg.label or tg.point} {u.temp(tr.target_C, 1)}, {tg.step})",
+            f"Time to target ({tg.label or tg.point} {u.temp(tr.target_C, 1)})",
             u.duration(tr.time_s - (tr.start_s or 0.0)),
+            help=f"from the start of the step '{tg.step}'",
         )
     elif tg is not None:
         c[0].metric(f"Time to target ({tg.label or tg.point} {u.temp(tg.target.target_C, 1)})", "not reached")
@@ -65,9 +66,10 @@ def headline(result, u: Units) -> None:
     if leth is not None:
         verdict = "" if leth.passed is None else (": PASS" if leth.passed else ": FAIL")
         c[3].metric(
-            f"Lethality F ({leth.name}){verdict}",
+            f"Lethality F{verdict}",
             f"{format_f(leth.total_F_min)} min",
-            help=indicative_text(leth).strip(" []") or None,
+            help=f"{leth.name}: {leth.target}"
+            + (f" ({indicative_text(leth).strip(' []')})" if not leth.confirmed else ""),
         )
     else:
         end = result.history.iloc[-1]
@@ -98,6 +100,11 @@ def _targets(result, u: Units) -> None:
             st.error(f"{tg.step}: {tg.margin.message}", icon=":material/timer:")
     if rows:
         st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")
+    else:
+        st.caption(
+            "No temperature target in this plan: each step runs its set time (or to its weight or salt stop, "
+            "shown below). Add a core or surface target on the Process page to get a time to target."
+        )
 
 
 def rule_title(name: str) -> str:
@@ -126,7 +133,7 @@ def _rule(result, u: Units) -> None:
                 "allowed": u.duration_min(s.allowed_min),
                 "used": u.duration_min(s.used_min),
                 "margin": u.duration_min(s.margin_min),
-                "margin %": "—" if s.margin_percent is None else f"{s.margin_percent:.0f} %",
+                "margin %": "—" if s.margin_percent is None else _percent_text(s.margin_percent),
                 "verdict": yes_no(s.passed),
             }
         )
@@ -150,8 +157,14 @@ def _rule(result, u: Units) -> None:
     lines += [f"Band {b.index + 1}: {b.reason}" for b in rc.bands if b.reason]
     if rc.budget is not None:
         lines.append(f"Stability budget: {rc.budget.reason}")
-    for r in (*lines, *rc.reasons):
+    said = {line.lower() for line in lines}
+    for r in (*lines, *(r for r in rc.reasons if r.lower() not in said)):
         st.caption(r)
+
+
+def _percent_text(percent: float) -> str:
+    """A margin in per cent: whole numbers, one decimal near zero (never '-0 %')."""
+    return f"{percent:.0f} %" if abs(percent) >= 9.95 or percent == 0 else f"{percent:.1f} %"
 
 
 def _budget_rows(bc, u: Units) -> list[dict]:
@@ -298,9 +311,9 @@ def _energy(result, u: Units) -> None:
         "Heat added per batch", f"{en.heat_added_J_per_batch / 3.6e6:.2f} kWh", help=f"one batch: {batch}"
     )
     c[2].metric(
-        PEAK_DUTY_LABEL.capitalize(),
+        "Peak duty",
         f"{en.peak_duty_kW_per_batch:.1f} kW",
-        help=f"minute from {u.duration(en.peak_time_s)}; a plant's capacity is judged against this sustained load",
+        help=f"{PEAK_DUTY_LABEL}, the minute from {u.duration(en.peak_time_s)}; a plant's capacity is judged against this sustained load",
     )
     c[3].metric(
         "Electricity cost, batch", format_cost(oc.cost_per_batch, oc.price), help=price_text(oc.price)
@@ -317,7 +330,7 @@ def _energy(result, u: Units) -> None:
                 "step": se.step,
                 "heat removed [kWh]": round(se.heat_removed_J_per_batch / 3.6e6, 3),
                 "heat added [kWh]": round(se.heat_added_J_per_batch / 3.6e6, 3),
-                f"{PEAK_DUTY_LABEL} [kW]": round(se.peak_duty_kW, 1),
+                "peak duty [kW]": round(se.peak_duty_kW, 1),
                 "mean duty [kW]": round(float(se.mean_duty_kW), 2),
                 "COP": "—" if r is None else f"{r.cop:.2f} (Carnot {r.cop_carnot:.2f})",
                 "electricity [kWh]": "—" if r is None else round(r.electricity_kWh, 3),
@@ -359,7 +372,7 @@ def render_result(result, u: Units, *, stale: bool = False) -> None:
             icon=":material/history:",
         )
     headline(result, u)
-    charts.show(charts.temperature_figure(result, u, result.plan.title), "temperature_chart", "temperatures")
+    _temperature_chart(result, u)
     st.subheader("Targets and plan time")
     _targets(result, u)
     st.subheader("Rule check")
@@ -377,6 +390,26 @@ def render_result(result, u: Units, *, stale: bool = False) -> None:
         st.subheader("Warnings")
         for w in result.warnings:
             st.warning(w, icon=":material/error:")
+
+
+def _temperature_chart(result, u: Units) -> None:
+    """The plan's temperatures; when one step is much shorter than the plan, the chart can show that step alone
+    (its time axis then spans the step, so a short freeze after a long brine is readable)."""
+    fig = charts.temperature_figure(result, u, result.plan.title)
+    total_s = max(float(result.steps[-1].end_s), 1.0) if result.steps else 1.0
+    if len(result.steps) > 1 and min(sr.end_s - sr.start_s for sr in result.steps) < 0.2 * total_s:
+        names = ["the whole plan", *(f"step {sr.index + 1}: {sr.name}" for sr in result.steps)]
+        pick = st.radio("Chart shows", names, horizontal=True, key="result_chart_span")
+        if pick != names[0]:
+            sr = result.steps[names.index(pick) - 1]
+            spare_s = 0.02 * (sr.end_s - sr.start_s)
+            fig.update_xaxes(
+                range=[
+                    float(u.time_value(max(sr.start_s - spare_s, 0.0))),
+                    float(u.time_value(sr.end_s + spare_s)),
+                ]
+            )
+    charts.show(fig, "temperature_chart", "temperatures")
 
 
 def render() -> None:

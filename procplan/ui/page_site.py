@@ -116,22 +116,23 @@ def _lines(d: dict, errs: widgets.FieldErrors, lib) -> None:
     machines = sorted(lib.equipment)
     remove = None
     for i, ln in enumerate(lines):
-        c = st.columns([2, 5, 3, 1], vertical_alignment="bottom")
+        c = st.columns([2, 6, 1], vertical_alignment="bottom")
         ln["name"] = c[0].text_input(f"Line {i + 1}", value=ln.get("name", ""), key=state.key("site.ln", i))
-        ln["equipment"] = c[1].multiselect(
+        desc = c[1].text_input("Description", value=ln.get("description", ""), key=state.key("site.desc", i))
+        if desc.strip():
+            ln["description"] = desc
+        else:
+            ln.pop("description", None)
+        if c[2].button("✕", key=state.key("site.rm", i), help=f"Remove line {i + 1}"):
+            remove = i
+        # the machines take the full width, so that every chosen machine's name can be read
+        ln["equipment"] = st.multiselect(
             "Machines on it",
             machines,
             default=[e for e in ln.get("equipment", []) if e in machines],
             format_func=lambda e: lib.equipment[e].name,
             key=state.key("site.eq", i),
         )
-        desc = c[2].text_input("Description", value=ln.get("description", ""), key=state.key("site.desc", i))
-        if desc.strip():
-            ln["description"] = desc
-        else:
-            ln.pop("description", None)
-        if c[3].button("✕", key=state.key("site.rm", i), help=f"Remove line {i + 1}"):
-            remove = i
         errs.mark(f"site.lines[{i}]")
     if st.button("Add a line", key="site.add"):
         lines.append({"name": f"Line {len(lines) + 1}", "equipment": []})

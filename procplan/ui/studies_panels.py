@@ -145,6 +145,8 @@ VARIABLE_VIEW = {
     "h_W_m2K": ("Surface coefficient h [W/m²K]", "plain"),
     "h_factor": ("Surface coefficient, % of the plan's", "percent"),
     "water_fraction": ("Water content, % by mass", "percent"),
+    "salt_D_factor": ("Salt diffusivity, % of the published value", "percent"),
+    "brine_percent": ("Brine strength [% salt]", "plain"),
 }
 DEFAULT_DISTRIBUTIONS = {
     "start_C": lambda plan: ("normal", (plan.start_temperature_C, 2.0), None),
@@ -152,6 +154,8 @@ DEFAULT_DISTRIBUTIONS = {
     "h_W_m2K": lambda plan: ("lognormal", (20.0, 0.2), None),
     "h_factor": lambda plan: ("uniform", (0.8, 1.2), None),
     "water_fraction": lambda plan: ("normal", (dict(plan.product.composition).get("water", 0.7), 0.01), None),
+    "salt_D_factor": lambda plan: ("lognormal", (1.0, 0.25), None),
+    "brine_percent": lambda plan: ("normal", (_brine_percent(plan), 0.5), None),
 }
 KIND_LABELS = {
     "normal": "normal (mean, standard deviation)",
@@ -166,7 +170,21 @@ KIND_FIELDS = {
     "triangular": (("Lowest", "value"), ("Most likely", "value"), ("Highest", "value")),
     "lognormal": (("Median", "value"), ("Spread of the logarithm", "ratio")),
 }
-QUANTITY_LABELS = {"time_to_target_min": "Time to target", "lethality_F_min": "Lethality F"}
+#: How the study ran its samples, as the caption says it.
+METHOD_TEXT = {"exact": "exact series", "batch": "batched full model", "run": "full model per sample"}
+QUANTITY_LABELS = {
+    "time_to_target_min": "Time to target",
+    "lethality_F_min": "Lethality F",
+    "salt_core_percent": "Salt at the core, end of brining (low tail)",
+    "salt_mean_percent": "Mean salt, end of brining (low tail)",
+    "salt_time_min": "Time to the salt stop",
+}
+
+
+def _brine_percent(plan) -> float:
+    """The brine strength of the plan's first brining step [%] (10 % when none is given)."""
+    fractions = [s.brine.brine_fraction for s in plan.steps if s.brine is not None and s.brine.brine_fraction]
+    return 100.0 * fractions[0] if fractions else 10.0
 
 
 def _centre_spread(kind: str, params) -> tuple[float, float]:
@@ -317,15 +335,18 @@ def variability(text: str, u: Units) -> None:
         widgets.problems(out.problems, "The study refused these inputs:")
         return
     r = out.value
-    st.caption(f"{r.n_samples} samples, method {r.method}, seed {r.seed}, {r.seconds:.1f} s")
+    method_text = METHOD_TEXT.get(r.method, r.method)
+    st.caption(f"{r.n_samples} samples, {method_text}, seed {r.seed}, {r.seconds:.1f} s")
     rows = []
     for metric, pct in r.percentiles.items():
         row = {"quantity": QUANTITY_LABELS.get(metric, metric.replace("_", " "))}
         for k, v in pct.items():
-            if metric.endswith("_min") and metric.startswith("time"):
+            if metric in ("time_to_target_min", "salt_time_min"):
                 row[k] = "not reached" if not math.isfinite(v) else u.duration_min(v)
             elif metric == "lethality_F_min":
                 row[k] = "—" if not math.isfinite(v) else f"{format_f(v)} min"
+            elif metric.endswith("_percent"):
+                row[k] = "—" if not math.isfinite(v) else f"{v:.2f} %"
             else:
                 row[k] = "—" if not math.isfinite(v) else f"{v:.3g}"
         rows.append(row)
@@ -528,6 +549,9 @@ SWEEP_COLUMNS = {
     "energy_cost": ("Energy cost", "%.2f"),
     "pieces": ("Pieces per batch", "%d"),
     "capacity_shortfall_kW": ("Capacity shortfall [kW]", "%.1f"),
+    "salt_core_percent": ("Salt at the core [%]", "%.2f"),
+    "salt_mean_percent": ("Mean salt [%]", "%.2f"),
+    "salt_time_min": ("Time to the salt stop", "t"),
     "plant_limit_min": ("Plant at its limit", "t"),
     "solvers": ("Solver", None),
     "warnings": ("Warnings", None),
@@ -548,6 +572,10 @@ def sweep_view(table: pd.DataFrame, u: Units) -> tuple[pd.DataFrame, dict]:
     """The sweep table in display units with readable headers, and its column formats (values unrounded)."""
     labels = sweep_columns(u)
     frame = table.copy()
+    if "kind" in frame:
+        frame["kind"] = (
+            frame["kind"].astype(str).str.replace("-", " ")
+        )  # "blast-chiller" reads "blast chiller"
     config = {}
     for col in frame.columns:
         label, kind = SWEEP_COLUMNS.get(col, (col.replace("_", " "), None))

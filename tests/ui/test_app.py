@@ -142,7 +142,7 @@ def test_process_page_shows_biot_regime_and_solver_of_the_library(app, library_c
     assert metric(app, "Solver") == ref.solver
     table = " ".join(str(t.value.to_string()) for t in app.table)
     assert ref.reason.split(":")[0] in table
-    assert "h_conv" in table and "packaging resistance" in table
+    assert "convection h" in table and "packaging resistance" in table
 
 
 def test_steps_can_be_added_reordered_and_removed(app):

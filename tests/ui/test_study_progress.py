@@ -23,10 +23,10 @@ def test_estimate_shown_and_result_kept(app):
     app.button(key="mc_go").click().run()
     assert not app.exception, app.exception
     assert "Estimated time: up to" in _captions(app)
-    assert "4 samples, method run" in _captions(app)
+    assert "4 samples, full model per sample" in _captions(app)
     # another widget's change does not run the study again: the session keeps its result
     app.selectbox(key="mc_step").set_value(app.selectbox(key="mc_step").options[0]).run()
-    assert "4 samples, method run" in _captions(app)
+    assert "4 samples, full model per sample" in _captions(app)
 
 
 def test_stop_leaves_the_page_usable(app):
@@ -41,7 +41,7 @@ def test_stop_leaves_the_page_usable(app):
     # the page still works: the study runs again when asked
     app.button(key="mc_go").click().run()
     assert not app.exception, app.exception
-    assert "4 samples, method run" in _captions(app)
+    assert "4 samples, full model per sample" in _captions(app)
 
 
 # --- the catalogue sweep: the same progress and stop -------------------------------------------------------
