@@ -24,7 +24,7 @@ SETTING_LABELS = {
     "air_C": "Air temperature",
     "air_speed_m_s": "Air speed [m/s]",
     "relative_humidity": "Relative humidity [%]",
-    "emissivity": "Wall emissivity",
+    "emissivity": "Surface emissivity (default for products that state none)",
     "water_C": "Water temperature",
     "water_speed_m_s": "Water speed [m/s]",
     "brine_C": "Brine temperature",

@@ -20,7 +20,7 @@ SETTING_LABELS = {
     "air_C": "Air temperature",
     "air_speed_m_s": "Air speed",
     "relative_humidity": "Relative humidity",
-    "emissivity": "Wall emissivity",
+    "emissivity": "Emissivity for this step",
     "water_C": "Water temperature",
     "water_speed_m_s": "Water speed",
     "brine_C": "Brine temperature",
@@ -63,6 +63,12 @@ def _setting_input(key: str, rng, value: float, wkey: str) -> float:
         )
         return round(shown / 100.0, 4)
     step = 0.1 if unit == "m/s" else 0.05 if rng.maximum - rng.minimum <= 1.0 else 0.1
+    extra = (
+        " Left at the machine's default, an emissivity stated on the product (Product page) applies; changed "
+        "here, this value wins for this step."
+        if key == "emissivity"
+        else ""
+    )
     return widgets.number(
         f"{label}" + (f" [{unit}]" if unit else ""),
         value,
@@ -71,7 +77,7 @@ def _setting_input(key: str, rng, value: float, wkey: str) -> float:
         maximum=rng.maximum,
         step=step,
         fmt="%.1f" if step >= 0.1 else "%.2f",
-        help=f"{described}Machine range {rng.describe()}",
+        help=f"{described}Machine range {rng.describe()}.{extra}",
     )
 
 
