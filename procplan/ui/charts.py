@@ -250,7 +250,7 @@ def lethality_figure(leth, u: Units) -> go.Figure:
             annotation_position="bottom right",
         )
     fig.update_layout(
-        title=f"Lethality {leth.name}: F against time",
+        title=f"F against time: {(leth.target or 'lethality').split(' (')[0].split(',')[0]}",
         xaxis_title=f"time [{u.time}]",
         yaxis_title=f"F [min at {u.temp(leth.reference_C, 1)}]",
         **LAYOUT,

@@ -232,6 +232,12 @@ def _heats(result) -> bool:
     return float(surface.max()) > float(surface.iloc[0]) + 1.0
 
 
+def _words(leth) -> str:
+    """A lethality requirement in words: what it is about, without its qualifiers in brackets."""
+    words = (leth.target or "").split(" (")[0].strip()
+    return words[:1].upper() + words[1:] if words else "Lethality requirement"
+
+
 def _lethality_block(leth, u: Units) -> None:
     """One lethality: F, and the requirement's numbers only when there is a requirement."""
     basis = (
@@ -251,10 +257,10 @@ def _lethality_block(leth, u: Units) -> None:
             u.duration(reached.time_s) if reached is not None and reached.reached else "not reached",
         )
     if not leth.confirmed:
-        st.warning(f"{leth.name}{indicative_text(leth)}")
+        st.warning(f"{_words(leth)}{indicative_text(leth)}")
     if leth.process_fraction is not None:
         st.caption(f"{leth.process_fraction:.3g} of the required process (passes at 1).")
-    st.caption(f"{leth.name}: {leth.target}. Source: {leth.source}")
+    st.caption(f"{leth.target[:1].upper() + leth.target[1:]} (preset {leth.name}). Source: {leth.source}")
     if leth.time_s is not None and leth.f_cumulative_min is not None:
         charts.show(charts.lethality_figure(leth, u), f"leth_{leth.name}", f"lethality-{leth.name}")
 
