@@ -47,6 +47,8 @@ def catalogue_sweep() -> None:
             "The table is of the last sweep run; run the sweep again for the products and machines chosen now."
         )
     frame, config = sweep_view(table, state.units())
+    if "Machine" in frame.columns:  # the machine's name, as in the choice above (the CSV keeps the file name)
+        frame["Machine"] = frame["Machine"].map(lambda e: lib.equipment[e].name if e in lib.equipment else e)
     st.dataframe(frame, hide_index=True, width="stretch", column_config=config)
     if skipped:
         st.caption("Machines without a sweep task, skipped: " + ", ".join(skipped))

@@ -52,6 +52,11 @@ def _sweep_choice(app, machines):
     app.multiselect(key="sw_machines").set_value(machines)
 
 
+# the machines' names in the library (product_library/equipment/chiller-b1/b2.toml), as the page shows them
+CHILLER_B1 = "Blast chiller B1 (kitchen, 10 GN trays)"
+CHILLER_B2 = "Blast chiller B2 (Line 2 roll-in, two trolleys)"
+
+
 def _machines_shown(app):
     return [list(d.value["Machine"]) for d in app.dataframe if "Machine" in d.value.columns]
 
@@ -63,7 +68,7 @@ def test_sweep_result_is_kept_and_its_stop_leaves_the_page_usable(app):
     _sweep_choice(app, ["chiller-b1"])
     app.button(key="sw_go").click().run()
     assert not app.exception, app.exception
-    assert _machines_shown(app) == [["chiller-b1"]]
+    assert _machines_shown(app) == [[CHILLER_B1]]
     # a new sweep asked for and stopped before it runs
     _sweep_choice(app, ["chiller-b2"])
     app.button(key="sw_go").click()
@@ -74,10 +79,10 @@ def test_sweep_result_is_kept_and_its_stop_leaves_the_page_usable(app):
     # it runs again when asked, and another widget's change keeps its table (saying it is of the last sweep)
     app.button(key="sw_go").click().run()
     assert not app.exception, app.exception
-    assert _machines_shown(app) == [["chiller-b2"]]
+    assert _machines_shown(app) == [[CHILLER_B2]]
     _sweep_choice(app, ["chiller-b1"])
     app.run()
-    assert _machines_shown(app) == [["chiller-b2"]]
+    assert _machines_shown(app) == [[CHILLER_B2]]
     assert "table is of the last sweep run" in _captions(app)
 
 
