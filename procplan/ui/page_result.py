@@ -302,6 +302,14 @@ def _freezing(result, u: Units) -> None:
     )
     c[2].metric("Plank's equation", u.duration(fz.plank_s) if fz.plank_s else "—")
     c[3].metric("Pham's method", u.duration(fz.pham.time_s) if fz.pham else "—")
+    # onset and end count from the plan's start; Plank and Pham are durations of the freezing step itself
+    sr = next((s for s in result.steps if min(s.surface.medium_C) < fz.initial_freezing_C), None)
+    if sr is not None and sr.index > 0 and fh.end.reached:
+        st.caption(
+            f"Onset and end count from the plan's start; the freezing step ({sr.name}) starts at "
+            f"{u.duration(sr.start_s)} and takes the core to {u.temp(fh.end.target_C, 0)} in "
+            f"{u.duration(fh.end.time_s - sr.start_s)}, the time to set beside Plank's and Pham's."
+        )
     st.caption(fz.basis)
 
 

@@ -248,3 +248,15 @@ def test_mass_transfer_pages_speak_the_planners_words(app, plan):
         for fig in _figures(app):
             assert not any(IDENTIFIER.findall(t) for t in _axis_titles(fig)), _axis_titles(fig)
             assert not any(IDENTIFIER.findall(str(tr.get("name", ""))) for tr in fig["data"])
+
+
+def test_freezing_after_brining_sets_the_freeze_steps_own_time_beside_plank(app, library_copy):
+    # Onset and end count from the plan's start (2000+ min of brine first); the caption gives the freezing
+    # step's own time to the storage temperature, the figure comparable with Plank's duration.
+    res = library_result(library_copy, BRINE_PLAN)
+    fz, sr = res.outcomes.freezing, res.steps[1]
+    _open(app, BRINE_PLAN, "Result")
+    own = next(c.value for c in app.caption if "the freezing step (" in c.value)
+    want = (fz.from_history.end.time_s - sr.start_s) / 60.0
+    assert f"in {want:.0f} min" in own, own
+    assert want > fz.plank_s / 60.0  # Plank counts the latent heat only: shorter than the full step
