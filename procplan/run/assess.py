@@ -497,6 +497,7 @@ def assess_plan(
     targets = _targets(run, warnings)
     rule_check, rule_from = _rule_check(run, library)
     lethality, quality = _lethalities(run)
+    warnings += dry_air_lethality_warnings(run.steps, lethality)
     freezing = _freezing_times(run)
     energy, balance = _energy(run, warnings)
     warnings += surface_freezing_warnings(
@@ -524,6 +525,32 @@ def assess_plan(
         mean_kinetic=mean_kinetic_outcome(plan, history),
         thawing=thawing_outcome(plan, history, tuple(steps), properties),
     )
+
+
+DRY_AIR_LETHALITY = (
+    "{step}: lethality credited in hot dry air. The preset's times and z-values come from moist heating; a "
+    "drying surface raises the heat resistance of vegetative pathogens such as Salmonella, and humid cooking "
+    "conditions are part of the published time–temperature guidance for meat, so the lethality of this step "
+    "may be overstated (the unsafe side). Keep the air humid during the lethality step, or confirm the "
+    "process with your process authority."
+)
+
+
+def dry_air_lethality_warnings(steps, lethality) -> list[str]:
+    """A warning for each step in hot dry air (the drying model ran) that adds to a lethality requirement."""
+    if lethality is None or lethality.time_s is None or lethality.f_cumulative_min is None:
+        return []
+    t = np.asarray(lethality.time_s, dtype=float)
+    f = np.asarray(lethality.f_cumulative_min, dtype=float)
+    out = []
+    for sr in steps:
+        if getattr(sr.surface, "drying_air", None) is None:
+            continue
+        gained = np.interp(sr.end_s, t, f) - np.interp(sr.start_s, t, f)
+        need = lethality.required_F_min
+        if gained > (0.01 * need if need else 0.0):  # the step counts toward the requirement
+            out.append(DRY_AIR_LETHALITY.format(step=sr.name))
+    return out
 
 
 def surface_freezing_warnings(
