@@ -87,7 +87,10 @@ def check_groups(entry: Correlation, name: str, warnings: list[str], **groups: f
     """Warn when a dimensionless group lies outside the correlation's validity range."""
     bad = entry.out_of_range(**{k: v for k, v in groups.items() if v is not None})
     if bad:
-        warnings.append(f"{name}: {', '.join(bad)} (validity: {entry.validity}); result extrapolated")
+        warnings.append(
+            f"the {name.replace('-', ' ')} correlation is used outside its validity: {', '.join(bad)} "
+            f"({entry.validity}); its h is extrapolated"
+        )
 
 
 def _natural_terms(

@@ -366,14 +366,26 @@ class Correlation:
     bounds: tuple[tuple[str, float, float], ...] = ()
 
     def out_of_range(self, **groups: float) -> list[str]:
-        """Names and values of the groups that fall outside this correlation's stated validity range."""
+        """The groups that fall outside this correlation's stated validity range, in words with their values.
+
+        >>> CORRELATIONS["flat-plate-laminar"].out_of_range(re=8e5, pr=0.7)
+        ['Reynolds number 8e+05 (valid 0 to 5e+05)']
+        """
         bad = []
         for name, lo, hi in self.bounds:
             v = groups.get(name)
             if v is not None and not (lo <= v <= hi):
-                bad.append(f"{name} = {v:.4g} outside [{lo:g}, {hi:g}]")
+                bad.append(f"{GROUP_WORDS.get(name, name)} {v:.4g} (valid {lo:.3g} to {hi:.3g})")
         return bad
 
+
+#: The dimensionless groups of the validity ranges in words.
+GROUP_WORDS = {
+    "re": "Reynolds number",
+    "pr": "Prandtl number",
+    "ra": "Rayleigh number",
+    "mu_ratio": "viscosity ratio",
+}
 
 _INC = "Incropera, DeWitt, Bergman & Lavine, Fundamentals of Heat and Mass Transfer, 7th ed."
 

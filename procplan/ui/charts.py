@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import re
+
 import numpy as np
 import plotly.graph_objects as go
 from plotly.subplots import make_subplots
@@ -250,7 +252,7 @@ def lethality_figure(leth, u: Units) -> go.Figure:
             annotation_position="bottom right",
         )
     fig.update_layout(
-        title=f"F against time: {(leth.target or 'lethality').split(' (')[0].split(',')[0]}",
+        title=f"F against time: {re.sub(r'[(][^)]*[)] ?', '', leth.target or 'lethality').split(',')[0].strip()}",
         xaxis_title=f"time [{u.time}]",
         yaxis_title=f"F [min at {u.temp(leth.reference_C, 1)}]",
         **LAYOUT,

@@ -3,6 +3,8 @@ per stage, lethality with its accumulation, freezing, energy and duty, warnings.
 
 from __future__ import annotations
 
+import re
+
 import pandas as pd
 import streamlit as st
 
@@ -234,7 +236,7 @@ def _heats(result) -> bool:
 
 def _words(leth) -> str:
     """A lethality requirement in words: what it is about, without its qualifiers in brackets."""
-    words = (leth.target or "").split(" (")[0].strip()
+    words = re.sub(r"\s*\([^)]*\)", "", leth.target or "").split(",")[0].strip()
     return words[:1].upper() + words[1:] if words else "Lethality requirement"
 
 
