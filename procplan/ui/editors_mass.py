@@ -144,7 +144,8 @@ def _arrhenius(brine: dict, i: int, errs: widgets.FieldErrors) -> None:
         "The diffusivity changes with temperature (Arrhenius)",
         value="reference_C" in brine or "activation_kJ_mol" in brine,
         key=state.key("s.br.arr", i),
-        help="Without it the measured value holds at the brine temperature, whatever it is.",
+        help="Without it the measured value is used at any brine temperature: in a brine colder than the "
+        "measurement the salt then goes in too fast here, and the times to a salt content come out short.",
     )
     if not on:
         brine.pop("reference_C", None)
