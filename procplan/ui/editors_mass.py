@@ -157,12 +157,16 @@ def _arrhenius(brine: dict, i: int, errs: widgets.FieldErrors) -> None:
             "Temperature the diffusivity was measured at", brine.get("reference_C", 5.0), f"s.br.dref.{i}"
         )
     errs.mark(f"steps[{i}].brine.reference_C")
+    # a file with the temperature alone keeps it so (no activation energy written) until one is typed
+    alone = "reference_C" in brine and "activation_kJ_mol" not in brine
     with c[1]:
-        brine["activation_kJ_mol"] = widgets.number(
-            "Activation energy [kJ/mol]", brine.get("activation_kJ_mol", 25.0), f"s.br.ea.{i}",
+        ea = widgets.number(
+            "Activation energy [kJ/mol]", brine.get("activation_kJ_mol", 0.0 if alone else 25.0), f"s.br.ea.{i}",
             minimum=0.0, step=1.0, fmt="%.1f",
             help="How fast the diffusivity rises with temperature; the plan accepts 0 to 150 kJ/mol.",
         )  # fmt: skip
+    if not (alone and ea == 0.0):
+        brine["activation_kJ_mol"] = ea
     errs.mark(f"steps[{i}].brine.activation_kJ_mol")
 
 

@@ -314,3 +314,26 @@ def test_measured_diffusivity_with_its_temperature_dependence_round_trips(app, l
     assert plan_from_toml(again.session_state["last_good_toml"], source="again", library=lib).steps[
         0
     ].brine == (saved)
+
+
+def test_measured_diffusivity_at_a_temperature_alone_is_saved_back_unchanged(app, library_copy):
+    from procplan.files.library import load_library
+    from procplan.files.plan import plan_from_toml
+
+    _open(app, BRINE_PLAN, "Sheet & files")
+    text = app.session_state["last_good_toml"].replace(
+        'diffusivity = "salt-pork-loin"', "D_m2_s = 3e-10\nreference_C = 5.0"
+    )
+    lib = load_library(library_copy)
+    given = plan_from_toml(text, source="given", library=lib).steps[0].brine
+    assert (given.reference_C, given.activation_J_mol) == (5.0, None)
+    app.text_area(key="paste_plan").set_value(text)
+    app.button(key="paste_btn").click().run()
+    go(app, "Process")
+    assert _widget(app, "checkbox", "The diffusivity changes with temperature (Arrhenius)").value
+    assert number_input(app, "Temperature the diffusivity was measured at").value == pytest.approx(5.0)
+    assert not errors(app), errors(app)
+    go(app, "Sheet & files")
+    assert plan_from_toml(app.session_state["last_good_toml"], source="again", library=lib).steps[
+        0
+    ].brine == (given)
