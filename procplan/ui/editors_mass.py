@@ -113,6 +113,7 @@ def _diffusivity(brine: dict, i: int, temperature_C: float | None, errs: widgets
             help="Effective diffusivity measured for this product at the brine temperature.",
         )  # fmt: skip
         errs.mark(f"steps[{i}].brine.D_m2_s")
+        _arrhenius(brine, i, errs)
         return
     for k in D_KEYS:
         brine.pop(k, None)
@@ -136,10 +137,57 @@ def _diffusivity(brine: dict, i: int, temperature_C: float | None, errs: widgets
     errs.mark(f"steps[{i}].brine.diffusivity")
 
 
+def _arrhenius(brine: dict, i: int, errs: widgets.FieldErrors) -> None:
+    """A measured diffusivity's temperature dependence: the temperature it was measured at and an activation
+    energy (Arrhenius); without them the value holds at any brine temperature."""
+    on = st.checkbox(
+        "The diffusivity changes with temperature (Arrhenius)",
+        value="reference_C" in brine or "activation_kJ_mol" in brine,
+        key=state.key("s.br.arr", i),
+        help="Without it the measured value is used at any brine temperature: in a brine colder than the "
+        "measurement the salt then goes in too fast here, and the times to a salt content come out short.",
+    )
+    if not on:
+        brine.pop("reference_C", None)
+        brine.pop("activation_kJ_mol", None)
+        return
+    c = st.columns(2)
+    with c[0]:
+        brine["reference_C"] = widgets.temperature(
+            "Temperature the diffusivity was measured at", brine.get("reference_C", 5.0), f"s.br.dref.{i}"
+        )
+    errs.mark(f"steps[{i}].brine.reference_C")
+    # a file with the temperature alone keeps it so (no activation energy written) until one is typed
+    alone = "reference_C" in brine and "activation_kJ_mol" not in brine
+    with c[1]:
+        ea = widgets.number(
+            "Activation energy [kJ/mol]", brine.get("activation_kJ_mol", 0.0 if alone else 25.0), f"s.br.ea.{i}",
+            minimum=0.0, step=1.0, fmt="%.1f",
+            help="How fast the diffusivity rises with temperature; the plan accepts 0 to 150 kJ/mol.",
+        )  # fmt: skip
+    if not (alone and ea == 0.0):
+        brine["activation_kJ_mol"] = ea
+    errs.mark(f"steps[{i}].brine.activation_kJ_mol")
+
+
+def _partition(brine: dict, i: int, errs: widgets.FieldErrors) -> None:
+    """The partition coefficient of the solute between the product's water and the brine (1 unless given)."""
+    value = widgets.number(
+        "Partition coefficient (product water to brine)", brine.get("partition", 1.0), f"s.br.part.{i}",
+        minimum=0.0, step=0.05, fmt="%.2f",
+        help="Solute in the product's water over solute in the brine at equilibrium; below 1 for a fatty "
+        "product. The plan accepts 0.05 to 2.",
+    )  # fmt: skip
+    if value != 1.0 or "partition" in brine:
+        brine["partition"] = value
+    errs.mark(f"steps[{i}].brine.partition")
+
+
 def _surface(brine: dict, i: int, mode: str, errs: widgets.FieldErrors) -> None:
     if mode == "equalise":
         brine.pop("k_m_m_s", None)
         return
+    _partition(brine, i, errs)
     form = st.radio(
         "Surface mass-transfer coefficient",
         KM_FORMS,

@@ -183,6 +183,8 @@ PLAIN_KEYS = {
     "diffusivity": "diffusivity record",
     "D_m2_s": "diffusivity D [m²/s]",
     "k_m_m_s": "surface mass-transfer coefficient [m/s]",
+    "activation_kJ_mol": "activation energy [kJ/mol]",
+    "partition": "partition coefficient",
     "stop_when_core_percent": "core content to stop at [%]",
     "stop_when_mean_percent": "mean content to stop at [%]",
     "target_core_percent": "core target [%]",

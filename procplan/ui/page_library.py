@@ -54,6 +54,9 @@ BLANK_MACHINE = {
 
 
 WIDGET_PREFIX = {"rule": "r.", "machine": "m."}
+#: The rule being edited (its marker) once its source was typed or a save was tried: an empty source is then
+#: named as a fault, before that only hinted at.
+SOURCE_SEEN = "lib_rule_source_seen"
 
 
 def _forget_fields(prefix: str) -> None:
@@ -209,7 +212,7 @@ def _add_remove(items: list, remove: int | None, key: str, label: str, blank: di
         st.rerun()
 
 
-def _save_row(kind: str, name: str, exists: bool, checked, save) -> None:
+def _save_row(kind: str, name: str, exists: bool, checked, save, *, enabled: bool | None = None) -> bool:
     c = st.columns([1, 2, 2])
     overwrite = c[1].checkbox(
         "Replace the saved one of this name",
@@ -219,13 +222,16 @@ def _save_row(kind: str, name: str, exists: bool, checked, save) -> None:
     )
     if exists and not overwrite:
         c[2].caption(f"'{name}' is already in the library; it is replaced only when you tick the box.")
-    if c[0].button("Save to the library", key=f"{kind}.save", disabled=not checked.ok, type="primary"):
+    ok = checked.ok if enabled is None else enabled
+    if c[0].button("Save to the library", key=f"{kind}.save", disabled=not ok, type="primary"):
         out = save(overwrite and exists)
         if out.ok:
             state.reload_library()
             st.session_state[state.NOTICE] = f"Saved '{name}' to {out.value}."
             st.rerun()
         widgets.problems(out.problems, "Not saved:")
+        return True
+    return False
 
 
 def rules_editor(lib) -> None:
@@ -239,16 +245,27 @@ def rules_editor(lib) -> None:
     )
     errs = widgets.FieldErrors()
     _rule_header(d, errs)
+    # a new rule's empty source is a hint, not a fault, until the planner types one in or tries to save
+    marker = st.session_state["lib_edit_rule"]["marker"]
+    if str(d.get("source", "")).strip():
+        st.session_state[SOURCE_SEEN] = marker
+    quiet = pick == NEW and st.session_state.get(SOURCE_SEEN) != marker
     _stages(d, errs)
     _bands(d, errs)
     checked = adapter_library.check_rule(copy.deepcopy(d))
-    widgets.problems(errs.show(checked.problems), "Also to correct:")
+    problems = [p for p in checked.problems if not (quiet and p.field == "source")]
+    if quiet and len(problems) < len(checked.problems):
+        errs.hint("source", "Give the regulation, guideline or study this rule comes from; a rule is saved only "
+                  "with its source.")  # fmt: skip
+    widgets.problems(errs.show(problems), "Also to correct:")
     if checked.ok:
         st.success(
             f"The rule is valid: {len(checked.value.stages)} stage(s), {len(checked.value.bands)} band(s)."
         )
-    _save_row("rule", d.get("name", ""), d.get("name") in lib.rules, checked,
-              lambda ow: adapter_library.save_rule(copy.deepcopy(d), overwrite=ow))  # fmt: skip
+    if _save_row("rule", d.get("name", ""), d.get("name") in lib.rules, checked,
+                 lambda ow: adapter_library.save_rule(copy.deepcopy(d), overwrite=ow),
+                 enabled=not problems):  # fmt: skip
+        st.session_state[SOURCE_SEEN] = marker
 
 
 def _setting_label(key: str) -> str:

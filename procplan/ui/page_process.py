@@ -194,6 +194,18 @@ def _step(step: dict, i: int, n: int, lib, errs: widgets.FieldErrors) -> str | N
     return action
 
 
+def rule_short_title(title: str) -> str:
+    """A rule's title short enough for its select box: the words before its first bracket or colon.
+
+    >>> rule_short_title("US FDA Food Code two-stage cooling (57 → 21 °C / 135 → 70 °F in 2 h, → 5 °C in 6 h)")
+    'US FDA Food Code two-stage cooling'
+    >>> rule_short_title("UK cook-chill: to 0–3 °C within 90 min of the start of chilling")
+    'UK cook-chill'
+    """
+    short = title.split(" (", 1)[0].split(": ", 1)[0].strip()
+    return short or title
+
+
 def _checks(plan: dict, lib, errs: widgets.FieldErrors) -> None:
     from procplan.model import SOLVERS
     from procplan.outcomes import LETHALITY_PRESETS
@@ -206,13 +218,16 @@ def _checks(plan: dict, lib, errs: widgets.FieldErrors) -> None:
         "Cooling / holding rule",
         rules,
         index=rules.index(ch["cooling_rule"]) if ch.get("cooling_rule") in rules else 0,
-        format_func=lambda r: r if r == NO_RULE else (lib.rules[r].title or r),
+        format_func=lambda r: r if r == NO_RULE else rule_short_title(lib.rules[r].title or r),
         key=state.key("c.rule"),
     )
     if rule == NO_RULE:
         ch.pop("cooling_rule", None)
     else:
         ch["cooling_rule"] = rule
+        full = lib.rules[rule].title or rule
+        if full != rule_short_title(full):
+            c1.caption(full)
     leth = ch.get("lethality")
     options = [NO_LETHALITY, *LETHALITY_PRESETS, CUSTOM_LETHALITY]
     if isinstance(leth, dict) and not (set(leth) <= {"preset", "point"}):

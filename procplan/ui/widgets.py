@@ -125,6 +125,11 @@ class FieldErrors:
     def mark(self, field: str) -> None:
         self._slots[field] = st.empty()
 
+    def hint(self, field: str, text: str) -> None:
+        """A neutral note in a marked field's place (a field not yet filled in, before it counts as a fault)."""
+        if field in self._slots:
+            self._slots[field].caption(text)
+
     def show(self, items: Iterable[Problem]) -> list[Problem]:
         placed: dict[str, list[str]] = {}
         rest: list[Problem] = []

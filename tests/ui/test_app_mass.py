@@ -260,3 +260,80 @@ def test_freezing_after_brining_sets_the_freeze_steps_own_time_beside_plank(app,
     want = (fz.from_history.end.time_s - sr.start_s) / 60.0
     assert f"in {want:.0f} min" in own, own
     assert want > fz.plank_s / 60.0  # Plank counts the latent heat only: shorter than the full step
+
+
+def test_measured_diffusivity_with_its_temperature_dependence_round_trips(app, library_copy):
+    from streamlit.testing.v1 import AppTest
+
+    from procplan.files.library import load_library
+    from procplan.files.plan import plan_from_toml
+    from procplan.run.engine import run_plan
+
+    from .conftest import APP
+
+    _open(app, BRINE_PLAN)
+    _widget(app, "selectbox", "Diffusivity of the solute in the product").set_value(
+        "(a measured value for this product)"
+    ).run()
+    number_input(app, "Diffusivity D [m²/s]").set_value(3e-10).run()
+    _widget(app, "checkbox", "The diffusivity changes with temperature (Arrhenius)").check().run()
+    number_input(app, "Temperature the diffusivity was measured at").set_value(10.0).run()
+    number_input(app, "Partition coefficient (product water to brine)").set_value(0.8).run()
+    # above the plan's range (procplan.files.brine: 0 to 150 kJ/mol): named at its field in words
+    number_input(app, "Activation energy [kJ/mol]").set_value(200.0).run()
+    text = errors(app)
+    assert "**Step 1, brining, activation energy [kJ/mol]**" in text and "150" in text, text
+    number_input(app, "Activation energy [kJ/mol]").set_value(30.0).run()
+    assert not errors(app), errors(app)
+    go(app, "Sheet & files")
+    text = app.session_state["last_good_toml"]
+    lib = load_library(library_copy)
+    plan = plan_from_toml(text, source="saved", library=lib)
+    saved = plan.steps[0].brine
+    assert (saved.diffusivity, saved.D_m2_s, saved.reference_C) == (None, pytest.approx(3e-10), 10.0)
+    assert (saved.activation_J_mol, saved.partition) == (pytest.approx(30e3), pytest.approx(0.8))
+    # the Result page's numbers are the library's run of the saved plan
+    go(app, "Result")
+    m = run_plan(plan, library=lib).steps[0].mass
+    assert_allclose(number_of(metric(app, "Time to the salt stop (core)")), m.stopped_at_s / 60.0, atol=0.5)
+    assert_allclose(
+        number_of(metric(app, "Equilibrium with the brine")), 100 * m.equilibrium_fraction, atol=0.005
+    )
+    # reopened: the values in the widgets, and saved back unchanged
+    again = AppTest.from_file(str(APP), default_timeout=180)
+    again.run()
+    go(again, "Sheet & files")
+    again.text_area(key="paste_plan").set_value(text)
+    again.button(key="paste_btn").click().run()
+    go(again, "Process")
+    assert number_input(again, "Diffusivity D [m²/s]").value == pytest.approx(3e-10)
+    assert number_input(again, "Temperature the diffusivity was measured at").value == pytest.approx(10.0)
+    assert number_input(again, "Activation energy [kJ/mol]").value == pytest.approx(30.0)
+    assert number_input(again, "Partition coefficient (product water to brine)").value == pytest.approx(0.8)
+    go(again, "Sheet & files")
+    assert plan_from_toml(again.session_state["last_good_toml"], source="again", library=lib).steps[
+        0
+    ].brine == (saved)
+
+
+def test_measured_diffusivity_at_a_temperature_alone_is_saved_back_unchanged(app, library_copy):
+    from procplan.files.library import load_library
+    from procplan.files.plan import plan_from_toml
+
+    _open(app, BRINE_PLAN, "Sheet & files")
+    text = app.session_state["last_good_toml"].replace(
+        'diffusivity = "salt-pork-loin"', "D_m2_s = 3e-10\nreference_C = 5.0"
+    )
+    lib = load_library(library_copy)
+    given = plan_from_toml(text, source="given", library=lib).steps[0].brine
+    assert (given.reference_C, given.activation_J_mol) == (5.0, None)
+    app.text_area(key="paste_plan").set_value(text)
+    app.button(key="paste_btn").click().run()
+    go(app, "Process")
+    assert _widget(app, "checkbox", "The diffusivity changes with temperature (Arrhenius)").value
+    assert number_input(app, "Temperature the diffusivity was measured at").value == pytest.approx(5.0)
+    assert not errors(app), errors(app)
+    go(app, "Sheet & files")
+    assert plan_from_toml(app.session_state["last_good_toml"], source="again", library=lib).steps[
+        0
+    ].brine == (given)

@@ -114,6 +114,46 @@ def test_rule_create_bad_stage_named_save_reload(own):
     assert "Test chill: to 5 °C in 4 h" in widget(again, "selectbox", "Rule to edit").options
 
 
+def test_new_rule_hints_at_its_source_until_typed_or_saved(own):
+    from procplan.files.library import load_library
+
+    at, root = own
+    go(at, "Library")
+    source = "Source (the regulation, guideline or study, with its section)"
+    assert widget(at, "selectbox", "Rule to edit").value == "(a new one)"
+    # nothing typed yet: a neutral hint under the field, no fault
+    assert "Source" not in errors(at), errors(at)
+    assert any("a rule is saved only with its source" in c.value for c in at.caption)
+    widget(at, "text_input", "File name").set_value("no-source").run()
+    assert "Source" not in errors(at), errors(at)
+    # a save tried without a source is refused, the field named, and nothing is written
+    button(at, "Save to the library").click().run()
+    assert "**Source**: missing" in errors(at), errors(at)
+    assert "no-source" not in load_library(root).rules
+    at.run()
+    assert "**Source**: missing" in errors(at), errors(at)
+    # typed, then cleared: the empty source is a fault from then on
+    widget(at, "text_input", source).set_value("Plant HACCP plan, section 4 (test)").run()
+    assert "Source" not in errors(at), errors(at)
+    widget(at, "text_input", source).set_value("").run()
+    assert "**Source**: missing" in errors(at), errors(at)
+
+
+def test_cooling_rule_box_shows_its_short_name_and_the_full_title_below(own):
+    from procplan.files.library import load_library
+
+    at, root = own
+    go(at, "Process")
+    full = load_library(root).rules["us-food-code-two-stage"].title
+    box = widget(at, "selectbox", "Cooling / holding rule")
+    box.set_value("us-food-code-two-stage").run()
+    box = widget(at, "selectbox", "Cooling / holding rule")
+    assert "US FDA Food Code two-stage cooling" in box.options and full not in box.options
+    assert any(c.value == full for c in at.caption)
+    # what the plan keeps is the rule's file name, not the text shown
+    assert at.session_state["plan"]["checks"]["cooling_rule"] == "us-food-code-two-stage"
+
+
 # --- machines --------------------------------------------------------------------------------------------
 
 
