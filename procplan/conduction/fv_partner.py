@@ -15,7 +15,8 @@ derivative d(w₂ Q₂)/dE (a second solve at E + δ). At convergence all three 
 implicit system, solved by a nested (Schur-complement) Newton iteration (Saad, Iterative Methods for Sparse
 Linear Systems, 2nd ed., SIAM 2003, §14.2, block elimination of a bordered system).
 
-The second field follows the main field's time steps, whose length is chosen on the main field alone; its
+The second field follows the main field's time steps, whose length is chosen on the larger temperature change
+of the two fields (fv_stepping, MediumNode.second_change_K); its
 history form is rebuilt from the states the main stepper keeps (each main state remembers the second field
 solved with it), so both fields use the same past states.
 """

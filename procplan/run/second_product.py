@@ -6,7 +6,7 @@ second product into the machine with the batch. In every loaded step (a machine 
 (:mod:`procplan.conduction.fv_partner`): the medium balance takes both products' surface heat, so the second
 product slows the main product's cooling or heating when it loads the plant (the unsafe direction is to leave
 it out). Its h comes from the same machine and settings with its own shape and size. The time steps are
-chosen on the main product's field; the plan's checks (targets, rules, lethality) stay on the main product.
+chosen on the larger temperature change of the two fields; the plan's checks (targets, rules, lethality) stay on the main product.
 
 In a step that does not couple a medium (no thermal description, an empty-machine run, hot dry air) the
 second product is not solved: its field carries unchanged into the next loaded step and a warning says so.
