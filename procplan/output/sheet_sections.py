@@ -339,43 +339,33 @@ def checkpoints_section(result, site, st, W):
     return [*st.h("Checkpoints (probe readings)"), t, Spacer(1, 1), note]
 
 
+def _sample_section(title, expected, cps, cells, widths, note, site, st, W):
+    """A checkpoint table for the floor: when, which step, the expected figures (``cells`` of a checkpoint),
+    its basis, and empty columns for the reading and the initials; then ``note``."""
+    rows = [["#", "When (elapsed)", "Step", *expected, "Basis", "Measured", "Time / initials"]]
+    for i, c in enumerate(cps, start=1):
+        rows.append([str(i), site.format_time_hm(c.time_min), c.step, *cells(c), c.basis, "", ""])
+    t = table(rows, cols(W, widths), st)
+    return [*st.h(title), t, Spacer(1, 1), st.p(note, st.small)]
+
+
 def salt_section(result, site, st, W):
     """Salt (or sugar) samples of the brining steps, with the predicted core and mean content; empty without."""
     cps = salt_checkpoints(result)
     if not cps:
         return []
-    rows = [
-        [
-            "#",
-            "When (elapsed)",
-            "Step",
-            "Expected core",
-            "Expected mean",
-            "Basis",
-            "Measured",
-            "Time / initials",
-        ]
-    ]
-    for i, c in enumerate(cps, start=1):
-        rows.append(
-            [
-                str(i),
-                site.format_time_hm(c.time_min),
-                c.step,
-                f"{c.core_percent:.2f} % {c.solute}",
-                f"{c.mean_percent:.2f} % {c.solute}",
-                c.basis,
-                "",
-                "",
-            ]
-        )
-    t = table(rows, cols(W, [0.03, 0.1, 0.12, 0.12, 0.12, 0.25, 0.12, 0.14]), st)
-    note = st.p(
+    return _sample_section(
+        "Salt checkpoints (samples)",
+        ["Expected core", "Expected mean"],
+        cps,
+        lambda c: [f"{c.core_percent:.2f} % {c.solute}", f"{c.mean_percent:.2f} % {c.solute}"],
+        [0.03, 0.1, 0.12, 0.12, 0.12, 0.25, 0.12, 0.14],
         "A core sample below its expected content: extend the step and sample again (a cut through the thickest "
         "part; the mean from the whole piece).",
-        st.small,
+        site,
+        st,
+        W,
     )
-    return [*st.h("Salt checkpoints (samples)"), t, Spacer(1, 1), note]
 
 
 def weight_section(result, site, st, W):
@@ -383,36 +373,16 @@ def weight_section(result, site, st, W):
     cps = weight_checkpoints(result)
     if not cps:
         return []
-    rows = [
-        [
-            "#",
-            "When (elapsed)",
-            "Step",
-            "Expected loss",
-            "Expected piece",
-            "Basis",
-            "Weighed",
-            "Time / initials",
-        ]
-    ]
-    for i, c in enumerate(cps, start=1):
-        rows.append(
-            [
-                str(i),
-                site.format_time_hm(c.time_min),
-                c.step,
-                f"{c.weight_loss_percent:.1f} %",
-                f"{c.piece_kg * 1000:.0f} g",
-                c.basis,
-                "",
-                "",
-            ]
-        )
-    t = table(rows, cols(W, [0.03, 0.1, 0.12, 0.1, 0.1, 0.27, 0.12, 0.16]), st)
-    note = st.p(
+    return _sample_section(
+        "Weight checkpoints (weigh pieces)",
+        ["Expected loss", "Expected piece"],
+        cps,
+        lambda c: [f"{c.weight_loss_percent:.1f} %", f"{c.piece_kg * 1000:.0f} g"],
+        [0.03, 0.1, 0.12, 0.1, 0.1, 0.27, 0.12, 0.16],
         "Weigh the same marked pieces each time; loss = (weight at the step's start − weight now) / weight at the "
         "step's start. A loss below the expected one: extend the step and weigh again. Evaporation only: drip "
         "and fat running out are not in the prediction.",
-        st.small,
+        site,
+        st,
+        W,
     )
-    return [*st.h("Weight checkpoints (weigh pieces)"), t, Spacer(1, 1), note]
