@@ -447,34 +447,8 @@ def bench_brick_31(repeats: int = 1) -> list[tuple[str, float, str]]:
     return [("3-D brick 31^3 (500 output times)", t, note)]
 
 
-#: The app timing, run in its own interpreter (the package below the app never imports streamlit): the median
-#: seconds of ``repeats`` changes of the air temperature on the Process page (roulade plan) under AppTest,
-#: with the solver's exact solves on (argument "present") or off ("before").
-_APP_TIMING = """
-import statistics, sys, time
-import procplan.conduction.fv_linear as fv_linear
-fv_linear.EXACT_SOLVES = sys.argv[3] == "present"
-from streamlit.testing.v1 import AppTest
-from procplan.ui.main import PAGES
-at = AppTest.from_file(sys.argv[1], default_timeout=300)
-at.run()
-at.switch_page("procplan/ui/pages/" + next(p for t, p, *_ in PAGES if t == "Process")).run()
-boxes = [w for w in at.number_input if w.label.startswith("Air temperature")]
-if not boxes:
-    print("nan no-input")
-    raise SystemExit
-times = []
-base = float(boxes[0].value)
-for j in range(int(sys.argv[2])):  # a new value each time (a value seen before would come from the cache)
-    t0 = time.perf_counter()
-    boxes[0].set_value(base - 0.5 * (j + 1)).run()
-    times.append(time.perf_counter() - t0)
-print(statistics.median(times), repr(boxes[0].label))
-"""
-
-
 def bench_app_recompute(repeats: int = 5) -> list[tuple[str, float, str]]:
-    """The app's recompute after a setting change of the roulade plan (the default plan of the app; streamlit
+    """The app's recompute after a setting change of the roulade plan (the default plan of the app; the
     AppTest in a separate interpreter): the median over ``repeats`` changes of the first air temperature, with
     the present solver and with the solver before its exact solves (the two interpreters one after the other)."""
     import os
@@ -487,7 +461,7 @@ def bench_app_recompute(repeats: int = 5) -> list[tuple[str, float, str]]:
     rows = []
     for setting in ("before", "present"):
         out = subprocess.run(
-            [sys.executable, "-c", _APP_TIMING, app_file, str(repeats), setting],
+            [sys.executable, "-m", "procplan.ui.bench_app", app_file, str(repeats), setting],
             capture_output=True,
             text=True,
             check=False,
