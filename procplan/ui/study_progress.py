@@ -33,11 +33,13 @@ def run_kept(
 ) -> Any:
     """The result of ``run(progress)`` for the request ``req``: kept in the session under ``{name}_result`` while
     the request is the same; while it runs, a progress bar ("3 of 12 ``what``") and a stop button
-    (key ``{name}_stop``). Returns None when the study was stopped."""
+    (key ``{name}_stop``), both gone once the study ends. Returns None when the study was stopped."""
     kept = st.session_state.get(f"{name}_result")
     if kept is not None and kept[0] == req:
         return kept[1]
-    if st.button(stop_label, key=f"{name}_stop"):
+    stop_slot = st.empty()
+    if stop_slot.button(stop_label, key=f"{name}_stop"):
+        stop_slot.empty()
         st.session_state.pop(f"{name}_request", None)
         st.info(stopped_text)
         return None
@@ -48,5 +50,6 @@ def run_kept(
 
     out = run(progress)
     bar.empty()
+    stop_slot.empty()
     st.session_state[f"{name}_result"] = (req, out)
     return out

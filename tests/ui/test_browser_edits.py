@@ -94,4 +94,7 @@ def test_long_study_shows_progress_stops_and_page_stays_usable(tmp_path):
         page.get_by_role("button", name="Run the variability study").click()
         page.wait_for_selector("text=/^4 samples, full model per sample/", timeout=90_000)
         assert page.get_by_text("Target not reached").count() >= 1
+        # the study has ended: its stop button is gone with its progress bar
+        idle(page)
+        assert page.get_by_role("button", name="Stop the study").count() == 0
     assert time.time() - t0 < 120
