@@ -6,7 +6,9 @@
     log(error)-log(time) between measured pairs (never extrapolated);
 (b) the 2-D demo plan (roulade blast chill, in-process ``run_plan``) and (c) a 3-D brick at 15³ nodes, each
     under the solver settings of :data:`SOLVER_SETTINGS` (present and earlier), with their factorisations;
-(d) a brick history at 500 times from the exact series, (e) 2-D finite-cylinder chilling, (f) variability.
+(d) a brick history at 500 times from the exact series, (e) 2-D finite-cylinder chilling, (f) variability;
+the error-controlled freezing runs against solve_ivp and FiPy (an implicit enthalpy formulation,
+:mod:`procplan.conduction.fipy_baseline`, installed with the ``bench`` extra) at equal error.
 
 Error of (a): the largest core-temperature difference at 97 times over 24 h from a reference run of the same
 finite-volume discretisation with a very small step (0.02 K per step). The baseline discretises the latent
@@ -423,20 +425,51 @@ def bench_error_control(repeats: int = 3) -> list[tuple[str, float, str]]:
             max(1, repeats // 2),
         )
         ivp_pairs.append((float(np.max(np.abs(core - ref.core_C))), t_ivp))
-    for err in EQUAL_ERRORS_K:
-        t_fv, t_ivp = time_at_error(fv_pairs, err), time_at_error(ivp_pairs, err)
-        how = "both interpolated"
-        if t_fv != t_fv:  # every FV run was more accurate than err: its fastest such run bounds the ratio
-            within = [t for e, t in fv_pairs if e <= err]
-            t_fv = min(within) if within else float("nan")
-            how = "FV: its fastest run with a smaller error, so the ratio is a lower bound"
+    rows += _fipy_rows(g, end, t_eval, ref.core_C, fv_pairs)
+    rows += [_equal_error_row("solve_ivp", fv_pairs, ivp_pairs, err) for err in EQUAL_ERRORS_K]
+    return rows
+
+
+def _equal_error_row(other: str, fv_pairs, other_pairs, err: float) -> tuple[str, float, str]:
+    """Time of ``other`` over the error-controlled FV's at equal error ``err`` [K] (log-log interpolation, never
+    extrapolated); where every FV run was more accurate than ``err``, its fastest such run bounds the ratio."""
+    t_fv, t_other = time_at_error(fv_pairs, err), time_at_error(other_pairs, err)
+    how = "both interpolated"
+    if t_fv != t_fv:
+        within = [t for e, t in fv_pairs if e <= err]
+        t_fv = min(within) if within else float("nan")
+        how = "FV: its fastest run with a smaller error, so the ratio is a lower bound"
+    return (
+        f"  ratio {other} / error-controlled FV at equal error {err:g} K",
+        t_other / t_fv,
+        f"FV {t_fv:.3f} s, {other} {t_other:.3f} s ({how}; n/a outside the measured range)",
+    )
+
+
+#: Fixed steps [s] of the FiPy baseline (100 cells, as the other runs of the freezing case).
+FIPY_STEPS_S = (900.0, 300.0, 100.0, 30.0)
+
+
+def _fipy_rows(g: Geometry, end: float, t_eval: np.ndarray, ref_core_C: np.ndarray, fv_pairs) -> list:
+    """FiPy (implicit enthalpy formulation, :mod:`procplan.conduction.fipy_baseline`) on the freezing case:
+    accuracy-time pairs, and its time over the error-controlled FV's at equal error (log-log interpolation)."""
+    from procplan.conduction.fipy_baseline import fipy_slab_freezing
+
+    rows, pairs = [], []
+    for dt in FIPY_STEPS_S:
+        t_run, run = _median_time(
+            lambda d=dt: fipy_slab_freezing(FOOD, g.thickness_m / 2, 100, 10.0, -30.0, 20.0, end, d), 1
+        )
+        err = float(np.max(np.abs(np.interp(t_eval, run.time_s, run.core_C) - ref_core_C)))
+        pairs.append((err, t_run))
         rows.append(
             (
-                f"  ratio solve_ivp / error-controlled FV at equal error {err:g} K",
-                t_ivp / t_fv,
-                f"FV {t_fv:.3f} s, solve_ivp {t_ivp:.3f} s ({how}; n/a outside the measured range)",
+                f"1-D freezing, FiPy implicit enthalpy, step {dt:g} s",
+                t_run,
+                f"core error {err:.3f} K, {run.n_steps} steps, {run.n_solves} linear solves",
             )
         )
+    rows += [_equal_error_row("FiPy", fv_pairs, pairs, err) for err in EQUAL_ERRORS_K]
     return rows
 
 
