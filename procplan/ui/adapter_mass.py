@@ -51,6 +51,19 @@ def diffusivities(solute: str) -> tuple[DiffusivityChoice, ...]:
 
 
 @st.cache_data(show_spinner=False)
+def published_activations(solute: str) -> tuple[tuple[str, float], ...]:
+    """(product, activation energy [kJ/mol]) of the registry's records fitted over two or more temperatures:
+    those of the solute, or of every solute when it has none."""
+    from procplan.properties.diffusivity import DIFFUSIVITIES
+
+    fitted = [r for r in DIFFUSIVITIES.values() if r.activation_J_mol is not None]
+    own = [r for r in fitted if r.solute == REGISTRY_SOLUTE.get(solute)]
+    return tuple(
+        (f"{r.solute} in {r.product.split(' (')[0]}", r.activation_J_mol / 1000.0) for r in (own or fitted)
+    )
+
+
+@st.cache_data(show_spinner=False)
 def diffusivity_at(key: str, temperature_C: float) -> float | None:
     """A record's diffusivity [m²/s] at a temperature, or None outside the record's validity range."""
     from procplan.properties.diffusivity import salt_diffusivity_m2_s

@@ -151,19 +151,25 @@ def _arrhenius(brine: dict, i: int, errs: widgets.FieldErrors) -> None:
         brine.pop("reference_C", None)
         brine.pop("activation_kJ_mol", None)
         return
+    # a file with the temperature alone keeps it so (no activation energy written) until one is typed
+    alone = "reference_C" in brine and "activation_kJ_mol" not in brine
     c = st.columns(2)
     with c[0]:
         brine["reference_C"] = widgets.temperature(
             "Temperature the diffusivity was measured at", brine.get("reference_C", 5.0), f"s.br.dref.{i}"
         )
     errs.mark(f"steps[{i}].brine.reference_C")
-    # a file with the temperature alone keeps it so (no activation energy written) until one is typed
-    alone = "reference_C" in brine and "activation_kJ_mol" not in brine
+    # the starting value is the mean of the library's fitted records (none is a measurement of this product)
+    known = adapter_mass.published_activations(str(brine.get("solute", "salt")))
+    start = round(sum(v for _, v in known) / len(known), 1) if known else 0.0
+    listed = "; ".join(f"{p} {v:.0f} kJ/mol" for p, v in known)
     with c[1]:
         ea = widgets.number(
-            "Activation energy [kJ/mol]", brine.get("activation_kJ_mol", 0.0 if alone else 25.0), f"s.br.ea.{i}",
+            "Activation energy [kJ/mol]", brine.get("activation_kJ_mol", 0.0 if alone else start), f"s.br.ea.{i}",
             minimum=0.0, step=1.0, fmt="%.1f",
-            help="How fast the diffusivity rises with temperature; the plan accepts 0 to 150 kJ/mol.",
+            help="How fast the diffusivity rises with temperature; the plan accepts 0 to 150 kJ/mol. "
+            + (f"The library's records give: {listed} (fitted to their published values); the starting "
+               "value is their mean. Use your product's own value where it is known." if known else ""),
         )  # fmt: skip
     if not (alone and ea == 0.0):
         brine["activation_kJ_mol"] = ea

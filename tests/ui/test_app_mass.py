@@ -278,6 +278,12 @@ def test_measured_diffusivity_with_its_temperature_dependence_round_trips(app, l
     number_input(app, "Diffusivity D [m²/s]").set_value(3e-10).run()
     _widget(app, "checkbox", "The diffusivity changes with temperature (Arrhenius)").check().run()
     number_input(app, "Temperature the diffusivity was measured at").set_value(10.0).run()
+    # the activation energy starts at the mean of the registry's fitted salt records, not at a number of the app
+    from procplan.properties.diffusivity import DIFFUSIVITIES
+
+    fitted = [r.activation_J_mol / 1e3 for r in DIFFUSIVITIES.values() if r.activation_J_mol is not None]
+    start = number_input(app, "Activation energy [kJ/mol]").value
+    assert start == pytest.approx(sum(fitted) / len(fitted), abs=0.05)
     number_input(app, "Partition coefficient (product water to brine)").set_value(0.8).run()
     # above the plan's range (procplan.files.brine: 0 to 150 kJ/mol): named at its field in words
     number_input(app, "Activation energy [kJ/mol]").set_value(200.0).run()
