@@ -181,7 +181,7 @@ def product_section(result, site, st, W):
 
 def _second_rows(result, site, st) -> list:
     """A second product in the load: what it is, and its temperatures at the end of each loaded step."""
-    from procplan.output.report import second_product_texts
+    from procplan.output.second_report import second_product_texts
 
     texts = second_product_texts(result, site)
     if texts is None:

@@ -35,7 +35,7 @@ from procplan.run.dry_oven import carried_field, dry_oven_step, range_warnings
 from procplan.run.dry_stop import check_weight_stop
 from procplan.run.results import PlanResult, StepResult, StepSolverDetails
 from procplan.run.second_product import carried as carried_second
-from procplan.run.second_product import initial_state
+from procplan.run.second_product import initial_state, target_warnings
 from procplan.run.solver import PROPERTY_SPREAD_LIMIT, choose_solver, exact_properties, exact_sample_times
 from procplan.run.step_surface import StepSurface, resolve_step_surface
 
@@ -561,6 +561,7 @@ def run_plan(
     )
     history, steps, warnings, props = _run_steps(ctx)
     warnings.extend(range_warnings(history, props, dried=any(s.drying is not None for s in steps)))
+    warnings.extend(target_warnings(plan, steps))
     outcomes = (
         assess_plan(plan, history, tuple(steps), props, piece_mass_kg, library, site) if assess else None
     )
