@@ -166,7 +166,7 @@ def second_load(state: SecondState | None, step, index: int, library) -> SecondL
     own = state.machine_steps[index] if state.machine_steps else step
     surface = resolve_step_surface(own, index, state.product, state.mean_C, library)
     b = surface.breakdown
-    return SecondLoad(state, surface.boundary(), float(b.h_eff_W_m2K), f"{b.source}, {b.correlation}")
+    return SecondLoad(state, surface.boundary(), float(b.h_eff_W_m2K), b.source)
 
 
 def _stop_time(t: np.ndarray, core: np.ndarray, stop: float | None) -> float | None:
