@@ -173,6 +173,10 @@ _SECOND_PRODUCT = _obj(
                     "time_to_stop_min": _NUM_OR_NULL,
                     "h_W_m2K": {**_NUM_OR_NULL, "description": "its h for its own shape and size [W/m²K]"},
                     "h_source": _TEXT,
+                    "solved_with_medium": {
+                        "type": "boolean",
+                        "description": "false: solved alone in the step's medium (a step that couples no medium)",
+                    },
                     "target_core_C": _NUM_OR_NULL,
                     "time_to_target_min": {
                         **_NUM_OR_NULL,

@@ -12,7 +12,7 @@ import math
 from typing import Any
 
 from procplan.output.text_units import _minutes, _temp, _time
-from procplan.run.second_product import second_target
+from procplan.run.second_product import second_target, step_second
 
 SECOND_PRODUCT_NOTE = "the plan's checks (targets, rules, lethality) apply to the main product only"
 
@@ -45,7 +45,7 @@ def second_product_history(result) -> dict[str, list] | None:
     ``surface_C``, ``mean_C``, ``step``), or None without one."""
     rows: dict[str, list] = {"time_s": [], "core_C": [], "surface_C": [], "mean_C": [], "step": []}
     for sr in result.steps:
-        second = getattr(sr.machine_load, "second", None) if sr.machine_load is not None else None
+        second = step_second(sr)
         if second is None:
             continue
         first = 1 if rows["time_s"] else 0  # a step's first row repeats the previous step's last state
@@ -85,9 +85,13 @@ def second_product_dict(result) -> dict[str, Any] | None:
         "note": SECOND_PRODUCT_NOTE,
         "target": _target_dict(result),
         "steps": [
-            {"name": sr.name, **(second_step_dict(sr.machine_load.second) or {})}
+            {
+                "name": sr.name,
+                "solved_with_medium": sr.machine_load is not None,
+                **second_step_dict(step_second(sr)),
+            }
             for sr in result.steps
-            if sr.machine_load is not None and sr.machine_load.second is not None
+            if step_second(sr) is not None
         ],
         "history": second_product_history(result),
     }
@@ -130,16 +134,22 @@ def second_product_texts(result, site=None) -> tuple[str, list[str]] | None:
     )
     ends = []
     for sr in result.steps:
-        second = sr.machine_load.second if sr.machine_load is not None else None
+        second = step_second(sr)
         if second is None:
             continue
         h = _h(second)
-        h_words = "" if h is None else f"h {h:.1f} W/m²K for its own shape and size ({second.h_source}); "
+        if h is None:
+            h_words = ""
+        elif second.h_source.startswith("h given"):
+            h_words = f"h {h:.1f} W/m²K ({second.h_source}); "
+        else:
+            h_words = f"h {h:.1f} W/m²K for its own shape and size ({second.h_source}); "
         target = ""
         if second.target_time_s is not None:
             target = f"; core at its target {_temp(site, second.target_C)} after {_time(site, second.target_time_s / 60)}"
+        alone = "" if sr.machine_load is not None else "alone in the step's medium (not coupled); "
         ends.append(
-            f"step {sr.index + 1} '{sr.name}': {h_words}end: core {_temp(site, second.core_C[-1], 1)}, surface "
+            f"step {sr.index + 1} '{sr.name}': {alone}{h_words}end: core {_temp(site, second.core_C[-1], 1)}, surface "
             f"{_temp(site, second.surface_C[-1], 1)}, mean {_temp(site, second.mean_C[-1], 1)}"
             f"{_stop_words(site, second)}{target}"
         )

@@ -460,11 +460,12 @@ def _run_steps(ctx: _Context) -> tuple[pd.DataFrame, list[StepResult], list[str]
             props, note = salted_properties(ctx.plan.product, base, salt)
             ctx = replace(ctx, props=props)
             result = replace(result, mass=replace(result.mass, freezing_note=note))
+        second, note, alone = carried_second(ctx.second, result, step, ctx.library, ctx.dt_s)
+        result = result if alone is None else replace(result, second_alone=alone)
+        ctx = replace(ctx, second=second)
         frames.append(frame)
         steps.append(result)
         warnings.extend(result.warnings)
-        second, note = carried_second(ctx.second, result.machine_load, step.name)
-        ctx = replace(ctx, second=second)
         warnings.extend([note] if note else [])
         last = frame.iloc[-1] if len(frame) else frames[-2].iloc[-1]
         carried = _Carried(

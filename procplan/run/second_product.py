@@ -13,8 +13,11 @@ steps are chosen on the larger temperature change of the two fields; the plan's 
 lethality) stay on the main product. An optional core target of its own (``target_core_C``) is reported: the
 time its core reaches it (per step and on the plan's clock), with a warning when it does not.
 
-In a step that does not couple a medium (no thermal description, an empty-machine run, hot dry air) the
-second product is not solved: its field carries unchanged into the next loaded step and a warning says so.
+In a step that does not couple a medium (a machine without a thermal description, an empty-machine run, h
+given in the plan) the second product is solved alone in the step's medium (held as the step gives it) with its
+own h: the machine's correlation for its own shape and size, or the plan's h as given (with its own packaging
+in series, and a note: a given h is not re-evaluated for its size). In hot dry air or brine (the moisture or
+salt the step couples) it is not solved: its field carries unchanged and a warning says so.
 """
 
 from __future__ import annotations
@@ -248,9 +251,7 @@ def second_target(plan, steps) -> SecondTarget | None:
     state = initial_state(plan)
     if state is None or state.target_C is None:
         return None
-    solved = [
-        (sr, sr.machine_load.second) for sr in steps if getattr(sr.machine_load, "second", None) is not None
-    ]
+    solved = [(sr, step_second(sr)) for sr in steps if step_second(sr) is not None]
     if not solved:
         return None
     last_sr, last = solved[-1]
@@ -280,6 +281,70 @@ def target_warnings(plan, steps) -> list[str]:
     ]
 
 
+def step_second(sr):
+    """The second product in a step result: solved with the medium, or alone (None: not solved)."""
+    ml = getattr(sr, "machine_load", None)
+    if ml is not None and ml.second is not None:
+        return ml.second
+    return getattr(sr, "second_alone", None)
+
+
+def _alone(
+    state: SecondState, step, index: int, library, duration_s: float, dt_s: float | None = None
+) -> SecondProductStep | None:
+    """The second product alone over an uncoupled step of ``duration_s`` [s] (time step ``dt_s`` [s], None:
+    adaptive), None where the step couples moisture or salt, which it does not solve."""
+    from procplan.conduction.finite_volume import solve_conduction
+    from procplan.conduction.fv_grid import build_grid
+    from procplan.run.step_surface import resolve_step_surface
+
+    if step.brine is not None or not duration_s > 0:
+        return None
+    surface = resolve_step_surface(step, index, state.product, state.mean_C, library)
+    if surface.drying_air is not None:
+        return None
+    grid = build_grid(state.product.geometry, None, 0.5)
+    start = (
+        state.start_C if state.field_H is None else state.props.temperature(state.field_H).reshape(grid.shape)
+    )
+    res = solve_conduction(
+        state.product.geometry, state.props, start, surface.boundary(), duration_s, dt_s=dt_s
+    )
+    mass = state.props.mass_density_kg_m3 * state.product.geometry.volume_m3
+    heat_J = (
+        state.pieces
+        * mass
+        * float(state.props.enthalpy(res.mean_C[-1]) - state.props.enthalpy(res.mean_C[0]))
+    )
+    b = surface.breakdown
+    source = (
+        b.source
+        if step.equipment is not None
+        else "h given in the plan for the main product, applied as given: not evaluated for its own size, its "
+        "own packaging in series"
+    )
+    t = np.asarray(res.time_s, dtype=float)
+    core = np.asarray(res.core_C, dtype=float)
+    return SecondProductStep(
+        name=state.name,
+        pieces=state.pieces,
+        time_s=tuple(t),
+        core_C=tuple(core),
+        surface_C=tuple(res.surface_C),
+        mean_C=tuple(res.mean_C),
+        heat_kJ=heat_J / 1e3,
+        stop_C=step.stop_when_core_C,
+        stop_time_s=_stop_time(t, core, step.stop_when_core_C),
+        final_field_H=np.asarray(res.final_enthalpy_J_kg, dtype=float).ravel(),
+        h_W_m2K=float(b.h_eff_W_m2K),
+        h_source=source,
+        target_C=state.target_C,
+        target_time_s=None
+        if state.target_C is None
+        else _crossing(t, core, state.target_C, state.target_falling),
+    )
+
+
 def second_flow_at_start(node) -> float:
     """Heat into all the second product's pieces at the step start [W] (medium at loading)."""
     p = node.partner
@@ -292,17 +357,26 @@ def partner_name(node) -> str:
     return node.partner.name or "second product"
 
 
-def carried(state: SecondState | None, machine, step_name: str) -> tuple[SecondState | None, str | None]:
-    """The second product after a step: its new field after a coupled step, else unchanged with a warning."""
+def carried(
+    state: SecondState | None, sr, step, library, dt_s: float | None = None
+) -> tuple[SecondState | None, str | None, Any]:
+    """The second product after the step result ``sr``: its new state, a warning (None) and its history over
+    the step when solved alone (None after a coupled step, or where it is not solved: then a warning); ``dt_s``
+    the engine's fixed time step (None: adaptive)."""
     if state is None:
-        return None, None
-    second = machine.second if machine is not None else None
+        return None, None, None
+    second = sr.machine_load.second if sr.machine_load is not None else None
+    alone = None
     if second is None:
-        return state, (
-            f"{step_name}: the second product ({state.name}) is not solved in this step (its medium is not "
-            "coupled to the load); its temperatures carry unchanged into the next loaded step"
+        second = alone = _alone(state, step, sr.index, library, sr.end_s - sr.start_s, dt_s)
+    if second is None:
+        return (
+            state,
+            (
+                f"{sr.name}: the second product ({state.name}) is not solved in this step (it couples moisture or "
+                "salt to the main product); its temperatures carry unchanged into the next step"
+            ),
+            None,
         )
-    return (
-        replace(state, start_C=second.core_C[-1], mean_C=second.mean_C[-1], field_H=second.final_field_H),
-        None,
-    )
+    new = replace(state, start_C=second.core_C[-1], mean_C=second.mean_C[-1], field_H=second.final_field_H)
+    return new, None, alone

@@ -14,7 +14,8 @@ def machine_load(result, u: Units) -> None:
     """One block per step that ran in a loaded machine: a capacity bar and the library's sentence."""
     loaded = [(sr, sr.machine_load) for sr in result.steps if getattr(sr, "machine_load", None) is not None]
     notes = [(sr.name, sr.load_note) for sr in result.steps if getattr(sr, "load_note", None)]
-    if not loaded and not notes and result.packing is None:
+    alone = any(getattr(sr, "second_alone", None) is not None for sr in result.steps)
+    if not loaded and not notes and not alone and result.packing is None:
         return
     st.subheader("The batch in the machine")
     from procplan.output.report import batch_label
@@ -38,6 +39,10 @@ def machine_load(result, u: Units) -> None:
             _second(result, ml.second, u)
     for name, note in notes:
         st.caption(note if note.startswith(f"{name}:") else f"{name}: {note}")
+    for sr in result.steps:
+        if getattr(sr, "second_alone", None) is not None:
+            st.markdown(f"**{sr.name}** (the second product alone in the step's medium)")
+            _second(result, sr.second_alone, u)
     if result.packing is not None:
         packed(result, u)
 
