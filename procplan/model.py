@@ -265,12 +265,20 @@ PACKING_ARRANGEMENTS = ("tray", "case", "stack", "pallet")
 @dataclass(frozen=True)
 class SecondProduct:
     """A second product loaded with the batch: ``pieces`` pieces of ``product`` (a library product, its shape
-    and size from the record) at ``initial_temperature_C`` [°C], sharing the medium in the loaded steps."""
+    and size from the record) at ``initial_temperature_C`` [°C], sharing the medium in the loaded steps.
+
+    ``target_core_C`` (optional) is the core temperature the second product should reach [°C]: the run reports
+    when it does and warns when it does not (the plan's own checks stay on the main product).
+    ``machine_steps`` are the plan's steps as set on the machine, for the second product's h, when the run
+    changed the plan's steps for a packed load (the air speed at the load's faces); empty: the plan's steps.
+    """
 
     product: Product
     pieces: int
     initial_temperature_C: float
     library_name: str = ""  # the library product it names
+    target_core_C: float | None = None
+    machine_steps: tuple[Step, ...] = ()
 
 
 @dataclass(frozen=True)

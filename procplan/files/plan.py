@@ -22,12 +22,12 @@ from procplan.files.fields import (
     check_product_temperature,
     file_number,
     optional,
-    product_range_C,
     product_temperature,
     stated_temperature,
 )
 from procplan.files.packing import packing_from_dict, packing_to_dict
 from procplan.files.product import product_freezing_C, product_from_dict, product_to_dict
+from procplan.files.second_product import second_product_from_dict, second_product_to_dict
 from procplan.files.steps import step_from_dict, step_to_dict
 from procplan.files.tomlfile import dump_toml, parse_toml, read_toml, write_atomic
 from procplan.model import (
@@ -40,7 +40,6 @@ from procplan.model import (
     Load,
     Plan,
     Product,
-    SecondProduct,
     Step,
 )
 
@@ -63,7 +62,6 @@ MAX_BUDGET_USED_H = 1.0e5
 LETHALITY_KEYS = ("preset", "reference_C", "z_C", "required_F_min", "d_value_min", "point")
 PLAN_KEYS = ("title", "notes", "solver", "product", "start", "steps", "checks", "packing", "load")
 LOAD_KEYS = ("pieces", "model", "second_product")
-SECOND_PRODUCT_KEYS = ("product", "pieces", "initial_temperature_C")
 
 
 def _lethality_table(c: Collector, raw: Mapping[str, Any], lp: str) -> LethalityCheck:
@@ -338,41 +336,8 @@ def _load(
                     f"checks.pieces_per_batch = {checks.pieces_per_batch} (one batch size)",
                 )
             )
-    second = _second_product(c, raw.get("second_product"), library)
+    second = second_product_from_dict(c, raw.get("second_product"), library)
     return Load(model if model in LOAD_MODELS else "loaded", second), pieces
-
-
-def _second_product(c: Collector, raw: Any, library) -> SecondProduct | None:
-    """``[load.second_product]``: a library product, its piece count and its temperature at loading."""
-    if raw is None:
-        return None
-    p = "load.second_product."
-    if not isinstance(raw, Mapping):
-        c.add(InvalidInputError("load.second_product", raw, 'a table such as { product = "x", pieces = 20 }'))
-        return None
-    check_keys(c, raw, SECOND_PRODUCT_KEYS, p)
-    ref, pieces = raw.get("product"), raw.get("pieces")
-    product = None
-    if library is None:
-        c.add(InvalidInputError(p + "product", ref, "a library product name, with a library loaded"))
-    elif not isinstance(ref, str) or ref not in library.products:
-        c.add(InvalidInputError(p + "product", ref, "one of " + ", ".join(sorted(library.products))))
-    else:
-        product = library.products[ref]
-    if isinstance(pieces, bool) or not isinstance(pieces, int) or not (0 <= pieces <= 10_000_000):
-        c.add(InvalidInputError(p + "pieces", pieces, "a whole number from 0 to 10 000 000"))
-        pieces = None
-    if "initial_temperature_C" not in raw:
-        c.add(InvalidInputError(p + "initial_temperature_C", None, f"[{T_LO:g}, {T_HI:g}] °C"))
-    t0 = optional(c, raw, "initial_temperature_C", p, stated_temperature)
-    if product is not None and t0 is not None:
-        lo, hi, _ = product_range_C(product)
-        if not lo <= t0 <= hi:
-            c.add(InvalidInputError(p + "initial_temperature_C", t0, f"[{lo:g}, {hi:g}] °C for {ref}"))
-            return None
-    if product is None or pieces is None or t0 is None:
-        return None
-    return SecondProduct(product, pieces, t0, ref)
 
 
 def _check_product_range(
@@ -558,11 +523,7 @@ def plan_to_dict(plan: Plan) -> dict[str, Any]:
         d["load"] = {"model": plan.load.model}
         sp = plan.load.second_product
         if sp is not None:
-            d["load"]["second_product"] = {
-                "product": sp.library_name,
-                "pieces": sp.pieces,
-                "initial_temperature_C": file_number(sp.initial_temperature_C),
-            }
+            d["load"]["second_product"] = second_product_to_dict(sp)
     return d
 
 

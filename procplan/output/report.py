@@ -12,15 +12,13 @@ from procplan.outcomes.energy import PEAK_DUTY_LABEL
 from procplan.outcomes.rules import limit_text
 from procplan.output.brine_report import brine_dict, brine_lines
 from procplan.output.json_safe import json_safe
+from procplan.output.second_report import second_product_dict, second_product_lines, second_step_dict
+from procplan.output.text_units import _fmt_min, _minutes, _temp, _time
 
 
 def _plain(obj: Any) -> Any:
     """JSON-ready copy for the summary: records referred to by a breakdown and long arrays left out."""
     return json_safe(obj, omit_key_suffix="_record", omit_arrays_over=8)
-
-
-def _minutes(t_s: float | None) -> float | None:
-    return None if t_s is None else round(t_s / 60.0, 2)
 
 
 def summary_dict(result) -> dict[str, Any]:
@@ -112,101 +110,10 @@ def _machine_load_dict(sr) -> dict[str, Any] | None:
             **plain,
             "held": ml.held,
             "summary": ml.describe(),
-            "second_product": _second_step_dict(ml.second),
+            "second_product": second_step_dict(ml.second),
         }
     note = getattr(sr, "load_note", None)
     return None if note is None else {"empty_machine": True, "summary": note}
-
-
-SECOND_PRODUCT_NOTE = "the plan's checks (targets, rules, lethality) apply to the main product only"
-
-
-def _second_step_dict(second) -> dict[str, Any] | None:
-    """The second product over one loaded step: end temperatures, heat, time to the step's stop temperature."""
-    if second is None:
-        return None
-    return {
-        "product": second.name,
-        "pieces": second.pieces,
-        "end": {"core_C": second.core_C[-1], "surface_C": second.surface_C[-1], "mean_C": second.mean_C[-1]},
-        "heat_kJ": second.heat_kJ,
-        "stop_C": second.stop_C,
-        "time_to_stop_min": _minutes(second.stop_time_s),
-    }
-
-
-def second_product_history(result) -> dict[str, list] | None:
-    """The second product's history on the plan's clock over the loaded steps (``time_s``, ``core_C``,
-    ``surface_C``, ``mean_C``, ``step``), or None without one."""
-    rows: dict[str, list] = {"time_s": [], "core_C": [], "surface_C": [], "mean_C": [], "step": []}
-    for sr in result.steps:
-        second = getattr(sr.machine_load, "second", None) if sr.machine_load is not None else None
-        if second is None:
-            continue
-        first = 1 if rows["time_s"] else 0  # a step's first row repeats the previous step's last state
-        rows["time_s"] += [sr.start_s + t for t in second.time_s[first:]]
-        for k in ("core_C", "surface_C", "mean_C"):
-            rows[k] += [float(v) for v in getattr(second, k)[first:]]
-        rows["step"] += [sr.name] * (len(second.time_s) - first)
-    return rows if rows["time_s"] else None
-
-
-def second_product_dict(result) -> dict[str, Any] | None:
-    """The plan's second product (``[load.second_product]``) as plain data, with its history and per step its
-    end temperatures and time to the step's stop temperature; None without one."""
-    sp = result.plan.load.second_product
-    if sp is None:
-        return None
-    return {
-        "product": sp.product.name,
-        "pieces": sp.pieces,
-        "initial_temperature_C": sp.initial_temperature_C,
-        "note": SECOND_PRODUCT_NOTE,
-        "steps": [
-            {"name": sr.name, **(_second_step_dict(sr.machine_load.second) or {})}
-            for sr in result.steps
-            if sr.machine_load is not None and sr.machine_load.second is not None
-        ],
-        "history": second_product_history(result),
-    }
-
-
-def second_product_texts(result, site=None) -> tuple[str, list[str]] | None:
-    """The second product in words: what was loaded with the batch, and per loaded step its end temperatures and
-    time to the step's stop temperature (None without one). The summary text and the sheet both use it."""
-    sp = result.plan.load.second_product
-    if sp is None:
-        return None
-    what = (
-        f"{sp.pieces} × {sp.product.name}, {sp.product.geometry.describe()}, loaded at "
-        f"{_temp(site, sp.initial_temperature_C)} ({SECOND_PRODUCT_NOTE})"
-    )
-    ends = []
-    for sr in result.steps:
-        second = sr.machine_load.second if sr.machine_load is not None else None
-        if second is None:
-            continue
-        if second.stop_C is None:
-            stop = ""
-        elif second.stop_time_s is None:
-            stop = (
-                f"; core not at {_temp(site, second.stop_C)} when the step ended (on the main product's core)"
-            )
-        else:
-            stop = f"; core at {_temp(site, second.stop_C)} after {_time(site, second.stop_time_s / 60)}"
-        ends.append(
-            f"step {sr.index + 1} '{sr.name}' end: core {_temp(site, second.core_C[-1], 1)}, surface "
-            f"{_temp(site, second.surface_C[-1], 1)}, mean {_temp(site, second.mean_C[-1], 1)}{stop}"
-        )
-    return what, ends
-
-
-def second_product_lines(result, site=None) -> list[str]:
-    """The second product beside the main one in the summary text (nothing without one)."""
-    texts = second_product_texts(result, site)
-    if texts is None:
-        return []
-    return [f"  second product in the load: {texts[0]}", *(f"    {e}" for e in texts[1])]
 
 
 def history_dict(result) -> dict[str, list]:
@@ -256,26 +163,6 @@ def format_f(f_min: float) -> str:
     if f_min > 1e4:
         return "> 10 000"
     return f"{f_min:.0f}" if f_min >= 100.0 else f"{f_min:.3g}"
-
-
-def _fmt_min(t_min: float | None) -> str:
-    if t_min is None:
-        return "—"
-    if t_min >= 120:
-        return f"{t_min:.0f} min ({t_min / 60:.1f} h)"
-    return f"{t_min:.1f} min"
-
-
-def _temp(site, value_C: float, digits: int | None = None) -> str:
-    """A temperature in the site's unit (``site`` None: °C, ``digits`` None: as short as exact)."""
-    if site is None:
-        return f"{value_C:g} °C" if digits is None else f"{value_C:.{digits}f} °C"
-    return site.format_temperature(value_C, 1 if digits is None else digits)
-
-
-def _time(site, t_min: float | None) -> str:
-    """A process time in the site's unit (``site`` None: minutes, with hours beside from 2 h)."""
-    return _fmt_min(t_min) if site is None else site.format_time(t_min)
 
 
 def summary_text(result, site=None) -> str:

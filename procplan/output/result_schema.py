@@ -27,7 +27,7 @@ from typing import Any
 
 #: The schema's name and version, written at the top of every result document.
 RESULT_SCHEMA_NAME = "procplan-result"
-RESULT_SCHEMA_VERSION = "1.2"
+RESULT_SCHEMA_VERSION = "1.3"
 
 _NUM = {"type": "number"}
 _NUM_OR_NULL = {"type": ["number", "null"]}
@@ -148,7 +148,19 @@ _SECOND_PRODUCT = _obj(
         "product": _TEXT,
         "pieces": {"type": "integer"},
         "initial_temperature_C": _NUM,
+        "target_core_C": _NUM_OR_NULL,
         "note": _TEXT,
+        "target": _obj(
+            {
+                "core_C": _NUM,
+                "reached": {"type": "boolean"},
+                "time_min": {**_NUM_OR_NULL, "description": "when its core reached the target, plan's clock"},
+                "step": {"type": ["string", "null"]},
+                "at_loading": {"type": "boolean"},
+                "end_core_C": _NUM,
+            },
+            nullable=True,
+        ),
         "steps": _array(
             _obj(
                 {
@@ -159,6 +171,17 @@ _SECOND_PRODUCT = _obj(
                     "heat_kJ": {**_NUM, "description": "heat into all its pieces over the step [kJ]"},
                     "stop_C": _NUM_OR_NULL,
                     "time_to_stop_min": _NUM_OR_NULL,
+                    "h_W_m2K": {**_NUM_OR_NULL, "description": "its h for its own shape and size [W/m²K]"},
+                    "h_source": _TEXT,
+                    "solved_with_medium": {
+                        "type": "boolean",
+                        "description": "false: solved alone in the step's medium (a step that couples no medium)",
+                    },
+                    "target_core_C": _NUM_OR_NULL,
+                    "time_to_target_min": {
+                        **_NUM_OR_NULL,
+                        "description": "when its core crossed its target in this step, from the step start",
+                    },
                 }
             )
         ),
@@ -178,7 +201,7 @@ _LOAD = {
         {"model": _TEXT, "pieces": {"type": ["integer", "null"]}, "second_product": _SECOND_PRODUCT},
         required=("model",),
     ),
-    "description": "the load model, the pieces and a second product in the same load (1.2)",
+    "description": "the load model, the pieces and a second product in the same load (1.2; its h and core target 1.3)",
 }
 _REFRIGERATION = _obj(
     {

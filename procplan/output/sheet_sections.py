@@ -180,13 +180,14 @@ def product_section(result, site, st, W):
 
 
 def _second_rows(result, site, st) -> list:
-    """A second product in the load: what it is, and its temperatures at the end of each loaded step."""
-    from procplan.output.report import second_product_texts
+    """A second product in the load: what it is, per loaded step its h, end temperatures and times, and its
+    core target."""
+    from procplan.output.second_report import second_product_texts
 
     texts = second_product_texts(result, site)
     if texts is None:
         return []
-    return [[st.b("Second product"), st.p(texts[0]), st.b("At the step ends"), st.p("; ".join(texts[1]))]]
+    return [[st.b("Second product"), st.p(texts[0]), st.b("In the loaded steps"), st.p("; ".join(texts[1]))]]
 
 
 def _packed_rows(result, site, st) -> list:

@@ -21,6 +21,12 @@ beside it. Heat carried across the voids by radiation and natural convection is 
 cold-room temperatures radiation across voids of centimetres is of the order of the air's own conduction,
 so the effective conductivity errs low and the centre's time errs long (the safe side).
 
+Measured against a published bed (tests/properties/test_packing.py): bulk canola seed (Yu et al. 2015) at 11 %
+moisture and 90 °C lies within the EMT values over its porosity range, but at 5 % and 40 °C the dry bed lies
+below even the lower Hashin–Shtrikman bound (0.06 against 0.07–0.08 W/mK): contact resistance between dry,
+hard pieces, which no model here carries. For such loads the conductivity errs high and the centre's time
+short (the unsafe side): confirm by probing the centre of a real load.
+
 References
 ----------
 Landauer, R. (1952), The electrical resistance of binary metallic mixtures, J. Appl. Phys. 23(7), 779–784
@@ -31,6 +37,8 @@ Carson, J.K., Lovatt, S.J., Tanner, D.J., Cleland, A.C. (2005), Thermal conducti
 porous materials, Int. J. Heat Mass Transfer 48(11), 2150–2158.
 Carson, J.K. (2006), Review of effective thermal conductivity models for foods, Int. J. Refrigeration
 29(6), 958–967.
+Yu, D.U., Shrestha, B.L., Baik, O.D. (2015), Thermal conductivity, specific heat, thermal diffusivity, and
+emissivity of stored canola seeds with their temperature and moisture content, J. Food Eng. 165, 156–165.
 Incropera, DeWitt, Bergman, Lavine, Fundamentals of Heat and Mass Transfer, 7th ed., §3.1.3 and eq. 3.19
 (resistances in series), Table A.3 (conductivity of common materials).
 """

@@ -35,7 +35,7 @@ from procplan.run.dry_oven import carried_field, dry_oven_step, range_warnings
 from procplan.run.dry_stop import check_weight_stop
 from procplan.run.results import PlanResult, StepResult, StepSolverDetails
 from procplan.run.second_product import carried as carried_second
-from procplan.run.second_product import initial_state
+from procplan.run.second_product import initial_state, target_warnings
 from procplan.run.solver import PROPERTY_SPREAD_LIMIT, choose_solver, exact_properties, exact_sample_times
 from procplan.run.step_surface import StepSurface, resolve_step_surface
 
@@ -460,11 +460,12 @@ def _run_steps(ctx: _Context) -> tuple[pd.DataFrame, list[StepResult], list[str]
             props, note = salted_properties(ctx.plan.product, base, salt)
             ctx = replace(ctx, props=props)
             result = replace(result, mass=replace(result.mass, freezing_note=note))
+        second, note, alone = carried_second(ctx.second, result, step, ctx.library, ctx.dt_s)
+        result = result if alone is None else replace(result, second_alone=alone)
+        ctx = replace(ctx, second=second)
         frames.append(frame)
         steps.append(result)
         warnings.extend(result.warnings)
-        second, note = carried_second(ctx.second, result.machine_load, step.name)
-        ctx = replace(ctx, second=second)
         warnings.extend([note] if note else [])
         last = frame.iloc[-1] if len(frame) else frames[-2].iloc[-1]
         carried = _Carried(
@@ -561,6 +562,7 @@ def run_plan(
     )
     history, steps, warnings, props = _run_steps(ctx)
     warnings.extend(range_warnings(history, props, dried=any(s.drying is not None for s in steps)))
+    warnings.extend(target_warnings(plan, steps))
     outcomes = (
         assess_plan(plan, history, tuple(steps), props, piece_mass_kg, library, site) if assess else None
     )

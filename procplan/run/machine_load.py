@@ -270,7 +270,8 @@ def coupled_frame(load: StepLoad | None, node, res, frame, set_point):
     if node.partner is not None:
         from procplan.run.second_product import second_step
 
-        machine = replace(machine, second=second_step(node, load.stop_C, res.final_enthalpy_J_kg))
+        second = second_step(node, load.stop_C, res.final_enthalpy_J_kg, load.second)
+        machine = replace(machine, second=second)
     return machine, max(res.energy_balance_error, machine.energy_balance_error)
 
 

@@ -270,7 +270,9 @@ def _load_warnings(plan: Plan, load: PackedLoad) -> tuple[str, ...]:
 def packed_plan(plan: Plan, library=None) -> tuple[Plan, PackedLoad]:
     """The plan of the packed load (a brick of effective properties, no packing) and what the load is.
 
-    ``library`` resolves the machines whose air speed the air-flow factor scales.
+    ``library`` resolves the machines whose air speed the air-flow factor scales. A second product in the load
+    (``[load.second_product]``) is not part of the packed load: it shares the medium with the packed loads
+    (their heat and its own both enter the medium's balance) and its h is that of the machine's own setting.
     """
     if plan.packing is None:
         raise InvalidInputError("packing", None, "a [packing] table")
@@ -279,7 +281,12 @@ def packed_plan(plan: Plan, library=None) -> tuple[Plan, PackedLoad]:
     steps = tuple(_slow_step(s, i, plan.packing.air_flow_factor, library) for i, s in enumerate(plan.steps))
     batch = max(1, math.ceil(plan.checks.pieces_per_batch / load.pieces))
     checks = replace(plan.checks, pieces_per_batch=batch)
-    return replace(plan, product=brick, steps=steps, checks=checks, packing=None), load
+    machine_load = plan.load
+    if machine_load.second_product is not None:  # not in the packed load: it sees the machine's own setting
+        second = replace(machine_load.second_product, machine_steps=plan.steps)
+        machine_load = replace(machine_load, second_product=second)
+    load_plan = replace(plan, product=brick, steps=steps, checks=checks, packing=None, load=machine_load)
+    return load_plan, load
 
 
 def _target_C(plan: Plan) -> float | None:

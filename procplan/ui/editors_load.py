@@ -354,6 +354,29 @@ SECOND_HELP = (
 )
 
 
+def _second_target(sp: dict) -> None:
+    """The second product's own core target (``target_core_C``): reported beside the batch, never a stop."""
+    from procplan.model import MEDIUM_RANGE_C
+
+    on = st.checkbox(
+        "It has its own core target",
+        value=sp.get("target_core_C") is not None,
+        key=state.key("ld.sp.tg.on"),
+        help="The run reports when its core reaches this temperature and warns when it does not; the steps "
+        "still stop on the batch's core.",
+    )
+    if not on:
+        sp.pop("target_core_C", None)
+        return
+    sp["target_core_C"] = widgets.temperature(
+        "Its core target",
+        sp.get("target_core_C", 5.0),
+        "ld.sp.tg",
+        minimum_C=MEDIUM_RANGE_C[0],
+        maximum_C=MEDIUM_RANGE_C[1],
+    )
+
+
 def _second_product(plan: dict, lib, loaded: bool, errs: widgets.FieldErrors) -> None:
     """``[load.second_product]``: a library product sharing the loaded machines' medium."""
     load = plan.get("load") if isinstance(plan.get("load"), dict) else {}
@@ -395,7 +418,8 @@ def _second_product(plan: dict, lib, loaded: bool, errs: widgets.FieldErrors) ->
             minimum_C=MEDIUM_RANGE_C[0],
             maximum_C=MEDIUM_RANGE_C[1],
         )
-    for f in ("product", "pieces", "initial_temperature_C"):
+    _second_target(sp)
+    for f in ("product", "pieces", "initial_temperature_C", "target_core_C"):
         errs.mark(f"load.second_product.{f}")
     errs.mark("load.second_product")
     plan.setdefault("load", {})["second_product"] = sp

@@ -14,7 +14,8 @@ def machine_load(result, u: Units) -> None:
     """One block per step that ran in a loaded machine: a capacity bar and the library's sentence."""
     loaded = [(sr, sr.machine_load) for sr in result.steps if getattr(sr, "machine_load", None) is not None]
     notes = [(sr.name, sr.load_note) for sr in result.steps if getattr(sr, "load_note", None)]
-    if not loaded and not notes and result.packing is None:
+    alone = any(getattr(sr, "second_alone", None) is not None for sr in result.steps)
+    if not loaded and not notes and not alone and result.packing is None:
         return
     st.subheader("The batch in the machine")
     from procplan.output.report import batch_label
@@ -34,10 +35,38 @@ def machine_load(result, u: Units) -> None:
             "Back at the set point after", "never" if ml.pull_down_s is None else u.duration(ml.pull_down_s)
         )
         (st.caption if ml.held else st.warning)(ml.describe(batch))
+        if ml.second is not None:
+            _second(result, ml.second, u)
     for name, note in notes:
         st.caption(note if note.startswith(f"{name}:") else f"{name}: {note}")
+    for sr in result.steps:
+        if getattr(sr, "second_alone", None) is not None:
+            st.markdown(f"**{sr.name}** (the second product alone in the step's medium)")
+            _second(result, sr.second_alone, u)
     if result.packing is not None:
         packed(result, u)
+
+
+def _second(result, second, u: Units) -> None:
+    """The second product in the step: its h, its core at the end and when its core reached its own target
+    (procplan.run.second_product)."""
+    from procplan.run.second_product import second_target
+
+    st.markdown(f"Second product in the load: {second.pieces} × {second.name}")
+    c = st.columns(3)
+    c[0].metric("Its surface coefficient", f"{second.h_W_m2K:.1f} W/m²K", help=second.h_source)
+    c[1].metric("Its core at the end of the step", u.temp(second.core_C[-1]))
+    tg = second_target(result.plan, result.steps)
+    if tg is None:
+        return
+    label = f"Its core reaches {u.temp(tg.target_C)} after"
+    if tg.reached:
+        c[2].metric(label, u.duration(tg.time_s))
+    else:
+        c[2].metric(label, "not reached")
+        missed = [w for w in result.warnings if "does not reach its target" in w]
+        if missed:
+            st.warning(missed[0])
 
 
 def packed(result, u: Units) -> None:

@@ -49,6 +49,21 @@ def test_a_second_product_reads_its_library_record_and_round_trips():
             "°C",
         ),
         ({"product": "tomato-sauce-tub", "pieces": 4, "initial_temperature_C": 8, "size": 3}, "size", ""),
+        (
+            {"product": "tomato-sauce-tub", "pieces": 4, "initial_temperature_C": 80, "target_core_C": 900},
+            "target_core_C",
+            "°C",
+        ),
+        (
+            {
+                "product": "tomato-sauce-tub",
+                "pieces": 4,
+                "initial_temperature_C": 80,
+                "target_core_C": "cold",
+            },
+            "target_core_C",
+            "°C",
+        ),
     ],
 )
 def test_bad_second_product_fields_are_named_with_their_range(second, field, allowed):
@@ -62,3 +77,17 @@ def test_a_second_product_needs_a_library():
     with pytest.raises(InvalidInputError) as exc:
         _with({"product": "tomato-sauce-tub", "pieces": 1, "initial_temperature_C": 5}, library=None)
     assert "load.second_product.product" in str(exc.value) and "with a library loaded" in str(exc.value)
+
+
+def test_a_core_target_is_read_and_round_trips():
+    plan = _with(
+        {"product": "tomato-sauce-tub", "pieces": 40, "initial_temperature_C": 80, "target_core_C": 5}
+    )
+    assert plan.load.second_product.target_core_C == 5.0
+    d = plan_to_dict(plan)
+    assert d["load"]["second_product"]["target_core_C"] == 5
+    assert plan_from_dict(d, library=LIB) == plan
+    # without a target the file carries none
+    plain = _with({"product": "tomato-sauce-tub", "pieces": 40, "initial_temperature_C": 80})
+    assert plain.load.second_product.target_core_C is None
+    assert "target_core_C" not in plan_to_dict(plain)["load"]["second_product"]

@@ -110,6 +110,49 @@ def test_bulk_wheat_matches_the_measured_bed_conductivity():
     assert_allclose(float(packed.conductivity(20.0)), emt, rtol=1e-9)
 
 
+# Source: Yu, D.U., Shrestha, B.L., Baik, O.D. (2015), Thermal conductivity, specific heat, thermal diffusivity,
+# and emissivity of stored canola seeds with their temperature and moisture content, J. Food Engineering 165,
+# 156–165, abstract (read): MC 5–11 % w.b., 40–90 °C; bulk density 654.0–664.8 and particle density 1047–1131
+# kg/m³; k of the seeds at bulk density (the bed) 0.06–0.13 and at particle density (the seed itself) 0.15–0.25
+# W/m°C, both increasing with temperature and MC, so the low ends pair at 5 % / 40 °C and the high ends at
+# 11 % / 90 °C. Porosity ε = 1 − ρ_b/ρ_p over the stated densities: 0.365 to 0.422. The abstract states no
+# scatter; its values are given to 0.01 W/m°C, so ±0.005 W/m°C is the resolution used. Air: the project's
+# conductivity_air at the temperature.
+CANOLA_VOIDS = np.array([1 - 664.8 / 1047.0, 1 - 654.0 / 1131.0])
+
+
+@pytest.mark.parametrize(
+    "k_seed, T_C, k_bed", [(0.15, 40.0, 0.06), (0.25, 90.0, 0.13)], ids=["5 %, 40 °C", "11 %, 90 °C"]
+)
+def test_bulk_canola_lies_between_the_series_and_parallel_bounds(k_seed, T_C, k_bed):
+    # The dry bed at 40 °C lies only just above the series bound (0.057 W/mK at ε 0.365): within the abstract's
+    # resolution of it.
+    ka = float(conductivity_air(T_C))
+    assert np.all(conductivity_series_bound(k_seed, CANOLA_VOIDS, ka) < k_bed)
+    assert np.all(k_bed < conductivity_parallel_bound(k_seed, CANOLA_VOIDS, ka))
+
+
+def test_bulk_canola_at_11_percent_and_90_C_lies_within_the_default_models_band():
+    # The measured bed (0.13 ± 0.005 W/m°C) lies within the effective-medium values over the stated porosity
+    # range (0.127 to 0.142 W/mK), and above the safe lower value (Maxwell–Eucken, air continuous).
+    ka = float(conductivity_air(90.0))
+    emt = conductivity_emt(0.25, CANOLA_VOIDS, ka)
+    assert emt.min() - 0.005 <= 0.13 <= emt.max() + 0.005
+    assert np.all(conductivity_me_air_continuous(0.25, CANOLA_VOIDS, ka) < 0.13)
+
+
+def test_bulk_canola_at_5_percent_and_40_C_lies_below_every_two_phase_model_the_code_offers():
+    # A limit of the models, kept visible: the dry bed at 40 °C (0.06 ± 0.005 W/m°C) lies below even the lower
+    # Hashin–Shtrikman bound of its seeds and air (0.071 to 0.078 W/mK), so both the default and the safe lower
+    # value overpredict it (EMT by 40 to 50 %): contact resistance between dry, hard seeds, which no model here
+    # carries. The unsafe direction: a too high k shortens the centre's time; the packing module says so.
+    ka = float(conductivity_air(40.0))
+    for name, model in PACKED_CONDUCTIVITY_MODELS.items():
+        if name != "series":  # the absolute lower bound, which the bed respects (see the test above)
+            assert np.all(model(0.15, CANOLA_VOIDS, ka) > 0.06 + 0.005), name
+    assert np.all(conductivity_emt(0.15, CANOLA_VOIDS, ka) / 0.06 - 1 > 0.35)
+
+
 @settings(max_examples=50, deadline=None)
 @given(
     st.floats(0.05, 0.5),

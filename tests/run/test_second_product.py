@@ -112,22 +112,58 @@ def test_the_demo_plan_chills_roulades_with_sauce_tubs_and_closes_its_balance():
     assert doc["summary"]["load"]["second_product"]["pieces"] == 60
 
 
-def test_the_second_product_carries_through_the_steps_and_an_uncoupled_step_says_so():
-    # Method: the beef joints' cook, rest and chill with 40 pork steaks loaded too: the steaks are solved in
-    # the two loaded steps, their field carries from the cook into the chill across the rest (given h, no
-    # medium node), which warns; both loaded steps balance within 0.5 %.
+def test_the_second_product_carries_through_the_steps_and_is_solved_alone_where_no_medium_couples():
+    # Method: the beef joints' cook, rest and chill with 40 pork steaks loaded too: the steaks are solved with
+    # the medium in the two loaded steps and alone in the rest (h given in the plan, applied as given: the
+    # steaks are unwrapped, so h_eff = 8 W/m²K); their field carries from step to step; both loaded steps
+    # balance within 0.5 %; in the 20 °C rest the steaks cool.
     d = read_toml(LIB.root / "plans" / "beef-joint-roast-chill.toml")
     d["load"] = {"second_product": {"product": "pork-loin-steak", "pieces": 40, "initial_temperature_C": 4}}
     res = run_plan(plan_from_dict(d, library=LIB), library=LIB, assess=False)
     cook, rest, chill = res.steps
-    assert rest.machine_load is None
-    assert any("second product (pork-loin-steak) is not solved" in w for w in res.warnings)
-    a, b = cook.machine_load.second, chill.machine_load.second
-    assert abs(a.core_C[0] - 4.0) < 1e-9 and abs(b.core_C[0] - a.core_C[-1]) < 1e-9
-    assert abs(b.mean_C[0] - a.mean_C[-1]) < 1e-9
+    assert rest.machine_load is None and rest.second_alone is not None
+    assert not any("is not solved" in w for w in res.warnings)
+    a, r, b = cook.machine_load.second, rest.second_alone, chill.machine_load.second
+    assert abs(r.h_W_m2K - 8.0) < 1e-9 and r.h_source.startswith("h given in the plan")
+    assert abs(a.core_C[0] - 4.0) < 1e-9 and abs(r.core_C[0] - a.core_C[-1]) < 1e-6
+    assert abs(b.core_C[0] - r.core_C[-1]) < 1e-6 and abs(b.mean_C[0] - r.mean_C[-1]) < 1e-6
+    assert r.mean_C[-1] < r.mean_C[0] and abs(r.time_s[-1] - rest.duration_s) < 1e-6
     assert a.core_C[-1] > 70.0 and b.core_C[-1] < 10.0
     for sr in (cook, chill):
         assert sr.machine_load.energy_balance_error < 0.005
-    hist = summary_dict(res)["load"]["second_product"]["history"]
-    assert hist["step"][0] == "steam cook" and hist["step"][-1] == "blast chill"
+    d = summary_dict(res)["load"]["second_product"]
+    hist = d["history"]
+    assert hist["step"][0] == "steam cook" and "rest" in hist["step"] and hist["step"][-1] == "blast chill"
     assert np.all(np.diff(hist["time_s"]) >= 0)
+    assert [s["solved_with_medium"] for s in d["steps"]] == [True, False, True]
+    assert "alone in the step's medium" in summary_text(res)
+
+
+def test_the_second_product_alone_at_the_set_point_equals_the_coupled_run_of_a_huge_plant():
+    # Method: the empty-machine run (load model "set-point") solves the tubs alone at the set point; a 1 GW
+    # plant holds the set point with the tubs coupled: the same discrete equations at a fixed time step
+    # (≤ 1e-6 K but over the last two steps: the coupled step ends at the main product's stop, and the alone
+    # solve splits its last steps to land on the step's end).
+    import dataclasses
+    import math
+
+    eq = LIB.equipment["chiller-b2"]
+    big = dataclasses.replace(
+        LIB, equipment={**LIB.equipment, "chiller-b2": dataclasses.replace(eq, capacity_kW=1e6)}
+    )
+    plan = LIB.plan("roulade-sauce-blast-chill")
+    coupled = run_plan(plan, library=big, dt_s=60.0, assess=False).steps[0]
+    empty = run_plan(
+        dataclasses.replace(plan, load=dataclasses.replace(plan.load, model="set-point")),
+        library=LIB,
+        dt_s=60.0,
+        assess=False,
+    ).steps[0]
+    assert empty.machine_load is None and coupled.machine_load.held
+    a, b = coupled.machine_load.second, empty.second_alone
+    assert abs(a.h_W_m2K - b.h_W_m2K) <= 1e-12 * a.h_W_m2K
+    end = 60.0 * math.floor(min(a.time_s[-1], b.time_s[-1]) / 60.0) - 60.0
+    t = np.asarray(a.time_s)
+    t = t[t <= end]
+    assert np.max(np.abs(np.interp(t, a.time_s, a.core_C) - np.interp(t, b.time_s, b.core_C))) <= 1e-6
+    assert abs(a.target_time_s - b.target_time_s) <= 1e-3
