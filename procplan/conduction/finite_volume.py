@@ -225,6 +225,7 @@ def solve_conduction(
         method=_method_text(grid, scheme, dt_s, target, dt_cap, tol, stepper),
         n_factorisations=model.factors.n_factorisations,
         n_reused_factorisations=model.factors.n_reused,
+        n_separable_solves=model.factors.n_separable,
         error_estimates=(tol, stepper.err_max, stepper.err_core_sum)
         if tol is not None and dt_s is None
         else (None, None, None),
@@ -314,6 +315,7 @@ def _method_text(
     return (
         f"finite volume, {grid.describe()}; enthalpy unknown, harmonic-mean face conductivity; "
         f"{SCHEMES[scheme]}, {step_text}; Newton on H with dT/dH from the table (secant fallback)"
-        f"{'' if len(grid.shape) == 1 else '; sparse LU kept across steps as GMRES preconditioner'}; "
+        f"{'' if len(grid.shape) == 1 else '; sparse LU kept across steps as GMRES preconditioner'}"
+        f"{'; separable systems by fast diagonalisation' if stepper.model.factors.n_separable else ''}; "
         f"surface temperature = surface node"
     )

@@ -24,6 +24,8 @@ import scipy.linalg.lapack
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
+from procplan.conduction.fv_tensor import SeparableSolver, separable_parameters
+
 if TYPE_CHECKING:
     from procplan.conduction.fv_model import FVModel
 
@@ -54,6 +56,11 @@ GMRES_MAX_ITERATIONS = 12
 #: of a sparse one, about the Python cost of one GMRES iteration (measured; ``python -m procplan.bench``
 #: compares the two on the roulade plan). 0 turns the banded path off.
 BANDED_MAX_BANDWIDTH = 40
+#: True: a Newton matrix of the separable form (one k, one dT/dH, one h over the grid; a linear problem such as
+#: chilling with constant properties) is solved directly by fast diagonalisation
+#: (:mod:`procplan.conduction.fv_tensor`), whatever the time step; False: by the paths below (kept so that
+#: ``python -m procplan.bench`` can time both in the same run).
+SEPARABLE_SOLVES = True
 #: False: the solver as it was before exact solves were added (every 2-D grid on the kept sparse LU with
 #: GMRES, a kept LU never used directly, every Newton step confirmed by a further residual); kept so that
 #: ``python -m procplan.bench`` can time both in the same run.
@@ -107,6 +114,8 @@ class Factorisation:
         self.key: tuple = ()  # the (md, af, bf, dqs, D) of the kept LU's matrix
         self.previous: tuple = ()  # those of the last system solved
         self.band = None  # the last banded LU: (its key, LU, pivots)
+        self.separable = None  # the fast-diagonalisation solver of the last separable matrix (fv_tensor)
+        self.n_separable = 0  # solves by it
 
     def usable(self, scale: float) -> bool:
         """True when a kept LU exists and a/Δt has changed little since it was built."""
@@ -228,6 +237,10 @@ def linear_solve(model: FVModel, md, af, bf, dqs, D, rhs, scale: float = 0.0, rt
     key = (md, af, bf, dqs, D)
     if not EXACT_SOLVES:
         return _kept_lu_solve(model, key, rhs, scale, rtol)
+    if SEPARABLE_SOLVES:
+        x = _separable_solve(model, key, rhs)
+        if x is not None:
+            return x
     if model.band is not None:
         x = _banded_solve(model, key, rhs)
         if x is not None:
@@ -246,6 +259,22 @@ def linear_solve(model: FVModel, md, af, bf, dqs, D, rhs, scale: float = 0.0, rt
             if x is not None:
                 return x
     return _new_lu_solve(model, key, rhs, scale)
+
+
+def _separable_solve(model: FVModel, key: tuple, rhs: np.ndarray) -> np.ndarray | None:
+    """The Newton system by fast diagonalisation when its matrix is separable (None when it is not); the
+    per-axis eigenvectors are kept while k and h stay the same."""
+    params = separable_parameters(model, *key)
+    if params is None:
+        return None
+    alpha, beta, k, h = params
+    factors = model.factors
+    kept = factors.separable
+    if kept is None or abs(kept.k - k) > 1e-12 * k or abs(kept.h - h) > 1e-12 * max(h, 1e-300):
+        kept = factors.separable = SeparableSolver(model.grid, k, h)
+    factors.n_separable += 1
+    factors.exact = True
+    return kept.solve(alpha, beta, rhs)
 
 
 def _kept_lu_solve(model: FVModel, key: tuple, rhs: np.ndarray, scale: float, rtol: float) -> np.ndarray:

@@ -43,6 +43,13 @@ class FVModel:
         self._tk, self._kk = tg, props.conductivity_W_mK
         dtg = np.diff(tg)
         self._kslope = np.where(dtg > 0, np.diff(self._kk) / np.where(dtg > 0, dtg, 1.0), 0.0)
+        # one conductivity over the table: the face conductances, computed once (the same arithmetic as
+        # :meth:`conductance`, so the same values), with no derivative
+        k0 = float(self._kk[0])
+        self._G_const = None
+        if np.all(self._kk == k0) and k0 > 0:
+            self._G_const = self.fg * (2.0 * k0 * k0 / (k0 + k0))
+            self._G_const.setflags(write=False)
         # "Strong" kinks of T(H), where the slope changes by more than a factor 2 (the ends of a freezing
         # range): a Newton update is stopped on such a kink so that the next iteration uses the slope beyond it.
         sl = self.slope
@@ -80,7 +87,9 @@ class FVModel:
 
     def conductance(self, T: np.ndarray, derivatives: bool = False):
         """Face conductances G = k_f A/Δx [W/K] with the harmonic mean k_f = 2 k_i k_j/(k_i + k_j);
-        with ``derivatives``, also dG/dT_i and dG/dT_j."""
+        with ``derivatives``, also dG/dT_i and dG/dT_j (None, None when the conductivity is one value)."""
+        if self._G_const is not None:
+            return (self._G_const, None, None) if derivatives else self._G_const
         k = np.interp(T, self._tk, self._kk)
         ki, kj = k[self.fi], k[self.fj]
         s = ki + kj

@@ -74,10 +74,13 @@ def solve_step(
             ok = np.abs(dH) > 1e-9 * (1.0 + np.abs(H))
             D = np.where(ok, (T - Told) / np.where(ok, dH, 1.0), D)
         Hold, Told = H, T
-        dTf = T[model.fj] - T[model.fi]
         # the linear residual left by the solve: about 1 % of the Newton tolerance in the next residual
         rtol = min(1e-3, max(1e-12, 0.01 * tol / err))
-        af, bf = -G + dTf * dGi, G + dTf * dGj
+        if dGi is None:  # one conductivity: no derivative
+            af, bf = -G, G
+        else:
+            dTf = T[model.fj] - T[model.fi]
+            af, bf = -G + dTf * dGi, G + dTf * dGj
         delta = linear_solve(model, md, af, bf, dqs, D, -R, a / dt, rtol)
         if free:
             u = np.zeros(model.n)
