@@ -114,6 +114,7 @@ class Factorisation:
         self.key: tuple = ()  # the (md, af, bf, dqs, D) of the kept LU's matrix
         self.previous: tuple = ()  # those of the last system solved
         self.band = None  # the last banded LU: (its key, LU, pivots)
+        self.band_buffer = None  # the storage the banded LU is built and factorised in
         self.separable = None  # the fast-diagonalisation solver of the last separable matrix (fv_tensor)
         self.n_separable = 0  # solves by it
 
@@ -317,7 +318,12 @@ def _banded_solve(model: FVModel, key: tuple, rhs: np.ndarray) -> np.ndarray | N
         md, af, bf, dqs, D = key
         dd = np.bincount(model.fi, af, model.n) - np.bincount(model.fj, bf, model.n)
         dd[model.sc] += dqs
-        buf = np.zeros(rows * model.n)
+        # one buffer per model, cleared each time (a new 3 kl + 1 by n array costs fresh pages every call)
+        buf = factors.band_buffer
+        if buf is None:
+            buf = factors.band_buffer = np.zeros(rows * model.n)
+        else:
+            buf.fill(0.0)
         buf[flat] = np.concatenate([-bf * D[model.fj], af * D[model.fi], md - dd * D])
         lub, piv, x, info = _gbsv(kl, kl, buf.reshape(model.n, rows).T, rhs, overwrite_ab=1)
         factors.band = (key, lub, piv) if info == 0 else None

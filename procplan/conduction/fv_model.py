@@ -46,10 +46,17 @@ class FVModel:
         # one conductivity over the table: the face conductances, computed once (the same arithmetic as
         # :meth:`conductance`, so the same values), with no derivative
         k0 = float(self._kk[0])
-        self._G_const = None
-        if np.all(self._kk == k0) and k0 > 0:
+        #: the conductivity [W/(m K)] when the table has one value, else None; then also the face conductances
+        #: G and −G (the Newton matrix's off-diagonal derivatives)
+        self.k_constant = k0 if np.all(self._kk == k0) and k0 > 0 else None
+        self._G_const = self.minus_G = None
+        if self.k_constant is not None:
             self._G_const = self.fg * (2.0 * k0 * k0 / (k0 + k0))
+            self.minus_G = -self._G_const
             self._G_const.setflags(write=False)
+            self.minus_G.setflags(write=False)
+        #: dT/dH of every cell when the table has one segment (constant c_p, no latent heat), else None
+        self.single_slope = np.full(self.n, self.slope[0]) if self.nseg == 1 else None
         # "Strong" kinks of T(H), where the slope changes by more than a factor 2 (the ends of a freezing
         # range): a Newton update is stopped on such a kink so that the next iteration uses the slope beyond it.
         sl = self.slope
@@ -88,19 +95,32 @@ class FVModel:
     def conductance(self, T: np.ndarray, derivatives: bool = False):
         """Face conductances G = k_f A/Δx [W/K] with the harmonic mean k_f = 2 k_i k_j/(k_i + k_j);
         with ``derivatives``, also dG/dT_i and dG/dT_j (None, None when the conductivity is one value)."""
+        parts = self.conductance_parts(T)
+        if not derivatives:
+            return parts[0]
+        return (parts[0], *self.conductance_slopes(T, parts))
+
+    def conductance_parts(self, T: np.ndarray) -> tuple:
+        """(G, k_i, k_j, k_i + k_j) of each face; (G, None, None, None) when the conductivity is one value
+        (G then computed once)."""
         if self._G_const is not None:
-            return (self._G_const, None, None) if derivatives else self._G_const
+            return self._G_const, None, None, None
         k = np.interp(T, self._tk, self._kk)
         ki, kj = k[self.fi], k[self.fj]
         s = ki + kj
-        G = self.fg * (2.0 * ki * kj / s)
-        if not derivatives:
-            return G
+        return self.fg * (2.0 * ki * kj / s), ki, kj, s
+
+    def conductance_slopes(self, T: np.ndarray, parts: tuple) -> tuple:
+        """dG/dT_i and dG/dT_j of each face from the :meth:`conductance_parts` of T; None, None when the
+        conductivity is one value."""
+        _, ki, kj, s = parts
+        if ki is None:
+            return None, None
         seg = np.searchsorted(self._tk, T, side="right") - 1
         inside = (seg >= 0) & (seg < self._kslope.size)
         dk = np.where(inside, self._kslope[np.minimum(np.maximum(seg, 0), self._kslope.size - 1)], 0.0)
         w = 2.0 * self.fg / (s * s)
-        return G, w * kj * kj * dk[self.fi], w * ki * ki * dk[self.fj]
+        return w * kj * kj * dk[self.fi], w * ki * ki * dk[self.fj]
 
     def medium_at(self, t: float) -> float:
         """The medium temperature [°C] at t: the boundary's, or the coupled medium's latest solution."""
@@ -123,9 +143,16 @@ class FVModel:
         return self.sa * q, self.sa * dq
 
     def net_flow(
-        self, t: float, T: np.ndarray, G: np.ndarray, medium_C: float | None = None
+        self,
+        t: float,
+        T: np.ndarray,
+        G: np.ndarray,
+        medium_C: float | None = None,
+        dT: np.ndarray | None = None,
     ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-        flux = G * (T[self.fj] - T[self.fi])
+        """Heat into each cell [W], into each surface cell and its derivative; ``dT`` the face differences
+        T_j − T_i when already computed."""
+        flux = G * (T[self.fj] - T[self.fi] if dT is None else dT)
         if self.dim == 1:
             F = np.zeros(self.n)
             F[:-1] += flux

@@ -81,13 +81,18 @@ def _uniform(values: np.ndarray) -> float | None:
 
 def separable_parameters(model, md, af, bf, dqs, D) -> tuple[float, float, float, float] | None:
     """(α, β, k, h) of the Newton matrix diag(md) − (∂F/∂T) diag(D) when it has the separable form of the
-    module docstring (α per unit volume), else None."""
-    if not np.array_equal(af, -bf):  # a conductance depending on temperature
+    module docstring (α per unit volume), else None. (md = a m/Δt with m = ρ V is uniform per volume by
+    construction; the face derivatives of a one-value conductivity are the model's own G and −G.)"""
+    if bf is model._G_const and af is model.minus_G:
+        k = model.k_constant
+    elif np.array_equal(af, -bf):  # else a conductance depending on temperature
+        k = _uniform(bf / model.fg)
+    else:
         return None
-    beta = _uniform(D)
-    k = _uniform(bf / model.fg) if beta is not None and beta > 0.0 else None
-    h = _uniform(dqs / model.sa) if k is not None and k > 0.0 else None
-    alpha = _uniform(md / model.grid.volume_m3) if h is not None else None
-    if alpha is None:
+    beta = float(D[0]) if D is model.single_slope else _uniform(D)
+    if k is None or k <= 0.0 or beta is None or beta <= 0.0:
         return None
-    return alpha, beta, k, -h
+    h = -float(dqs[0] / model.sa[0]) if not model.has_q else _uniform(-dqs / model.sa)
+    if h is None:
+        return None
+    return float(md[0] / model.grid.volume_m3[0]), beta, k, h

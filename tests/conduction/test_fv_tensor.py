@@ -68,5 +68,8 @@ def test_not_separable_matrices_are_refused(name):
     assert separable_parameters(model, md, -bf_varying, bf_varying, dqs, D) is None
     af_derivative = af + 1e-3 * np.abs(af)  # dG/dT ≠ 0: af ≠ −bf
     assert separable_parameters(model, md, af_derivative, bf, dqs, D) is None
-    dqs_varying = dqs * np.linspace(1.0, 1.2, dqs.size)  # h not the same over the surface
+    # with an extra surface flux (radiation), its derivative need not be the same over the surface
+    model.has_q = True
+    assert separable_parameters(model, md, af, bf, dqs, D) is not None
+    dqs_varying = dqs * np.linspace(1.0, 1.2, dqs.size)
     assert separable_parameters(model, md, af, bf, dqs_varying, D) is None
