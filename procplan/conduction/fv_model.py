@@ -71,6 +71,7 @@ class FVModel:
         self.has_q = boundary.q_extra_W_m2 is not None
         #: the medium solved with the pieces (procplan.conduction.fv_medium.MediumNode), None: a given medium
         self.medium_node = boundary.medium_node
+        self._at: tuple | None = None  # (t, h, medium, boundary) of the last time asked (_boundary_at)
         self.factors = Factorisation(
             self.dim
         )  # the Newton matrix's LU kept across iterations and steps (2-D, 3-D)
@@ -124,22 +125,31 @@ class FVModel:
 
     def medium_at(self, t: float) -> float:
         """The medium temperature [°C] at t: the boundary's, or the coupled medium's latest solution."""
-        return self.boundary.medium(t) if self.medium_node is None else self.medium_node.latest_C
+        return self._boundary_at(t)[2] if self.medium_node is None else self.medium_node.latest_C
+
+    def _boundary_at(self, t: float) -> tuple:
+        """(t, h, medium temperature) of the boundary at t, kept for the Newton iterations of one step."""
+        kept = self._at
+        if kept is None or kept[0] != t or kept[3] is not self.boundary:
+            b = self.boundary
+            kept = self._at = (t, b.h(t), b.medium(t), b)
+        return kept
 
     def surface_flux(
         self, t: float, Ts: np.ndarray, medium_C: float | None = None
     ) -> tuple[np.ndarray, np.ndarray]:
         """Heat into each surface cell [W] and its derivative with respect to the cell temperature [W/K]
         (with the medium at ``medium_C``, default :meth:`medium_at`)."""
-        h = self.boundary.h(t)
+        h = self._boundary_at(t)[1]
         q = h * ((self.medium_at(t) if medium_C is None else medium_C) - Ts)
+        if not self.has_q:
+            return self.sa * q, self.sa * -h
         dq = np.full(Ts.shape, -h)
-        if self.has_q:
-            eps = 1e-3
-            q0 = self.boundary.q_extra(t, Ts)
-            q1 = self.boundary.q_extra(t, Ts + eps)
-            q = q + q0
-            dq = dq + (q1 - q0) / eps
+        eps = 1e-3
+        q0 = self.boundary.q_extra(t, Ts)
+        q1 = self.boundary.q_extra(t, Ts + eps)
+        q = q + q0
+        dq = dq + (q1 - q0) / eps
         return self.sa * q, self.sa * dq
 
     def net_flow(
