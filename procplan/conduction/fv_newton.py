@@ -99,14 +99,26 @@ def solve_step(
         if not np.all(np.isfinite(delta)):
             return None, it
         cut = False
+        moved = H + delta
         if model.kinks.size and it <= _SECANT_AFTER:
-            delta, cells = _stop_on_kinks(model.kinks, H, delta)
-            cut = bool(cells.any())
-        H = H + delta
+            near = _kinks_within(model.kinks, H, moved)
+            if near.size:
+                delta, cells = _stop_on_kinks(near, H, delta)
+                cut = bool(cells.any())
+                moved = H + delta if cut else moved
+        H = moved
         exact = model.factors.exact and not free and not cut and it <= _SECANT_AFTER
         if exact and linear_on(model, idx, H, model.has_q):  # the residual would vanish: the step is done
             return H, it
     return None, _MAX_NEWTON
+
+
+def _kinks_within(kinks: np.ndarray, H: np.ndarray, moved: np.ndarray) -> np.ndarray:
+    """The kinks an update from H to ``moved`` may cross: those within the span of both fields (widened by
+    1e-9 of its scale, far beyond rounding, so that a kink left out could not be cut on)."""
+    lo, hi = min(H.min(), moved.min()), max(H.max(), moved.max())
+    margin = 1e-9 * (abs(lo) + abs(hi) + 1.0)
+    return kinks[(kinks >= lo - margin) & (kinks <= hi + margin)]
 
 
 def _stop_on_kinks(kinks: np.ndarray, H: np.ndarray, delta: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
