@@ -85,12 +85,15 @@ class FVModel:
         """Slope of T(H) on the table segment H lies in; at a table point, the segment H moves into."""
         return self.slope[self.segment(H, direction)]
 
-    def segment(self, H: np.ndarray, direction: np.ndarray) -> np.ndarray:
-        """The table segment of each cell: the one H lies in; at a table point, the one H moves into."""
+    def segment(self, H: np.ndarray, direction) -> np.ndarray:
+        """The table segment of each cell: the one H lies in; at a table point, the one H moves into.
+        ``direction``: the sign of each cell's move, or a function giving it (called only when a cell sits on a
+        table point)."""
         hg = self.h_grid
         i = np.searchsorted(hg, H, side="right") - 1
         at_point = hg[np.minimum(np.maximum(i, 0), hg.size - 1)] == H
-        i = i - (at_point & (direction < 0))
+        if at_point.any():
+            i = i - (at_point & ((direction() if callable(direction) else direction) < 0))
         return np.minimum(np.maximum(i, 0), self.nseg - 1)
 
     def conductance(self, T: np.ndarray, derivatives: bool = False):

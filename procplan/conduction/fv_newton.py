@@ -8,6 +8,7 @@ Swaminathan (1991), Numerical Heat Transfer B 19:175–189.
 
 from __future__ import annotations
 
+import math
 from typing import TYPE_CHECKING
 
 import numpy as np
@@ -71,9 +72,7 @@ def solve_step(
         if model.single_slope is not None:  # one table segment: every cell on it
             idx, D = 0, model.single_slope
         else:
-            direction = np.sign(H - Hn)
-            direction = np.where(direction == 0, -np.sign(R), direction)
-            idx = model.segment(H, direction)
+            idx = model.segment(H, lambda H=H, R=R: _direction(H, Hn, R))
             D = model.slope[idx]
         if it > _SECANT_AFTER and Hold is not None:
             dH = H - Hold
@@ -96,7 +95,7 @@ def solve_step(
             dE = (-RE - float(c @ delta[model.sc])) / (dRE - float(c @ x2[model.sc]))
             delta = delta - x2 * dE
             coupling.E += dE
-        if not np.all(np.isfinite(delta)):
+        if not math.isfinite(float(np.add.reduce(delta))):  # a NaN or an infinity in the update
             return None, it
         cut = False
         moved = H + delta
@@ -111,6 +110,12 @@ def solve_step(
         if exact and linear_on(model, idx, H, model.has_q):  # the residual would vanish: the step is done
             return H, it
     return None, _MAX_NEWTON
+
+
+def _direction(H: np.ndarray, Hn: np.ndarray, R: np.ndarray) -> np.ndarray:
+    """The sign of each cell's move from the last step's field (of −R where it has not moved)."""
+    direction = np.sign(H - Hn)
+    return np.where(direction == 0, -np.sign(R), direction)
 
 
 def _kinks_within(kinks: np.ndarray, H: np.ndarray, moved: np.ndarray) -> np.ndarray:

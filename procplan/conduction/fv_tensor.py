@@ -85,6 +85,8 @@ def separable_parameters(model, md, af, bf, dqs, D) -> tuple[float, float, float
     construction; the face derivatives of a one-value conductivity are the model's own G and −G.)"""
     if bf is model._G_const and af is model.minus_G:
         k = model.k_constant
+    elif af.size and af[0] != -bf[0]:  # (the first face settles most cases)
+        return None
     elif np.array_equal(af, -bf):  # else a conductance depending on temperature
         k = _uniform(bf / model.fg)
     else:
