@@ -152,21 +152,24 @@ def bench_freezing(repeats: int = 5) -> list[tuple[str, float, str]]:
     return rows
 
 
-#: The solver settings compared by (b) and (c): (label, exact solves, LU reuse). Exact solves (a banded LU per
-#: Newton iteration on narrow 2-D grids, a kept LU used directly when it is of the very matrix) are the
-#: present solver; without them, the kept LU serves as GMRES preconditioner (the solver before them), and
-#: without reuse every Newton iteration factorises anew (the solver before the kept LU).
+#: The solver settings compared by (b) and (c): (label, exact solves, LU reuse, separable solves). Exact solves
+#: (a banded LU per Newton iteration on narrow 2-D grids, a kept LU used directly when it is of the very matrix)
+#: with separable systems (one conductivity, one dT/dH, one h) solved by fast diagonalisation are the present
+#: solver; without the latter, the solver before them; without exact solves, the kept LU serves as GMRES
+#: preconditioner (the solver before those), and without reuse every Newton iteration factorises anew.
 SOLVER_SETTINGS = (
-    ("new LU every Newton iteration", False, False),
-    ("LU kept, GMRES (before exact solves)", False, True),
-    ("exact solves (present)", True, True),
+    ("new LU every Newton iteration", False, False, False),
+    ("LU kept, GMRES (before exact solves)", False, True, False),
+    ("exact solves (before fast diagonalisation)", True, True, False),
+    ("exact solves, fast diagonalisation (present)", True, True, True),
 )
 
 
 @contextlib.contextmanager
-def _solver_setting(exact: bool, reuse: bool):
+def _solver_setting(exact: bool, reuse: bool, separable: bool = True):
     """Collect the Factorisation of every finite-volume model built inside, with the solver set as given."""
     kept, kept_exact = dict(fv_linear.REUSE_SCALE_CHANGE), fv_linear.EXACT_SOLVES
+    kept_separable = fv_linear.SEPARABLE_SOLVES
     made: list = []
     init = FVModel.__init__
 
@@ -176,6 +179,7 @@ def _solver_setting(exact: bool, reuse: bool):
 
     FVModel.__init__ = recording_init
     fv_linear.EXACT_SOLVES = exact
+    fv_linear.SEPARABLE_SOLVES = separable
     if not reuse:
         fv_linear.REUSE_SCALE_CHANGE.update({d: -1.0 for d in kept})
     try:
@@ -184,25 +188,30 @@ def _solver_setting(exact: bool, reuse: bool):
         FVModel.__init__ = init
         fv_linear.REUSE_SCALE_CHANGE.update(kept)
         fv_linear.EXACT_SOLVES = kept_exact
+        fv_linear.SEPARABLE_SOLVES = kept_separable
 
 
-def _solver_settings(name: str, fn, repeats: int) -> list[tuple[str, float, str]]:
-    """``fn`` timed under each of :data:`SOLVER_SETTINGS`, the settings interleaved run by run (medians), so
-    that a shared machine's load falls alike on each; the ratios to the present solver."""
-    times: dict[str, list[float]] = {label: [] for label, *_ in SOLVER_SETTINGS}
+def _solver_settings(name: str, fn, repeats: int, skip: tuple[str, ...] = ()) -> list[tuple[str, float, str]]:
+    """``fn`` timed under each of :data:`SOLVER_SETTINGS` but those labelled in ``skip``, the settings
+    interleaved run by run (medians), so that a shared machine's load falls alike on each; the ratios to the
+    present solver."""
+    times: dict[str, list[float]] = {label: [] for label, *_ in SOLVER_SETTINGS if label not in skip}
     counts: dict[str, object] = {}
     for _ in range(repeats):
-        for label, exact, reuse in SOLVER_SETTINGS:
-            with _solver_setting(exact, reuse) as made:
+        for label, exact, reuse, separable in SOLVER_SETTINGS:
+            if label in skip:
+                continue
+            with _solver_setting(exact, reuse, separable) as made:
                 t, _ = _median_time(fn, 1)
             times[label].append(t)
             counts[label] = made[-1]
     rows = []
-    for label, *_ in SOLVER_SETTINGS:
+    for label in times:
         last = counts[label]
         note = (
             f"{last.n_factorisations} factorisations, {last.n_reused} reused-LU solves "
-            f"({last.n_gmres_iterations} GMRES iterations), {last.n_iterative} BiCGSTAB solves per run"
+            f"({last.n_gmres_iterations} GMRES iterations), {last.n_iterative} BiCGSTAB solves, "
+            f"{last.n_separable} fast-diagonalisation solves per run"
         )
         rows.append((f"{name}, {label}", statistics.median(times[label]), note))
     now = rows[-1][1]
@@ -473,11 +482,15 @@ def _fipy_rows(g: Geometry, end: float, t_eval: np.ndarray, ref_core_C: np.ndarr
     return rows
 
 
-def bench_brick_31(repeats: int = 1) -> list[tuple[str, float, str]]:
-    """3-D brick at 31³ nodes (the case of :func:`bench_brick_15`), the solver as it chooses."""
-    t, r = _median_time(lambda: _brick_run(31), repeats)
-    note = f"{r.n_steps} steps, {r.n_factorisations} LU factorisations, {r.n_reused_factorisations} reused"
-    return [("3-D brick 31^3 (500 output times)", t, note)]
+def bench_brick_21_31(repeats: int = 1) -> list[tuple[str, float, str]]:
+    """3-D brick at 21³ and 31³ nodes (the case of :func:`bench_brick_15`): the present solver against the one
+    before fast diagonalisation (Jacobi BiCGSTAB above ``fv_linear.DIRECT_MAX_CELLS``; at 31³ about a minute
+    on a quiet machine, so timed once)."""
+    quick = tuple(label for label, exact, *_ in SOLVER_SETTINGS if not exact)
+    rows = []
+    for n in (21, 31):
+        rows += _solver_settings(f"3-D brick {n}^3", lambda n=n: _brick_run(n), repeats, skip=quick)
+    return rows
 
 
 def bench_app_recompute(repeats: int = 5) -> list[tuple[str, float, str]]:
@@ -552,7 +565,7 @@ def main() -> None:
         + bench_studies()
         + bench_generated_plans()
         + bench_error_control()
-        + bench_brick_31()
+        + bench_brick_21_31()
         + bench_roulade_variability()
         + bench_app_recompute()
         + bench_cli_startup()

@@ -17,8 +17,9 @@ surface condition, by backward Euler), or backward Euler throughout (``scheme="e
 Each step is solved by Newton's method on H with the Jacobian dT/dH = 1/c_app taken from the same
 enthalpy table (zero on an isothermal plateau), then switched to per-cell secant slopes if the iteration
 is slow; this is the enthalpy-Newton family of Voller & Swaminathan (1991). Linear algebra:
-LAPACK ``gtsv`` (tridiagonal; ``scipy.linalg.solve_banded`` as fallback) in 1-D, ``scipy.sparse.linalg.splu``
-(minimum-degree ordering) in 2-D, Jacobi-preconditioned BiCGSTAB in 3-D (LU fill-in is too costly there).
+LAPACK ``gtsv`` (tridiagonal; ``scipy.linalg.solve_banded`` as fallback) in 1-D; in 2-D and 3-D fast
+diagonalisation of separable systems (directly, or as GMRES preconditioner), banded or sparse LU and
+Jacobi-preconditioned BiCGSTAB (see :mod:`~procplan.conduction.fv_linear`).
 
 The surface node lies on the surface (vertex-centred grid, half cells at the ends), so the reported
 surface temperature is that node's temperature, whose half-cell balance includes the convective flux.
@@ -225,6 +226,7 @@ def solve_conduction(
         method=_method_text(grid, scheme, dt_s, target, dt_cap, tol, stepper),
         n_factorisations=model.factors.n_factorisations,
         n_reused_factorisations=model.factors.n_reused,
+        n_separable_solves=model.factors.n_separable,
         error_estimates=(tol, stepper.err_max, stepper.err_core_sum)
         if tol is not None and dt_s is None
         else (None, None, None),
@@ -314,6 +316,7 @@ def _method_text(
     return (
         f"finite volume, {grid.describe()}; enthalpy unknown, harmonic-mean face conductivity; "
         f"{SCHEMES[scheme]}, {step_text}; Newton on H with dT/dH from the table (secant fallback)"
-        f"{'' if len(grid.shape) == 1 else '; sparse LU kept across steps as GMRES preconditioner'}; "
+        f"{'' if len(grid.shape) == 1 else '; sparse LU kept across steps as GMRES preconditioner'}"
+        f"{'; fast diagonalisation of separable systems (direct, or as GMRES preconditioner)' if stepper.model.factors.n_separable else ''}; "
         f"surface temperature = surface node"
     )

@@ -12,10 +12,17 @@ time step), the kept LU solves it directly. The Newton convergence test is on th
 reused factorisation changes the cost of a step, not the tolerance its answer meets. A banded LU (LAPACK
 gbsv: Anderson, E. et al., LAPACK Users' Guide, 3rd ed., SIAM 1999, §2.4.2) of a narrow 2-D grid costs less
 than the GMRES iterations it would save, so those grids solve every Newton system exactly.
+
+Before all of these, a Newton matrix of the separable form (one conductivity, one dT/dH and one h over the
+grid: a linear problem) is solved directly by fast diagonalisation (:mod:`procplan.conduction.fv_tensor`), for
+any time step; on 3-D and wide 2-D grids, a matrix that is not separable is solved by GMRES with the fast
+diagonalisation of a nearby separable one (mean conductivity, dT/dH and h) as preconditioner, the kept LU and
+BiCGSTAB remaining for the systems where that does not converge in a few iterations (across a freezing front).
 """
 
 from __future__ import annotations
 
+import math
 from typing import TYPE_CHECKING
 
 import numpy as np
@@ -23,6 +30,8 @@ import scipy.linalg
 import scipy.linalg.lapack
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
+
+from procplan.conduction.fv_tensor import SeparableSolver, separable_parameters
 
 if TYPE_CHECKING:
     from procplan.conduction.fv_model import FVModel
@@ -54,6 +63,11 @@ GMRES_MAX_ITERATIONS = 12
 #: of a sparse one, about the Python cost of one GMRES iteration (measured; ``python -m procplan.bench``
 #: compares the two on the roulade plan). 0 turns the banded path off.
 BANDED_MAX_BANDWIDTH = 40
+#: True: a Newton matrix of the separable form (one k, one dT/dH, one h over the grid; a linear problem such as
+#: chilling with constant properties) is solved directly by fast diagonalisation
+#: (:mod:`procplan.conduction.fv_tensor`), whatever the time step; False: by the paths below (kept so that
+#: ``python -m procplan.bench`` can time both in the same run).
+SEPARABLE_SOLVES = True
 #: False: the solver as it was before exact solves were added (every 2-D grid on the kept sparse LU with
 #: GMRES, a kept LU never used directly, every Newton step confirmed by a further residual); kept so that
 #: ``python -m procplan.bench`` can time both in the same run.
@@ -107,6 +121,12 @@ class Factorisation:
         self.key: tuple = ()  # the (md, af, bf, dqs, D) of the kept LU's matrix
         self.previous: tuple = ()  # those of the last system solved
         self.band = None  # the last banded LU: (its key, LU, pivots)
+        self.band_buffer = None  # the storage the banded LU is built and factorised in
+        self.separable = None  # the fast-diagonalisation solver of the last separable matrix (fv_tensor)
+        self.nearby = (
+            None  # that of a separable matrix near the last one not separable (GMRES preconditioner)
+        )
+        self.n_separable = 0  # solves by fast diagonalisation, directly or as GMRES preconditioner
 
     def usable(self, scale: float) -> bool:
         """True when a kept LU exists and a/Δt has changed little since it was built."""
@@ -152,8 +172,10 @@ def _close(a: np.ndarray, b: np.ndarray) -> bool:
 def gmres_right(matvec, precondition, rhs: np.ndarray, rtol: float, max_it: int):
     """Right-preconditioned GMRES from x = 0 (Arnoldi by classical Gram–Schmidt applied twice, Givens
     rotations for the small least-squares problem, no restart): returns (x, iterations), x None when
-    ||rhs − A x||₂ ≤ rtol ||rhs||₂ is not reached in max_it iterations."""
-    beta = float(np.linalg.norm(rhs))
+    ||rhs − A x||₂ ≤ rtol ||rhs||₂ is not reached in max_it iterations. (The products with the basis by
+    einsum, not BLAS: on a large grid BLAS spreads them over threads, whose wake-up on busy cores costs
+    milliseconds each.)"""
+    beta = _norm(rhs)
     if beta == 0.0:
         return np.zeros_like(rhs), 0
     V = np.empty((max_it + 1, rhs.size))
@@ -165,10 +187,10 @@ def gmres_right(matvec, precondition, rhs: np.ndarray, rtol: float, max_it: int)
     for k in range(max_it):
         w = matvec(precondition(V[k]))
         for _ in range(2):
-            h = V[: k + 1] @ w
-            w = w - h @ V[: k + 1]
+            h = np.einsum("ij,j->i", V[: k + 1], w)
+            w = w - np.einsum("i,ij->j", h, V[: k + 1])
             Hm[: k + 1, k] += h
-        Hm[k + 1, k] = np.linalg.norm(w)
+        Hm[k + 1, k] = _norm(w)
         for j in range(k):  # the earlier rotations on the new column
             Hm[j, k], Hm[j + 1, k] = (
                 cs[j] * Hm[j, k] + sn[j] * Hm[j + 1, k],
@@ -181,9 +203,14 @@ def gmres_right(matvec, precondition, rhs: np.ndarray, rtol: float, max_it: int)
         g[k + 1], g[k] = -sn[k] * g[k], cs[k] * g[k]
         if abs(g[k + 1]) <= rtol * beta or small:
             y = scipy.linalg.solve_triangular(Hm[: k + 1, : k + 1], g[: k + 1])
-            return precondition(y @ V[: k + 1]), k + 1
-        V[k + 1] = w / np.linalg.norm(w)
+            return precondition(np.einsum("i,ij->j", y, V[: k + 1])), k + 1
+        V[k + 1] = w / _norm(w)
     return None, max_it
+
+
+def _norm(v: np.ndarray) -> float:
+    """The 2-norm by einsum (np.linalg.norm calls BLAS dot, threaded on a large grid)."""
+    return math.sqrt(float(np.einsum("i,i->", v, v)))
 
 
 def newton_matrix(model: FVModel, md, af, bf, dqs, D) -> tuple[sp.csc_matrix, np.ndarray]:
@@ -228,11 +255,19 @@ def linear_solve(model: FVModel, md, af, bf, dqs, D, rhs, scale: float = 0.0, rt
     key = (md, af, bf, dqs, D)
     if not EXACT_SOLVES:
         return _kept_lu_solve(model, key, rhs, scale, rtol)
+    if SEPARABLE_SOLVES:
+        x = _separable_solve(model, key, rhs)
+        if x is not None:
+            return x
     if model.band is not None:
         x = _banded_solve(model, key, rhs)
         if x is not None:
             return x
     factors.exact = False
+    if SEPARABLE_SOLVES and model.band is None:
+        x = _nearby_separable_solve(model, key, rhs, rtol)
+        if x is not None:
+            return x
     # the matrix of the previous solve again (a linear problem at a settled time step): factorise it, so that
     # the steps that follow solve directly
     previous, factors.previous = factors.previous, key
@@ -246,6 +281,53 @@ def linear_solve(model: FVModel, md, af, bf, dqs, D, rhs, scale: float = 0.0, rt
             if x is not None:
                 return x
     return _new_lu_solve(model, key, rhs, scale)
+
+
+def _separable_solve(model: FVModel, key: tuple, rhs: np.ndarray) -> np.ndarray | None:
+    """The Newton system by fast diagonalisation when its matrix is separable (None when it is not); the
+    per-axis eigenvectors are kept while k and h stay the same."""
+    params = separable_parameters(model, *key)
+    if params is None:
+        return None
+    alpha, beta, k, h = params
+    factors = model.factors
+    kept = factors.separable
+    if kept is None or abs(kept.k - k) > 1e-12 * k or abs(kept.h - h) > 1e-12 * max(h, 1e-300):
+        kept = factors.separable = SeparableSolver(model.grid, k, h)
+    factors.n_separable += 1
+    factors.exact = True
+    return kept.solve(alpha, beta, rhs)
+
+
+def _nearby_separable_solve(model: FVModel, key: tuple, rhs: np.ndarray, rtol: float) -> np.ndarray | None:
+    """GMRES on the Newton system with the fast-diagonalisation solve of a separable matrix nearby (the mean
+    conductivity, dT/dH and h of this one) as right preconditioner, to the md-scaled relative residual
+    ``rtol`` in at most ``GMRES_MAX_ITERATIONS`` iterations; None when it does not get there (a
+    temperature-dependent conductivity or c_p varies little over the grid in a chill, so two or three
+    iterations usually do; across a freezing front dT/dH varies by orders of magnitude and it fails)."""
+    md, af, bf, dqs, D = key
+    k = float(np.mean((bf - af) / (2.0 * model.fg)))
+    h = float(np.mean(-dqs / model.sa))
+    beta = float(np.mean(D))
+    if not (k > 0.0 and h >= 0.0 and beta > 0.0):
+        return None
+    factors = model.factors
+    kept = factors.nearby
+    if kept is None or abs(kept.k - k) > 1e-2 * k or abs(kept.h - h) > 1e-2 * max(h, 1e-300):
+        kept = factors.nearby = SeparableSolver(model.grid, k, h)
+    alpha = float(md[0] / model.grid.volume_m3[0])
+    matvec = newton_product(model, *key)
+    x, its = gmres_right(
+        lambda v: matvec(v) / md,
+        lambda v: kept.solve(alpha, beta, md * v),
+        rhs / md,
+        rtol,
+        GMRES_MAX_ITERATIONS,
+    )
+    factors.n_gmres_iterations += its
+    if x is not None:
+        factors.n_separable += 1
+    return x
 
 
 def _kept_lu_solve(model: FVModel, key: tuple, rhs: np.ndarray, scale: float, rtol: float) -> np.ndarray:
@@ -288,7 +370,12 @@ def _banded_solve(model: FVModel, key: tuple, rhs: np.ndarray) -> np.ndarray | N
         md, af, bf, dqs, D = key
         dd = np.bincount(model.fi, af, model.n) - np.bincount(model.fj, bf, model.n)
         dd[model.sc] += dqs
-        buf = np.zeros(rows * model.n)
+        # one buffer per model, cleared each time (a new 3 kl + 1 by n array costs fresh pages every call)
+        buf = factors.band_buffer
+        if buf is None:
+            buf = factors.band_buffer = np.zeros(rows * model.n)
+        else:
+            buf.fill(0.0)
         buf[flat] = np.concatenate([-bf * D[model.fj], af * D[model.fi], md - dd * D])
         lub, piv, x, info = _gbsv(kl, kl, buf.reshape(model.n, rows).T, rhs, overwrite_ab=1)
         factors.band = (key, lub, piv) if info == 0 else None

@@ -8,6 +8,7 @@ Swaminathan (1991), Numerical Heat Transfer B 19:175–189.
 
 from __future__ import annotations
 
+import math
 from typing import TYPE_CHECKING
 
 import numpy as np
@@ -54,30 +55,37 @@ def solve_step(
     H = H0.copy()
     Hold = Told = None
     free = coupling is not None and coupling.free
+    history = (M / dt) * hist
+    fi, fj = model.fi, model.fj
     for it in range(1, _MAX_NEWTON + 1):
         T = model.temperature(H)
-        G, dGi, dGj = model.conductance(T, derivatives=True)
-        F, qs, dqs = model.net_flow(t1, T, G, None if coupling is None else coupling.E)
-        R = md * H - (M / dt) * hist - F
+        parts = model.conductance_parts(T)
+        G, dTf = parts[0], T[fj] - T[fi]
+        F, qs, dqs = model.net_flow(t1, T, G, None if coupling is None else coupling.E, dTf)
+        R = md * H - history - F
         err = float(np.max(np.abs(R) / md))
         if free:
             h = float(model.boundary.h(t1))
             RE, dRE = coupling.residual(float(qs.sum()), h * float(model.sa.sum()))
         if err < tol and (not free or abs(RE) < _TOL_MEDIUM_K * coupling.a_C_dt):
             return H, it - 1
-        direction = np.sign(H - Hn)
-        direction = np.where(direction == 0, -np.sign(R), direction)
-        idx = model.segment(H, direction)
-        D = model.slope[idx]
+        if model.single_slope is not None:  # one table segment: every cell on it
+            idx, D = 0, model.single_slope
+        else:
+            idx = model.segment(H, lambda H=H, R=R: _direction(H, Hn, R))
+            D = model.slope[idx]
         if it > _SECANT_AFTER and Hold is not None:
             dH = H - Hold
             ok = np.abs(dH) > 1e-9 * (1.0 + np.abs(H))
             D = np.where(ok, (T - Told) / np.where(ok, dH, 1.0), D)
         Hold, Told = H, T
-        dTf = T[model.fj] - T[model.fi]
         # the linear residual left by the solve: about 1 % of the Newton tolerance in the next residual
         rtol = min(1e-3, max(1e-12, 0.01 * tol / err))
-        af, bf = -G + dTf * dGi, G + dTf * dGj
+        dGi, dGj = model.conductance_slopes(T, parts)
+        if dGi is None:  # one conductivity: no derivative
+            af, bf = model.minus_G, G
+        else:
+            af, bf = -G + dTf * dGi, G + dTf * dGj
         delta = linear_solve(model, md, af, bf, dqs, D, -R, a / dt, rtol)
         if free:
             u = np.zeros(model.n)
@@ -87,24 +95,45 @@ def solve_step(
             dE = (-RE - float(c @ delta[model.sc])) / (dRE - float(c @ x2[model.sc]))
             delta = delta - x2 * dE
             coupling.E += dE
-        if not np.all(np.isfinite(delta)):
+        if not math.isfinite(float(np.add.reduce(delta))):  # a NaN or an infinity in the update
             return None, it
         cut = False
+        moved = H + delta
         if model.kinks.size and it <= _SECANT_AFTER:
-            delta, cells = _stop_on_kinks(model.kinks, H, delta)
-            cut = bool(cells.any())
-        H = H + delta
+            near = _kinks_within(model.kinks, H, moved)
+            if near.size:
+                delta, cells = _stop_on_kinks(near, H, delta)
+                cut = bool(cells.any())
+                moved = H + delta if cut else moved
+        H = moved
         exact = model.factors.exact and not free and not cut and it <= _SECANT_AFTER
         if exact and linear_on(model, idx, H, model.has_q):  # the residual would vanish: the step is done
             return H, it
     return None, _MAX_NEWTON
 
 
+def _direction(H: np.ndarray, Hn: np.ndarray, R: np.ndarray) -> np.ndarray:
+    """The sign of each cell's move from the last step's field (of −R where it has not moved)."""
+    direction = np.sign(H - Hn)
+    return np.where(direction == 0, -np.sign(R), direction)
+
+
+def _kinks_within(kinks: np.ndarray, H: np.ndarray, moved: np.ndarray) -> np.ndarray:
+    """The kinks an update from H to ``moved`` may cross: those within the span of both fields (widened by
+    1e-9 of its scale, far beyond rounding, so that a kink left out could not be cut on)."""
+    lo, hi = min(H.min(), moved.min()), max(H.max(), moved.max())
+    margin = 1e-9 * (abs(lo) + abs(hi) + 1.0)
+    return kinks[(kinks >= lo - margin) & (kinks <= hi + margin)]
+
+
 def _stop_on_kinks(kinks: np.ndarray, H: np.ndarray, delta: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """The update cut where it would cross a strong kink of T(H), and which cells were cut."""
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        frac = (kinks[None, :] - H[:, None]) / delta[:, None]
-        frac = np.where(frac > 1e-12, frac, np.inf).min(axis=1)
+        frac = None
+        for kink in kinks:  # a few kinks: one pass over the cells each
+            f = (kink - H) / delta
+            f = np.where(f > 1e-12, f, np.inf)
+            frac = f if frac is None else np.minimum(frac, f)
         cut = frac < 1.0
         return np.where(cut, frac * delta, delta), cut
 
@@ -206,8 +235,10 @@ def _tridiagonal_update(lower, diag, upper, R, border):
 def linear_on(model: FVModel, idx: np.ndarray, H: np.ndarray, has_q: bool) -> bool:
     """True when every cell stayed on its table segment and k is constant there: the discrete problem
     is then linear over the update, so the Newton step was exact and no further residual is needed."""
-    if has_q or model._kslope[idx].any():
+    if has_q or (model.k_constant is None and model._kslope[idx].any()):
         return False
+    if model.nseg == 1:
+        return True
     new = np.searchsorted(model.h_grid, H, side="right") - 1
     np.clip(new, 0, model.nseg - 1, out=new)
     return bool(np.array_equal(new, idx))

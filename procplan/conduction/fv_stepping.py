@@ -111,6 +111,7 @@ class TimeStepper:
         self.n_steps = self.n_rej = self.n_it = 0
         self.dts: list[float] = []
         self.stopped_at: float | None = None
+        self._T_of: tuple | None = None  # (H, T(H)) of the last field checked by attempt
 
     # -- step sizes ------------------------------------------------------------------------
     def start_dt(self, t: float, Hv: np.ndarray) -> float:
@@ -182,7 +183,14 @@ class TimeStepper:
                 H1, it2 = model.solve_step(t + dtn, dtn, 1.0, H, H, H)
                 it += it2
                 self.last_a = 1.0
+            else:
+                self._T_of = (H1, T1)
         return H1, it
+
+    def temperature_of(self, H1: np.ndarray) -> np.ndarray:
+        """T(H1) [°C], the one :meth:`attempt` computed when H1 is its field."""
+        kept = self._T_of
+        return kept[1] if kept is not None and kept[0] is H1 else self.model.temperature(H1)
 
     # -- the local error (procplan.conduction.fv_error) -------------------------------------
     def doubled_first_step(self, dtn: float):
@@ -311,7 +319,7 @@ class TimeStepper:
                         f"no convergence at t = {self.t:g} s even with dt = {step:g} s"
                     )
                 continue
-            T1 = model.temperature(H1)
+            T1 = self.temperature_of(H1)
             change = float(np.max(np.abs(T1 - self.T_cur)))
             if model.medium_node is not None:  # a second product in the medium: its change counts too
                 change = max(change, model.medium_node.second_change_K(self.H, H1))
