@@ -78,6 +78,8 @@ def summary_dict(result) -> dict[str, Any]:
         if getattr(sr, "drying", None) is not None:
             out["steps"][-1]["drying"] = _plain(sr.drying)
             out["steps"][-1]["weight_loss_stop"] = weight_stop_dict(sr)
+        if getattr(sr, "drip", None) is not None:
+            out["steps"][-1]["drip"] = _plain(sr.drip)
         if getattr(sr, "mass", None) is not None:
             out["steps"][-1]["brine"] = brine_dict(sr.mass)
     if result.outcomes is not None:
@@ -334,6 +336,8 @@ def _step_lines(result, site=None) -> list[str]:
         if getattr(sr, "drying", None) is not None:
             lines.append(_drying_line(sr.drying, site))
             lines += [w for w in [_weight_stop_line(sr, site)] if w]
+        if getattr(sr, "drip", None) is not None and sr.drip.drip_loss_kg > 0.0:
+            lines += [drip_line(sr.drip), f"    drip basis: {sr.drip.basis}"]
         if getattr(sr, "mass", None) is not None:
             lines += brine_lines(sr.mass)
         ml = _machine_load_dict(sr)
@@ -378,6 +382,16 @@ def _weight_stop_line(sr, site=None) -> str | None:
     )
 
 
+def drip_line(dr) -> str:
+    """The water a meat product expels in a step, beside its evaporation: the cook loss and yield of the step."""
+    return (
+        f"    drip: {dr.drip_loss_kg * 1000:.0f} g ({dr.drip_loss_percent:.1f} %) of juice expelled as the proteins "
+        f"denature (the meat can no longer hold {dr.expelled_share_percent:.0f} % of its raw water); evaporation "
+        f"{dr.evaporative_loss_percent:.1f} %; cook loss {dr.cook_loss_percent:.1f} %, yield {dr.yield_percent:.1f} % "
+        "of the step's starting mass"
+    )
+
+
 def _drying_line(d, site=None) -> str:
     """The moisture of a step in hot dry air: wet period, crust, loss."""
     wet = (
@@ -388,7 +402,7 @@ def _drying_line(d, site=None) -> str:
     return (
         f"    moisture: wet bulb of the air {_temp(site, d.wet_bulb_C, 1)}; {wet} (surface moisture "
         f"{d.surface_moisture_kg_kg:.2f} kg water/kg dry matter at the end, from {d.initial_moisture_kg_kg:.2f}); "
-        f"weight loss {d.weight_loss_kg * 1000:.0f} g ({d.weight_loss_percent:.1f} %); {d.passes} coupling passes, "
+        f"evaporative loss {d.weight_loss_kg * 1000:.0f} g ({d.weight_loss_percent:.1f} %); {d.passes} coupling passes, "
         f"mass balance {d.mass_balance_error:.2%}"
     )
 
@@ -547,9 +561,20 @@ def _energy_lines(oc, batch: str) -> list[str]:
     lines: list[str] = []
     for step_name, pct in oc.weight_loss_percent:
         lines.append(f"  {step_name}: weight loss by surface evaporation {pct:.2f} % of the piece's mass")
+    for step_name, pct in getattr(oc, "drip_loss_percent", ()):
+        if pct > 0.005:
+            lines.append(
+                f"  {step_name}: drip (juice expelled by the heated proteins) {pct:.2f} % of the piece's mass"
+            )
     if oc.yield_percent is not None:
+        drip = (
+            " and drip"
+            if getattr(oc, "drip_loss_percent", ())
+            else " only (drip not modelled for this product)"
+        )
         lines.append(
-            f"  yield: {oc.yield_percent:.1f} % of the starting mass (evaporation only: drip and fat running out are not modelled)"
+            f"  cook loss {100.0 - oc.yield_percent:.1f} %, yield {oc.yield_percent:.1f} % of the starting mass "
+            f"(evaporation{drip}; fat running out is not modelled)"
         )
     en = oc.energy
     lines.append(

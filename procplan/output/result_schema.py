@@ -27,7 +27,7 @@ from typing import Any
 
 #: The schema's name and version, written at the top of every result document.
 RESULT_SCHEMA_NAME = "procplan-result"
-RESULT_SCHEMA_VERSION = "1.2"
+RESULT_SCHEMA_VERSION = "1.3"
 
 _NUM = {"type": "number"}
 _NUM_OR_NULL = {"type": ["number", "null"]}
@@ -222,9 +222,25 @@ _OUTCOMES = _obj(
         "refrigeration": _array(_REFRIGERATION),
         "energy_balance": _NUM_OR_NULL,
         "weight_loss_percent": {
-            "description": "(step name, moisture loss [% of the piece's mass]) for unwrapped products",
+            "description": "(step name, water evaporated [% of the piece's mass at the step's start]) for unwrapped "
+            "products",
             "type": "array",
             "items": {"type": "array", "prefixItems": [_TEXT, _NUM], "minItems": 2, "maxItems": 2},
+        },
+        "drip_loss_percent": {
+            "description": "(step name, juice expelled by the heated proteins [% of the piece's mass at the step's "
+            "start]) for unwrapped meat",
+            "type": "array",
+            "items": {"type": "array", "prefixItems": [_TEXT, _NUM], "minItems": 2, "maxItems": 2},
+        },
+        "yield_percent": {
+            **_NUM_OR_NULL,
+            "description": "mass at the end over the mass at the start [%]: "
+            "evaporation and drip of every step (null without any loss)",
+        },
+        "cook_loss_percent": {
+            **_NUM_OR_NULL,
+            "description": "100 − yield_percent [%] (null without any loss)",
         },
         "warnings": _TEXTS,
         "price": _obj({"price_per_kWh": _NUM, "currency": _TEXT}, nullable=True),
@@ -257,6 +273,17 @@ _STEP = _obj(
         "details": {"type": "object"},
         "warnings": _TEXTS,
         "unreliable_reason": _TEXT_OR_NULL,
+        "drip": _obj(
+            {
+                "drip_loss_kg": _NUM,
+                "drip_loss_percent": _NUM,
+                "evaporative_loss_percent": _NUM,
+                "cook_loss_percent": _NUM,
+                "yield_percent": _NUM,
+                "expelled_share_percent": _NUM,
+            },
+            nullable=True,
+        ),
     },
     required=("name", "start_min", "end_min", "solver", "reason", "medium_C", "h_W_m2K", "surface"),
 )

@@ -217,7 +217,11 @@ def summary_table(result) -> pd.DataFrame:
             ("peak duty (largest 1-min mean) per batch", en.peak_duty_kW_per_batch, "kW"),
         ]
         for step_name, pct in oc.weight_loss_percent:
-            rows.append((f"{step_name}: weight loss", pct, "%"))
+            rows.append((f"{step_name}: weight loss by evaporation", pct, "%"))
+        for step_name, pct in getattr(oc, "drip_loss_percent", ()):
+            rows.append((f"{step_name}: drip", pct, "%"))
+        if oc.yield_percent is not None:
+            rows += [("cook loss", 100.0 - oc.yield_percent, "%"), ("yield", oc.yield_percent, "%")]
         if oc.cost_per_batch is not None and oc.price is not None:
             rows.append(("electricity cost per batch", oc.cost_per_batch, oc.price.currency))
     rows += [("warning", w, "") for w in s["warnings"]]

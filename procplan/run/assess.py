@@ -168,7 +168,11 @@ class Outcomes:
     energy : heat exchanged per piece and per batch over the run
     refrigeration : heat, duty and refrigeration energy of every step
     energy_balance : |surface heat − enthalpy change| as a fraction of the heat exchanged [-]
-    weight_loss_percent : (step, moisture loss [% of the piece's mass]) for unwrapped products
+    weight_loss_percent : (step, water evaporated [% of the piece's mass at the step's start]) for unwrapped
+        products
+    drip_loss_percent : (step, water expelled as drip [% of the same mass]) for unwrapped meat (run.drip)
+    yield_percent : mass at the end over the mass at the start [%], from the evaporation and drip of every step
+    cook_loss_percent : 100 − yield_percent [%] (None without any loss)
     warnings : what the assessment found worth a warning
     price : the electricity price of the cost (None: no price in the plan or the site, no cost)
     cost_per_batch : electricity cost of the batch over all steps, in the price's currency (None without a price)
@@ -186,8 +190,10 @@ class Outcomes:
     refrigeration: tuple[StepEnergy, ...]
     energy_balance: float = 0.0
     weight_loss_percent: tuple[tuple[str, float], ...] = ()
-    #: mass at the end over the mass at the start [%], from the weight losses (None without any)
+    #: mass at the end over the mass at the start [%], from the evaporation and drip losses (None without any)
     yield_percent: float | None = None
+    drip_loss_percent: tuple[tuple[str, float], ...] = ()
+    cook_loss_percent: float | None = None
     warnings: tuple[str, ...] = ()
     price: EnergyPrice | None = None
     cost_per_batch: float | None = None
@@ -506,10 +512,18 @@ def assess_plan(
     price = _price(run, site, library, warnings)
     refrigeration = tuple(_step_energy(run, sr, price) for sr in run.steps)
     losses = _weight_loss(run)
+    drips = tuple((sr.name, sr.drip.drip_loss_percent) for sr in run.steps if getattr(sr, "drip", None))
+    # one loss per step, as a share of the mass the step started with: its evaporation and its drip
+    per_step = {name: 0.0 for name, _ in losses + drips}
+    for name, pct in losses + drips:
+        per_step[name] += pct
+    total_yield = yield_percent(list(per_step.items()))
     costs = [se.refrigeration.cost for se in refrigeration if se.refrigeration is not None]
     return Outcomes(
         weight_loss_percent=losses,
-        yield_percent=yield_percent(losses),
+        yield_percent=total_yield,
+        drip_loss_percent=drips,
+        cook_loss_percent=None if total_yield is None else 100.0 - total_yield,
         targets=targets,
         rule_check=rule_check,
         rule_applied_from_s=rule_from,

@@ -82,9 +82,10 @@ def salt_metrics(result) -> dict[str, float]:
 #: evaporation in an air machine with a humidity setting): the figures of the run's outcomes and of the last
 #: step with a weight-loss stop, as the summary and the sheet show them.
 DRYING_METRIC_COLUMNS: dict[str, str] = {
-    "weight_loss_percent": "mass lost by surface evaporation over the run, share of the starting mass [%] "
-    "(100 − yield)",
-    "yield_percent": "mass at the end over the mass at the start [%] (evaporation only: drip is not modelled)",
+    "weight_loss_percent": "mass lost over the run, share of the starting mass [%] (100 − yield: the cook loss, "
+    "evaporation and, for unwrapped meat, drip)",
+    "yield_percent": "mass at the end over the mass at the start [%] (evaporation and drip; fat running out is "
+    "not modelled)",
     "weight_stop_min": "time from the start of the last step with a weight-loss stop to that stop [min] (NaN "
     "when not reached or without such a stop)",
 }

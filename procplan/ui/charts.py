@@ -483,12 +483,22 @@ def drying_figure(sr, u: Units) -> go.Figure:
     t = u.time_value(np.asarray(d.time_s, dtype=float) + sr.start_s)
     fig = make_subplots(specs=[[{"secondary_y": True}]])
     fig.add_trace(
-        go.Scatter(x=t, y=np.asarray(d.loss_percent), mode="lines", name="weight lost",
+        go.Scatter(x=t, y=np.asarray(d.loss_percent), mode="lines", name="evaporated",
                    line=dict(color="#b35806", width=2.5)),
         secondary_y=False,
     )  # fmt: skip
+    dr = getattr(sr, "drip", None)
+    drip = (
+        np.zeros_like(t) if dr is None or dr.time_s is None
+        else np.interp(np.asarray(d.time_s, dtype=float), dr.time_s, dr.drip_percent_history)
+    )  # fmt: skip
+    if dr is not None:
+        fig.add_trace(
+            go.Scatter(x=t, y=drip, mode="lines", name="drip", line=dict(color="#1b7837", width=2.0, dash="dash")),
+            secondary_y=False,
+        )  # fmt: skip
     fig.add_trace(
-        go.Scatter(x=t, y=np.asarray(d.yield_percent_history), mode="lines", name="yield",
+        go.Scatter(x=t, y=np.asarray(d.yield_percent_history) - drip, mode="lines", name="yield",
                    line=dict(color="#542788", width=1.8)),
         secondary_y=True,
     )  # fmt: skip

@@ -89,12 +89,14 @@ def drying(result, u: Units) -> None:
         d = sr.drying
         st.markdown(f"**Step {sr.index + 1}: {sr.name}**")
         c = st.columns(4)
+        dr = getattr(sr, "drip", None)
         c[0].metric(
-            "Weight lost in the step",
+            "Evaporated in the step",
             f"{d.weight_loss_percent:.1f} %",
-            help=f"{d.weight_loss_kg * 1000:.0f} g per piece",
+            help=f"{d.weight_loss_kg * 1000:.0f} g per piece"
+            + ("" if dr is None else f"; drip {dr.drip_loss_percent:.1f} % ({dr.drip_loss_kg * 1000:.0f} g)"),
         )
-        c[1].metric("Yield of the step", f"{d.yield_percent:.1f} %")
+        c[1].metric("Yield of the step", f"{d.yield_percent if dr is None else dr.yield_percent:.1f} %")
         c[2].metric("Wet bulb of the air", u.temp(d.wet_bulb_C))
         c[3].metric(
             "Surface wet for", "the whole step" if d.wet_until_s is None else u.duration(d.wet_until_s)
@@ -120,8 +122,12 @@ def drying(result, u: Units) -> None:
             f"{oc.yield_percent:.1f} %",
             help="mass at the end over the mass at the start",
         )
+        drip = bool(getattr(oc, "drip_loss_percent", ()))
         st.caption(
-            "Evaporation only: drip and fat running out are not modelled, so cook losses come out low."
+            "Evaporation and drip (the juice the heated proteins expel, taken as expelled at once); fat running out "
+            "is not modelled."
+            if drip
+            else "Evaporation only: drip and fat running out are not modelled for this product."
         )
 
 

@@ -363,21 +363,27 @@ def _energy(result, u: Units) -> None:
 
 def _weight_loss(result) -> None:
     """Moisture lost from an unwrapped product's surface, per step, as the library computes it."""
-    losses = result.outcomes.weight_loss_percent
+    oc = result.outcomes
+    losses = [(f"{name}: evaporated", pct) for name, pct in oc.weight_loss_percent]
+    losses += [(f"{name}: drip", pct) for name, pct in getattr(oc, "drip_loss_percent", ()) if pct > 0.005]
     if not losses:
         return
     st.subheader("Weight loss")
     mass = result.piece_mass_kg
     cols = st.columns(min(len(losses), 4))
-    for j, (step_name, pct) in enumerate(losses):
+    for j, (label, pct) in enumerate(losses):
         cols[j % len(cols)].metric(
-            f"{step_name}",
+            label,
             f"{pct:.2f} %",
             help=f"about {pct / 100.0 * mass * 1000.0:.0f} g of a {mass:.3f} kg piece",
         )
+    if oc.yield_percent is not None:
+        st.caption(
+            f"Cook loss {oc.cook_loss_percent:.1f} %, yield {oc.yield_percent:.1f} % of the starting mass."
+        )
     st.caption(
-        "Moisture evaporated from the unwrapped surface in each step, in % of the piece's mass "
-        "(surface evaporation only; the conduction model carries no moisture inside the product)."
+        "Evaporated: moisture leaving the unwrapped surface, in % of the piece's mass at the step's start. Drip: the "
+        "juice an unwrapped meat product's heated proteins expel (taken as leaving at once, the lower-yield side)."
     )
 
 
