@@ -336,8 +336,11 @@ def _step_lines(result, site=None) -> list[str]:
         if getattr(sr, "drying", None) is not None:
             lines.append(_drying_line(sr.drying, site))
             lines += [w for w in [_weight_stop_line(sr, site)] if w]
-        if getattr(sr, "drip", None) is not None and sr.drip.drip_loss_kg > 0.0:
-            lines += [drip_line(sr.drip), f"    drip basis: {sr.drip.basis}"]
+        if getattr(sr, "drip", None) is not None and sr.drip.drip_loss_percent >= 0.05:
+            said = any(
+                "drip basis" in line for line in lines
+            )  # the basis once, with the first step that drips
+            lines += [drip_line(sr.drip)] + ([] if said else [f"    drip basis: {sr.drip.basis}"])
         if getattr(sr, "mass", None) is not None:
             lines += brine_lines(sr.mass)
         ml = _machine_load_dict(sr)

@@ -206,9 +206,12 @@ def test_oven_roast_shows_its_drying_settings_and_the_library_numbers(app, libra
     assert f"({w_g_kg:.0f} g water per kg of dry air)" in info
     go(app, "Result")
     ref = library_result(library_copy, OVEN_PLAN)
-    d = ref.steps[0].drying
-    assert_allclose(number_of(metric(app, "Weight lost in the step")), d.weight_loss_percent, atol=0.05)
-    assert_allclose(number_of(metric(app, "Yield of the step")), d.yield_percent, atol=0.05)
+    d, dr = ref.steps[0].drying, ref.steps[0].drip
+    assert_allclose(number_of(metric(app, "Evaporated in the step")), d.weight_loss_percent, atol=0.05)
+    # the step's yield counts its drip too (run.drip): 100 − evaporated − drip
+    assert_allclose(number_of(metric(app, "Yield of the step")), dr.yield_percent, atol=0.05)
+    assert_allclose(dr.yield_percent, 100.0 - d.weight_loss_percent - dr.drip_loss_percent, atol=1e-9)
+    assert_allclose(number_of(metric(app, "oven roast: drip")), dr.drip_loss_percent, atol=0.005)
     assert_allclose(number_of(metric(app, "Yield of the plan")), ref.outcomes.yield_percent, atol=0.05)
     assert_allclose(number_of(metric(app, "Wet bulb of the air")), d.wet_bulb_C, atol=0.05)
     assert_allclose(number_of(metric(app, "Surface wet for")), d.wet_until_s / 60.0, atol=0.05)
@@ -216,7 +219,10 @@ def test_oven_roast_shows_its_drying_settings_and_the_library_numbers(app, libra
     assert {"weight lost [% of the piece at the step start]", "yield [% of the piece at the step start]"} <= (
         _axis_titles(fig)
     )
-    lost = _values(next(t for t in fig["data"] if t.get("name") == "weight lost")["y"])
+    lost = _values(next(t for t in fig["data"] if t.get("name") == "evaporated")["y"])
+    drip = _values(next(t for t in fig["data"] if t.get("name") == "drip")["y"])
+    assert_allclose(drip[-1], dr.drip_loss_percent, rtol=1e-6)
+    assert drip[0] == pytest.approx(0.0, abs=1e-9)
     # the curve ends at the loss the library reports for the step, and starts from nothing lost
     assert_allclose(lost[-1], d.weight_loss_percent, rtol=1e-9)
     assert lost[0] == pytest.approx(0.0, abs=1e-9)
