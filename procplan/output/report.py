@@ -12,6 +12,8 @@ from procplan.outcomes.energy import PEAK_DUTY_LABEL
 from procplan.outcomes.rules import limit_text
 from procplan.output.brine_report import brine_dict, brine_lines
 from procplan.output.json_safe import json_safe
+from procplan.run.drip import CAUTION as DRIP_CAUTION
+from procplan.run.drip import cook_loss_text, run_bracket, yield_text
 
 
 def _plain(obj: Any) -> Any:
@@ -336,7 +338,7 @@ def _step_lines(result, site=None) -> list[str]:
         if getattr(sr, "drying", None) is not None:
             lines.append(_drying_line(sr.drying, site))
             lines += [w for w in [_weight_stop_line(sr, site)] if w]
-        if getattr(sr, "drip", None) is not None and sr.drip.drip_loss_percent >= 0.05:
+        if getattr(sr, "drip", None) is not None and sr.drip.drainable_juice_percent >= 0.05:
             said = any(
                 "drip basis" in line for line in lines
             )  # the basis once, with the first step that drips
@@ -386,12 +388,11 @@ def _weight_stop_line(sr, site=None) -> str | None:
 
 
 def drip_line(dr) -> str:
-    """The water a meat product expels in a step, beside its evaporation: the cook loss and yield of the step."""
+    """The bracket of a meat product's cook loss in a step: evaporation alone and with all its drainable juice."""
     return (
-        f"    drip: {dr.drip_loss_kg * 1000:.0f} g ({dr.drip_loss_percent:.1f} %) of juice expelled as the proteins "
-        f"denature (the meat can no longer hold {dr.expelled_share_percent:.0f} % of its raw water); evaporation "
-        f"{dr.evaporative_loss_percent:.1f} %; cook loss {dr.cook_loss_percent:.1f} %, yield {dr.yield_percent:.1f} % "
-        "of the step's starting mass"
+        f"    {cook_loss_text(dr.evaporative_loss_percent, dr.cook_loss_upper_percent)}: "
+        f"{dr.drainable_juice_kg * 1000:.0f} g of juice (the meat can no longer hold {dr.expelled_share_percent:.0f} % "
+        f"of its raw water); {yield_text(dr.yield_lower_percent, dr.yield_percent)} of the step's starting mass"
     )
 
 
@@ -564,20 +565,18 @@ def _energy_lines(oc, batch: str) -> list[str]:
     lines: list[str] = []
     for step_name, pct in oc.weight_loss_percent:
         lines.append(f"  {step_name}: weight loss by surface evaporation {pct:.2f} % of the piece's mass")
-    for step_name, pct in getattr(oc, "drip_loss_percent", ()):
-        if pct > 0.005:
-            lines.append(
-                f"  {step_name}: drip (juice expelled by the heated proteins) {pct:.2f} % of the piece's mass"
-            )
-    if oc.yield_percent is not None:
-        drip = (
-            " and drip"
-            if getattr(oc, "drip_loss_percent", ())
-            else " only (drip not modelled for this product)"
-        )
+    bracket = run_bracket(oc)
+    if bracket is not None:
+        lo, hi, y_lo, y_hi = bracket
+        lines += [
+            f"  {cook_loss_text(lo, hi)}; {yield_text(y_lo, y_hi)} of the starting mass (fat running out is not "
+            "modelled)",
+            f"  {DRIP_CAUTION}",
+        ]
+    elif oc.yield_percent is not None:
         lines.append(
-            f"  cook loss {100.0 - oc.yield_percent:.1f} %, yield {oc.yield_percent:.1f} % of the starting mass "
-            f"(evaporation{drip}; fat running out is not modelled)"
+            f"  yield: {oc.yield_percent:.1f} % of the starting mass (evaporation only: drip and fat running out are "
+            "not modelled)"
         )
     en = oc.energy
     lines.append(

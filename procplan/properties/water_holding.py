@@ -21,9 +21,11 @@ mass, inside that range.)
 The drip is taken as set by the hottest temperature each part of the piece has reached (Bengtsson 1976: on
 thin slices, temperature matters more than time to the drip loss; the expelled water is never taken back on
 cooling), so it follows from the temperature field alone: the volume-mean share s̄(t) of the peak temperatures
-so far, and the drip increment dD = (water still held) · ds̄ as the field heats. Equilibrium is taken to be
-reached at once: in a large joint the expelled water has to flow to the surface, which takes time, so the drip
-of a thick piece is overstated (the lower-yield side).
+so far, and the water expelled W₀ (s̄ − s₀)/(1 − s₀) as the field heats, less what evaporated (the expelled
+water feeds the surface's evaporation first). Equilibrium is taken to be reached at once and all the expelled
+water to drain: in a large joint the expelled water has to flow to the surface, which takes time, and much of it
+stays in the piece until it is carved, so this drip is an upper bound of the cook loss (the lower-yield side);
+the evaporation alone is its lower bound (:mod:`procplan.run.drip`).
 
 Validity: beef (and, by its similar proteins, other red meat and pork); the curve does not hold for cured or
 brined meat (salt and phosphate raise the water-holding capacity) nor for products whose water is not held by
@@ -116,29 +118,37 @@ def mean_expelled_share(peak_field_C, volume_m3, holding: WaterHolding = BEEF_WA
     return float(np.dot(v, holding.expelled_share(t)) / v.sum())
 
 
-def drip_history_kg(share, water_kg: float, evaporated_kg=None) -> np.ndarray:
-    """Water expelled so far [kg] from the history of the volume-mean expelled share ``share`` [-] (non-decreasing:
-    the share of peak temperatures), for a piece that held ``water_kg`` at the start and had lost
-    ``evaporated_kg`` (same times; None: nothing) by evaporation.
+def drip_history_kg(
+    share, raw_water_kg: float, evaporated_kg=None, lost_kg: float = 0.0, raw_share: float = 0.0
+) -> np.ndarray:
+    """Juice drained so far [kg] if all the water the heated meat can no longer hold leaves at once (the upper
+    bound of the drip), from the history of the volume-mean expelled share ``share`` [-] (the share of peak
+    temperatures: taken non-decreasing).
 
-    Each rise of the share expels that share of the raw water from the water still held, taken evenly over the
-    piece: dD = (W₀ − E − D) ds/(1 − s). The water the surface evaporated is taken evenly from the piece, though it
-    leaves its hot outer layer, which keeps a little more water to drip there (the lower-yield side). Never
-    negative, never decreasing, never more than the water held (mass balance: E + D + held = W₀).
+    ``raw_water_kg`` : water of the raw piece W₀ [kg]; ``raw_share`` : the raw piece's own share s₀ (the water it
+    holds: not a drip); ``lost_kg`` : water lost before the step L₀ [kg] (evaporated, drained, or released into
+    a drying's evaporation); ``evaporated_kg`` : water evaporated since the step's start E(t) [kg] (same times;
+    None: nothing).
+
+    On the curve's basis the piece keeps W₀ (1 − s̄)/(1 − s₀) and has expelled X(t) = W₀ (s̄ − s₀)/(1 − s₀). The
+    expelled water reaches the surface, where it feeds the evaporation first: water that evaporated cannot also
+    drip, so the drip is what is expelled and not yet lost, D(t) = max(X(t) − L₀ − E(t), 0), taken at each time
+    as the smallest value it reaches later in the step (never decreasing: juice counted as drained is not taken
+    back by later evaporation). Hence the total loss never exceeds the larger of the expelled water and the
+    evaporation: L₀ + E + D ≤ max(X, L₀ + E) at every time, and D ≤ the water still held (mass balance:
+    W₀ = L₀ + E + D + held).
 
     >>> [round(float(x), 4) for x in drip_history_kg([0.0, 0.2, 0.4], 1.0)]
     [0.0, 0.2, 0.4]
-    >>> [round(float(x), 4) for x in drip_history_kg([0.0, 0.2, 0.4], 1.0, [0.0, 0.0, 0.5])]
-    [0.0, 0.2, 0.275]
+    >>> [round(float(x), 4) for x in drip_history_kg([0.0, 0.2, 0.4], 1.0, [0.0, 0.3, 0.3])]
+    [0.0, 0.0, 0.1]
     """
     s = np.maximum.accumulate(np.clip(np.asarray(share, dtype=float), 0.0, 0.999))
-    w0 = validate.number("water_kg", water_kg, minimum=0.0, unit="kg")
+    w0 = validate.number("raw_water_kg", raw_water_kg, minimum=0.0, unit="kg")
+    s0 = min(max(float(raw_share), 0.0), 0.999)
     e = np.zeros_like(s) if evaporated_kg is None else np.asarray(evaporated_kg, dtype=float)
     if e.shape != s.shape:
         raise ValueError("evaporated_kg needs one value per time of share")
-    drip = np.zeros_like(s)
-    for i in range(1, s.size):
-        held = max(w0 - e[i] - drip[i - 1], 0.0)
-        # the held water at the share s[i-1] falls to the level the share s[i] leaves of it
-        drip[i] = drip[i - 1] + held * (s[i] - s[i - 1]) / (1.0 - s[i - 1])
-    return drip
+    expelled = w0 * np.maximum(s - s0, 0.0) / (1.0 - s0)
+    drip = np.maximum(expelled - float(lost_kg) - e, 0.0)
+    return np.minimum.accumulate(drip[::-1])[::-1]

@@ -84,7 +84,9 @@ class StepResult:
     machine_load: ml.MachineLoadResult | None = None  # how the machine carried the batch (None: set point)
     load_note: str | None = None  # why a step in a machine ran as an empty machine (set point held)
     drying: Any = None  # run.dry_oven.DryingSummary: moisture of an unwrapped product in hot dry air
-    drip: Any = None  # run.drip.DripSummary: water an unwrapped meat product expels as it heats
+    drip: Any = (
+        None  # run.drip.DripSummary: the cook-loss bracket of an unwrapped meat product (evaporation, juice)
+    )
 
     @property
     def duration_s(self) -> float:

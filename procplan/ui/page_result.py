@@ -18,6 +18,8 @@ from procplan.output.report import (
     log_reduction_text,
     price_text,
 )
+from procplan.run.drip import CAUTION as DRIP_CAUTION
+from procplan.run.drip import cook_loss_text, run_bracket, yield_text
 from procplan.ui import charts, load_panel, mass_panel, state, widgets
 from procplan.ui.fmt import Units, yes_no
 
@@ -362,29 +364,31 @@ def _energy(result, u: Units) -> None:
 
 
 def _weight_loss(result) -> None:
-    """Moisture lost from an unwrapped product's surface, per step, as the library computes it."""
+    """Moisture lost from an unwrapped product's surface, per step, as the library computes it, and for unwrapped
+    meat the bracket of its cook loss and yield."""
     oc = result.outcomes
     losses = [(f"{name}: evaporated", pct) for name, pct in oc.weight_loss_percent]
-    losses += [(f"{name}: drip", pct) for name, pct in getattr(oc, "drip_loss_percent", ()) if pct > 0.005]
-    if not losses:
+    bracket = run_bracket(oc)
+    if not losses and bracket is None:
         return
     st.subheader("Weight loss")
     mass = result.piece_mass_kg
-    cols = st.columns(min(len(losses), 4))
+    cols = st.columns(min(max(len(losses), 1), 4))
     for j, (label, pct) in enumerate(losses):
         cols[j % len(cols)].metric(
             label,
             f"{pct:.2f} %",
             help=f"about {pct / 100.0 * mass * 1000.0:.0f} g of a {mass:.3f} kg piece",
         )
-    if oc.yield_percent is not None:
+    if bracket is not None:
+        lo, hi, y_lo, y_hi = bracket
+        text = cook_loss_text(lo, hi)
+        st.markdown(f"{text[:1].upper()}{text[1:]}; {yield_text(y_lo, y_hi)} of the starting mass.")
+        st.caption(DRIP_CAUTION)
+    if losses:
         st.caption(
-            f"Cook loss {oc.cook_loss_percent:.1f} %, yield {oc.yield_percent:.1f} % of the starting mass."
+            "Evaporated: moisture leaving the unwrapped surface, in % of the piece's mass at the step's start."
         )
-    st.caption(
-        "Evaporated: moisture leaving the unwrapped surface, in % of the piece's mass at the step's start. Drip: the "
-        "juice an unwrapped meat product's heated proteins expel (taken as leaving at once, the lower-yield side)."
-    )
 
 
 def render_result(result, u: Units, *, stale: bool = False) -> None:

@@ -74,8 +74,28 @@ def test_drip_history_mass_balance_and_bounds():
     drip = drip_history_kg(share, water, evaporated)
     held = water - evaporated - drip
     assert drip[0] == 0.0 and np.all(np.diff(drip) >= 0.0) and np.all(held >= -1e-12)
-    assert float(drip[-1]) < float(share.max()) * water  # the evaporated water drips no more
     plain = drip_history_kg([0.0, 0.1, 0.3, 0.3, 0.46], water)
     assert plain == pytest.approx(water * np.array([0.0, 0.1, 0.3, 0.3, 0.46]), rel=1e-12)
     with pytest.raises(ValueError):
         drip_history_kg([0.0, 0.1], water, [0.0])
+
+
+def test_drip_never_counts_evaporated_water_twice():
+    # Invariant (no double count, the module's own basis): the water expelled at the peak share so far is
+    # W0 max(s); evaporated water cannot also drip, so at every time the total lost, evaporation + drip, is no
+    # more than the larger of the expelled water and the evaporation itself
+    rng = np.random.default_rng(7)
+    share = np.clip(np.cumsum(rng.uniform(-0.01, 0.03, 300)), 0.0, 0.46)
+    water = 0.71
+    for top in (0.05, 0.2, 0.4):  # evaporation well below, near and above the expelled water
+        evaporated = np.linspace(0.0, top, 300)
+        drip = drip_history_kg(share, water, evaporated)
+        expelled = water * np.maximum.accumulate(share)
+        assert np.all(evaporated + drip <= np.maximum(expelled, evaporated) + 1e-12)
+        assert np.all(np.diff(drip) >= 0.0)
+        # where the evaporation stays below the expelled water to the end, the step ends on the curve
+        if top < expelled[-1]:
+            assert evaporated[-1] + drip[-1] == pytest.approx(expelled[-1], rel=1e-12)
+    # water lost before the step (an earlier step's evaporation and drip) counts the same way
+    later = drip_history_kg([0.3, 0.4], water, None, lost_kg=water * 0.3)
+    assert later == pytest.approx([0.0, water * 0.1], rel=1e-12)

@@ -49,5 +49,9 @@ def test_steam_cook_has_no_evaporation(library):
     assert res.steps[0].stop_time_s == pytest.approx(wrapped.steps[0].stop_time_s, rel=1e-9)
     # no evaporation, but the unwrapped joint drips (run.drip); wrapped, its purge stays in the pack
     assert res.outcomes.weight_loss_percent == () and res.steps[0].drip.evaporative_loss_percent == 0.0
-    assert res.outcomes.yield_percent == pytest.approx(100.0 - res.steps[0].drip.drip_loss_percent)
+    # the yield keeps its meaning (evaporation alone: none here); the lower bound drains the juice
+    assert res.outcomes.yield_percent is None
+    assert res.outcomes.yield_lower_percent == pytest.approx(
+        100.0 - res.steps[0].drip.drainable_juice_percent
+    )
     assert wrapped.outcomes.yield_percent is None and wrapped.steps[0].drip is None
