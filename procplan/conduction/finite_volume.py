@@ -133,6 +133,7 @@ def solve_conduction(
     max_steps: int | None = None,
     tolerance_K: float | None = None,
     probe_depths_m=(),
+    peak_measure=None,
 ) -> ConductionResult:
     """Transient conduction with phase change in one piece of product, by implicit finite volumes on enthalpy.
 
@@ -168,6 +169,9 @@ def solve_conduction(
     probe_depths_m : depths below the surface [m], each from 0 to the half-thickness or radius of the
         shortest axis, whose temperatures the result records (``probe_C``), read along that axis from the
         centre of its face (``fv_grid.probe_weights``)
+    peak_measure : ``f(peak_C, volume_m3) -> float`` of the hottest temperature each cell has reached so far
+        (flat, every accepted step counts) and the cells' volumes, recorded at each time of the history
+        (``peak_measure``; the run's peak field is ``peak_field``); None: not kept
 
     Returns
     -------
@@ -212,7 +216,7 @@ def solve_conduction(
         tolerance=tol,
         flux_change=FLUX_CHANGE_PER_STEP if tol is None else FLUX_CHANGE_WITH_TOLERANCE,
     )
-    recorder = HistoryRecorder(grid, model.temperature, probe_depths_m)
+    recorder = HistoryRecorder(grid, model.temperature, probe_depths_m, peak_measure)
     stepper = TimeStepper(model, control, H, recorder)
     stepper.run()
     return recorder.result(

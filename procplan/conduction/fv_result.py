@@ -82,6 +82,10 @@ class ConductionResult:
     #: depths), linear between the two nodes around each depth (``fv_grid.probe_weights``)
     probe_depths_m: tuple[float, ...] = ()
     probe_C: np.ndarray | None = None
+    #: with a ``peak_measure``: its value at each time of the history (None without one), and the hottest
+    #: temperature each cell reached over the run [°C], shaped like ``grid.shape``
+    peak_measure: np.ndarray | None = None
+    peak_field: np.ndarray | None = None
 
     def to_frame(self) -> pd.DataFrame:
         """The history as a DataFrame with unit-suffixed columns."""
@@ -102,8 +106,12 @@ class ConductionResult:
 class HistoryRecorder:
     """Collects the history of a run (one row per recorded time) and turns it into a ConductionResult."""
 
-    def __init__(self, grid: FVGrid, temperature, probe_depths_m=()) -> None:
+    def __init__(self, grid: FVGrid, temperature, probe_depths_m=(), peak_measure=None) -> None:
         self.grid = grid
+        # the running hottest temperature of each cell (kept only for a peak measure), and the measure's values
+        self.peak_measure = peak_measure
+        self.peak: np.ndarray | None = None
+        self.peak_rows: list[float] = []
         self.probe_depths_m = tuple(float(d) for d in probe_depths_m)
         self.probes = [probe_weights(grid, d, "probe_depths_m") for d in self.probe_depths_m]
         self.probe_rows: list[list[float]] = []
@@ -126,6 +134,18 @@ class HistoryRecorder:
         rec["q"].append(q)
         rec["e"].append(e)
         self.probe_rows.append([(1.0 - w) * T[i0] + w * T[i1] for i0, i1, w in self.probes])
+        if self.peak_measure is not None:
+            self.observe(T)
+            self.peak_rows.append(float(self.peak_measure(self.peak, self.volume)))
+
+    def observe(self, T: np.ndarray) -> None:
+        """Raise the running peak field to the temperature field T of an accepted step (with a peak measure)."""
+        if self.peak_measure is None:
+            return
+        if self.peak is None:
+            self.peak = np.array(T, dtype=float).ravel()
+        else:
+            np.maximum(self.peak, np.ravel(T), out=self.peak)
 
     def result(
         self,
@@ -178,4 +198,6 @@ class HistoryRecorder:
             core_error_sum_K=error_estimates[2],
             probe_depths_m=self.probe_depths_m,
             probe_C=np.asarray(self.probe_rows, dtype=float).reshape(len(self.probe_rows), len(self.probes)),
+            peak_measure=None if self.peak_measure is None else np.asarray(self.peak_rows, dtype=float),
+            peak_field=None if self.peak is None else self.peak.reshape(grid.shape).copy(),
         )

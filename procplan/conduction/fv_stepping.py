@@ -289,6 +289,7 @@ class TimeStepper:
             self.err_core_sum += float(self.err[self.grid.core_index])
         self.t = self.t + step if self.stopped_at is None else self.stopped_at
         self.core_T = core1
+        self.recorder.observe(T1)
         self.n_steps += 1
         self.dts.append(step)
         if self.stopped_at is not None or c.outs is None or np.any(np.abs(c.outs - self.t) <= c.eps_t):

@@ -14,6 +14,8 @@ from procplan.output.brine_report import brine_dict, brine_lines
 from procplan.output.json_safe import json_safe
 from procplan.output.second_report import second_product_dict, second_product_lines, second_step_dict
 from procplan.output.text_units import _fmt_min, _minutes, _temp, _time
+from procplan.run.drip import CAUTION as DRIP_CAUTION
+from procplan.run.drip import cook_loss_text, run_bracket, yield_text
 
 
 def _plain(obj: Any) -> Any:
@@ -76,6 +78,8 @@ def summary_dict(result) -> dict[str, Any]:
         if getattr(sr, "drying", None) is not None:
             out["steps"][-1]["drying"] = _plain(sr.drying)
             out["steps"][-1]["weight_loss_stop"] = weight_stop_dict(sr)
+        if getattr(sr, "drip", None) is not None:
+            out["steps"][-1]["drip"] = _plain(sr.drip)
         if getattr(sr, "mass", None) is not None:
             out["steps"][-1]["brine"] = brine_dict(sr.mass)
     if result.outcomes is not None:
@@ -221,6 +225,11 @@ def _step_lines(result, site=None) -> list[str]:
         if getattr(sr, "drying", None) is not None:
             lines.append(_drying_line(sr.drying, site))
             lines += [w for w in [_weight_stop_line(sr, site)] if w]
+        if getattr(sr, "drip", None) is not None and sr.drip.drainable_juice_percent >= 0.05:
+            said = any(
+                "drip basis" in line for line in lines
+            )  # the basis once, with the first step that drips
+            lines += [drip_line(sr.drip)] + ([] if said else [f"    drip basis: {sr.drip.basis}"])
         if getattr(sr, "mass", None) is not None:
             lines += brine_lines(sr.mass)
         ml = _machine_load_dict(sr)
@@ -265,6 +274,15 @@ def _weight_stop_line(sr, site=None) -> str | None:
     )
 
 
+def drip_line(dr) -> str:
+    """The bracket of a meat product's cook loss in a step: evaporation alone and with all its drainable juice."""
+    return (
+        f"    {cook_loss_text(dr.evaporative_loss_percent, dr.cook_loss_upper_percent)}: "
+        f"{dr.drainable_juice_kg * 1000:.0f} g of juice (the meat can no longer hold {dr.expelled_share_percent:.0f} % "
+        f"of its raw water); {yield_text(dr.yield_lower_percent, dr.yield_percent)} of the step's starting mass"
+    )
+
+
 def _drying_line(d, site=None) -> str:
     """The moisture of a step in hot dry air: wet period, crust, loss."""
     wet = (
@@ -275,7 +293,7 @@ def _drying_line(d, site=None) -> str:
     return (
         f"    moisture: wet bulb of the air {_temp(site, d.wet_bulb_C, 1)}; {wet} (surface moisture "
         f"{d.surface_moisture_kg_kg:.2f} kg water/kg dry matter at the end, from {d.initial_moisture_kg_kg:.2f}); "
-        f"weight loss {d.weight_loss_kg * 1000:.0f} g ({d.weight_loss_percent:.1f} %); {d.passes} coupling passes, "
+        f"evaporative loss {d.weight_loss_kg * 1000:.0f} g ({d.weight_loss_percent:.1f} %); {d.passes} coupling passes, "
         f"mass balance {d.mass_balance_error:.2%}"
     )
 
@@ -434,9 +452,18 @@ def _energy_lines(oc, batch: str) -> list[str]:
     lines: list[str] = []
     for step_name, pct in oc.weight_loss_percent:
         lines.append(f"  {step_name}: weight loss by surface evaporation {pct:.2f} % of the piece's mass")
-    if oc.yield_percent is not None:
+    bracket = run_bracket(oc)
+    if bracket is not None:
+        lo, hi, y_lo, y_hi = bracket
+        lines += [
+            f"  {cook_loss_text(lo, hi)}; {yield_text(y_lo, y_hi)} of the starting mass (fat running out is not "
+            "modelled)",
+            f"  {DRIP_CAUTION}",
+        ]
+    elif oc.yield_percent is not None:
         lines.append(
-            f"  yield: {oc.yield_percent:.1f} % of the starting mass (evaporation only: drip and fat running out are not modelled)"
+            f"  yield: {oc.yield_percent:.1f} % of the starting mass (evaporation only: drip and fat running out are "
+            "not modelled)"
         )
     en = oc.energy
     lines.append(

@@ -27,7 +27,7 @@ from typing import Any
 
 #: The schema's name and version, written at the top of every result document.
 RESULT_SCHEMA_NAME = "procplan-result"
-RESULT_SCHEMA_VERSION = "1.3"
+RESULT_SCHEMA_VERSION = "1.4"
 
 _NUM = {"type": "number"}
 _NUM_OR_NULL = {"type": ["number", "null"]}
@@ -245,9 +245,30 @@ _OUTCOMES = _obj(
         "refrigeration": _array(_REFRIGERATION),
         "energy_balance": _NUM_OR_NULL,
         "weight_loss_percent": {
-            "description": "(step name, moisture loss [% of the piece's mass]) for unwrapped products",
+            "description": "(step name, water evaporated [% of the piece's mass at the step's start]) for unwrapped "
+            "products",
             "type": "array",
             "items": {"type": "array", "prefixItems": [_TEXT, _NUM], "minItems": 2, "maxItems": 2},
+        },
+        "yield_percent": {
+            **_NUM_OR_NULL,
+            "description": "mass at the end over the mass at the start [%] from the evaporation of every step (for "
+            "unwrapped meat the upper bound of the yield: its expelled juice kept in the piece; null without any loss)",
+        },
+        "drainable_juice_percent": {
+            "description": "(step name, juice the heated proteins expelled and that did not evaporate [% of the "
+            "piece's mass at the step's start]) for unwrapped meat (1.4)",
+            "type": "array",
+            "items": {"type": "array", "prefixItems": [_TEXT, _NUM], "minItems": 2, "maxItems": 2},
+        },
+        "cook_loss_upper_percent": {
+            **_NUM_OR_NULL,
+            "description": "upper bound of the cook loss over the run [% of the starting mass]: evaporation and all "
+            "the drainable juice drained; its lower bound is 100 − yield_percent (null without a drip model) (1.4)",
+        },
+        "yield_lower_percent": {
+            **_NUM_OR_NULL,
+            "description": "100 − cook_loss_upper_percent [%] (null without a drip model) (1.4)",
         },
         "warnings": _TEXTS,
         "price": _obj({"price_per_kWh": _NUM, "currency": _TEXT}, nullable=True),
@@ -280,6 +301,24 @@ _STEP = _obj(
         "details": {"type": "object"},
         "warnings": _TEXTS,
         "unreliable_reason": _TEXT_OR_NULL,
+        "drip": {
+            **_obj(
+                {
+                    "drainable_juice_kg": _NUM,
+                    "drainable_juice_percent": _NUM,
+                    "evaporative_loss_percent": _NUM,
+                    "cook_loss_upper_percent": _NUM,
+                    "yield_percent": _NUM,
+                    "yield_lower_percent": _NUM,
+                    "expelled_share_percent": _NUM,
+                    "holding": _TEXT,
+                    "basis": _TEXT,
+                },
+                nullable=True,
+            ),
+            "description": "the bracket of an unwrapped meat product's cook loss in the step [% of the piece's mass at "
+            "the step's start]: evaporation alone (lower) and with all the drainable juice drained (upper) (1.4)",
+        },
     },
     required=("name", "start_min", "end_min", "solver", "reason", "medium_C", "h_W_m2K", "surface"),
 )

@@ -23,6 +23,8 @@ import pandas as pd
 
 from procplan._version import __version__
 from procplan.caution import CAUTION
+from procplan.run.drip import CAUTION as DRIP_CAUTION
+from procplan.run.drip import run_bracket
 
 #: Unit suffixes of the library's column names and how a header shows them (longest first).
 UNIT_SUFFIXES: tuple[tuple[str, str], ...] = (
@@ -217,7 +219,21 @@ def summary_table(result) -> pd.DataFrame:
             ("peak duty (largest 1-min mean) per batch", en.peak_duty_kW_per_batch, "kW"),
         ]
         for step_name, pct in oc.weight_loss_percent:
-            rows.append((f"{step_name}: weight loss", pct, "%"))
+            rows.append((f"{step_name}: weight loss by evaporation", pct, "%"))
+        bracket = run_bracket(oc)
+        if bracket is not None:
+            lo, hi, y_lo, y_hi = bracket
+            rows += [
+                ("cook loss, lower (evaporation)", lo, "%"),
+                (
+                    "cook loss, upper (with all the juice the heated meat can no longer hold draining out)",
+                    hi,
+                    "%",
+                ),
+                ("yield, lower", y_lo, "%"),
+                ("yield, upper", y_hi, "%"),
+                ("cook loss and yield", DRIP_CAUTION, ""),
+            ]
         if oc.cost_per_batch is not None and oc.price is not None:
             rows.append(("electricity cost per batch", oc.cost_per_batch, oc.price.currency))
     rows += [("warning", w, "") for w in s["warnings"]]

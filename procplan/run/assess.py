@@ -168,7 +168,15 @@ class Outcomes:
     energy : heat exchanged per piece and per batch over the run
     refrigeration : heat, duty and refrigeration energy of every step
     energy_balance : |surface heat − enthalpy change| as a fraction of the heat exchanged [-]
-    weight_loss_percent : (step, moisture loss [% of the piece's mass]) for unwrapped products
+    weight_loss_percent : (step, water evaporated [% of the piece's mass at the step's start]) for unwrapped
+        products
+    yield_percent : mass at the end over the mass at the start [%], from the evaporation of every step (the
+        upper bound of the yield of unwrapped meat: its juice kept in the piece)
+    drainable_juice_percent : (step, juice the heated proteins expelled and that did not evaporate [% of the
+        piece's mass at the step's start]) for unwrapped meat (run.drip)
+    cook_loss_upper_percent : the upper bound of the cook loss over the run [% of the starting mass]: evaporation
+        and all the drainable juice drained (None without a drip model); its lower bound is 100 − yield_percent
+    yield_lower_percent : 100 − cook_loss_upper_percent [%] (None without a drip model)
     warnings : what the assessment found worth a warning
     price : the electricity price of the cost (None: no price in the plan or the site, no cost)
     cost_per_batch : electricity cost of the batch over all steps, in the price's currency (None without a price)
@@ -186,8 +194,11 @@ class Outcomes:
     refrigeration: tuple[StepEnergy, ...]
     energy_balance: float = 0.0
     weight_loss_percent: tuple[tuple[str, float], ...] = ()
-    #: mass at the end over the mass at the start [%], from the weight losses (None without any)
+    #: mass at the end over the mass at the start [%], from the evaporation losses (None without any)
     yield_percent: float | None = None
+    drainable_juice_percent: tuple[tuple[str, float], ...] = ()
+    cook_loss_upper_percent: float | None = None
+    yield_lower_percent: float | None = None
     warnings: tuple[str, ...] = ()
     price: EnergyPrice | None = None
     cost_per_batch: float | None = None
@@ -506,10 +517,19 @@ def assess_plan(
     price = _price(run, site, library, warnings)
     refrigeration = tuple(_step_energy(run, sr, price) for sr in run.steps)
     losses = _weight_loss(run)
+    drips = tuple((sr.name, sr.drip.drainable_juice_percent) for sr in run.steps if getattr(sr, "drip", None))
+    # the upper bound, one loss per step as a share of the mass the step started with: evaporation and juice
+    per_step = {name: 0.0 for name, _ in losses + drips}
+    for name, pct in losses + drips:
+        per_step[name] += pct
+    yield_lower = yield_percent(list(per_step.items())) if drips else None
     costs = [se.refrigeration.cost for se in refrigeration if se.refrigeration is not None]
     return Outcomes(
         weight_loss_percent=losses,
         yield_percent=yield_percent(losses),
+        drainable_juice_percent=drips,
+        cook_loss_upper_percent=None if yield_lower is None else 100.0 - yield_lower,
+        yield_lower_percent=yield_lower,
         targets=targets,
         rule_check=rule_check,
         rule_applied_from_s=rule_from,

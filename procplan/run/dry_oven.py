@@ -27,8 +27,9 @@ Modelling choices (each on the side stated):
 * D follows Arrhenius at the time-averaged surface temperature of the previous heat pass (the hottest part of
   the layer: it overstates the supply of water to the surface, so the surface stays wet longer and the heating
   is predicted slower, the safe direction for a cook time).
-* Only evaporation leaves the product: juice expelled as the proteins shrink (drip) and fat rendered out are
-  not modelled, so the weight loss is the evaporative loss alone (cook losses of roasts are larger).
+* The moisture problem carries evaporation alone: the juice a meat product's heated proteins expel (drip) is
+  bounded from the temperature field by :mod:`procplan.run.drip` (the upper bound of the step's cook loss: the
+  evaporation here is its lower bound); fat rendered out is not modelled.
 
 References
 ----------
@@ -310,7 +311,8 @@ class DryingSummary:
     ----------
     weight_loss_kg, weight_loss_percent : water evaporated [kg] and as a share of the piece's mass at the start
         of the step [%]
-    yield_percent : mass after the step over mass before it [%] (evaporation only; drip is not modelled)
+    yield_percent : mass after the step over mass before it with evaporation alone [%] (for a meat product the
+        upper bound of the yield; its lower bound: :class:`procplan.run.drip.DripSummary`)
     wet_bulb_C : wet-bulb temperature of the air [°C]
     wet_until_s : time from the step's start the surface stays wet [s] (None: wet to the end)
     surface_moisture_kg_kg, mean_layer_moisture_kg_kg : moisture at the end, at the surface and in the modelled

@@ -31,6 +31,7 @@ from procplan.run.budget import (
     step_limit_error,
     unreliable_reason,
 )
+from procplan.run.drip import drip_settings, start_state, step_drip
 from procplan.run.dry_oven import carried_field, dry_oven_step, range_warnings
 from procplan.run.dry_stop import check_weight_stop
 from procplan.run.results import PlanResult, StepResult, StepSolverDetails
@@ -240,6 +241,7 @@ class _Carried:
     t_offset_s: float = 0.0
     salt: Any = None  # procplan.run.mass_step.SaltState after a brining step
     crust: bool = False  # a dry-air step dried the surface into a crust
+    drip: Any = None  # run.drip.DripState of a meat product (None: no drip modelled)
 
 
 def _surface(
@@ -264,6 +266,7 @@ def _solve(ctx: _Context, chosen: str, carried: _Carried, step: Step, surface: S
     timing = (
         ctx.refined if ctx.refined is not None else {"dt_s": ctx.dt_s, "tolerance_K": ctx.time_tolerance_K}
     )
+    timing = {**timing, **drip_settings(carried.drip)}  # a meat product: the peak field for its drip
     try:
         return _fv_step(
             geometry,
@@ -438,6 +441,7 @@ def _run_step(
         machine_load=run.machine,
         load_note=load_note,
         drying=run.drying,
+        drip=step_drip(carried.drip, run.fv, run.drying)[0],
     )
     return frame, result, run
 
@@ -446,7 +450,7 @@ def _run_steps(ctx: _Context) -> tuple[pd.DataFrame, list[StepResult], list[str]
     """Every step in order, the field (and the salt) carried from one into the next; after a step that took up
     salt, the later steps use the lowered freezing point. Returns the properties of the last step too."""
     start, base = ctx.plan.start_temperature_C, ctx.props
-    carried = _Carried(start_C=start, mean_C=start, field=start)
+    carried = _Carried(start_C=start, mean_C=start, field=start, drip=start_state(ctx.plan.product, base))
     frames: list[pd.DataFrame] = []
     steps: list[StepResult] = []
     warnings: list[str] = []
@@ -477,6 +481,8 @@ def _run_steps(ctx: _Context) -> tuple[pd.DataFrame, list[StepResult], list[str]
             t_offset_s=result.end_s,
             salt=salt,
             crust=carried.crust or (result.drying is not None and result.drying.wet_until_s is not None),
+            # salt raises the water-holding capacity, which the curve does not carry: no drip after brining
+            drip=None if salt is not None else step_drip(carried.drip, run.fv, run.drying)[1],
         )
     history = pd.concat(frames, ignore_index=True)
     brines = [s.brine for s in ctx.plan.steps if s.brine is not None]

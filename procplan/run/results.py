@@ -86,6 +86,8 @@ class StepResult:
     drying: Any = None  # run.dry_oven.DryingSummary: moisture of an unwrapped product in hot dry air
     #: a second product solved alone in a step that couples no medium (run.second_product.SecondProductStep)
     second_alone: Any = None
+    #: run.drip.DripSummary: the cook-loss bracket of an unwrapped meat product (evaporation, juice)
+    drip: Any = None
 
     @property
     def duration_s(self) -> float:

@@ -13,6 +13,7 @@ from typing import Any
 
 from procplan.errors import InvalidInputError
 from procplan.outcomes import plan_time_min
+from procplan.run.drip import run_bracket
 
 #: Columns of a metrics row, in table order, with what each means.
 METRIC_COLUMNS: dict[str, str] = {
@@ -83,19 +84,25 @@ def salt_metrics(result) -> dict[str, float]:
 #: step with a weight-loss stop, as the summary and the sheet show them.
 DRYING_METRIC_COLUMNS: dict[str, str] = {
     "weight_loss_percent": "mass lost by surface evaporation over the run, share of the starting mass [%] "
-    "(100 − yield)",
-    "yield_percent": "mass at the end over the mass at the start [%] (evaporation only: drip is not modelled)",
+    "(100 − yield; for unwrapped meat the lower bound of the cook loss)",
+    "yield_percent": "mass at the end over the mass at the start [%] (evaporation only; for unwrapped meat the "
+    "upper bound of the yield)",
+    "cook_loss_upper_percent": "unwrapped meat: upper bound of the cook loss over the run [%], evaporation and all "
+    "the juice the heated meat can no longer hold draining out (NaN without a drip model)",
+    "yield_lower_percent": "unwrapped meat: 100 − the upper cook loss [%] (NaN without a drip model)",
     "weight_stop_min": "time from the start of the last step with a weight-loss stop to that stop [min] (NaN "
     "when not reached or without such a stop)",
 }
 
 
 def drying_metrics(result) -> dict[str, float]:
-    """The weight-loss figures of a run (:data:`DRYING_METRIC_COLUMNS`); empty when nothing evaporated.
+    """The weight-loss figures of a run (:data:`DRYING_METRIC_COLUMNS`); empty when nothing evaporated or dripped.
     The yield is the assessed outcome (:attr:`procplan.run.assess.Outcomes.yield_percent`, every step's loss
-    compounded); the stop time is the last weight-stop step's (``DryingSummary.weight_stop_s``)."""
+    compounded), the bracket of unwrapped meat :func:`procplan.run.drip.run_bracket`; the stop time is the last
+    weight-stop step's (``DryingSummary.weight_stop_s``)."""
     oc = result.outcomes
-    if oc is None or oc.yield_percent is None:
+    bracket = run_bracket(oc)
+    if oc is None or (oc.yield_percent is None and bracket is None):
         return {}
     stops = [
         s.drying
@@ -103,9 +110,17 @@ def drying_metrics(result) -> dict[str, float]:
         if getattr(s, "drying", None) is not None and s.drying.stop_weight_loss_percent is not None
     ]
     stop_s = stops[-1].weight_stop_s if stops else None
+    lo, hi, y_lo, y_hi = bracket or (
+        100.0 - float(oc.yield_percent),
+        math.nan,
+        math.nan,
+        float(oc.yield_percent),
+    )
     return {
-        "weight_loss_percent": 100.0 - float(oc.yield_percent),
-        "yield_percent": float(oc.yield_percent),
+        "weight_loss_percent": lo,
+        "yield_percent": y_hi,
+        "cook_loss_upper_percent": hi,
+        "yield_lower_percent": y_lo,
         "weight_stop_min": math.nan if stop_s is None else float(stop_s) / 60.0,
     }
 

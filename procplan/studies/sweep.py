@@ -17,6 +17,7 @@ import pandas as pd
 from procplan import validate
 from procplan.errors import InvalidInputError
 from procplan.model import Checks, Plan, Step
+from procplan.run.drip import cook_loss_text, yield_text
 from procplan.studies.metrics import DRYING_METRIC_COLUMNS, METRIC_COLUMNS, SALT_METRIC_COLUMNS
 from procplan.studies.runner import make_job, run_jobs
 
@@ -237,7 +238,10 @@ def row_mass_text(row) -> str:
         t = row.get("salt_time_min")
         out += f"; salt at the core {row['salt_core_percent']:.2f} %"
         out += f" after {t:.1f} min" if _present(row, "salt_time_min") and t is not None else ""
-    if _present(row, "yield_percent"):
+    if _present(row, "cook_loss_upper_percent"):
+        out += f"; {cook_loss_text(row['weight_loss_percent'], row['cook_loss_upper_percent'])}, "
+        out += yield_text(row["yield_lower_percent"], row["yield_percent"])
+    elif _present(row, "yield_percent"):
         out += f"; weight loss {row['weight_loss_percent']:.1f} %, yield {row['yield_percent']:.1f} %"
         if _present(row, "weight_stop_min"):
             out += f", weight stop after {row['weight_stop_min']:.1f} min"

@@ -483,15 +483,35 @@ def drying_figure(sr, u: Units) -> go.Figure:
     t = u.time_value(np.asarray(d.time_s, dtype=float) + sr.start_s)
     fig = make_subplots(specs=[[{"secondary_y": True}]])
     fig.add_trace(
-        go.Scatter(x=t, y=np.asarray(d.loss_percent), mode="lines", name="weight lost",
+        go.Scatter(x=t, y=np.asarray(d.loss_percent), mode="lines", name="evaporated",
                    line=dict(color="#b35806", width=2.5)),
         secondary_y=False,
     )  # fmt: skip
+    dr = getattr(sr, "drip", None)
+    juice = (
+        np.zeros_like(t) if dr is None or dr.time_s is None
+        else np.interp(np.asarray(d.time_s, dtype=float), dr.time_s, dr.drainable_juice_percent_history)
+    )  # fmt: skip
+    if dr is not None:
+        fig.add_trace(
+            go.Scatter(x=t, y=np.asarray(d.loss_percent) + juice, mode="lines",
+                       name="cook loss, upper (all the juice drained)",
+                       line=dict(color="#1b7837", width=2.0, dash="dash")),
+            secondary_y=False,
+        )  # fmt: skip
     fig.add_trace(
-        go.Scatter(x=t, y=np.asarray(d.yield_percent_history), mode="lines", name="yield",
+        go.Scatter(x=t, y=np.asarray(d.yield_percent_history), mode="lines",
+                   name="yield" if dr is None else "yield, upper (evaporation)",
                    line=dict(color="#542788", width=1.8)),
         secondary_y=True,
     )  # fmt: skip
+    if dr is not None:
+        fig.add_trace(
+            go.Scatter(x=t, y=np.asarray(d.yield_percent_history) - juice, mode="lines",
+                       name="yield, lower (all the juice drained)",
+                       line=dict(color="#542788", width=1.5, dash="dash")),
+            secondary_y=True,
+        )  # fmt: skip
     if d.wet_until_s is not None:
         fig.add_vline(
             x=u.time_value(sr.start_s + d.wet_until_s), line=dict(color="#999999", dash="dot", width=1),

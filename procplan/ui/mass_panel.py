@@ -8,6 +8,8 @@ import math
 
 import streamlit as st
 
+from procplan.run.drip import CAUTION as DRIP_CAUTION
+from procplan.run.drip import cook_loss_text, run_bracket, yield_text
 from procplan.ui import charts
 from procplan.ui.fmt import Units
 
@@ -89,12 +91,20 @@ def drying(result, u: Units) -> None:
         d = sr.drying
         st.markdown(f"**Step {sr.index + 1}: {sr.name}**")
         c = st.columns(4)
+        dr = getattr(sr, "drip", None)
         c[0].metric(
-            "Weight lost in the step",
+            "Evaporated in the step",
             f"{d.weight_loss_percent:.1f} %",
             help=f"{d.weight_loss_kg * 1000:.0f} g per piece",
         )
-        c[1].metric("Yield of the step", f"{d.yield_percent:.1f} %")
+        c[1].metric(
+            "Yield of the step",
+            f"{d.yield_percent:.1f} %"
+            if dr is None
+            else f"{dr.yield_lower_percent:.1f}–{dr.yield_percent:.1f} %",
+            help="mass at the step's end over its start"
+            + ("" if dr is None else f"; {yield_text(dr.yield_lower_percent, dr.yield_percent)}"),
+        )
         c[2].metric("Wet bulb of the air", u.temp(d.wet_bulb_C))
         c[3].metric(
             "Surface wet for", "the whole step" if d.wet_until_s is None else u.duration(d.wet_until_s)
@@ -114,7 +124,17 @@ def drying(result, u: Units) -> None:
         if not d.converged:
             st.warning(d.unsettled_text[:1].upper() + d.unsettled_text[1:], icon=":material/error:")
     oc = result.outcomes
-    if oc is not None and oc.yield_percent is not None:
+    bracket = run_bracket(oc)
+    if bracket is not None:
+        lo, hi, y_lo, y_hi = bracket
+        st.metric(
+            "Yield of the plan", f"{y_lo:.1f}–{y_hi:.1f} %", help="mass at the end over the mass at the start"
+        )
+        st.caption(
+            f"{cook_loss_text(lo, hi)[:1].upper()}{cook_loss_text(lo, hi)[1:]}; {yield_text(y_lo, y_hi)}."
+        )
+        st.caption(DRIP_CAUTION)
+    elif oc is not None and oc.yield_percent is not None:
         st.metric(
             "Yield of the plan",
             f"{oc.yield_percent:.1f} %",

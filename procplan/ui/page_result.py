@@ -18,6 +18,8 @@ from procplan.output.report import (
     log_reduction_text,
     price_text,
 )
+from procplan.run.drip import CAUTION as DRIP_CAUTION
+from procplan.run.drip import cook_loss_text, run_bracket, yield_text
 from procplan.ui import charts, load_panel, mass_panel, state, widgets
 from procplan.ui.fmt import Units, yes_no
 
@@ -362,23 +364,31 @@ def _energy(result, u: Units) -> None:
 
 
 def _weight_loss(result) -> None:
-    """Moisture lost from an unwrapped product's surface, per step, as the library computes it."""
-    losses = result.outcomes.weight_loss_percent
-    if not losses:
+    """Moisture lost from an unwrapped product's surface, per step, as the library computes it, and for unwrapped
+    meat the bracket of its cook loss and yield."""
+    oc = result.outcomes
+    losses = [(f"{name}: evaporated", pct) for name, pct in oc.weight_loss_percent]
+    bracket = run_bracket(oc)
+    if not losses and bracket is None:
         return
     st.subheader("Weight loss")
     mass = result.piece_mass_kg
-    cols = st.columns(min(len(losses), 4))
-    for j, (step_name, pct) in enumerate(losses):
+    cols = st.columns(min(max(len(losses), 1), 4))
+    for j, (label, pct) in enumerate(losses):
         cols[j % len(cols)].metric(
-            f"{step_name}",
+            label,
             f"{pct:.2f} %",
             help=f"about {pct / 100.0 * mass * 1000.0:.0f} g of a {mass:.3f} kg piece",
         )
-    st.caption(
-        "Moisture evaporated from the unwrapped surface in each step, in % of the piece's mass "
-        "(surface evaporation only; the conduction model carries no moisture inside the product)."
-    )
+    if bracket is not None:
+        lo, hi, y_lo, y_hi = bracket
+        text = cook_loss_text(lo, hi)
+        st.markdown(f"{text[:1].upper()}{text[1:]}; {yield_text(y_lo, y_hi)} of the starting mass.")
+        st.caption(DRIP_CAUTION)
+    if losses:
+        st.caption(
+            "Evaporated: moisture leaving the unwrapped surface, in % of the piece's mass at the step's start."
+        )
 
 
 def render_result(result, u: Units, *, stale: bool = False) -> None:

@@ -1,5 +1,5 @@
 """The dry-oven roast of the demo library: the engine picks heat and moisture together and says why; the
-steam cook of the same joint is untouched (no evaporation in saturated steam)."""
+steam cook of the same joint has no evaporation in saturated steam (its drip: tests/run/test_drip.py)."""
 
 from dataclasses import replace
 
@@ -33,7 +33,7 @@ def test_dry_oven_roast_slower_than_without_evaporation_and_loses_weight(library
     assert d.wet_bulb_C == pytest.approx(56.5, abs=0.5)
     assert 0.0 < d.weight_loss_percent < 30.0 and d.yield_percent == pytest.approx(
         100 - d.weight_loss_percent
-    )
+    )  # the drying summary's yield: evaporation alone (the step's drip: sr.drip)
     assert res.outcomes.weight_loss_percent[0][1] == pytest.approx(d.weight_loss_percent)
     # the same joint wrapped (no evaporation) reaches 75 °C sooner: evaporation slows the heating
     dry = run_plan(replace(plan, product=replace(plan.product, unwrapped=False)), library=library)
@@ -47,4 +47,11 @@ def test_steam_cook_has_no_evaporation(library):
     wrapped = run_plan(replace(plan, product=replace(plan.product, unwrapped=False)), library=library)
     assert res.steps[0].drying is None and res.steps[0].surface.evaporation is None
     assert res.steps[0].stop_time_s == pytest.approx(wrapped.steps[0].stop_time_s, rel=1e-9)
+    # no evaporation, but the unwrapped joint drips (run.drip); wrapped, its purge stays in the pack
+    assert res.outcomes.weight_loss_percent == () and res.steps[0].drip.evaporative_loss_percent == 0.0
+    # the yield keeps its meaning (evaporation alone: none here); the lower bound drains the juice
     assert res.outcomes.yield_percent is None
+    assert res.outcomes.yield_lower_percent == pytest.approx(
+        100.0 - res.steps[0].drip.drainable_juice_percent
+    )
+    assert wrapped.outcomes.yield_percent is None and wrapped.steps[0].drip is None

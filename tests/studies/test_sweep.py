@@ -52,14 +52,27 @@ def test_a_drying_pair_reports_the_weight_loss_of_its_single_run(lib, sequential
     plan = pair_plan(lib.products["beef-meatball"], lib.equipment["oven-c1"], lib)
     res = run_plan(plan, library=lib, n_nodes=8)
     assert row["yield_percent"] == pytest.approx(res.outcomes.yield_percent, rel=1e-12)
-    # Invariant (mass balance of one step): the yield is the mass left after the step's evaporated water
-    drying = res.steps[0].drying
+    # Invariant (mass balance of one step): the yield is the mass left after the step's evaporated water; for
+    # the unwrapped meat the lower yield also drains the juice its heated proteins expel (run.drip)
+    drying, drip = res.steps[0].drying, res.steps[0].drip
     assert row["weight_loss_percent"] == pytest.approx(drying.weight_loss_percent, rel=1e-9)
     assert row["weight_loss_percent"] + row["yield_percent"] == pytest.approx(100.0)
+    assert row["cook_loss_upper_percent"] == pytest.approx(
+        drying.weight_loss_percent + drip.drainable_juice_percent, rel=1e-9
+    )
+    assert row["cook_loss_upper_percent"] + row["yield_lower_percent"] == pytest.approx(100.0)
+    assert row["weight_loss_percent"] <= row["cook_loss_upper_percent"]
     assert 0.0 < row["weight_loss_percent"] < 30.0 and row["weight_stop_min"] != row["weight_stop_min"]
     vial = tab[tab["product"] == "vaccine-vial-10ml"]
     assert vial["yield_percent"].isna().all()
-    assert list(tab.columns)[-4:] == ["weight_loss_percent", "yield_percent", "weight_stop_min", "error"]
+    assert list(tab.columns)[-6:] == [
+        "weight_loss_percent",
+        "yield_percent",
+        "cook_loss_upper_percent",
+        "yield_lower_percent",
+        "weight_stop_min",
+        "error",
+    ]
 
 
 def test_process_pool_gives_the_same_table(lib, sequential):

@@ -12,6 +12,9 @@ from dataclasses import replace
 import pytest
 from numpy.testing import assert_allclose
 
+from procplan.run.drip import CAUTION as DRIP_CAUTION
+from procplan.run.drip import cook_loss_text, run_bracket, yield_text
+
 from .test_app import errors, go, library_result, metric, number_input, number_of
 
 BRINE_PLAN = "pork-loin-brine-freeze"
@@ -206,17 +209,33 @@ def test_oven_roast_shows_its_drying_settings_and_the_library_numbers(app, libra
     assert f"({w_g_kg:.0f} g water per kg of dry air)" in info
     go(app, "Result")
     ref = library_result(library_copy, OVEN_PLAN)
-    d = ref.steps[0].drying
-    assert_allclose(number_of(metric(app, "Weight lost in the step")), d.weight_loss_percent, atol=0.05)
-    assert_allclose(number_of(metric(app, "Yield of the step")), d.yield_percent, atol=0.05)
-    assert_allclose(number_of(metric(app, "Yield of the plan")), ref.outcomes.yield_percent, atol=0.05)
+    d, dr = ref.steps[0].drying, ref.steps[0].drip
+    assert_allclose(number_of(metric(app, "Evaporated in the step")), d.weight_loss_percent, atol=0.05)
+    # the step's yield is a bracket (run.drip): all the drainable juice drained, to evaporation alone
+    y_step = metric(app, "Yield of the step")
+    assert f"{dr.yield_lower_percent:.1f}–{dr.yield_percent:.1f} %" == y_step
+    assert_allclose(dr.yield_percent, 100.0 - d.weight_loss_percent, atol=1e-9)
+    lo, hi, y_lo, y_hi = run_bracket(ref.outcomes)
+    assert metric(app, "Yield of the plan") == f"{y_lo:.1f}–{y_hi:.1f} %"
+    shown = " ".join([c.value for c in app.caption] + [m.value for m in app.markdown])
+    assert cook_loss_text(lo, hi)[1:] in shown and yield_text(y_lo, y_hi) in shown and DRIP_CAUTION in shown
+    assert "Honikel and Hamm" in shown and "Lowe" in shown and "Goñi and Salvadori" in shown
     assert_allclose(number_of(metric(app, "Wet bulb of the air")), d.wet_bulb_C, atol=0.05)
     assert_allclose(number_of(metric(app, "Surface wet for")), d.wet_until_s / 60.0, atol=0.05)
-    fig = next(f for f in _figures(app) if any(t.get("name") == "yield" for t in f["data"]))
+    fig = next(
+        f
+        for f in _figures(app)
+        if any(t.get("name") == "yield, lower (all the juice drained)" for t in f["data"])
+    )
     assert {"weight lost [% of the piece at the step start]", "yield [% of the piece at the step start]"} <= (
         _axis_titles(fig)
     )
-    lost = _values(next(t for t in fig["data"] if t.get("name") == "weight lost")["y"])
+    lost = _values(next(t for t in fig["data"] if t.get("name") == "evaporated")["y"])
+    upper = _values(
+        next(t for t in fig["data"] if t.get("name") == "cook loss, upper (all the juice drained)")["y"]
+    )
+    assert_allclose(upper[-1], dr.cook_loss_upper_percent, rtol=1e-6)
+    assert upper[0] == pytest.approx(lost[0], abs=1e-9)
     # the curve ends at the loss the library reports for the step, and starts from nothing lost
     assert_allclose(lost[-1], d.weight_loss_percent, rtol=1e-9)
     assert lost[0] == pytest.approx(0.0, abs=1e-9)
