@@ -352,7 +352,8 @@ def bench_generated_plans(n: int = 24, seed: int = 7) -> list[tuple[str, float, 
             if value is not None:
                 data["product"][key] = round(value * 1000.0 * size, 3)
         for step in data["steps"]:
-            step["duration_min"] = round(step["duration_min"] * span, 3)
+            if "duration_min" in step:  # a step may end on its stop alone
+                step["duration_min"] = round(step["duration_min"] * span, 3)
         try:
             plan = plan_from_dict(data, library=lib)
             t0 = time.perf_counter()
@@ -552,32 +553,34 @@ def bench_cli_startup(repeats: int = 3) -> list[tuple[str, float, str]]:
 
 
 def main() -> None:
+    """Run every case and print its rows as soon as they are measured (a failing case loses only its own)."""
     from procplan.run.dry_bench import bench_dry_air
     from procplan.studies.variability_bench import bench_roulade_variability
 
-    rows = (
-        bench_freezing()
-        + bench_roulade()
-        + bench_loaded_batch()
-        + bench_brick_15()
-        + bench_brick()
-        + bench_finite_cylinder()
-        + bench_studies()
-        + bench_generated_plans()
-        + bench_error_control()
-        + bench_brick_21_31()
-        + bench_roulade_variability()
-        + bench_app_recompute()
-        + bench_cli_startup()
-        + bench_dry_air()
+    cases = (
+        bench_freezing,
+        bench_roulade,
+        bench_loaded_batch,
+        bench_brick_15,
+        bench_brick,
+        bench_finite_cylinder,
+        bench_studies,
+        bench_generated_plans,
+        bench_error_control,
+        bench_brick_21_31,
+        bench_roulade_variability,
+        bench_app_recompute,
+        bench_cli_startup,
+        bench_dry_air,
     )
-    width = max(len(r[0]) for r in rows)
-    print(f"{'case':<{width}}  {'value':>10}  notes")
-    for name, value, note in rows:
-        # ratios and differences are indented lines that start with their kind ("iteration" contains "ratio")
-        unit = "" if name.lstrip().startswith(("ratio", "FV vs series")) else " s"
-        text = "n/a" if value != value else (f"{value:.4f}{unit}" if unit else f"{value:.3f}")
-        print(f"{name:<{width}}  {text:>10}  {note}")
+    width = 72
+    print(f"{'case':<{width}}  {'value':>10}  notes", flush=True)
+    for case in cases:
+        for name, value, note in case():
+            # ratios and differences are indented lines that start with their kind ("iteration" has "ratio")
+            unit = "" if name.lstrip().startswith(("ratio", "FV vs series")) else " s"
+            text = "n/a" if value != value else (f"{value:.4f}{unit}" if unit else f"{value:.3f}")
+            print(f"{name:<{width}}  {text:>10}  {note}", flush=True)
 
 
 if __name__ == "__main__":
