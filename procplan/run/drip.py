@@ -72,9 +72,10 @@ BASIS = (
 #: The caution that goes with the bracket wherever it is shown (text, sheet, app).
 CAUTION = (
     "A joint keeps much of the juice its heated proteins expel until it is carved, so the loss the plant weighs "
-    "lies between the two values, not at the upper one. Published losses of cooked beef fall in such a range: "
-    "rib roasts 21.7–22.5 % (Lowe, Experimental Cookery), steam-cooked beef 15–18 % (Goñi and Salvadori 2012), "
-    "and cooking losses of meat of 25–35 % (Honikel and Hamm 1994) reach up to its upper end."
+    "usually lies between the two values. Published losses of cooked beef: rib roasts 21.7–22.5 % (Lowe, "
+    "Experimental Cookery) and steam-cooked beef 15–18 % (Goñi and Salvadori 2012) fall in such a range; "
+    "cooking losses of meat of 25–35 % (Honikel and Hamm 1994) reach its upper end and beyond. Weigh a trial "
+    "batch before planning on a yield."
 )
 
 
