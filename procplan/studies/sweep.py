@@ -102,7 +102,7 @@ def pair_plan(product, equipment, library=None, task: KindTask | None = None, pi
         raise InvalidInputError("equipment.kind", equipment.kind, "one of " + ", ".join(KIND_TASKS))
     rule = task.rule if (task.rule and library is not None and task.rule in library.rules) else None
     step = Step(
-        name=f"{task.process} in {equipment.id}",
+        name=f"{task.process} in the {equipment.kind.replace('-', ' ')}",
         duration_s=60.0 * task.max_min,
         stop_when_core_C=task.target_C,
         equipment=equipment.id,
