@@ -96,7 +96,7 @@ class DryOvenModel:
 
     def describe(self) -> str:
         return (
-            f"surface drying in {self.air.describe()}; GAB isotherm '{self.isotherm.name}', moisture diffusivity "
+            f"surface drying in {self.air.describe()}; GAB isotherm of {self.isotherm.name}, moisture diffusivity "
             f"{self.diffusivity.D_ref_m2_s:.2g} m²/s at {self.diffusivity.reference_C:g} °C (indicative)"
         )
 
