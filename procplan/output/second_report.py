@@ -101,7 +101,10 @@ def _stop_words(site, second) -> str:
     if second.stop_C is None:
         return ""
     if second.stop_time_s is None:
-        return f"; core not at {_temp(site, second.stop_C)} when the step ended (on the main product's core)"
+        return (
+            f"; its core had not reached the step's stop temperature {_temp(site, second.stop_C)} when the "
+            "step ended on the main product"
+        )
     return f"; core at {_temp(site, second.stop_C)} after {_time(site, second.stop_time_s / 60)}"
 
 
@@ -133,6 +136,7 @@ def second_product_texts(result, site=None) -> tuple[str, list[str]] | None:
         f"{_temp(site, sp.initial_temperature_C)} ({SECOND_PRODUCT_NOTE})"
     )
     ends = []
+    tg = second_target(result.plan, result.steps)
     for sr in result.steps:
         second = step_second(sr)
         if second is None:
@@ -145,7 +149,8 @@ def second_product_texts(result, site=None) -> tuple[str, list[str]] | None:
         else:
             h_words = f"h {h:.1f} W/m²K for its own shape and size ({second.h_source}); "
         target = ""
-        if second.target_time_s is not None:
+        said_below = tg is not None and tg.reached and not tg.at_loading and tg.step == sr.name
+        if second.target_time_s is not None and not said_below:
             target = f"; core at its target {_temp(site, second.target_C)} after {_time(site, second.target_time_s / 60)}"
         alone = "" if sr.machine_load is not None else "alone in the step's medium (not coupled); "
         ends.append(
