@@ -108,3 +108,13 @@ def test_every_kind_has_a_task_and_errors_name_fields(lib):
         lib, products=PRODUCTS[:1], equipment=["oven-c1", "pharma-cr1"], kinds=["pharma-cold-room"]
     )
     assert list(r.table["equipment"]) == ["pharma-cr1"] and r.skipped == ("oven-c1 (convection-oven)",)
+
+
+def test_a_pairs_step_is_named_in_words_not_by_the_machines_file_key(lib):
+    # What users read in the sweep table and warnings: the task and the machine's kind, as the library
+    # describes it; the machine's file key (e.g. "chiller-b1") is left to the Machine column's full name.
+    for key, equipment in lib.equipment.items():
+        plan = pair_plan(lib.products[PRODUCTS[0]], equipment, lib)
+        name = plan.steps[0].name
+        assert key not in name and "-" not in name, name
+        assert name.endswith(equipment.kind.replace("-", " ")), name
