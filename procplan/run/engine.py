@@ -36,7 +36,7 @@ from procplan.run.dry_oven import carried_field, dry_oven_step, range_warnings
 from procplan.run.dry_stop import check_weight_stop
 from procplan.run.results import PlanResult, StepResult, StepSolverDetails
 from procplan.run.second_product import carried as carried_second
-from procplan.run.second_product import initial_state, target_warnings
+from procplan.run.second_product import initial_state, second_product_pass, target_warnings
 from procplan.run.solver import PROPERTY_SPREAD_LIMIT, choose_solver, exact_properties, exact_sample_times
 from procplan.run.step_surface import StepSurface, resolve_step_surface
 
@@ -299,7 +299,8 @@ def _solve_with_surface_pass(ctx: _Context, i: int, step: Step, chosen: str, car
     evaluate it again at the step's time-averaged surface temperature and run once more when it moved by more
     than :data:`H_SURFACE_TOLERANCE`. With radiation to walls at another temperature than the air, the sink
     temperature follows h_rad: evaluate again after each run, up to :data:`MAX_SINK_PASSES` times, until it
-    moves by less than :data:`SINK_TOLERANCE_K`. Returns the run and the surface it ran with."""
+    moves by less than :data:`SINK_TOLERANCE_K`. A second product in the load gets its own second pass
+    (:func:`procplan.run.second_product.second_product_pass`). Returns the run, the surface it ran with and the context (its load)."""
     run = _solve(ctx, chosen, carried, step, surface)
     h_surface_C, first_change = None, None
     for n in range(1 + MAX_SINK_PASSES):
@@ -315,10 +316,11 @@ def _solve_with_surface_pass(ctx: _Context, i: int, step: Step, chosen: str, car
             break
         surface, h_surface_C = again, ts_avg
         run = _solve(ctx, chosen, carried, step, surface)
+    run, ctx = second_product_pass(ctx, i, step, run, lambda c: _solve(c, chosen, carried, step, surface))
     if first_change is None:
-        return run, surface
+        return run, surface, ctx
     details = replace(run.details, h_surface_C=h_surface_C, h_change_on_second_pass=first_change)
-    return replace(run, details=details), surface
+    return replace(run, details=details), surface, ctx
 
 
 def _check_balance(ctx: _Context, step: Step, chosen: str, carried: _Carried, surface, run: _StepRun):
@@ -405,7 +407,7 @@ def _run_step(
         field_carried_on=i < len(ctx.plan.steps) - 1,
     )
     choice = ml.coupled_solver_choice(choice, ctx.load)
-    run, surface = _solve_with_surface_pass(ctx, i, step, choice.solver, carried, surface)
+    run, surface, ctx = _solve_with_surface_pass(ctx, i, step, choice.solver, carried, surface)
     run, unreliable = _check_balance(ctx, step, choice.solver, carried, surface, run)
     run = ml.with_held(run, held, surface)
     # the regime and Biot number of the h the step ran with (after the surface pass)

@@ -6,9 +6,10 @@ second product into the machine with the batch. In every loaded step (a machine 
 (:mod:`procplan.conduction.fv_partner`): the medium balance takes both products' surface heat, so the second
 product slows the main product's cooling or heating when it loads the plant (the unsafe direction is to leave
 it out). Its h comes from the same machine and settings, evaluated by the machine's correlation for its own
-shape, size and packaging (or a measured h of that product in that machine), at the temperature halfway between
-its mean at the step start and the medium (it gets no second pass at its mean surface temperature, as the main
-product does); a packed load's air-flow factor does not apply to it (it sees the machine's setting). The time
+shape, size and packaging (or a measured h of that product in that machine), first at the temperature halfway
+between its mean at the step start and the medium, then, as for the main product, again at its time-averaged
+surface temperature, the step solved once more when that moves its h by more than 3 %; a packed load's air-flow
+factor does not apply to it (it sees the machine's setting). The time
 steps are chosen on the larger temperature change of the two fields; the plan's checks (targets, rules,
 lethality) stay on the main product. An optional core target of its own (``target_core_C``) is reported: the
 time its core reaches it (per step and on the plan's clock), with a warning when it does not.
@@ -159,15 +160,19 @@ def initial_state(plan) -> SecondState | None:
     )
 
 
-def second_load(state: SecondState | None, step, index: int, library) -> SecondLoad | None:
+def second_load(
+    state: SecondState | None, step, index: int, library, surface_C: float | None = None
+) -> SecondLoad | None:
     """The second product's part of a loaded step: h from the step's machine and settings (as set on the
-    machine, without a packed load's air-flow factor) for its own shape, size and packaging."""
+    machine, without a packed load's air-flow factor) for its own shape, size and packaging, at its
+    time-averaged surface temperature ``surface_C`` of an earlier pass (None: halfway between its mean at the
+    step start and the medium)."""
     if state is None:
         return None
     from procplan.run.step_surface import resolve_step_surface
 
     own = state.machine_steps[index] if state.machine_steps else step
-    surface = resolve_step_surface(own, index, state.product, state.mean_C, library)
+    surface = resolve_step_surface(own, index, state.product, state.mean_C, library, surface_C=surface_C)
     b = surface.breakdown
     return SecondLoad(state, surface.boundary(), float(b.h_eff_W_m2K), b.source)
 
@@ -307,9 +312,19 @@ def _alone(
     start = (
         state.start_C if state.field_H is None else state.props.temperature(state.field_H).reshape(grid.shape)
     )
-    res = solve_conduction(
-        state.product.geometry, state.props, start, surface.boundary(), duration_s, dt_s=dt_s
+
+    def solve(surf):
+        return solve_conduction(
+            state.product.geometry, state.props, start, surf.boundary(), duration_s, dt_s=dt_s
+        )
+
+    res = solve(surface)
+    # a second pass at its time-averaged surface temperature, as the main product has
+    again = resolve_step_surface(
+        step, index, state.product, state.mean_C, library, surface_C=time_mean(res.time_s, res.surface_C)
     )
+    if h_moved(surface.breakdown.h_eff_W_m2K, again.breakdown.h_eff_W_m2K):
+        surface, res = again, solve(again)
     mass = state.props.mass_density_kg_m3 * state.product.geometry.volume_m3
     heat_J = (
         state.pieces
@@ -343,6 +358,51 @@ def _alone(
         if state.target_C is None
         else _crossing(t, core, state.target_C, state.target_falling),
     )
+
+
+#: Relative change of the second product's h [-] on its second pass (at its time-averaged surface
+#: temperature) above which the step is solved again: the main product's tolerance
+#: (:data:`procplan.run.engine.H_SURFACE_TOLERANCE`).
+H_SECOND_PASS_TOLERANCE = 0.03
+
+
+def time_mean(time_s, values) -> float:
+    """Time-averaged value of a history (trapezoid rule); the last value for a history of no duration."""
+    t, v = np.asarray(time_s, dtype=float), np.asarray(values, dtype=float)
+    return float(np.trapezoid(v, t) / (t[-1] - t[0])) if t[-1] > t[0] else float(v[-1])
+
+
+def h_moved(h_first: float, h_again: float) -> bool:
+    """Whether the second product's h moved by more than :data:`H_SECOND_PASS_TOLERANCE` on its second pass."""
+    return bool(abs(float(h_again) / float(h_first) - 1.0) > H_SECOND_PASS_TOLERANCE)
+
+
+def second_surface_pass(second: SecondLoad, machine, step, index: int, library) -> SecondLoad | None:
+    """The second product's load evaluated again at its time-averaged surface temperature over a coupled
+    step's result ``machine`` (a machine-load result with its history), or None when its h moved by no more
+    than the tolerance (or the step holds no history of it)."""
+    hist = getattr(machine, "second", None)
+    if hist is None or len(hist.time_s) < 2:
+        return None
+    again = second_load(second.state, step, index, library, surface_C=time_mean(hist.time_s, hist.surface_C))
+    return again if h_moved(second.h_W_m2K, again.h_W_m2K) else None
+
+
+def second_product_pass(ctx, index: int, step, run, solve):
+    """A second product coupled in the step gets the main product's second pass: its h evaluated again at its
+    own time-averaged surface temperature, and the step solved once more (``solve(ctx)``) when it moved by
+    more than the tolerance (its first h, halfway between its start and the medium, runs high in a chill: the
+    unsafe side for its own target). ``ctx`` is the engine's step context (its ``load`` and ``library``).
+    Returns the run and the context with the load it ran with."""
+
+    load = ctx.load
+    if load is None or getattr(load, "second", None) is None or run.machine is None:
+        return run, ctx
+    again = second_surface_pass(load.second, run.machine, step, index, ctx.library)
+    if again is None:
+        return run, ctx
+    ctx = replace(ctx, load=replace(load, second=again))
+    return solve(ctx), ctx
 
 
 def second_flow_at_start(node) -> float:
