@@ -196,8 +196,10 @@ def step_drip(state: DripState | None, fv, drying=None) -> tuple[DripSummary | N
         drip = np.zeros_like(drip)
     d_kg, e_kg = float(drip[-1]), float(evaporated[-1])
     mass = state.mass_kg
-    d_pct, upper = 100.0 * d_kg / mass, 100.0 * (d_kg + e_kg) / mass
+    d_pct = 100.0 * d_kg / mass
     e_pct = 0.0 if drying is None else float(drying.weight_loss_percent)
+    # the step's upper loss as the plan's outcomes sum it per step: its evaporation and its drainable juice
+    upper = e_pct + d_pct
     summary = DripSummary(
         drainable_juice_kg=d_kg,
         drainable_juice_percent=d_pct,
