@@ -196,13 +196,12 @@ def _stop_time(t: np.ndarray, core: np.ndarray, stop: float | None) -> float | N
 
 def _crossing(t: np.ndarray, core: np.ndarray, target: float, falling: bool) -> float | None:
     """When ``core`` crosses ``target`` in the direction of the target (linear between records); None when it
-    does not within the records or is already at or past it at the first one."""
-    past = core <= target if falling else core >= target
-    if core.size < 2 or past[0] or not past.any():
+    does not within the records or is already at or past it at the first one (reached in an earlier step)."""
+    from procplan.run.packing import time_to_reach_s
+
+    if core.size < 2 or (core[0] <= target if falling else core[0] >= target):
         return None
-    j = int(np.argmax(past))
-    d0, d1 = core[j - 1] - target, core[j] - target
-    return float(t[j - 1] + d0 / (d0 - d1) * (t[j] - t[j - 1]))
+    return time_to_reach_s(t, core, target, float(core[0]))
 
 
 def _falling(state: SecondState) -> bool:
