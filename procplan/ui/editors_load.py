@@ -356,8 +356,6 @@ SECOND_HELP = (
 
 def _second_target(sp: dict) -> None:
     """The second product's own core target (``target_core_C``): reported beside the batch, never a stop."""
-    from procplan.model import MEDIUM_RANGE_C
-
     on = st.checkbox(
         "It has its own core target",
         value=sp.get("target_core_C") is not None,
@@ -368,13 +366,14 @@ def _second_target(sp: dict) -> None:
     if not on:
         sp.pop("target_core_C", None)
         return
-    sp["target_core_C"] = widgets.temperature(
-        "Its core target",
-        sp.get("target_core_C", 5.0),
-        "ld.sp.tg",
-        minimum_C=MEDIUM_RANGE_C[0],
-        maximum_C=MEDIUM_RANGE_C[1],
-    )
+    sp["target_core_C"] = _second_temperature("Its core target", sp.get("target_core_C", 5.0), "ld.sp.tg")
+
+
+def _second_temperature(label: str, value: float, key: str) -> float:
+    """A temperature of the second product, entered within the range the plan file accepts for media."""
+    from procplan.model import MEDIUM_RANGE_C
+
+    return widgets.temperature(label, value, key, minimum_C=MEDIUM_RANGE_C[0], maximum_C=MEDIUM_RANGE_C[1])
 
 
 def _second_product(plan: dict, lib, loaded: bool, errs: widgets.FieldErrors) -> None:
@@ -409,14 +408,8 @@ def _second_product(plan: dict, lib, loaded: bool, errs: widgets.FieldErrors) ->
     with c[1]:
         sp["pieces"] = _count("Its pieces in the batch", sp.get("pieces", 10), "ld.sp.pieces")
     with c[2]:
-        from procplan.model import MEDIUM_RANGE_C
-
-        sp["initial_temperature_C"] = widgets.temperature(
-            "Its temperature at loading",
-            sp.get("initial_temperature_C", 20.0),
-            "ld.sp.t0",
-            minimum_C=MEDIUM_RANGE_C[0],
-            maximum_C=MEDIUM_RANGE_C[1],
+        sp["initial_temperature_C"] = _second_temperature(
+            "Its temperature at loading", sp.get("initial_temperature_C", 20.0), "ld.sp.t0"
         )
     _second_target(sp)
     for f in ("product", "pieces", "initial_temperature_C", "target_core_C"):
