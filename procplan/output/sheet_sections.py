@@ -381,8 +381,8 @@ def weight_section(result, site, st, W):
         lambda c: [f"{c.weight_loss_percent:.1f} %", f"{c.piece_kg * 1000:.0f} g"],
         [0.03, 0.1, 0.12, 0.1, 0.1, 0.27, 0.12, 0.16],
         "Weigh the same marked pieces each time; loss = (weight at the step's start − weight now) / weight at the "
-        "step's start. A loss below the expected one: extend the step and weigh again. Evaporation only: drip "
-        "and fat running out are not in the prediction.",
+        "step's start. A loss below the expected one: extend the step and weigh again. The expected loss is the "
+        "evaporation: juice dripping out (the upper cook loss of the summary) and fat are not in it.",
         site,
         st,
         W,
