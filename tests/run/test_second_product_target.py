@@ -53,6 +53,19 @@ def _alone(second, medium):
     return res, end
 
 
+def _core_equals_the_tub_alone(second, medium) -> float | None:
+    """Assert the coupled run's tub core equals the tub alone in ``medium`` (≤ 1e-6 K over the whole steps both
+    cover); return the tub alone's time to its 5 °C target [s]."""
+    alone, end = _alone(second, medium)
+    t = np.asarray(second.time_s)
+    keep = t <= end
+    assert (
+        np.max(np.abs(np.interp(t[keep], alone.time_s, alone.core_C) - np.asarray(second.core_C)[keep]))
+        <= 1e-6
+    )
+    return time_to_reach_s(alone.time_s, alone.core_C, 5.0, 82.0)
+
+
 def _air_table_A4(T_K: float) -> tuple[float, float, float, float]:
     """Dry air at 1 atm, linear between the 250 K and 300 K rows: ν [m²/s], k [W/mK], α [m²/s], Pr.
     Source: Incropera, DeWitt, Bergman & Lavine, Fundamentals of Heat and Mass Transfer, 7th ed., Table A.4
@@ -107,14 +120,7 @@ def test_the_core_target_time_equals_the_tub_alone_in_the_held_medium_of_a_huge_
     ml = res.steps[0].machine_load
     assert ml.held and np.max(np.abs(res.history["medium_C"] + 6.0)) <= 1e-9
     second = ml.second
-    alone, end = _alone(second, -6.0)
-    t = np.asarray(second.time_s)
-    keep = t <= end
-    assert (
-        np.max(np.abs(np.interp(t[keep], alone.time_s, alone.core_C) - np.asarray(second.core_C)[keep]))
-        <= 1e-6
-    )
-    t_alone = time_to_reach_s(alone.time_s, alone.core_C, 5.0, 82.0)
+    t_alone = _core_equals_the_tub_alone(second, -6.0)
     assert second.target_time_s is not None and abs(second.target_time_s - t_alone) <= 1e-3
 
 
@@ -128,14 +134,7 @@ def test_the_core_target_time_equals_the_tub_alone_in_the_coupled_runs_medium_hi
     assert ml.time_at_limit_s > 0 and ml.energy_balance_error < 0.005
     second = ml.second
     medium = (res.history["time_s"].to_numpy(), res.history["medium_C"].to_numpy())
-    alone, end = _alone(second, medium)
-    t = np.asarray(second.time_s)
-    keep = t <= end
-    assert (
-        np.max(np.abs(np.interp(t[keep], alone.time_s, alone.core_C) - np.asarray(second.core_C)[keep]))
-        <= 1e-6
-    )
-    t_alone = time_to_reach_s(alone.time_s, alone.core_C, 5.0, 82.0)
+    t_alone = _core_equals_the_tub_alone(second, medium)
     assert abs(second.target_time_s - t_alone) <= 1e-3
     assert second.target_time_s > _coupled(100).steps[0].machine_load.second.target_time_s
 

@@ -17,6 +17,22 @@ from procplan.run.drip import cook_loss_text, run_bracket, yield_text
 
 from .test_app import errors, go, library_result, metric, number_input, number_of
 
+
+def _reopened(text: str):
+    """A fresh app with the saved plan ``text`` pasted on the Sheet & files page, open on the Process page."""
+    from streamlit.testing.v1 import AppTest
+
+    from .conftest import APP
+
+    again = AppTest.from_file(str(APP), default_timeout=180)
+    again.run()
+    go(again, "Sheet & files")
+    again.text_area(key="paste_plan").set_value(text)
+    again.button(key="paste_btn").click().run()
+    go(again, "Process")
+    return again
+
+
 BRINE_PLAN = "pork-loin-brine-freeze"
 OVEN_PLAN = "beef-joint-oven-roast"
 
@@ -159,12 +175,9 @@ def test_brine_temperature_follows_the_machine_of_the_step(app):
 
 
 def test_saved_plan_keeps_the_brine_settings(app, library_copy):
-    from streamlit.testing.v1 import AppTest
 
     from procplan.files.library import load_library
     from procplan.files.plan import plan_from_toml
-
-    from .conftest import APP
 
     _open(app, BRINE_PLAN)
     number_input(app, "Brine concentration [% salt]").set_value(12.5).run()
@@ -181,12 +194,7 @@ def test_saved_plan_keeps_the_brine_settings(app, library_copy):
     )
     assert saved.stop_when_core_fraction == pytest.approx(0.012)
     assert saved.target_mean_fraction == pytest.approx(0.03)
-    again = AppTest.from_file(str(APP), default_timeout=180)
-    again.run()
-    go(again, "Sheet & files")
-    again.text_area(key="paste_plan").set_value(text)
-    again.button(key="paste_btn").click().run()
-    go(again, "Process")
+    again = _reopened(text)
     assert number_input(again, "Brine concentration [% salt]").value == pytest.approx(12.5)
     assert number_input(again, "Surface mass-transfer coefficient [m/s]").value == pytest.approx(2e-6)
     assert number_input(again, "Core salt to stop at").value == pytest.approx(1.2)
@@ -282,13 +290,10 @@ def test_freezing_after_brining_sets_the_freeze_steps_own_time_beside_plank(app,
 
 
 def test_measured_diffusivity_with_its_temperature_dependence_round_trips(app, library_copy):
-    from streamlit.testing.v1 import AppTest
 
     from procplan.files.library import load_library
     from procplan.files.plan import plan_from_toml
     from procplan.run.engine import run_plan
-
-    from .conftest import APP
 
     _open(app, BRINE_PLAN)
     _widget(app, "selectbox", "Diffusivity of the solute in the product").set_value(
@@ -325,12 +330,7 @@ def test_measured_diffusivity_with_its_temperature_dependence_round_trips(app, l
         number_of(metric(app, "Equilibrium with the brine")), 100 * m.equilibrium_fraction, atol=0.005
     )
     # reopened: the values in the widgets, and saved back unchanged
-    again = AppTest.from_file(str(APP), default_timeout=180)
-    again.run()
-    go(again, "Sheet & files")
-    again.text_area(key="paste_plan").set_value(text)
-    again.button(key="paste_btn").click().run()
-    go(again, "Process")
+    again = _reopened(text)
     assert number_input(again, "Diffusivity D [m²/s]").value == pytest.approx(3e-10)
     assert number_input(again, "Temperature the diffusivity was measured at").value == pytest.approx(10.0)
     assert number_input(again, "Activation energy [kJ/mol]").value == pytest.approx(30.0)
