@@ -35,8 +35,13 @@ from procplan.run.drip import drip_settings, start_state, step_drip
 from procplan.run.dry_oven import carried_field, dry_oven_step, range_warnings
 from procplan.run.dry_stop import check_weight_stop
 from procplan.run.results import PlanResult, StepResult, StepSolverDetails
+from procplan.run.second_product import (
+    H_SURFACE_TOLERANCE,
+    initial_state,
+    second_product_pass,
+    target_warnings,
+)
 from procplan.run.second_product import carried as carried_second
-from procplan.run.second_product import initial_state, second_product_pass, target_warnings
 from procplan.run.solver import PROPERTY_SPREAD_LIMIT, choose_solver, exact_properties, exact_sample_times
 from procplan.run.step_surface import StepSurface, resolve_step_surface
 
@@ -52,8 +57,6 @@ __all__ = [
     "run_plan",
 ]
 
-#: Relative change of h, re-evaluated at the step's mean surface temperature, above which the step runs again.
-H_SURFACE_TOLERANCE = 0.03
 #: Move of the sink temperature [K] (radiation to walls at another temperature than the air) on the second
 #: evaluation beyond which the step runs again; it cannot move without such walls.
 SINK_TOLERANCE_K = 0.05

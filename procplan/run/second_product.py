@@ -359,10 +359,9 @@ def _alone(
     )
 
 
-#: Relative change of the second product's h [-] on its second pass (at its time-averaged surface
-#: temperature) above which the step is solved again: the main product's tolerance
-#: (:data:`procplan.run.engine.H_SURFACE_TOLERANCE`).
-H_SECOND_PASS_TOLERANCE = 0.03
+#: Relative change of h, re-evaluated at the step's mean surface temperature, above which a step runs again
+#: (the main product's and the second product's second pass alike; the engine reads it from here).
+H_SURFACE_TOLERANCE = 0.03
 
 
 def time_mean(time_s, values) -> float:
@@ -372,8 +371,8 @@ def time_mean(time_s, values) -> float:
 
 
 def h_moved(h_first: float, h_again: float) -> bool:
-    """Whether the second product's h moved by more than :data:`H_SECOND_PASS_TOLERANCE` on its second pass."""
-    return bool(abs(float(h_again) / float(h_first) - 1.0) > H_SECOND_PASS_TOLERANCE)
+    """Whether the second product's h moved by more than :data:`H_SURFACE_TOLERANCE` on its second pass."""
+    return bool(abs(float(h_again) / float(h_first) - 1.0) > H_SURFACE_TOLERANCE)
 
 
 def second_surface_pass(second: SecondLoad, machine, step, index: int, library) -> SecondLoad | None:
