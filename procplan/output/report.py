@@ -14,6 +14,7 @@ from procplan.output.brine_report import brine_dict, brine_lines
 from procplan.output.json_safe import json_safe
 from procplan.output.second_report import second_product_dict, second_product_lines, second_step_dict
 from procplan.output.text_units import _fmt_min, _minutes, _temp, _time
+from procplan.properties.boiling import BOILING_C
 from procplan.run.drip import CAUTION as DRIP_CAUTION
 from procplan.run.drip import cook_loss_text, run_bracket, yield_text
 
@@ -293,8 +294,19 @@ def _drying_line(d, site=None) -> str:
     return (
         f"    moisture: wet bulb of the air {_temp(site, d.wet_bulb_C, 1)}; {wet} (surface moisture "
         f"{d.surface_moisture_kg_kg:.2f} kg water/kg dry matter at the end, from {d.initial_moisture_kg_kg:.2f}); "
-        f"evaporative loss {d.weight_loss_kg * 1000:.0f} g ({d.weight_loss_percent:.1f} %); {d.passes} coupling passes, "
-        f"mass balance {d.mass_balance_error:.2%}"
+        f"evaporative loss {d.weight_loss_kg * 1000:.0f} g ({d.weight_loss_percent:.1f} %){_boiled_text(d, site)}; "
+        f"{d.passes} coupling passes, mass balance {d.mass_balance_error:.2%}"
+    )
+
+
+def _boiled_text(d, site=None) -> str:
+    """Where water boiled off under the crust: the two counts whose larger is the loss."""
+    if d.boiled_kg <= 0.0:
+        return ""
+    return (
+        f", the larger of the surface evaporation {d.surface_evaporated_kg * 1000:.0f} g and the water boiled off "
+        f"under the crust past {_temp(site, BOILING_C, 0)} {d.boiled_kg * 1000:.0f} g (the inside stays at or below the "
+        "boiling point while it holds water)"
     )
 
 
@@ -451,7 +463,7 @@ def _energy_lines(oc, batch: str) -> list[str]:
     """Weight loss, the batch's energy (removed and added, gross) and each step's refrigeration duty."""
     lines: list[str] = []
     for step_name, pct in oc.weight_loss_percent:
-        lines.append(f"  {step_name}: weight loss by surface evaporation {pct:.2f} % of the piece's mass")
+        lines.append(f"  {step_name}: weight loss by evaporation {pct:.2f} % of the piece's mass")
     bracket = run_bracket(oc)
     if bracket is not None:
         lo, hi, y_lo, y_hi = bracket

@@ -17,6 +17,7 @@ from procplan import outcomes as oc
 from procplan.errors import InvalidInputError
 from procplan.model import LethalityCheck, Plan, Target, depth_column
 from procplan.outcomes.energy import heat_by_direction_J, peak_duty_W
+from procplan.properties.boiling import LATENT_VAPORISATION_J_KG
 from procplan.properties.table import PropertyTable
 from procplan.run.assess_phase import (
     FreezingOutcome,
@@ -372,6 +373,10 @@ def _energy(run: _Run, warnings: list[str]) -> tuple[oc.EnergySummary, float]:
     hist, props, ch = run.history, run.properties, run.plan.checks
     t = hist["time_s"].to_numpy()
     dh = float(props.enthalpy(float(hist["mean_C"].iloc[-1])) - props.enthalpy(run.plan.start_temperature_C))
+    boiled = sum(  # water boiled off inside in dry-air steps took its latent heat with it
+        sr.drying.boiled_kg for sr in run.steps if getattr(sr, "drying", None) is not None
+    )
+    dh += LATENT_VAPORISATION_J_KG * boiled / run.piece_mass_kg
     energy = oc.energy_summary(
         t,
         hist["heat_flow_W"].to_numpy(),

@@ -27,6 +27,9 @@ Modelling choices (each on the side stated):
 * D follows Arrhenius at the time-averaged surface temperature of the previous heat pass (the hottest part of
   the layer: it overstates the supply of water to the surface, so the surface stays wet longer and the heating
   is predicted slower, the safe direction for a cook time).
+* The heat problem boils each cell's water off at 100 °C (:mod:`procplan.properties.boiling`): the wet inside
+  cannot heat past the boiling point, and a crust of dry matter grows behind an evaporation front. The weight
+  loss is the larger of the surface evaporation and the water boiled off (both count the crust's water).
 * The moisture problem carries evaporation alone: the juice a meat product's heated proteins expel (drip) is
   bounded from the temperature field by :mod:`procplan.run.drip` (the upper bound of the step's cook loss: the
   evaporation here is its lower bound); fat rendered out is not modelled.
@@ -40,7 +43,7 @@ of large scale integrated circuits. IEEE Trans. CAD 1(3), 131–145.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
@@ -48,6 +51,7 @@ import numpy as np
 from procplan.conduction.fv_boundary import SurfaceBoundary
 from procplan.conduction.moisture import MoistureHistory, arrhenius_m2_s, layer_depth_m, solve_moisture
 from procplan.geometry import Geometry
+from procplan.properties.boiling import LATENT_VAPORISATION_J_KG, boiled_share, with_boiling
 from procplan.properties.sorption import (
     CATEGORY_ISOTHERM,
     ISOTHERMS,
@@ -56,7 +60,13 @@ from procplan.properties.sorption import (
     MoistureDiffusivity,
     dry_basis,
 )
-from procplan.run.dry_stop import crossing_s, solve_to_weight_loss, weight_checkpoints
+from procplan.run.dry_stop import (
+    crossing_s,
+    loss_history_kg,
+    lost_history_kg,
+    solve_to_weight_loss,
+    weight_checkpoints,
+)
 from procplan.surface.oven_air import DryingAir
 
 #: Passes of the waveform relaxation at most, and the change of the surface-temperature history [K] below
@@ -82,6 +92,9 @@ class DryOvenModel:
     diffusivity: MoistureDiffusivity
     initial_kg_kg: float
     dry_matter_kg_m3: float
+    #: the heat problem's property table: the product's with its water boiling off at 100 °C
+    #: (:mod:`procplan.properties.boiling`; None: the product's own)
+    heat_props: Any = field(default=None, repr=False, compare=False)
 
     @classmethod
     def for_product(cls, product, props, air: DryingAir) -> DryOvenModel | None:
@@ -92,12 +105,20 @@ class DryOvenModel:
             return None
         w = float(comp["water"])
         rho = float(props.mass_density_kg_m3)
-        return cls(air, ISOTHERMS[name], MOISTURE_DIFFUSIVITIES[name], dry_basis(w), rho * (1.0 - w))
+        heat_props = with_boiling(props, comp)
+        return cls(
+            air, ISOTHERMS[name], MOISTURE_DIFFUSIVITIES[name], dry_basis(w), rho * (1.0 - w), heat_props
+        )
 
     def describe(self) -> str:
         return (
             f"surface drying in {self.air.describe()}; GAB isotherm of {self.isotherm.name}, moisture diffusivity "
             f"{self.diffusivity.D_ref_m2_s:.2g} m²/s at {self.diffusivity.reference_C:g} °C (indicative)"
+            + (
+                "; inside, the water boils off at 100 °C behind the crust"
+                if self.heat_props is not None
+                else ""
+            )
         )
 
 
@@ -131,6 +152,12 @@ class DryOvenResult:
     weight_stop_s: float | None = None
     exchange: tuple[np.ndarray, np.ndarray, np.ndarray] | None = field(default=None, repr=False)
     settle_K: float = SURFACE_TOLERANCE_K
+    boiled: tuple[np.ndarray, np.ndarray] | None = field(default=None, repr=False)
+
+    @property
+    def boiled_kg(self) -> float:
+        """Water boiled off inside past the boiling point in the step, per piece [kg]."""
+        return 0.0 if self.boiled is None else float(self.boiled[1][-1])
 
     @property
     def settled(self) -> bool:
@@ -173,6 +200,50 @@ def _moisture_pass(model: DryOvenModel, geometry: Geometry, heat, n_nodes: int) 
         output_time_s=t,
         n_nodes=n_nodes,
     )
+
+
+def _boiling_settings(heat_props, mass_density_kg_m3: float, heat_settings: dict) -> tuple[dict, list]:
+    """The heat pass's settings with a peak measure that records the water boiled off so far [kg per piece]
+    at each row of the history (the step's own peak measure, a meat's drip, still returned to the solver)."""
+    rows: list[float] = []
+    tb = heat_props.extra.get("boiling_C")
+    if tb is None:
+        return heat_settings, rows
+    band, water = heat_props.extra["boiling_band_K"], heat_props.extra["water_fraction"]
+    inner = heat_settings.get("peak_measure")
+
+    def measure(peak_C, volume_m3):
+        rows.append(
+            mass_density_kg_m3 * water * float(np.add.reduce(volume_m3 * boiled_share(peak_C, tb, band)))
+        )
+        return 0.0 if inner is None else inner(peak_C, volume_m3)
+
+    return {**heat_settings, "peak_measure": measure}, rows
+
+
+def _with_boiling_record(heat, rows: list, heat_settings: dict):
+    """The heat pass's result with the water boiled off in the step so far (``boiled_kg`` per piece at each
+    time of its history, from the step's start)."""
+    if not rows:
+        return heat
+    boiled = np.asarray(rows, dtype=float) * heat.grid.piece_factor
+    extra = {} if "peak_measure" in heat_settings else {"peak_measure": None, "peak_field": None}
+    out = replace(heat, **extra)
+    object.__setattr__(out, "boiled_kg", boiled - boiled[0])
+    return out
+
+
+def _net_of_boiling(heat, props, heat_props, piece_mass_kg: float):
+    """The step's heat result as the rest of the run reads it: its mean temperature that of the product's own
+    enthalpy without the latent heat of the water boiled off (the water has left; the run's energy balance
+    counts that heat, :func:`procplan.run.assess`). Returns (result, (times [s], water boiled off so far
+    [kg])), the second None when nothing was recorded."""
+    boiled = getattr(heat, "boiled_kg", None)
+    if boiled is None:
+        return heat, None
+    mean_h = heat_props.enthalpy(np.asarray(heat.mean_C, dtype=float))
+    mean_h = mean_h - LATENT_VAPORISATION_J_KG * boiled / piece_mass_kg
+    return replace(heat, mean_C=props.temperature(mean_h)), (np.asarray(heat.time_s, dtype=float), boiled)
 
 
 def _history_change(a, b) -> float:
@@ -258,6 +329,7 @@ def solve_dry_oven(
     from procplan.conduction.finite_volume import solve_conduction
 
     air, iso = model.air, model.isotherm
+    heat_props = model.heat_props if model.heat_props is not None else props
     # a history on a fixed grid: the moisture pass lands on the heat pass's times, and few times keep both fast
     heat_settings.setdefault("output_time_s", np.linspace(0.0, end_time_s, HISTORY_POINTS))
     n_t, n_v, wet_v = _start_waveform(end_time_s, guess)
@@ -274,7 +346,12 @@ def solve_dry_oven(
             return -(w * wet_flux + (1.0 - w) * np.interp(t, n_t, n_v)) * hfg
 
         bnd = SurfaceBoundary(boundary.medium_C, boundary.h_W_m2K, q_extra)
-        new = solve_conduction(geometry, props, initial, bnd, end_time_s, **heat_settings)
+        settings, boiled_rows = _boiling_settings(heat_props, props.mass_density_kg_m3, heat_settings)
+        new = _with_boiling_record(
+            solve_conduction(geometry, heat_props, initial, bnd, end_time_s, **settings),
+            boiled_rows,
+            heat_settings,
+        )
         if heat is not None:
             change = _history_change(heat, new)
         heat = new
@@ -290,16 +367,19 @@ def solve_dry_oven(
         else:  # under-relaxed and accelerated: the switch from wet to dry moves back and forth otherwise
             n_t, n_v, wet_v = accel.next(accel.vector(n_t, n_v, wet_v), accel.vector(aw_t, n_new, wet_new))
     dried = np.nonzero(aw_v < DRY_SURFACE_WATER_ACTIVITY)[0]
+    heat, boiled = _net_of_boiling(heat, props, heat_props, props.mass_density_kg_m3 * geometry.volume_m3)
+    lost = lost_history_kg(moisture, boiled, geometry.area_m2)[1]
     return DryOvenResult(
         heat=heat,
         moisture=moisture,
         passes=passes,
         surface_change_K=change,
-        lost_kg=float(moisture.lost_kg_m2[-1]) * geometry.area_m2,
+        lost_kg=float(lost[-1]),
         wet_bulb_C=air.wet_bulb_C(),
         wet_until_s=float(aw_t[dried[0]]) if dried.size else None,
         exchange=(n_t, n_v, wet_v),
         settle_K=settle_K,
+        boiled=boiled,
     )
 
 
@@ -330,6 +410,10 @@ class DryingSummary:
     weight_stop_s : time from the step's start the weight loss was reached and ended the step [s] (None: no
         stop, or not reached within the step)
     weight_checkpoints : (time from the step's start [s], predicted weight loss [%]) for weighing pieces
+    boiled_kg : water boiled off inside past the boiling point [kg] (:mod:`procplan.properties.boiling`); the
+        weight loss is the larger of it and the surface evaporation
+        (:func:`procplan.run.dry_stop.lost_history_kg`)
+    surface_evaporated_kg : water the moisture problem evaporated at the surface [kg]
     """
 
     weight_loss_kg: float
@@ -352,6 +436,8 @@ class DryingSummary:
     stop_weight_loss_percent: float | None = None
     weight_stop_s: float | None = None
     weight_checkpoints: tuple[tuple[float, float], ...] = ()
+    boiled_kg: float = 0.0
+    surface_evaporated_kg: float = 0.0
 
     @property
     def converged(self) -> bool:
@@ -376,11 +462,11 @@ def summarise(
 ) -> DryingSummary:
     """The per-piece summary of a dry-air step (``stop_fraction``: the step's weight-loss stop [-])."""
     pct = 100.0 * res.lost_kg / piece_mass_kg
-    per_m2 = np.asarray(res.moisture.lost_kg_m2, dtype=float)
-    # the loss so far: the same surface area throughout, so the share of the final loss per m² scales it
-    loss = pct * per_m2 / per_m2[-1] if per_m2[-1] != 0.0 else np.zeros_like(per_m2)
+    loss = 100.0 * loss_history_kg(res, area_m2)[1] / piece_mass_kg
     return DryingSummary(
         weight_loss_kg=res.lost_kg,
+        boiled_kg=res.boiled_kg,
+        surface_evaporated_kg=float(res.moisture.lost_kg_m2[-1]) * area_m2,
         weight_loss_percent=pct,
         yield_percent=100.0 - pct,
         wet_bulb_C=res.wet_bulb_C,

@@ -82,8 +82,21 @@ def check_weight_stop(step, index: int, surface) -> None:
 
 
 def loss_history_kg(res, area_m2: float) -> tuple[np.ndarray, np.ndarray]:
-    """Times [s] and water lost per piece [kg] of a dry-air result."""
-    return np.asarray(res.moisture.time_s, dtype=float), np.asarray(res.moisture.lost_kg_m2) * area_m2
+    """Times [s] and water lost per piece [kg] so far of a dry-air result (a DryOvenResult)."""
+    return lost_history_kg(res.moisture, res.boiled, area_m2)
+
+
+def lost_history_kg(moisture, boiled, area_m2: float) -> tuple[np.ndarray, np.ndarray]:
+    """Water a piece has lost so far [kg] at the moisture history's times: the larger of the surface
+    evaporation the moisture problem solved and the water boiled off inside past the boiling point (``boiled``:
+    (times [s], kg) or None; :mod:`procplan.properties.boiling`). Both count the crust's water, so their sum
+    would count it twice; the larger is the loss both require, the lower bound of the two (a weight-loss stop
+    read from it comes late rather than early)."""
+    t = np.asarray(moisture.time_s, dtype=float)
+    evaporated = np.asarray(moisture.lost_kg_m2, dtype=float) * area_m2
+    if boiled is None:
+        return t, evaporated
+    return t, np.maximum(evaporated, np.interp(t, boiled[0], boiled[1]))
 
 
 def crossing_s(time_s, lost_kg, loss_kg: float) -> float | None:

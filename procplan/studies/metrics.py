@@ -83,7 +83,7 @@ def salt_metrics(result) -> dict[str, float]:
 #: evaporation in an air machine with a humidity setting): the figures of the run's outcomes and of the last
 #: step with a weight-loss stop, as the summary and the sheet show them.
 DRYING_METRIC_COLUMNS: dict[str, str] = {
-    "weight_loss_percent": "mass lost by surface evaporation over the run, share of the starting mass [%] "
+    "weight_loss_percent": "mass lost by evaporation over the run, share of the starting mass [%] "
     "(100 − yield; for unwrapped meat the lower bound of the cook loss)",
     "yield_percent": "mass at the end over the mass at the start [%] (evaporation only; for unwrapped meat the "
     "upper bound of the yield)",

@@ -6,6 +6,7 @@ from dataclasses import replace
 import pytest
 
 from procplan.files.library import load_library
+from procplan.properties.boiling import BOILING_BAND_K, BOILING_C
 from procplan.files.plan import load_plan
 from procplan.run.engine import run_plan
 
@@ -35,6 +36,15 @@ def test_dry_oven_roast_slower_than_without_evaporation_and_loses_weight(library
         100 - d.weight_loss_percent
     )  # the drying summary's yield: evaporation alone (the step's drip: sr.drip)
     assert res.outcomes.weight_loss_percent[0][1] == pytest.approx(d.weight_loss_percent)
+    # the wet inside cannot heat past the boiling point of its water (an evaporation front; Purlis & Salvadori
+    # 2009): the core stays at or below the band, the mean ends below 100 °C (it was 123.7 °C when only the
+    # surface evaporated), and the water boiled off under the crust is within the loss, the larger of the two
+    hist = res.history
+    assert float(hist["core_C"].max()) <= BOILING_C + BOILING_BAND_K
+    assert float(hist["mean_C"].iloc[-1]) < BOILING_C
+    assert d.boiled_kg > 0.0 and d.weight_loss_kg == pytest.approx(max(d.boiled_kg, d.surface_evaporated_kg))
+    # the heat that boiled the water left with it: the run's heat balances the enthalpy change of the piece
+    assert res.outcomes.energy_balance < 0.01
     # the same joint wrapped (no evaporation) reaches 75 °C sooner: evaporation slows the heating
     dry = run_plan(replace(plan, product=replace(plan.product, unwrapped=False)), library=library)
     assert dry.steps[0].drying is None
