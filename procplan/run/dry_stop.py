@@ -96,7 +96,9 @@ def lost_history_kg(moisture, boiled, area_m2: float) -> tuple[np.ndarray, np.nd
     evaporated = np.asarray(moisture.lost_kg_m2, dtype=float) * area_m2
     if boiled is None:
         return t, evaporated
-    return t, np.maximum(evaporated, np.interp(t, boiled[0], boiled[1]))
+    inside = np.interp(t, boiled[0], boiled[1])
+    # (a surface below the dew point at first gains water: with nothing boiled, the gain stands)
+    return t, np.where(inside > np.maximum(evaporated, 0.0), inside, evaporated)
 
 
 def crossing_s(time_s, lost_kg, loss_kg: float) -> float | None:

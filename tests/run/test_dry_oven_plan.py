@@ -6,8 +6,8 @@ from dataclasses import replace
 import pytest
 
 from procplan.files.library import load_library
-from procplan.properties.boiling import BOILING_BAND_K, BOILING_C
 from procplan.files.plan import load_plan
+from procplan.properties.boiling import BOILING_BAND_K, BOILING_C
 from procplan.run.engine import run_plan
 
 PLANS = "product_library/plans"
