@@ -222,23 +222,21 @@ def _boiling_settings(heat_props, mass_density_kg_m3: float, heat_settings: dict
 
 
 def _with_boiling_record(heat, rows: list, heat_settings: dict):
-    """The heat pass's result with the water boiled off in the step so far (``boiled_kg`` per piece at each
-    time of its history, from the step's start)."""
+    """The heat pass's result (without the boiling's own peak measure) and the water boiled off in the step so
+    far [kg per piece] at each time of its history, from the step's start (None: nothing recorded)."""
     if not rows:
-        return heat
+        return heat, None
     boiled = np.asarray(rows, dtype=float) * heat.grid.piece_factor
-    extra = {} if "peak_measure" in heat_settings else {"peak_measure": None, "peak_field": None}
-    out = replace(heat, **extra)
-    object.__setattr__(out, "boiled_kg", boiled - boiled[0])
-    return out
+    if "peak_measure" not in heat_settings:
+        heat = replace(heat, peak_measure=None, peak_field=None)
+    return heat, boiled - boiled[0]
 
 
-def _net_of_boiling(heat, props, heat_props, piece_mass_kg: float):
+def _net_of_boiling(heat, boiled, props, heat_props, piece_mass_kg: float):
     """The step's heat result as the rest of the run reads it: its mean temperature that of the product's own
     enthalpy without the latent heat of the water boiled off (the water has left; the run's energy balance
     counts that heat, :func:`procplan.run.assess`). Returns (result, (times [s], water boiled off so far
     [kg])), the second None when nothing was recorded."""
-    boiled = getattr(heat, "boiled_kg", None)
     if boiled is None:
         return heat, None
     mean_h = heat_props.enthalpy(np.asarray(heat.mean_C, dtype=float))
@@ -347,7 +345,7 @@ def solve_dry_oven(
 
         bnd = SurfaceBoundary(boundary.medium_C, boundary.h_W_m2K, q_extra)
         settings, boiled_rows = _boiling_settings(heat_props, props.mass_density_kg_m3, heat_settings)
-        new = _with_boiling_record(
+        new, boiled = _with_boiling_record(
             solve_conduction(geometry, heat_props, initial, bnd, end_time_s, **settings),
             boiled_rows,
             heat_settings,
@@ -367,7 +365,9 @@ def solve_dry_oven(
         else:  # under-relaxed and accelerated: the switch from wet to dry moves back and forth otherwise
             n_t, n_v, wet_v = accel.next(accel.vector(n_t, n_v, wet_v), accel.vector(aw_t, n_new, wet_new))
     dried = np.nonzero(aw_v < DRY_SURFACE_WATER_ACTIVITY)[0]
-    heat, boiled = _net_of_boiling(heat, props, heat_props, props.mass_density_kg_m3 * geometry.volume_m3)
+    heat, boiled = _net_of_boiling(
+        heat, boiled, props, heat_props, props.mass_density_kg_m3 * geometry.volume_m3
+    )
     lost = lost_history_kg(moisture, boiled, geometry.area_m2)[1]
     return DryOvenResult(
         heat=heat,
