@@ -351,7 +351,8 @@ def _energy(result, u: Units) -> None:
                 "peak duty [kW]": round(se.peak_duty_kW, 1),
                 "mean duty [kW]": round(float(se.mean_duty_kW), 2),
                 "COP": "—" if r is None else f"{r.cop:.2f} (Carnot {r.cop_carnot:.2f})",
-                "electricity [kWh]": "—" if r is None else round(r.electricity_kWh, 3),
+                # text throughout: a column of numbers and dashes does not convert to one Arrow type
+                "electricity [kWh]": "—" if r is None else f"{r.electricity_kWh:.3f}",
                 "cost": "—" if r is None else format_cost(r.cost, oc.price),
                 "basis": se.basis,
             }
