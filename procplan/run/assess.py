@@ -17,7 +17,6 @@ from procplan import outcomes as oc
 from procplan.errors import InvalidInputError
 from procplan.model import LethalityCheck, Plan, Target, depth_column
 from procplan.outcomes.energy import heat_by_direction_J, peak_duty_W
-from procplan.properties.boiling import LATENT_VAPORISATION_J_KG
 from procplan.properties.table import PropertyTable
 from procplan.run.assess_phase import (
     FreezingOutcome,
@@ -28,6 +27,7 @@ from procplan.run.assess_phase import (
     thawing_outcome,
 )
 from procplan.run.dry_oven import yield_percent
+from procplan.run.dry_stop import boiled_latent_J
 
 #: Evaporating temperature below the medium and condensing temperature assumed when a step names no
 #: machine (common practice for air coolers: 6–10 K approach; air-cooled condensers about 35 °C).
@@ -373,10 +373,7 @@ def _energy(run: _Run, warnings: list[str]) -> tuple[oc.EnergySummary, float]:
     hist, props, ch = run.history, run.properties, run.plan.checks
     t = hist["time_s"].to_numpy()
     dh = float(props.enthalpy(float(hist["mean_C"].iloc[-1])) - props.enthalpy(run.plan.start_temperature_C))
-    boiled = sum(  # water boiled off inside in dry-air steps took its latent heat with it
-        sr.drying.boiled_kg for sr in run.steps if getattr(sr, "drying", None) is not None
-    )
-    dh += LATENT_VAPORISATION_J_KG * boiled / run.piece_mass_kg
+    dh += boiled_latent_J(run.steps) / run.piece_mass_kg  # the boiled-off water took its latent heat along
     energy = oc.energy_summary(
         t,
         hist["heat_flow_W"].to_numpy(),

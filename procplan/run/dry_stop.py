@@ -35,6 +35,7 @@ from dataclasses import replace
 import numpy as np
 
 from procplan.errors import InvalidInputError
+from procplan.properties.boiling import LATENT_VAPORISATION_J_KG
 
 #: Relative tolerance of the weight loss at the stop (0.2 %: 0.09 points of a 45 % loss, below what a plant
 #: scale shows on a piece); reruns of the shortened step at most.
@@ -84,6 +85,13 @@ def check_weight_stop(step, index: int, surface) -> None:
 def loss_history_kg(res, area_m2: float) -> tuple[np.ndarray, np.ndarray]:
     """Times [s] and water lost per piece [kg] so far of a dry-air result (a DryOvenResult)."""
     return lost_history_kg(res.moisture, res.boiled, area_m2)
+
+
+def boiled_latent_J(steps) -> float:
+    """Latent heat the water boiled off inside in a run's dry-air steps took with it, per piece [J]
+    (``steps``: the run's step results; :mod:`procplan.properties.boiling`)."""
+    boiled = sum(sr.drying.boiled_kg for sr in steps if getattr(sr, "drying", None) is not None)
+    return LATENT_VAPORISATION_J_KG * boiled
 
 
 def lost_history_kg(moisture, boiled, area_m2: float) -> tuple[np.ndarray, np.ndarray]:
