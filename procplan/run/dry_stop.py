@@ -98,8 +98,14 @@ def lost_history_kg(moisture, boiled, area_m2: float) -> tuple[np.ndarray, np.nd
     """Water a piece has lost so far [kg] at the moisture history's times: the larger of the surface
     evaporation the moisture problem solved and the water boiled off inside past the boiling point (``boiled``:
     (times [s], kg) or None; :mod:`procplan.properties.boiling`). Both count the crust's water, so their sum
-    would count it twice; the larger is the loss both require, the lower bound of the two (a weight-loss stop
-    read from it comes late rather than early)."""
+    would count it twice; the larger of the two is a lower bound of the true loss (a weight-loss stop read from
+    it comes late rather than early).
+
+    >>> from types import SimpleNamespace
+    >>> m = SimpleNamespace(time_s=[0.0, 60.0, 120.0], lost_kg_m2=[0.0, -0.01, 0.5])
+    >>> lost_history_kg(m, ([0.0, 60.0, 120.0], [0.0, 0.0, 0.8]), 0.1)[1].round(3).tolist()  # condensing, boiling
+    [0.0, -0.001, 0.8]
+    """
     t = np.asarray(moisture.time_s, dtype=float)
     evaporated = np.asarray(moisture.lost_kg_m2, dtype=float) * area_m2
     if boiled is None:
