@@ -6,6 +6,8 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from scipy.optimize import brentq
 from scipy.special import erf
 
@@ -115,3 +117,26 @@ def test_receding_evaporation_front_against_the_neumann_solution():
         assert crossed == pytest.approx(expected, rel=0.02), (d, crossed, expected)
     # behind the front the wet slab never rises above the band while it holds water
     assert float(np.max(res.core_C)) <= BOILING_C + BOILING_BAND_K + 1e-6
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    water=st.floats(0.05, 0.95),
+    protein=st.floats(0.0, 1.0),
+    fat=st.floats(0.0, 1.0),
+    band=st.floats(0.2, 10.0),
+)
+def test_any_composition_gives_a_plateau_of_its_water_and_leaves_the_rest(water, protein, fat, band):
+    # invariants: H strictly increasing (the table refuses anything else), the table below the boiling point
+    # untouched, the plateau the water's latent heat plus the wet sensible heat over the band
+    dry = protein + fat
+    if dry <= 1e-6:
+        protein, dry = 1.0, 1.0
+    comp = {"water": water, "protein": (1 - water) * protein / dry, "fat": (1 - water) * fat / dry}
+    wet = PropertyTable.constant(0.5, 1050.0, 3500.0)
+    hot = with_boiling(wet, comp, band_K=band)
+    assert np.all(np.diff(hot.enthalpy_J_kg) > 0)
+    t = np.linspace(-40.0, BOILING_C, 17)
+    np.testing.assert_array_equal(hot.enthalpy(t), wet.enthalpy(t))
+    plateau = float(hot.enthalpy(BOILING_C + band) - hot.enthalpy(BOILING_C))
+    assert plateau == pytest.approx(water * LATENT_VAPORISATION_J_KG + 3500.0 * band, rel=1e-9)
