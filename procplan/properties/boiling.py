@@ -13,7 +13,7 @@ crossed.
 
 * up to :data:`BOILING_C` the table is unchanged;
 * from :data:`BOILING_C` to :data:`BOILING_C` + :data:`BOILING_BAND_K` the enthalpy rises by w h_fg (w the raw
-  water fraction, h_fg :data:`LATENT_VAPORISATION_J_KG`) and by the dry matter's sensible heat over the band;
+  water fraction, h_fg :data:`LATENT_VAPORISATION_J_KG`) and by the product's sensible heat over the band;
 * above, the cell is crust: conductivity that of the dense dry matter (:func:`dry_matter_properties`, Choi–Okos
   components in series); its heat capacity is kept at the wet product's (next point).
 
@@ -28,12 +28,12 @@ Modelling choices and their direction:
 * The crust keeps the wet product's heat capacity per kg of raw product instead of its dry matter's, about
   (1 − w) c_p,dry, five times less: the crust warms more slowly and passes less heat inward (the safe side). On
   the demo roast the core reaches 75 °C 0.4 % later than with the dry matter's (146.5 against 145.9 min), and
-  the solver takes about a third fewer steps (the thin crust's small heat capacity sets the time step).
+  the solver needs fewer time steps (the thin crust's heat capacity sets them).
 * The crust conducts as dense dry matter; a real crust holds pores of air and conducts less, so the heat reaches
   the inside a little faster here than through a real crust (the unsafe side, small beside the wet meat's k it
   replaces, which is about twice as large).
 * The boiling point of the water with the product's solutes is taken as that of pure water at 101.325 kPa (a 2 %
-  salt solution boils about 0.35 K higher), the oven at atmospheric pressure.
+  salt solution boils about 0.36 K higher: 2 × 0.512 K kg/mol × 0.35 mol/kg, water's ebullioscopic constant), the oven at atmospheric pressure.
 
 References
 ----------
@@ -127,7 +127,6 @@ def with_boiling(
     top = max(float(t[-1]), tb + band + 1.0)
     above = np.unique(np.r_[tb, tb + band, t[t > tb + band], top])
     _, k_dry = dry_matter_properties(composition, above)
-    # sensible heat of the dry matter from the boiling point, per kg of raw product (trapezoidal on the grid)
     # above the boiling point the wet product's sensible heat (module note: the crust's heat capacity)
     sensible = props.enthalpy(above) - props.enthalpy(tb)
     h_b = float(props.enthalpy(tb))
@@ -142,7 +141,7 @@ def with_boiling(
         props.density(grid),
         props.initial_freezing_C,
         props.reference_C,
-        props.source + f"; water boils off at {tb:g} °C (dry matter above)",
+        props.source + f"; water boils off at {tb:g} °C (the crust's conductivity above)",
         extra,
     )
 
