@@ -93,6 +93,8 @@ def test_long_study_shows_progress_stops_and_page_stays_usable(tmp_path):
         idle(page)
         page.get_by_role("button", name="Run the variability study").click()
         page.wait_for_selector("text=/^4 samples, full model per sample/", timeout=90_000)
+        # the table under the summary line may render a moment after it: wait for it, not only count
+        page.get_by_text("Target not reached").first.wait_for(timeout=30_000)
         assert page.get_by_text("Target not reached").count() >= 1
         # the study has ended: its stop button is gone with its progress bar
         idle(page)
