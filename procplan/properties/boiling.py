@@ -32,16 +32,17 @@ Modelling choices and their direction:
 * The crust conducts as dense dry matter; a real crust holds pores of air and conducts less, so the heat reaches
   the inside a little faster here than through a real crust (the unsafe side, small beside the wet meat's k it
   replaces, which is about twice as large).
-* The boiling point of the water with the product's solutes is taken as that of pure water at 101.325 kPa (a 2 %
-  salt solution boils about 0.36 K higher: 2 × 0.512 K kg/mol × 0.35 mol/kg, water's ebullioscopic constant), the oven at atmospheric pressure.
+* The boiling point of the water with the product's solutes is taken as that of pure water at 101.325 kPa
+  (a 2 % salt solution boils about 0.36 K higher: 2 × 0.512 K kg/mol × 0.35 mol/kg, with water's
+  ebullioscopic constant), the oven at atmospheric pressure.
 
 References
 ----------
 Zanoni, B., Peri, C., Pierucci, S. (1993). A study of the bread-baking process. I: A phenomenological model.
-J. Food Eng. 19(4), 389–398. Purlis, E., Salvadori, V.O. (2009). Bread baking as a moving boundary problem.
-Part 1: Mathematical modelling. J. Food Eng. 91(3), 428–433. Wagner, W., Pruß, A. (2002). The IAPWS formulation
-1995 for the thermodynamic properties of ordinary water substance. J. Phys. Chem. Ref. Data 31, 387–535 (the
-latent heat at 100 °C, checked against CoolProp in the tests).
+J. Food Eng. 19(4), 389–398 (from memory). Purlis, E., Salvadori, V.O. (2009). Bread baking as a moving
+boundary problem. Part 1: Mathematical modelling. J. Food Eng. 91(3), 428–433 (from memory). Wagner, W.,
+Pruß, A. (2002). The IAPWS formulation 1995 for the thermodynamic properties of ordinary water substance.
+J. Phys. Chem. Ref. Data 31, 387–535 (the latent heat at 100 °C, checked against CoolProp in the tests).
 """
 
 from __future__ import annotations

@@ -80,9 +80,10 @@ def test_bad_composition_names_its_field():
 def test_receding_evaporation_front_against_the_neumann_solution():
     """A wet slab at its boiling point whose face is held hotter: the crust grows as s = 2λ√(α t), with
     λ exp(λ²) erf(λ) = St/√π, St = c_p (T_s − T_b)/L (the one-phase Stefan problem).
-    Source: Carslaw & Jaeger, Conduction of Heat in Solids, 2nd ed. (1959), §11.2 (Neumann's solution);
-    Crank, Free and Moving Boundary Problems (1984), §1.3. The crust's conductivity varies mildly with
-    temperature: the Kirchhoff mean over the crust's range stands in for it."""
+    Source: Carslaw & Jaeger, Conduction of Heat in Solids, 2nd ed. (1959), ch. XI, Neumann's solution;
+    Crank, Free and Moving Boundary Problems (1984), ch. 1 (chapter numbers from memory). The crust's
+    conductivity varies mildly with temperature: the Kirchhoff mean over the crust's range stands in for it.
+    """
     rho, cp = 1050.0, 3500.0
     hot = with_boiling(PropertyTable.constant(0.5, rho, cp), MEAT)
     t_front = BOILING_C + 0.5 * BOILING_BAND_K  # the front: the middle of the band, half the water boiled off
