@@ -14,7 +14,7 @@ crossed.
 * up to :data:`BOILING_C` the table is unchanged;
 * from :data:`BOILING_C` to :data:`BOILING_C` + :data:`BOILING_BAND_K` the enthalpy rises by w h_fg (w the raw
   water fraction, h_fg :data:`LATENT_VAPORISATION_J_KG`) and by the product's sensible heat over the band;
-* above, the cell is crust: conductivity that of the dense dry matter (:func:`dry_matter_properties`, Choi–Okos
+* above, the cell is crust: conductivity that of the dense dry matter (:func:`dry_matter_conductivity`, Choi–Okos
   components in series); its heat capacity is kept at the wet product's (next point).
 
 Modelling choices and their direction:
@@ -78,28 +78,23 @@ def _dry_fractions(composition: Mapping[str, float]) -> tuple[float, np.ndarray]
     return water, x / x.sum()
 
 
-def dry_matter_properties(composition: Mapping[str, float], temperature_C) -> tuple[np.ndarray, np.ndarray]:
-    """Specific heat [J/kgK] and conductivity [W/mK] of the product's dry matter at ``temperature_C``.
-
-    Choi–Okos component properties, the specific heat mass-weighted, the conductivity of the components in
+def dry_matter_conductivity(composition: Mapping[str, float], temperature_C) -> np.ndarray:
+    """Conductivity [W/mK] of the product's dense dry matter at ``temperature_C``: its Choi–Okos components in
     series by volume (the lower bound of the dense mixture; pores of a real crust lower it further).
 
-    Dry matter of protein alone is protein: Choi–Okos at 100 °C, c_p = 2.0082 + 1.2089e-3·100 − 1.3129e-6·100²
-    = 2.1160 kJ/kgK and k = 0.17881 + 1.1958e-3·100 − 2.7178e-6·100² = 0.2712 W/mK:
+    Dry matter of protein alone is protein: Choi–Okos at 100 °C, k = 0.17881 + 1.1958e-3·100 − 2.7178e-6·100²
+    = 0.2712 W/mK:
 
-    >>> cp, k = dry_matter_properties({"water": 0.7, "protein": 0.3}, 100.0)
-    >>> round(float(cp)), round(float(k), 4)
-    (2116, 0.2712)
+    >>> round(float(dry_matter_conductivity({"water": 0.7, "protein": 0.3}, 100.0)), 4)
+    0.2712
     """
     _, x = _dry_fractions(composition)
     t = np.asarray(temperature_C, dtype=float)
-    k, rho, cp = component_properties(np.clip(t, -40.0, 150.0))
+    k, rho, _ = component_properties(np.clip(t, -40.0, 150.0))
     x = x.reshape((-1,) + (1,) * t.ndim)
-    cp_dry = (x * cp).sum(axis=0)
     v = x / rho
     v = v / v.sum(axis=0)
-    k_dry = 1.0 / (v / k).sum(axis=0)
-    return cp_dry, k_dry
+    return 1.0 / (v / k).sum(axis=0)
 
 
 def with_boiling(
@@ -127,7 +122,7 @@ def with_boiling(
     below = t < tb
     top = max(float(t[-1]), tb + band + 1.0)
     above = np.unique(np.r_[tb, tb + band, t[t > tb + band], top])
-    _, k_dry = dry_matter_properties(composition, above)
+    k_dry = dry_matter_conductivity(composition, above)
     # above the boiling point the wet product's sensible heat (module note: the crust's heat capacity)
     sensible = props.enthalpy(above) - props.enthalpy(tb)
     h_b = float(props.enthalpy(tb))

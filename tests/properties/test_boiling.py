@@ -20,10 +20,10 @@ from procplan.properties.boiling import (
     BOILING_C,
     LATENT_VAPORISATION_J_KG,
     boiled_share,
-    dry_matter_properties,
+    dry_matter_conductivity,
     with_boiling,
 )
-from procplan.properties.choi_okos import conductivity_choi_okos, specific_heat_choi_okos
+from procplan.properties.choi_okos import conductivity_choi_okos
 from procplan.properties.table import PropertyTable
 
 MEAT = {"water": 0.70, "protein": 0.25, "fat": 0.04, "ash": 0.01}
@@ -37,20 +37,18 @@ def test_latent_heat_at_the_boiling_point_against_coolprop():
     assert LATENT_VAPORISATION_J_KG == pytest.approx(h_fg, rel=1e-3)
 
 
-def test_dry_matter_is_the_choi_okos_mixture_of_its_components():
-    # Source: Choi & Okos (1986) component functions; mass-weighted c_p, conductivities in series by volume
-    cp, k = dry_matter_properties(MEAT, 120.0)
-    x = {c: MEAT[c] / 0.30 for c in ("protein", "fat", "ash")}
-    cp_hand = sum(x[c] * float(specific_heat_choi_okos(c, 120.0)) for c in x)
-    assert float(cp) == pytest.approx(cp_hand, rel=1e-12)
+def test_dry_matter_conducts_as_its_choi_okos_components_in_series():
+    # Source: Choi & Okos (1986) component functions; conductivities in series by volume fraction
     from procplan.properties.choi_okos import density_choi_okos
 
+    k = float(dry_matter_conductivity(MEAT, 120.0))
+    x = {c: MEAT[c] / 0.30 for c in ("protein", "fat", "ash")}
     v = {c: x[c] / float(density_choi_okos(c, 120.0)) for c in x}
     total = sum(v.values())
     k_series = 1.0 / sum(v[c] / total / float(conductivity_choi_okos(c, 120.0)) for c in x)
-    assert float(k) == pytest.approx(k_series, rel=1e-12)
+    assert k == pytest.approx(k_series, rel=1e-12)
     # the dry crust conducts much less than the wet meat it replaces (water 0.68 W/mK at 100 °C)
-    assert float(k) < 0.5 * float(conductivity_choi_okos("water", 100.0))
+    assert k < 0.5 * float(conductivity_choi_okos("water", 100.0))
 
 
 def test_the_table_holds_the_water_latent_heat_at_the_boiling_point_and_nothing_below():
@@ -64,7 +62,7 @@ def test_the_table_holds_the_water_latent_heat_at_the_boiling_point_and_nothing_
     # above the band: the wet product's heat capacity (the safe side, see the module note) and the dry k
     assert float(hot.apparent_cp(top + 10.0)) == pytest.approx(3500.0)
     # (linear between the table's points, here 102 °C and 150 °C)
-    k_dry = float(dry_matter_properties(MEAT, top + 10.0)[1])
+    k_dry = float(dry_matter_conductivity(MEAT, top + 10.0))
     assert float(hot.conductivity(top + 10.0)) == pytest.approx(k_dry, rel=1e-2)
     np.testing.assert_allclose(boiled_share([99.0, BOILING_C + 0.5 * BOILING_BAND_K, 130.0]), [0.0, 0.5, 1.0])
 

@@ -7,7 +7,7 @@ import pytest
 
 from procplan.files.library import load_library
 from procplan.files.plan import load_plan
-from procplan.properties.boiling import BOILING_BAND_K, BOILING_C
+from procplan.properties.boiling import BOILING_C
 from procplan.run.engine import run_plan
 
 PLANS = "product_library/plans"
@@ -37,11 +37,10 @@ def test_dry_oven_roast_slower_than_without_evaporation_and_loses_weight(library
     )  # the drying summary's yield: evaporation alone (the step's drip: sr.drip)
     assert res.outcomes.weight_loss_percent[0][1] == pytest.approx(d.weight_loss_percent)
     # the wet inside cannot heat past the boiling point of its water (an evaporation front; Purlis & Salvadori
-    # 2009): the core stays at or below the band, the mean ends below 100 °C (it was 123.7 °C when only the
-    # surface evaporated), and the water boiled off under the crust is within the loss, the larger of the two
-    hist = res.history
-    assert float(hist["core_C"].max()) <= BOILING_C + BOILING_BAND_K
-    assert float(hist["mean_C"].iloc[-1]) < BOILING_C
+    # 2009): the mean ends below 100 °C (it was 123.7 °C when only the surface evaporated), and the water boiled
+    # off under the crust is within the loss, the larger of the two (the core, which stops this step at 75 °C,
+    # is checked through the rest in tests/run/test_dry_air_lethality.py)
+    assert float(res.history["mean_C"].iloc[-1]) < BOILING_C
     assert d.boiled_kg > 0.0 and d.weight_loss_kg == pytest.approx(max(d.boiled_kg, d.surface_evaporated_kg))
     # the heat that boiled the water left with it: the run's heat balances the enthalpy change of the piece
     assert res.outcomes.energy_balance < 0.01
